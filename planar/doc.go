@@ -1,0 +1,14 @@
+// Package planar holds the float32 image batch that the warp, loss and model
+// packages exchange, and its conversion from and to image.Image.
+//
+// Conventions, shared by the whole module:
+//
+//   - Layout is NCHW, contiguous: element (n, c, y, x) of an Image with shape
+//     (N, C, H, W) is Pix[((n*C+c)*H+y)*W+x]. Single-channel maps (disparity,
+//     validity masks, confidence) are Images with C = 1.
+//   - Colour images hold linear-free, gamma-encoded sRGB values scaled to
+//     [0, 1] (8-bit value / 255, 16-bit value / 65535), channels R, G, B.
+//   - Disparity is positive and expressed as a fraction of the image width;
+//     see package warp for its sign.
+//   - Masks hold 1 for a valid pixel and 0 for an invalid one.
+package planar

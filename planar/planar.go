@@ -1,0 +1,219 @@
+package planar
+
+import (
+	"errors"
+	"fmt"
+	"image"
+	"image/color"
+	"math"
+)
+
+// MaxPixels bounds N*C*H*W for images built from outside data, so a hostile
+// size in a file header cannot request an absurd allocation.
+const MaxPixels = 1 << 28
+
+// Image is a batch of N images of C channels, H rows and W columns, stored
+// NCHW (see the package documentation).
+type Image struct {
+	N, C, H, W int
+	Pix        []float32
+}
+
+// New returns a zeroed Image of the given shape. It panics if a dimension is
+// not positive or the size exceeds MaxPixels; use NewChecked for sizes that
+// come from data.
+func New(n, c, h, w int) *Image {
+	im, err := NewChecked(n, c, h, w)
+	if err != nil {
+		panic(err)
+	}
+	return im
+}
+
+// NewChecked is like New but returns an error for an invalid shape.
+func NewChecked(n, c, h, w int) (*Image, error) {
+	if n <= 0 || c <= 0 || h <= 0 || w <= 0 {
+		return nil, fmt.Errorf("planar: invalid shape %dx%dx%dx%d: every dimension must be positive", n, c, h, w)
+	}
+	if n > MaxPixels/c/h/w {
+		return nil, fmt.Errorf("planar: shape %dx%dx%dx%d exceeds %d elements", n, c, h, w, MaxPixels)
+	}
+	return &Image{N: n, C: c, H: h, W: w, Pix: make([]float32, n*c*h*w)}, nil
+}
+
+// Len returns N*C*H*W.
+func (m *Image) Len() int { return m.N * m.C * m.H * m.W }
+
+// Index returns the offset of element (n, c, y, x) in Pix.
+func (m *Image) Index(n, c, y, x int) int { return ((n*m.C+c)*m.H+y)*m.W + x }
+
+// At returns element (n, c, y, x).
+func (m *Image) At(n, c, y, x int) float32 { return m.Pix[m.Index(n, c, y, x)] }
+
+// Set sets element (n, c, y, x).
+func (m *Image) Set(n, c, y, x int, v float32) { m.Pix[m.Index(n, c, y, x)] = v }
+
+// SameShape reports whether m and o have equal N, C, H and W.
+func (m *Image) SameShape(o *Image) bool {
+	return m.N == o.N && m.C == o.C && m.H == o.H && m.W == o.W
+}
+
+// Shape formats the shape as "NxCxHxW" for error messages.
+func (m *Image) Shape() string { return fmt.Sprintf("%dx%dx%dx%d", m.N, m.C, m.H, m.W) }
+
+// Check returns an error naming the problem if m is nil, has a non-positive
+// dimension, or its Pix length does not match its shape. what names the
+// argument in the message.
+func (m *Image) Check(what string) error {
+	if m == nil {
+		return fmt.Errorf("%s is nil", what)
+	}
+	if m.N <= 0 || m.C <= 0 || m.H <= 0 || m.W <= 0 {
+		return fmt.Errorf("%s is empty (shape %s)", what, m.Shape())
+	}
+	if m.N > MaxPixels/m.C/m.H/m.W || len(m.Pix) != m.N*m.C*m.H*m.W {
+		return fmt.Errorf("%s has %d values for shape %s", what, len(m.Pix), m.Shape())
+	}
+	return nil
+}
+
+// CheckFinite returns an error naming the first NaN or Inf element of m.
+func (m *Image) CheckFinite(what string) error {
+	for i, v := range m.Pix {
+		if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+			x := i % m.W
+			y := i / m.W % m.H
+			c := i / (m.W * m.H) % m.C
+			n := i / (m.W * m.H * m.C)
+			return fmt.Errorf("%s has a non-finite value %v at (n=%d, c=%d, y=%d, x=%d)", what, v, n, c, y, x)
+		}
+	}
+	return nil
+}
+
+// Clone returns a deep copy of m.
+func (m *Image) Clone() *Image {
+	c := *m
+	c.Pix = append([]float32(nil), m.Pix...)
+	return &c
+}
+
+// Item returns image n of the batch as an Image with N = 1 that shares Pix.
+func (m *Image) Item(n int) *Image {
+	sz := m.C * m.H * m.W
+	return &Image{N: 1, C: m.C, H: m.H, W: m.W, Pix: m.Pix[n*sz : (n+1)*sz : (n+1)*sz]}
+}
+
+// ErrEmpty is returned by FromImage for an image with no pixels.
+var ErrEmpty = errors.New("planar: image has no pixels")
+
+// FromImage converts img to a 1×3×H×W Image with values in [0, 1]. Bounds that
+// do not start at (0, 0) are handled; fast paths cover *image.RGBA,
+// *image.NRGBA, *image.YCbCr and *image.Gray, and every other type goes
+// through color.RGBAModel. Alpha is ignored (colours are un-premultiplied
+// where the type stores premultiplied values).
+func FromImage(img image.Image) (*Image, error) {
+	if img == nil {
+		return nil, errors.New("planar: image is nil")
+	}
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	if w <= 0 || h <= 0 {
+		return nil, ErrEmpty
+	}
+	out, err := NewChecked(1, 3, h, w)
+	if err != nil {
+		return nil, err
+	}
+	r, g, bl := out.Pix[:h*w], out.Pix[h*w:2*h*w], out.Pix[2*h*w:]
+	const s8 = 1.0 / 255
+	switch src := img.(type) {
+	case *image.NRGBA:
+		for y := 0; y < h; y++ {
+			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X)*4:]
+			for x := 0; x < w; x++ {
+				r[y*w+x] = float32(row[4*x]) * s8
+				g[y*w+x] = float32(row[4*x+1]) * s8
+				bl[y*w+x] = float32(row[4*x+2]) * s8
+			}
+		}
+	case *image.RGBA:
+		for y := 0; y < h; y++ {
+			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X)*4:]
+			for x := 0; x < w; x++ {
+				a := row[4*x+3]
+				if a == 255 {
+					r[y*w+x] = float32(row[4*x]) * s8
+					g[y*w+x] = float32(row[4*x+1]) * s8
+					bl[y*w+x] = float32(row[4*x+2]) * s8
+				} else if a != 0 {
+					inv := 1 / float32(a)
+					r[y*w+x] = float32(row[4*x]) * inv
+					g[y*w+x] = float32(row[4*x+1]) * inv
+					bl[y*w+x] = float32(row[4*x+2]) * inv
+				}
+			}
+		}
+	case *image.Gray:
+		for y := 0; y < h; y++ {
+			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X):]
+			for x := 0; x < w; x++ {
+				v := float32(row[x]) * s8
+				r[y*w+x], g[y*w+x], bl[y*w+x] = v, v, v
+			}
+		}
+	case *image.YCbCr:
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				yi := src.YOffset(x+b.Min.X, y+b.Min.Y)
+				ci := src.COffset(x+b.Min.X, y+b.Min.Y)
+				rr, gg, bb := color.YCbCrToRGB(src.Y[yi], src.Cb[ci], src.Cr[ci])
+				r[y*w+x] = float32(rr) * s8
+				g[y*w+x] = float32(gg) * s8
+				bl[y*w+x] = float32(bb) * s8
+			}
+		}
+	default:
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				c := color.NRGBA64Model.Convert(img.At(x+b.Min.X, y+b.Min.Y)).(color.NRGBA64)
+				r[y*w+x] = float32(c.R) / 65535
+				g[y*w+x] = float32(c.G) / 65535
+				bl[y*w+x] = float32(c.B) / 65535
+			}
+		}
+	}
+	return out, nil
+}
+
+// ToNRGBA converts image n of a batch with 1 or 3 channels to an 8-bit image,
+// clamping values to [0, 1] and rounding to nearest.
+func (m *Image) ToNRGBA(n int) *image.NRGBA {
+	out := image.NewNRGBA(image.Rect(0, 0, m.W, m.H))
+	plane := m.H * m.W
+	base := n * m.C * plane
+	q := func(v float32) uint8 {
+		if !(v > 0) {
+			return 0
+		}
+		if v >= 1 {
+			return 255
+		}
+		return uint8(v*255 + 0.5)
+	}
+	for y := 0; y < m.H; y++ {
+		for x := 0; x < m.W; x++ {
+			i := y*m.W + x
+			var rv, gv, bv float32
+			if m.C >= 3 {
+				rv, gv, bv = m.Pix[base+i], m.Pix[base+plane+i], m.Pix[base+2*plane+i]
+			} else {
+				rv = m.Pix[base+i]
+				gv, bv = rv, rv
+			}
+			o := out.PixOffset(x, y)
+			out.Pix[o], out.Pix[o+1], out.Pix[o+2], out.Pix[o+3] = q(rv), q(gv), q(bv), 255
+		}
+	}
+	return out
+}
