@@ -1,0 +1,110 @@
+package cpu
+
+import (
+	"runtime"
+	"sync"
+	"sync/atomic"
+)
+
+// ParallelFor calls fn on consecutive, disjoint ranges [lo, hi) that cover
+// [0, n), each grain long except possibly the last, spread over up to
+// runtime.GOMAXPROCS(0) goroutines: the caller's and idle ones from a
+// persistent worker pool. It returns when every call has returned. A grain
+// of 0 or less means ceil(n / GOMAXPROCS). Ranges are handed out in
+// increasing order of lo but may run concurrently and finish in any order,
+// so fn must only write data owned by its range.
+//
+// ParallelFor may be called from inside fn: when no worker is idle the
+// caller runs the ranges itself, so nesting never deadlocks.
+//
+// ParallelFor itself does not allocate in steady state. A closure passed as
+// fn escapes to the heap, so a caller that must not allocate per call should
+// build fn once (for example store it in a plan) instead of writing a
+// literal at the call site. fn must not panic.
+func ParallelFor(n, grain int, fn func(lo, hi int)) {
+	if n <= 0 {
+		return
+	}
+	procs := runtime.GOMAXPROCS(0)
+	if grain <= 0 {
+		grain = (n + procs - 1) / procs
+	}
+	chunks := (n + grain - 1) / grain
+	if chunks == 1 || procs == 1 {
+		for lo := 0; lo < n; lo += grain {
+			fn(lo, min(lo+grain, n))
+		}
+		return
+	}
+	helpers := min(procs, chunks) - 1
+	thePool.grow(procs - 1)
+
+	j := jobPool.Get().(*job)
+	j.fn, j.n, j.grain = fn, n, grain
+	j.next.Store(0)
+	for range helpers {
+		j.wg.Add(1)
+		select {
+		case thePool.jobs <- j:
+			continue
+		default:
+			j.wg.Done()
+		}
+		break // no idle worker: the caller does the rest
+	}
+	j.run()
+	j.wg.Wait()
+	j.fn = nil
+	jobPool.Put(j)
+}
+
+// job is one ParallelFor call shared by the goroutines that work on it.
+type job struct {
+	fn       func(lo, hi int)
+	n, grain int
+	next     atomic.Int64
+	wg       sync.WaitGroup
+}
+
+// run takes ranges until none is left.
+func (j *job) run() {
+	for {
+		lo := int(j.next.Add(int64(j.grain))) - j.grain
+		if lo >= j.n {
+			return
+		}
+		j.fn(lo, min(lo+j.grain, j.n))
+	}
+}
+
+var jobPool = sync.Pool{New: func() any { return new(job) }}
+
+// pool is the set of persistent worker goroutines. Jobs go over an
+// unbuffered channel, so a send succeeds only when a worker is idle.
+type pool struct {
+	jobs    chan *job
+	mu      sync.Mutex
+	workers atomic.Int32
+}
+
+var thePool = pool{jobs: make(chan *job)}
+
+// grow starts workers until there are at least n.
+func (p *pool) grow(n int) {
+	if int(p.workers.Load()) >= n {
+		return
+	}
+	p.mu.Lock()
+	for int(p.workers.Load()) < n {
+		p.workers.Add(1)
+		go p.work()
+	}
+	p.mu.Unlock()
+}
+
+func (p *pool) work() {
+	for j := range p.jobs {
+		j.run()
+		j.wg.Done()
+	}
+}
