@@ -1,0 +1,43 @@
+// Package depth turns disparity into metric depth and back, describes the
+// stereo rig that links them, scores estimates against ground truth with the
+// usual error measures, and writes the files people open: 16-bit PNG depth,
+// colour-mapped PNG, PFM float maps and PLY point clouds.
+//
+// Safety: depth estimated from images is not a safety-rated range sensor.
+// Its errors grow with distance and it fails silently on glass, mirrors,
+// textureless or repetitive surfaces, darkness and glare. A robot or vehicle
+// that acts on it needs independent obstacle sensing and must follow its own
+// safety case and the regulations that apply where it runs.
+//
+// Conventions:
+//
+//   - Units. Depth Z is in metres along the left camera's optical axis.
+//     Disparity in a Disparity map is in pixels of the image size the map
+//     refers to. The network and packages warp and loss express disparity as
+//     a fraction f of the image width W, which is resolution-free: f·W pixels
+//     at any width W (FractionToPixels, PixelsToFraction).
+//   - Depth from disparity: Z = Focal·Baseline / (d_px + Doffs), with Focal
+//     and Doffs in pixels at the same image width as d_px (Rig.Scaled
+//     rescales a rig). Doffs is the principal-point x offset between the two
+//     views, zero for a rig rectified to a shared principal point.
+//   - Validity. A disparity that is not positive, NaN or ±Inf, or whose
+//     depth would be non-positive or non-finite, becomes an invalid pixel:
+//     conversions never produce a silent ±Inf. Maps carry a validity mask
+//     (1 valid, 0 invalid) beside their values; the value under an invalid
+//     pixel is 0 and has no meaning.
+//   - Maps (Disparity, Depth, Confidence) follow the standard library's image
+//     types: the value at (x, y) is Pix[(y−Rect.Min.Y)·Stride + (x−Rect.Min.X)]
+//     and the mask uses the same offset. Pixel coordinates are those of the
+//     full image the map refers to, so a sub-map keeps its coordinates.
+//   - Pixel centres sit at integer coordinates 0 … W−1; a point at pixel
+//     (x, y) and depth Z has camera coordinates X = (x−Cx)·Z/Fx,
+//     Y = (y−Cy)·Z/Fy (x right, y down, z forward; common practice).
+//   - PFM samples are passed row-major with the top row first and channels
+//     interleaved; the reader and writer handle the format's bottom-to-top
+//     rows and byte order.
+//   - Errors. Functions that take data return errors whose text starts with
+//     "depth: "; nothing panics on values, sizes in a file header or corrupt
+//     files. Decoders bound their allocation (MaxSide, MaxPixels) and by the
+//     size of their input where the format allows. Save functions write
+//     atomically: a temporary file in the same directory, synced, renamed.
+package depth
