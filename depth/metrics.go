@@ -1,0 +1,217 @@
+package depth
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+)
+
+// ErrNoValidPixels is returned (wrapped) by the metric functions when no
+// pixel is valid in both the estimate and the ground truth.
+var ErrNoValidPixels = errors.New("depth: no pixel is valid in both the estimate and the ground truth")
+
+// DepthOptions selects the pixels and the scaling for DepthErrors. A nil
+// *DepthOptions means the zero value: no median scaling, no depth limits.
+type DepthOptions struct {
+	// MedianScale multiplies every estimate by median(z)/median(ẑ), the
+	// medians taken over the counted pixels, before the limits are applied.
+	// This removes the unknown scale of an estimate that is only defined up
+	// to scale (common practice). Default false.
+	MedianScale bool
+	// MinDepth, if positive, counts only pixels whose ground truth exceeds
+	// it and raises estimates below it to it. Default 0: no lower limit.
+	MinDepth float64
+	// MaxDepth, if positive, is the depth cap: only pixels whose ground truth
+	// is below it count, and estimates above it are lowered to it.
+	// Default 0: no cap.
+	MaxDepth float64
+}
+
+// DepthMetrics holds the depth error measures standard in single-image
+// depth estimation (common practice). Over the N counted pixels, with
+// estimate ẑ and ground truth z (both in metres):
+//
+//	AbsRel  = (1/N) Σ |ẑ − z| / z
+//	SqRel   = (1/N) Σ (ẑ − z)² / z
+//	RMSE    = √((1/N) Σ (ẑ − z)²)
+//	RMSELog = √((1/N) Σ (ln ẑ − ln z)²)
+//	Delta1  = (1/N) #{ max(ẑ/z, z/ẑ) < 1.25 }
+//	Delta2  = (1/N) #{ max(ẑ/z, z/ẑ) < 1.25² }
+//	Delta3  = (1/N) #{ max(ẑ/z, z/ẑ) < 1.25³ }
+//
+// The first four are errors (lower is better); the δ measures are fractions
+// in [0, 1] (higher is better).
+type DepthMetrics struct {
+	N     int     // pixels counted: valid in both maps and inside the limits
+	Scale float64 // factor applied to the estimate (1 without median scaling)
+
+	AbsRel, SqRel, RMSE, RMSELog float64
+	Delta1, Delta2, Delta3       float64
+}
+
+// DisparityMetrics holds disparity error measures over the N pixels valid in
+// both maps, with estimate d̂ and ground truth d in pixels:
+//
+//	EPE  = (1/N) Σ |d̂ − d|               (end-point error, pixels)
+//	BadK = (1/N) #{ |d̂ − d| > K pixels }  for K = 1, 2, 3
+//
+// The bad-pixel rate is the one defined by Scharstein & Szeliski (IJCV 2002)
+// with error threshold K; it is reported as a fraction in [0, 1].
+type DisparityMetrics struct {
+	N                int
+	EPE              float64
+	Bad1, Bad2, Bad3 float64
+}
+
+// checkPair validates an estimate and ground-truth map for scoring.
+func checkPair(est, gt *Map) error {
+	if err := est.Check("estimate"); err != nil {
+		return err
+	}
+	if err := gt.Check("ground truth"); err != nil {
+		return err
+	}
+	if est.Rect != gt.Rect {
+		return fmt.Errorf("depth: estimate bounds %v differ from ground-truth bounds %v", est.Rect, gt.Rect)
+	}
+	return nil
+}
+
+// pairs calls f for every pixel valid in both maps, which checkPair has
+// accepted.
+func pairs(est, gt *Map, f func(e, g float64)) {
+	w := est.Rect.Dx()
+	for y := 0; y < est.Rect.Dy(); y++ {
+		ep, em := est.Pix[y*est.Stride:y*est.Stride+w], est.Mask[y*est.Stride:y*est.Stride+w]
+		gp, gm := gt.Pix[y*gt.Stride:y*gt.Stride+w], gt.Mask[y*gt.Stride:y*gt.Stride+w]
+		for x := range ep {
+			if em[x] != 0 && gm[x] != 0 {
+				f(float64(ep[x]), float64(gp[x]))
+			}
+		}
+	}
+}
+
+// DepthErrors scores a depth estimate against ground truth with the measures
+// of DepthMetrics. Only pixels valid in both maps count, further restricted
+// by opt (see DepthOptions); the order is: select the pixels, compute and
+// apply the median scale, clamp the estimates to the limits, score. The maps
+// must have equal bounds and only positive, finite valid values. It returns
+// an error wrapping ErrNoValidPixels if no pixel counts.
+func DepthErrors(est, gt *Depth, opt *DepthOptions) (DepthMetrics, error) {
+	if est == nil || gt == nil {
+		return DepthMetrics{}, errors.New("depth: DepthErrors: nil map")
+	}
+	if err := checkPair(&est.Map, &gt.Map); err != nil {
+		return DepthMetrics{}, err
+	}
+	var o DepthOptions
+	if opt != nil {
+		o = *opt
+	}
+	if math.IsNaN(o.MinDepth) || math.IsNaN(o.MaxDepth) || o.MinDepth < 0 || o.MaxDepth < 0 ||
+		(o.MaxDepth > 0 && o.MaxDepth <= o.MinDepth) || math.IsInf(o.MinDepth, 0) {
+		return DepthMetrics{}, fmt.Errorf("depth: DepthErrors: limits [%v, %v] are invalid", o.MinDepth, o.MaxDepth)
+	}
+	var es, gs []float64
+	pairs(&est.Map, &gt.Map, func(e, g float64) {
+		if e <= 0 || g <= 0 || (o.MinDepth > 0 && g <= o.MinDepth) || (o.MaxDepth > 0 && g >= o.MaxDepth) {
+			return
+		}
+		es = append(es, e)
+		gs = append(gs, g)
+	})
+	m := DepthMetrics{N: len(es), Scale: 1}
+	if m.N == 0 {
+		return m, fmt.Errorf("%w", ErrNoValidPixels)
+	}
+	if o.MedianScale {
+		m.Scale = median(gs) / median(es)
+	}
+	var absRel, sqRel, sq, sqLog float64
+	var d1, d2, d3 int
+	for i, e := range es {
+		g := gs[i]
+		e *= m.Scale
+		if o.MinDepth > 0 && e < o.MinDepth {
+			e = o.MinDepth
+		}
+		if o.MaxDepth > 0 && e > o.MaxDepth {
+			e = o.MaxDepth
+		}
+		diff := e - g
+		absRel += math.Abs(diff) / g
+		sqRel += diff * diff / g
+		sq += diff * diff
+		l := math.Log(e) - math.Log(g)
+		sqLog += l * l
+		ratio := math.Max(e/g, g/e)
+		if ratio < 1.25 {
+			d1++
+		}
+		if ratio < 1.25*1.25 {
+			d2++
+		}
+		if ratio < 1.25*1.25*1.25 {
+			d3++
+		}
+	}
+	n := float64(m.N)
+	m.AbsRel = absRel / n
+	m.SqRel = sqRel / n
+	m.RMSE = math.Sqrt(sq / n)
+	m.RMSELog = math.Sqrt(sqLog / n)
+	m.Delta1 = float64(d1) / n
+	m.Delta2 = float64(d2) / n
+	m.Delta3 = float64(d3) / n
+	return m, nil
+}
+
+// median returns the median of v (the mean of the two middle values for an
+// even count), reordering v.
+func median(v []float64) float64 {
+	slices.Sort(v)
+	n := len(v)
+	if n%2 == 1 {
+		return v[n/2]
+	}
+	return 0.5 * (v[n/2-1] + v[n/2])
+}
+
+// DisparityErrors scores a disparity estimate against ground truth, both in
+// pixels at the same resolution, with the measures of DisparityMetrics. Only
+// pixels valid in both maps count. The maps must have equal bounds. It
+// returns an error wrapping ErrNoValidPixels if no pixel counts.
+func DisparityErrors(est, gt *Disparity) (DisparityMetrics, error) {
+	if est == nil || gt == nil {
+		return DisparityMetrics{}, errors.New("depth: DisparityErrors: nil map")
+	}
+	if err := checkPair(&est.Map, &gt.Map); err != nil {
+		return DisparityMetrics{}, err
+	}
+	var m DisparityMetrics
+	var sum float64
+	var b1, b2, b3 int
+	pairs(&est.Map, &gt.Map, func(e, g float64) {
+		m.N++
+		a := math.Abs(e - g)
+		sum += a
+		if a > 1 {
+			b1++
+		}
+		if a > 2 {
+			b2++
+		}
+		if a > 3 {
+			b3++
+		}
+	})
+	if m.N == 0 {
+		return m, fmt.Errorf("%w", ErrNoValidPixels)
+	}
+	n := float64(m.N)
+	m.EPE = sum / n
+	m.Bad1, m.Bad2, m.Bad3 = float64(b1)/n, float64(b2)/n, float64(b3)/n
+	return m, nil
+}

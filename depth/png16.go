@@ -1,0 +1,116 @@
+package depth
+
+import (
+	"bytes"
+	"fmt"
+	"image"
+	"image/color"
+	"image/png"
+	"io"
+	"math"
+	"os"
+)
+
+// 16-bit PNG depth: one grey channel holding the depth in millimetres,
+// rounded to the nearest millimetre, 0 meaning invalid (common practice for
+// range cameras). The representable depths are 1 mm … 65.535 m.
+
+// Gray16 returns d as a 16-bit grey image in millimetres with d's bounds,
+// 0 for invalid pixels, and the number of valid pixels that could not be
+// stored because their depth rounds to 0 mm or exceeds 65535 mm; those are
+// written as 0 (invalid) too.
+func (d *Depth) Gray16() (img *image.Gray16, dropped int) {
+	img = image.NewGray16(d.Rect)
+	w := d.Rect.Dx()
+	for y := 0; y < d.Rect.Dy(); y++ {
+		row, mask := d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w]
+		out := img.Pix[y*img.Stride : y*img.Stride+2*w]
+		for x, v := range row {
+			if mask[x] == 0 {
+				continue
+			}
+			mm := math.Round(float64(v) * 1000)
+			if !(mm >= 1 && mm <= 65535) {
+				dropped++
+				continue
+			}
+			out[2*x], out[2*x+1] = uint8(uint16(mm)>>8), uint8(mm)
+		}
+	}
+	return img, dropped
+}
+
+// WritePNG16 writes d as a 16-bit grey PNG in millimetres (see Gray16) and
+// returns the number of valid pixels outside the representable range
+// 1 mm … 65.535 m, which are stored as 0 (invalid).
+func WritePNG16(w io.Writer, d *Depth) (dropped int, err error) {
+	if d == nil {
+		return 0, fmt.Errorf("depth: WritePNG16: depth is nil")
+	}
+	if err := d.Check("depth"); err != nil {
+		return 0, err
+	}
+	img, dropped := d.Gray16()
+	if err := png.Encode(w, img); err != nil {
+		return 0, fmt.Errorf("depth: writing PNG: %w", err)
+	}
+	return dropped, nil
+}
+
+// SavePNG16 writes d to path as a 16-bit millimetre PNG (see WritePNG16),
+// atomically.
+func SavePNG16(path string, d *Depth) (dropped int, err error) {
+	if d == nil {
+		return 0, fmt.Errorf("depth: SavePNG16: depth is nil")
+	}
+	if err := d.Check("depth"); err != nil {
+		return 0, err
+	}
+	err = writeFileAtomic(path, func(w io.Writer) error {
+		var err error
+		dropped, err = WritePNG16(w, d)
+		return err
+	})
+	return dropped, err
+}
+
+// ReadPNG16 reads a 16-bit grey PNG of depth in millimetres, 0 invalid, into
+// a depth map in metres with bounds (0, 0)–(width, height). It checks the
+// header before decoding and returns an error for a PNG that is not 16-bit
+// grey or whose size exceeds MaxSide or MaxPixels.
+func ReadPNG16(r io.Reader) (*Depth, error) {
+	var head bytes.Buffer
+	cfg, err := png.DecodeConfig(io.TeeReader(r, &head))
+	if err != nil {
+		return nil, fmt.Errorf("depth: PNG16: %w", err)
+	}
+	if cfg.ColorModel != color.Gray16Model {
+		return nil, fmt.Errorf("depth: PNG16: the image is not 16-bit grey")
+	}
+	if cfg.Width < 1 || cfg.Height < 1 || cfg.Width > MaxSide || cfg.Height > MaxSide || cfg.Width*cfg.Height > MaxPixels {
+		return nil, fmt.Errorf("depth: PNG16: size %dx%d out of range (sides in [1, %d], at most %d pixels)", cfg.Width, cfg.Height, MaxSide, MaxPixels)
+	}
+	img, err := png.Decode(io.MultiReader(&head, r))
+	if err != nil {
+		return nil, fmt.Errorf("depth: PNG16: %w", err)
+	}
+	g, ok := img.(*image.Gray16)
+	if !ok {
+		return nil, fmt.Errorf("depth: PNG16: decoded %T, want 16-bit grey", img)
+	}
+	return DepthFromImage(g, 0.001)
+}
+
+// LoadPNG16 reads the 16-bit millimetre PNG at path (see ReadPNG16).
+func LoadPNG16(path string) (*Depth, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("depth: %w", err)
+	}
+	defer f.Close()
+	d, err := ReadPNG16(f)
+	if err != nil {
+		return nil, fmt.Errorf("%w (in %s)", err, path)
+	}
+	return d, nil
+}
