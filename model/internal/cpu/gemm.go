@@ -55,6 +55,7 @@ func Sgemm(transA, transB bool, m, n, k int, a []float32, lda int, b []float32, 
 	op.m, op.n, op.k = m, n, k
 	op.a, op.b = &s.pa, &s.pb
 	op.c, op.ldc, op.accumulate, op.rowBias = c, ldc, accumulate, nil
+	op.ci0, op.cj0 = 0, 0
 	s.pa = matrixPacker{data: a, ld: lda, trans: transA, rows: m, cols: k}
 	s.pb = matrixPacker{data: b, ld: ldb, trans: !transB, rows: n, cols: k}
 	s.op.run(&s.set)
@@ -132,6 +133,9 @@ type gemmOp struct {
 	c          []float32
 	ldc        int
 	accumulate bool
+	// ci0, cj0 are the row and column of op's C that c[0] holds, so that a
+	// buffer can hold just a block of the product.
+	ci0, cj0 int
 	// rowBias, if not nil, is added to every row i of C as rowBias[i]
 	// once the full product is in place.
 	rowBias []float32
@@ -254,7 +258,7 @@ func (ws *workspace) macro(op *gemmOp, ic, mc, jc, nc, kc int, acc, last bool) {
 		for ir := 0; ir < mc; ir += mr {
 			a := ws.apack[ir*kc : ir*kc+kc*mr]
 			h := min(mr, mc-ir)
-			off := (ic+ir)*ldc + jc + jr
+			off := (ic+ir-op.ci0)*ldc + jc + jr - op.cj0
 			if h == mr && w == nr {
 				kern.fn(kc, a, b, op.c[off:off+(mr-1)*ldc+nr], ldc, acc)
 				if last && op.rowBias != nil {

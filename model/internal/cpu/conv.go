@@ -1,0 +1,255 @@
+package cpu
+
+import (
+	"fmt"
+	"runtime"
+)
+
+// Padding selects how a convolution fills input pixels outside the image.
+type Padding uint8
+
+const (
+	// ZeroPad reads 0 outside the image.
+	ZeroPad Padding = iota
+	// ReflectPad mirrors the image about its edge pixels without repeating
+	// them (PyTorch's padding_mode="reflect"); it needs Pad < H and Pad < W.
+	ReflectPad
+)
+
+func (p Padding) String() string {
+	switch p {
+	case ZeroPad:
+		return "ZeroPad"
+	case ReflectPad:
+		return "ReflectPad"
+	}
+	return fmt.Sprintf("Padding(%d)", uint8(p))
+}
+
+// ConvParams describes a 2-D convolution layer with a square kernel.
+type ConvParams struct {
+	// InC and OutC are the input and output channel counts.
+	InC, OutC int
+	// Kernel is the kernel side (1 and 3 are the sizes the network uses;
+	// any size of at least 1 works).
+	Kernel int
+	// Stride is the step between output pixels, in input pixels.
+	// If Stride is 0 it is defaulted to 1.
+	Stride int
+	// Dilation is the spacing of the kernel taps. If Dilation is 0 it is
+	// defaulted to 1.
+	Dilation int
+	// Pad is the number of padded pixels on every side.
+	Pad int
+	// Padding is how the padded pixels are filled; the zero value is
+	// ZeroPad.
+	Padding Padding
+}
+
+// Conv2D is a convolution plan for one input shape (N, InC, H, W): it
+// owns the workspaces, so Forward and Backward do not allocate in steady
+// state. A Conv2D is not safe for concurrent use; its methods split their
+// work over goroutines themselves.
+//
+// The output has shape (N, OutC, Ho, Wo) with
+// Ho = (H + 2·Pad − Dilation·(Kernel−1) − 1)/Stride + 1, likewise Wo.
+type Conv2D struct {
+	p     ConvParams
+	n     int
+	g     convGeom
+	kdim  int // InC·Kernel²
+	pix   int // Ho·Wo
+	ident bool
+
+	// state of the current call
+	x, w, b, y, dy, dx []float32
+	wPack, wTPack      matrixPacker
+
+	workers []*convWorker
+	free    chan *convWorker
+	mr, nr  int
+
+	fwdStripe, dwStripe, dxBlock int
+	fwdFn, dwFn, dxFn            func(lo, hi int)
+}
+
+// convWorker is what one goroutine needs for a unit of convolution work.
+type convWorker struct {
+	ws   *workspace
+	op   gemmOp
+	col  colPacker
+	colT colTPacker
+	mat  matrixPacker // an image as a plain matrix (1×1 fast path, dY)
+	mat2 matrixPacker
+	dw   []float32 // private weight-gradient partial sum
+	dcol []float32 // a block of the im2col gradient
+}
+
+// maxElems bounds every tensor a plan handles so that index arithmetic
+// stays far from overflow.
+const maxElems = 1 << 31
+
+// NewConv2D returns a plan for convolving batches of n images of h×w
+// pixels with the layer p. It returns an error if a size is not positive,
+// the kernel does not fit the padded input, reflection padding is not
+// smaller than the image, or a tensor would be absurdly large.
+func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
+	if p.Stride == 0 {
+		p.Stride = 1
+	}
+	if p.Dilation == 0 {
+		p.Dilation = 1
+	}
+	switch {
+	case p.InC <= 0 || p.OutC <= 0 || p.Kernel <= 0:
+		return nil, fmt.Errorf("cpu: conv needs positive channels and kernel, got in %d out %d kernel %d", p.InC, p.OutC, p.Kernel)
+	case p.Stride < 0 || p.Dilation < 0 || p.Pad < 0:
+		return nil, fmt.Errorf("cpu: conv stride %d, dilation %d and padding %d must not be negative", p.Stride, p.Dilation, p.Pad)
+	case n <= 0 || h <= 0 || w <= 0:
+		return nil, fmt.Errorf("cpu: conv input shape (%d, %d, %d, %d) is not positive", n, p.InC, h, w)
+	case p.Padding != ZeroPad && p.Padding != ReflectPad:
+		return nil, fmt.Errorf("cpu: unknown padding %v", p.Padding)
+	case p.Padding == ReflectPad && (p.Pad >= h || p.Pad >= w):
+		return nil, fmt.Errorf("cpu: reflection padding %d needs an input larger than %d×%d", p.Pad, h, w)
+	}
+	span := p.Dilation*(p.Kernel-1) + 1
+	if h+2*p.Pad < span || w+2*p.Pad < span {
+		return nil, fmt.Errorf("cpu: kernel span %d exceeds the padded input %d×%d", span, h+2*p.Pad, w+2*p.Pad)
+	}
+	ho := (h+2*p.Pad-span)/p.Stride + 1
+	wo := (w+2*p.Pad-span)/p.Stride + 1
+	for _, e := range []int{n * p.InC * h * w, n * p.OutC * ho * wo, p.OutC * p.InC * p.Kernel * p.Kernel, p.InC * p.Kernel * p.Kernel * ho * wo} {
+		if e <= 0 || e >= maxElems {
+			return nil, fmt.Errorf("cpu: conv of (%d, %d, %d, %d) with %+v is too large", n, p.InC, h, w, p)
+		}
+	}
+	c := &Conv2D{
+		p: p, n: n,
+		g: convGeom{
+			c: p.InC, h: h, w: w,
+			k: p.Kernel, s: p.Stride, d: p.Dilation, pad: p.Pad,
+			reflect: p.Padding == ReflectPad,
+			ho:      ho, wo: wo,
+		},
+		kdim:  p.InC * p.Kernel * p.Kernel,
+		pix:   ho * wo,
+		ident: p.Kernel == 1 && p.Stride == 1 && p.Pad == 0,
+	}
+	c.fwdFn = c.forwardUnits
+	c.dwFn = c.weightGradUnits
+	c.dxFn = c.inputGradUnits
+	c.makeWorkers()
+	return c, nil
+}
+
+// makeWorkers sizes one worker per goroutine for the current micro-kernel.
+func (c *Conv2D) makeWorkers() {
+	procs := runtime.GOMAXPROCS(0)
+	c.mr, c.nr = kern.mr, kern.nr
+	kk2 := c.p.Kernel * c.p.Kernel
+
+	panels := (c.pix + c.nr - 1) / c.nr
+	units := max(1, 2*procs/c.n) // image stripes wanted per image
+	c.fwdStripe = max(1, min(blockN/c.nr, (panels+units-1)/units)) * c.nr
+
+	// Weight gradient: split the pixels (the reduction) into stripes.
+	c.dwStripe = max(blockK, (c.pix+units-1)/units)
+
+	// Input gradient: blocks of whole input channels, so that blocks never
+	// write the same pixels of dx.
+	c.dxBlock = max(1, min((c.p.InC+units-1)/units, max(1, 2*blockM/kk2)))
+
+	c.workers = make([]*convWorker, procs)
+	c.free = make(chan *convWorker, procs)
+	for i := range c.workers {
+		wk := &convWorker{
+			ws:   newWorkspace(),
+			dw:   make([]float32, c.p.OutC*c.kdim),
+			dcol: make([]float32, c.dxBlock*kk2*blockN),
+		}
+		wk.col.g, wk.colT.g = &c.g, &c.g
+		wk.op.fn = nil
+		c.workers[i] = wk
+		c.free <- wk
+	}
+}
+
+// refresh rebuilds the workers if the micro-kernel or GOMAXPROCS changed.
+func (c *Conv2D) refresh() {
+	if c.mr != kern.mr || c.nr != kern.nr || len(c.workers) < runtime.GOMAXPROCS(0) {
+		c.makeWorkers()
+	}
+}
+
+// OutShape returns the output shape (N, OutC, Ho, Wo).
+func (c *Conv2D) OutShape() (n, ch, h, w int) { return c.n, c.p.OutC, c.g.ho, c.g.wo }
+
+// InShape returns the input shape (N, InC, H, W).
+func (c *Conv2D) InShape() (n, ch, h, w int) { return c.n, c.p.InC, c.g.h, c.g.w }
+
+// Params returns the layer, with defaults filled in.
+func (c *Conv2D) Params() ConvParams { return c.p }
+
+// WeightLen returns the number of weights, OutC·InC·Kernel².
+func (c *Conv2D) WeightLen() int { return c.p.OutC * c.kdim }
+
+// FLOPs returns the floating-point operations of one Forward call,
+// counting a multiply-add as two. Backward with both dx and dw costs twice
+// as much.
+func (c *Conv2D) FLOPs() float64 {
+	return 2 * float64(c.n) * float64(c.p.OutC) * float64(c.pix) * float64(c.kdim)
+}
+
+func (c *Conv2D) check(name string, s []float32, want int, what string) {
+	if len(s) != want {
+		panic(fmt.Sprintf("cpu.Conv2D.%s: %s has %d values, shape needs %d", name, what, len(s), want))
+	}
+}
+
+// Forward computes y = conv(x, weight) + bias. x has shape (N, InC, H, W),
+// weight (OutC, InC, Kernel, Kernel) in OIHW order, bias OutC values or
+// nil for none, and y (N, OutC, Ho, Wo) is overwritten.
+//
+// Forward panics if a slice length disagrees with the plan's shapes.
+func (c *Conv2D) Forward(y, x, weight, bias []float32) {
+	c.check("Forward", x, c.n*c.p.InC*c.g.h*c.g.w, "x")
+	c.check("Forward", weight, c.WeightLen(), "weight")
+	c.check("Forward", y, c.n*c.p.OutC*c.pix, "y")
+	if bias != nil {
+		c.check("Forward", bias, c.p.OutC, "bias")
+	}
+	c.refresh()
+	c.x, c.w, c.b, c.y = x, weight, bias, y
+	c.wPack = matrixPacker{data: weight, ld: c.kdim, rows: c.p.OutC, cols: c.kdim}
+	stripes := (c.pix + c.fwdStripe - 1) / c.fwdStripe
+	ParallelFor(c.n*stripes, 1, c.fwdFn)
+	c.x, c.w, c.b, c.y = nil, nil, nil, nil
+	c.wPack.data = nil
+}
+
+func (c *Conv2D) forwardUnits(lo, hi int) {
+	wk := <-c.free
+	stripes := (c.pix + c.fwdStripe - 1) / c.fwdStripe
+	inLen, outLen := c.p.InC*c.g.h*c.g.w, c.p.OutC*c.pix
+	op := &wk.op
+	for u := lo; u < hi; u++ {
+		img, s := u/stripes, u%stripes
+		x := c.x[img*inLen : (img+1)*inLen]
+		if c.ident {
+			wk.mat = matrixPacker{data: x, ld: c.pix, trans: true, rows: c.pix, cols: c.p.InC}
+			op.b = &wk.mat
+		} else {
+			wk.col.x = x
+			op.b = &wk.col
+		}
+		op.m, op.n, op.k = c.p.OutC, c.pix, c.kdim
+		op.a = &c.wPack
+		op.c, op.ldc, op.ci0, op.cj0 = c.y[img*outLen:(img+1)*outLen], c.pix, 0, 0
+		op.accumulate, op.rowBias = false, c.b
+		p0 := s * c.fwdStripe
+		wk.ws.gemm(op, 0, c.p.OutC, p0, min(p0+c.fwdStripe, c.pix), 0, c.kdim)
+	}
+	op.a, op.b, op.c, op.rowBias = nil, nil, nil, nil
+	wk.col.x, wk.mat.data = nil, nil
+	c.free <- wk
+}

@@ -1,0 +1,141 @@
+package cpu
+
+// Backward computes the gradients of a loss with respect to the input,
+// the weights and the bias, given x and weight as passed to Forward and
+// dy, the gradient with respect to the output (shape (N, OutC, Ho, Wo)).
+// dx (shape of x), dweight (OIHW) and dbias (OutC values) are overwritten;
+// any of them may be nil to skip that gradient.
+//
+// Backward panics if a slice length disagrees with the plan's shapes.
+func (c *Conv2D) Backward(dx, dweight, dbias, x, weight, dy []float32) {
+	inLen, outLen := c.n*c.p.InC*c.g.h*c.g.w, c.n*c.p.OutC*c.pix
+	c.check("Backward", dy, outLen, "dy")
+	if dbias != nil {
+		c.check("Backward", dbias, c.p.OutC, "dbias")
+		c.biasGrad(dbias, dy)
+	}
+	if dweight == nil && dx == nil {
+		return
+	}
+	c.refresh()
+	if dweight != nil {
+		c.check("Backward", dweight, c.WeightLen(), "dweight")
+		c.check("Backward", x, inLen, "x")
+		c.weightGrad(dweight, x, dy)
+	}
+	if dx != nil {
+		c.check("Backward", dx, inLen, "dx")
+		c.check("Backward", weight, c.WeightLen(), "weight")
+		c.inputGrad(dx, weight, dy)
+	}
+}
+
+func (c *Conv2D) biasGrad(db, dy []float32) {
+	clear(db)
+	for img := range c.n {
+		for o := range c.p.OutC {
+			off := (img*c.p.OutC + o) * c.pix
+			var s float32
+			for _, v := range dy[off : off+c.pix] {
+				s += v
+			}
+			db[o] += s
+		}
+	}
+}
+
+// weightGrad computes dW = Σ_n dY_n · col(X_n)ᵀ; goroutines sum stripes of
+// pixels into private partial sums that are added at the end.
+func (c *Conv2D) weightGrad(dw, x, dy []float32) {
+	for _, wk := range c.workers {
+		clear(wk.dw)
+	}
+	c.x, c.dy = x, dy
+	stripes := (c.pix + c.dwStripe - 1) / c.dwStripe
+	ParallelFor(c.n*stripes, 1, c.dwFn)
+	c.x, c.dy = nil, nil
+	copy(dw, c.workers[0].dw)
+	for _, wk := range c.workers[1:] {
+		for i, v := range wk.dw {
+			dw[i] += v
+		}
+	}
+}
+
+func (c *Conv2D) weightGradUnits(lo, hi int) {
+	wk := <-c.free
+	stripes := (c.pix + c.dwStripe - 1) / c.dwStripe
+	inLen, outLen := c.p.InC*c.g.h*c.g.w, c.p.OutC*c.pix
+	op := &wk.op
+	for u := lo; u < hi; u++ {
+		img, s := u/stripes, u%stripes
+		x := c.x[img*inLen : (img+1)*inLen]
+		wk.mat = matrixPacker{data: c.dy[img*outLen : (img+1)*outLen], ld: c.pix, rows: c.p.OutC, cols: c.pix}
+		op.a = &wk.mat
+		if c.ident {
+			wk.mat2 = matrixPacker{data: x, ld: c.pix, rows: c.p.InC, cols: c.pix}
+			op.b = &wk.mat2
+		} else {
+			wk.colT.x = x
+			op.b = &wk.colT
+		}
+		op.m, op.n, op.k = c.p.OutC, c.kdim, c.pix
+		op.c, op.ldc, op.ci0, op.cj0 = wk.dw, c.kdim, 0, 0
+		op.accumulate, op.rowBias = true, nil
+		p0 := s * c.dwStripe
+		wk.ws.gemm(op, 0, c.p.OutC, 0, c.kdim, p0, min(p0+c.dwStripe, c.pix))
+	}
+	op.a, op.b, op.c = nil, nil, nil
+	wk.colT.x, wk.mat.data, wk.mat2.data = nil, nil, nil
+	c.free <- wk
+}
+
+// inputGrad computes dX_n = col2im(Wᵀ · dY_n) in blocks of whole input
+// channels, so blocks write disjoint parts of dx.
+func (c *Conv2D) inputGrad(dx, w, dy []float32) {
+	c.w, c.dy, c.dx = w, dy, dx
+	c.wTPack = matrixPacker{data: w, ld: c.kdim, trans: true, rows: c.kdim, cols: c.p.OutC}
+	blocks := (c.p.InC + c.dxBlock - 1) / c.dxBlock
+	ParallelFor(c.n*blocks, 1, c.dxFn)
+	c.w, c.dy, c.dx = nil, nil, nil
+	c.wTPack.data = nil
+}
+
+func (c *Conv2D) inputGradUnits(lo, hi int) {
+	wk := <-c.free
+	blocks := (c.p.InC + c.dxBlock - 1) / c.dxBlock
+	inLen, outLen := c.p.InC*c.g.h*c.g.w, c.p.OutC*c.pix
+	plane := c.g.h * c.g.w
+	kk2 := c.p.Kernel * c.p.Kernel
+	op := &wk.op
+	for u := lo; u < hi; u++ {
+		img, blk := u/blocks, u%blocks
+		c0 := blk * c.dxBlock
+		c1 := min(c0+c.dxBlock, c.p.InC)
+		dx := c.dx[img*inLen : (img+1)*inLen]
+		wk.mat = matrixPacker{data: c.dy[img*outLen : (img+1)*outLen], ld: c.pix, trans: true, rows: c.pix, cols: c.p.OutC}
+		op.a, op.b = &c.wTPack, &wk.mat
+		op.m, op.n, op.k = c.kdim, c.pix, c.p.OutC
+		op.accumulate, op.rowBias = false, nil
+		if c.ident {
+			// col(X) is X itself: the product is dX.
+			op.c, op.ldc, op.ci0, op.cj0 = dx, c.pix, 0, 0
+			wk.ws.gemm(op, c0, c1, 0, c.pix, 0, op.k)
+			continue
+		}
+		clear(dx[c0*plane : c1*plane])
+		r0, r1 := c0*kk2, c1*kk2
+		for p0 := 0; p0 < c.pix; p0 += blockN {
+			p1 := min(p0+blockN, c.pix)
+			op.c, op.ldc, op.ci0, op.cj0 = wk.dcol, p1-p0, r0, p0
+			wk.ws.gemm(op, r0, r1, p0, p1, 0, op.k)
+			for r := r0; r < r1; r++ {
+				row := wk.dcol[(r-r0)*(p1-p0) : (r-r0+1)*(p1-p0)]
+				c.g.colRowAdd(dx, row, 1, r, p0, p1-p0)
+			}
+		}
+	}
+	op.a, op.b, op.c = nil, nil, nil
+	wk.mat.data = nil
+	c.free <- wk
+}

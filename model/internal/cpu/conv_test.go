@@ -1,0 +1,394 @@
+package cpu
+
+import (
+	"encoding/binary"
+	"encoding/json"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/diff/fd"
+)
+
+// refConv is the obviously-correct direct convolution, in float64.
+type refConv struct {
+	p          ConvParams
+	n, h, w    int
+	ho, wo     int
+	stride, dl int
+}
+
+func newRefConv(p ConvParams, n, h, w int) refConv {
+	r := refConv{p: p, n: n, h: h, w: w, stride: max(p.Stride, 1), dl: max(p.Dilation, 1)}
+	span := r.dl*(p.Kernel-1) + 1
+	r.ho = (h+2*p.Pad-span)/r.stride + 1
+	r.wo = (w+2*p.Pad-span)/r.stride + 1
+	return r
+}
+
+// tap maps a padded input coordinate to a pixel index, or -1 for a zero.
+func (r refConv) tap(iy, ix int) (int, bool) {
+	if r.p.Padding == ReflectPad {
+		if iy < 0 {
+			iy = -iy
+		}
+		if iy >= r.h {
+			iy = 2*(r.h-1) - iy
+		}
+		if ix < 0 {
+			ix = -ix
+		}
+		if ix >= r.w {
+			ix = 2*(r.w-1) - ix
+		}
+	}
+	if iy < 0 || iy >= r.h || ix < 0 || ix >= r.w {
+		return 0, false
+	}
+	return iy*r.w + ix, true
+}
+
+// visit calls f(yIndex, xIndex, wIndex) for every product of the
+// convolution.
+func (r refConv) visit(f func(yi, xi, wi int)) {
+	p := r.p
+	k := p.Kernel
+	for n := range r.n {
+		for o := range p.OutC {
+			for oy := range r.ho {
+				for ox := range r.wo {
+					yi := ((n*p.OutC+o)*r.ho+oy)*r.wo + ox
+					for c := range p.InC {
+						for ky := range k {
+							for kx := range k {
+								t, ok := r.tap(oy*r.stride+ky*r.dl-p.Pad, ox*r.stride+kx*r.dl-p.Pad)
+								if !ok {
+									continue
+								}
+								f(yi, (n*p.InC+c)*r.h*r.w+t, ((o*p.InC+c)*k+ky)*k+kx)
+							}
+						}
+					}
+				}
+			}
+		}
+	}
+}
+
+func (r refConv) forward(x, w, b []float32) []float64 {
+	y := make([]float64, r.n*r.p.OutC*r.ho*r.wo)
+	r.visit(func(yi, xi, wi int) { y[yi] += float64(x[xi]) * float64(w[wi]) })
+	if b != nil {
+		for i := range y {
+			y[i] += float64(b[(i/(r.ho*r.wo))%r.p.OutC])
+		}
+	}
+	return y
+}
+
+func (r refConv) backward(x, w, dy []float32) (dx, dw, db []float64) {
+	dx = make([]float64, len(x))
+	dw = make([]float64, len(w))
+	db = make([]float64, r.p.OutC)
+	r.visit(func(yi, xi, wi int) {
+		dx[xi] += float64(dy[yi]) * float64(w[wi])
+		dw[wi] += float64(dy[yi]) * float64(x[xi])
+	})
+	for i, v := range dy {
+		db[(i/(r.ho*r.wo))%r.p.OutC] += float64(v)
+	}
+	return dx, dw, db
+}
+
+// compare reports the first element where got and want differ by more
+// than tol·(1 + |want|).
+func compare[T float32 | float64](t *testing.T, what string, got []float32, want []T, tol float64) {
+	t.Helper()
+	if len(got) != len(want) {
+		t.Fatalf("%s: %d values, want %d", what, len(got), len(want))
+	}
+	for i := range got {
+		g, w := float64(got[i]), float64(want[i])
+		if math.Abs(g-w) > tol*(1+math.Abs(w)) || math.IsNaN(g) {
+			t.Fatalf("%s[%d] = %v, want %v (tol %g)", what, i, g, w, tol)
+		}
+	}
+}
+
+type convCase struct {
+	Name, File, Padding           string
+	N, InC, H, W, OutC            int
+	Kernel, Stride, Dilation, Pad int
+	OutH, OutW                    int
+}
+
+func (cc convCase) params() ConvParams {
+	p := ConvParams{InC: cc.InC, OutC: cc.OutC, Kernel: cc.Kernel, Stride: cc.Stride, Dilation: cc.Dilation, Pad: cc.Pad}
+	if cc.Padding == "reflect" {
+		p.Padding = ReflectPad
+	}
+	return p
+}
+
+func loadConvCases(t *testing.T) (string, []convCase) {
+	dir := filepath.Join("..", "..", "..", "testdata", "cpu", "conv")
+	raw, err := os.ReadFile(filepath.Join(dir, "cases.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var idx struct {
+		Source string
+		Cases  []convCase
+	}
+	if err := json.Unmarshal(raw, &idx); err != nil {
+		t.Fatal(err)
+	}
+	return dir, idx.Cases
+}
+
+func readF32(t *testing.T, path string) []float32 {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := make([]float32, len(raw)/4)
+	for i := range v {
+		v[i] = math.Float32frombits(binary.LittleEndian.Uint32(raw[4*i:]))
+	}
+	return v
+}
+
+// TestConvAgainstTorch compares forward and all three gradients with
+// fixtures from Debian python3-torch 1.13.1 (torch reports 1.13.0a0),
+// torch.nn.functional.conv2d and torch.autograd.grad computed in float64;
+// see testdata/cpu/conv/gen.py.
+func TestConvAgainstTorch(t *testing.T) {
+	dir, cases := loadConvCases(t)
+	if len(cases) < 10 {
+		t.Fatalf("only %d fixture cases", len(cases))
+	}
+	forEachKernel(t, func(t *testing.T) {
+		for _, cc := range cases {
+			t.Run(cc.Name, func(t *testing.T) {
+				c, err := NewConv2D(cc.params(), cc.N, cc.H, cc.W)
+				if err != nil {
+					t.Fatal(err)
+				}
+				n, oc, ho, wo := c.OutShape()
+				if n != cc.N || oc != cc.OutC || ho != cc.OutH || wo != cc.OutW {
+					t.Fatalf("OutShape = (%d,%d,%d,%d), torch gives (%d,%d,%d,%d)", n, oc, ho, wo, cc.N, cc.OutC, cc.OutH, cc.OutW)
+				}
+				all := readF32(t, filepath.Join(dir, cc.File))
+				sizes := []int{cc.N * cc.InC * cc.H * cc.W, c.WeightLen(), cc.OutC, cc.N * cc.OutC * ho * wo}
+				sizes = append(sizes, sizes[3], sizes[0], sizes[1], sizes[2])
+				parts := make([][]float32, len(sizes))
+				for i, s := range sizes {
+					if len(all) < s {
+						t.Fatalf("fixture %s is truncated", cc.File)
+					}
+					parts[i], all = all[:s], all[s:]
+				}
+				x, w, b, dy, wantY, wantDx, wantDw, wantDb := parts[0], parts[1], parts[2], parts[3], parts[4], parts[5], parts[6], parts[7]
+				y := make([]float32, len(wantY))
+				c.Forward(y, x, w, b)
+				// Tolerances: float32 sums of up to InC·Kernel² (forward, dx) or
+				// N·Ho·Wo (dw, db) products against float64 torch; the bound
+				// grows with the sum length (common practice).
+				kd := float64(c.kdim)
+				compare(t, "y", y, wantY, 2e-7*kd+1e-6)
+				dx := make([]float32, len(wantDx))
+				dw := make([]float32, len(wantDw))
+				db := make([]float32, len(wantDb))
+				for i := range dx {
+					dx[i] = float32(math.NaN()) // must be overwritten
+				}
+				c.Backward(dx, dw, db, x, w, dy)
+				px := float64(cc.N * ho * wo)
+				compare(t, "dx", dx, wantDx, 2e-7*float64(cc.OutC*cc.Kernel*cc.Kernel)+1e-6)
+				compare(t, "dweight", dw, wantDw, 2e-7*px+1e-6)
+				compare(t, "dbias", db, wantDb, 2e-7*px+1e-6)
+			})
+		}
+	})
+}
+
+// TestConvAgainstReference compares with the direct loops of refConv over
+// random layers, including ones larger than a packing block.
+func TestConvAgainstReference(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	type tc struct {
+		p       ConvParams
+		n, h, w int
+	}
+	cases := []tc{
+		{ConvParams{InC: 3, OutC: 32, Kernel: 3, Pad: 1, Padding: ReflectPad}, 1, 17, 61},
+		{ConvParams{InC: 40, OutC: 13, Kernel: 3, Stride: 2, Pad: 1}, 2, 15, 19},
+		{ConvParams{InC: 7, OutC: 70, Kernel: 1}, 3, 9, 70},
+		{ConvParams{InC: 9, OutC: 5, Kernel: 3, Dilation: 3, Pad: 3, Padding: ReflectPad}, 1, 8, 9},
+		{ConvParams{InC: 2, OutC: 3, Kernel: 5, Stride: 3, Pad: 2}, 2, 11, 12},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3}, 1, 3, 3},
+	}
+	forEachKernel(t, func(t *testing.T) {
+		for _, k := range cases {
+			name := fmt.Sprintf("%+v/%dx%dx%d", k.p, k.n, k.h, k.w)
+			c, err := NewConv2D(k.p, k.n, k.h, k.w)
+			if err != nil {
+				t.Fatal(err)
+			}
+			r := newRefConv(c.Params(), k.n, k.h, k.w)
+			x := randSlice(rng, k.n*k.p.InC*k.h*k.w)
+			w := randSlice(rng, c.WeightLen())
+			b := randSlice(rng, k.p.OutC)
+			n, oc, ho, wo := c.OutShape()
+			if ho != r.ho || wo != r.wo {
+				t.Fatalf("%s: out %dx%d, reference %dx%d", name, ho, wo, r.ho, r.wo)
+			}
+			y := make([]float32, n*oc*ho*wo)
+			for _, bias := range [][]float32{b, nil} {
+				c.Forward(y, x, w, bias)
+				compare(t, name+" y", y, r.forward(x, w, bias), 1e-6*float64(c.kdim+8))
+			}
+			dy := randSlice(rng, len(y))
+			dx := make([]float32, len(x))
+			dw := make([]float32, len(w))
+			db := make([]float32, oc)
+			for range 2 { // twice: gradients are overwritten, not accumulated
+				c.Backward(dx, dw, db, x, w, dy)
+			}
+			wdx, wdw, wdb := r.backward(x, w, dy)
+			compare(t, name+" dx", dx, wdx, 1e-6*float64(oc*k.p.Kernel*k.p.Kernel+8))
+			compare(t, name+" dw", dw, wdw, 1e-6*float64(n*ho*wo+8))
+			compare(t, name+" db", db, wdb, 1e-6*float64(n*ho*wo+8))
+		}
+	})
+}
+
+// TestConvFiniteDifference checks the gradients of L = Σ dy·conv(x, w, b)
+// against central differences (gonum v0.17.0 diff/fd) on small layers.
+func TestConvFiniteDifference(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 5))
+	for _, p := range []ConvParams{
+		{InC: 2, OutC: 3, Kernel: 3, Pad: 1, Padding: ReflectPad},
+		{InC: 3, OutC: 2, Kernel: 3, Stride: 2, Dilation: 2, Pad: 2},
+		{InC: 2, OutC: 2, Kernel: 1, Stride: 2, Pad: 1, Padding: ReflectPad},
+	} {
+		n, h, w := 2, 6, 7
+		c, err := NewConv2D(p, n, h, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		x := randSlice(rng, n*p.InC*h*w)
+		wt := randSlice(rng, c.WeightLen())
+		b := randSlice(rng, p.OutC)
+		_, oc, ho, wo := c.OutShape()
+		y := make([]float32, n*oc*ho*wo)
+		dy := randSlice(rng, len(y))
+		dx, dw, db := make([]float32, len(x)), make([]float32, len(wt)), make([]float32, len(b))
+		c.Backward(dx, dw, db, x, wt, dy)
+
+		// The loss in float64 via the float32 kernel would make the
+		// differences noisy; use the reference forward, which is float64.
+		r := newRefConv(c.Params(), n, h, w)
+		loss := func(x, wt, b []float32) float64 {
+			var s float64
+			for i, v := range r.forward(x, wt, b) {
+				s += v * float64(dy[i])
+			}
+			return s
+		}
+		// Also check the kernel's own forward against the reference.
+		c.Forward(y, x, wt, b)
+		compare(t, "forward", y, r.forward(x, wt, b), 1e-5)
+
+		for _, g := range []struct {
+			name string
+			v    []float32
+			grad []float32
+		}{{"x", x, dx}, {"w", wt, dw}, {"b", b, db}} {
+			f := func(v []float64) float64 {
+				save := append([]float32(nil), g.v...)
+				for i := range v {
+					g.v[i] = float32(v[i])
+				}
+				l := loss(x, wt, b)
+				copy(g.v, save)
+				return l
+			}
+			v0 := make([]float64, len(g.v))
+			for i, e := range g.v {
+				v0[i] = float64(e)
+			}
+			want := fd.Gradient(nil, f, v0, &fd.Settings{Formula: fd.Central, Step: 1e-2})
+			// The loss is linear in each argument, so central differences
+			// are exact up to float32 rounding of the perturbed values.
+			compare(t, fmt.Sprintf("%+v d%s", p, g.name), g.grad, want, 2e-4)
+		}
+	}
+}
+
+func TestConvNoAlloc(t *testing.T) {
+	forEachKernel(t, func(t *testing.T) {
+		for _, p := range []ConvParams{
+			{InC: 8, OutC: 16, Kernel: 3, Pad: 1},
+			{InC: 8, OutC: 16, Kernel: 1},
+		} {
+			c, err := NewConv2D(p, 2, 16, 40)
+			if err != nil {
+				t.Fatal(err)
+			}
+			n, oc, ho, wo := c.OutShape()
+			x := make([]float32, 2*8*16*40)
+			w := make([]float32, c.WeightLen())
+			b := make([]float32, oc)
+			y := make([]float32, n*oc*ho*wo)
+			dx, dw := make([]float32, len(x)), make([]float32, len(w))
+			step := func() {
+				c.Forward(y, x, w, b)
+				c.Backward(dx, dw, b, x, w, y)
+			}
+			step()
+			if a := testing.AllocsPerRun(10, step); a != 0 {
+				t.Fatalf("%+v: Forward+Backward allocated %v times per call, want 0", p, a)
+			}
+		}
+	})
+}
+
+func TestNewConv2DErrors(t *testing.T) {
+	for _, tc := range []struct {
+		p       ConvParams
+		n, h, w int
+	}{
+		{ConvParams{InC: 0, OutC: 1, Kernel: 3}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 0}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Stride: -1}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3}, 0, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Pad: 4, Padding: ReflectPad}, 1, 4, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Dilation: 5}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Padding: 9}, 1, 8, 8},
+		{ConvParams{InC: 1 << 20, OutC: 1 << 12, Kernel: 3}, 1, 8, 8},
+	} {
+		if _, err := NewConv2D(tc.p, tc.n, tc.h, tc.w); err == nil {
+			t.Errorf("NewConv2D(%+v, %d, %d, %d) gave no error", tc.p, tc.n, tc.h, tc.w)
+		} else if !strings.HasPrefix(err.Error(), "cpu: ") {
+			t.Errorf("error %q does not start with the package name", err)
+		}
+	}
+}
+
+func TestConvPanicsOnShortSlice(t *testing.T) {
+	c, err := NewConv2D(ConvParams{InC: 1, OutC: 1, Kernel: 3, Pad: 1}, 1, 4, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer func() {
+		if recover() == nil {
+			t.Fatal("Forward with a short y did not panic")
+		}
+	}()
+	c.Forward(make([]float32, 15), make([]float32, 16), make([]float32, 9), nil)
+}
