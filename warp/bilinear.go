@@ -48,112 +48,153 @@ func (b Border) String() string {
 // Shape is the shape (N, C, H, W) of the images a kernel works on.
 type Shape struct{ N, C, H, W int }
 
-func (s Shape) check(name string, dst, src, disp, mask []float32, needMask bool) {
-	if s.N <= 0 || s.C <= 0 || s.H <= 0 || s.W <= 0 {
+// check panics with a message naming the kernel if the shape, a slice
+// length or an enum is a programmer's mistake. img lists the slices that
+// must have N*C*H*W values, pl those that must have N*H*W; nil entries are
+// skipped.
+func (s Shape) check(name string, dir Direction, b Border, img, pl [][]float32) {
+	if s.N <= 0 || s.C <= 0 || s.H <= 0 || s.W <= 0 || s.N > math.MaxInt32/s.C/s.H/s.W {
 		panic(fmt.Sprintf("warp.%s: invalid shape %+v", name, s))
 	}
-	img := s.N * s.C * s.H * s.W
-	pl := s.N * s.H * s.W
-	if dst != nil && len(dst) != img {
-		panic(fmt.Sprintf("warp.%s: image buffer has %d values, shape %+v needs %d", name, len(dst), s, img))
+	if dir != RebuildLeft && dir != RebuildRight {
+		panic(fmt.Sprintf("warp.%s: unknown direction %v", name, dir))
 	}
-	if src != nil && len(src) != img {
-		panic(fmt.Sprintf("warp.%s: source has %d values, shape %+v needs %d", name, len(src), s, img))
+	if b != Zero && b != Clamp {
+		panic(fmt.Sprintf("warp.%s: unknown border mode %v", name, b))
 	}
-	if len(disp) != pl {
-		panic(fmt.Sprintf("warp.%s: disparity has %d values, shape %+v needs %d", name, len(disp), s, pl))
+	ni, np := s.N*s.C*s.H*s.W, s.N*s.H*s.W
+	for _, v := range img {
+		if v != nil && len(v) != ni {
+			panic(fmt.Sprintf("warp.%s: image buffer has %d values, shape %+v needs %d", name, len(v), s, ni))
+		}
 	}
-	if (mask != nil || needMask) && len(mask) != pl {
-		panic(fmt.Sprintf("warp.%s: mask has %d values, shape %+v needs %d", name, len(mask), s, pl))
+	for _, v := range pl {
+		if v != nil && len(v) != np {
+			panic(fmt.Sprintf("warp.%s: disparity or mask buffer has %d values, shape %+v needs %d", name, len(v), s, np))
+		}
 	}
 }
 
-// tap describes where one output pixel samples its row: the two source
-// columns i0 and i1 = i0+1, the weight a of i1, whether each tap is inside
-// the row (for Zero), and the derivative of the sample position u with
-// respect to the disparity (0 where Clamp clamped it).
+// same reports whether a and b start at the same element.
+func same(a, b []float32) bool { return len(a) > 0 && len(b) > 0 && &a[0] == &b[0] }
+
+// tap says how one output pixel reads its source row: the sample is
+// w0*row[j0] + w1*row[j1], and its derivative with respect to the disparity
+// is e1*row[j1] - e0*row[j0]. Taps that fall outside the row under Zero get
+// weight 0 and an index inside the row, so the channel loops need no
+// branches; valid is 1 where 0 <= u <= W-1, else 0.
 type tap struct {
-	i0, i1   int
-	a        float32
-	ok0, ok1 bool
-	valid    bool
-	du       float32
+	j0, j1         int32
+	w0, w1, e0, e1 float32
+	valid          float32
 }
 
-// locate computes the taps for output column x with disparity d.
-func locate(x int, d float32, w int, scale float32, b Border) tap {
+// locate sets t to the tap of output column x with disparity d; scale is
+// dir*W. u is rounded to float32 once, so Forward and Backward agree.
+//
+// At a kink (u an integer) the derivative is the one-sided one PyTorch 1.13
+// grid_sample (align_corners=True) uses: taps floor(u) and floor(u)+1, and
+// under Clamp a zero derivative at u <= 0 and u >= W-1, where the clamp
+// holds. A NaN u gives a zero tap (output 0); u = ±Inf is clamped like any
+// other far position.
+func (t *tap) locate(x int, d float32, w int, scale float32, b Border) {
 	u := float32(x) + scale*d
 	fw := float32(w - 1)
-	var t tap
-	if u != u || math.IsInf(float64(u), 0) {
-		return t // non-finite: output 0, mask 0, no gradient
+	*t = tap{}
+	if u >= 0 && u <= fw {
+		t.valid = 1
 	}
-	t.valid = u >= 0 && u <= fw
-	t.du = scale
 	if b == Clamp {
-		if u < 0 {
-			u, t.du = 0, 0
-		} else if u > fw {
-			u, t.du = fw, 0
+		du := scale
+		if u <= 0 {
+			u, du = 0, 0
+		} else if u >= fw {
+			u, du = fw, 0
+		} else if u != u {
+			return
+		}
+		if w == 1 {
+			t.w0 = 1
+			return
 		}
 		i := int(u)
 		if i > w-2 {
 			i = w - 2
 		}
-		if i < 0 { // w == 1
-			t.i0, t.i1, t.a, t.ok0, t.du = 0, 0, 0, true, 0
-			return t
-		}
-		t.i0, t.i1, t.a = i, i+1, u-float32(i)
-		t.ok0, t.ok1 = true, true
-		return t
+		a := u - float32(i)
+		t.j0, t.j1 = int32(i), int32(i+1)
+		t.w0, t.w1 = 1-a, a
+		t.e0, t.e1 = du, du
+		return
 	}
-	if u <= -1 || u >= float32(w) {
-		t.du = 0
-		return t // both taps outside: output 0
+	if !(u >= -1 && u <= float32(w)) {
+		return // NaN, or both taps outside: output 0
 	}
-	f := float32(math.Floor(float64(u)))
-	i := int(f)
-	t.i0, t.i1, t.a = i, i+1, u-f
-	t.ok0 = i >= 0 && i < w
-	t.ok1 = i+1 >= 0 && i+1 < w
-	return t
+	i := -1 // floor(u), in [-1, W]
+	if u >= 0 {
+		i = int(u)
+	}
+	a := u - float32(i)
+	j0, j1 := i, i+1
+	w0, w1, e0, e1 := 1-a, a, scale, scale
+	if i < 0 {
+		j0, w0, e0 = 0, 0, 0
+	}
+	if j1 >= w {
+		j1, w1, e1 = w-1, 0, 0
+	}
+	if j0 >= w {
+		j0, w0, e0 = w-1, 0, 0
+	}
+	t.j0, t.j1 = int32(j0), int32(j1)
+	t.w0, t.w1, t.e0, t.e1 = w0, w1, e0, e1
 }
 
+// chunk is the number of output pixels whose taps Forward and Backward
+// compute at once, on the stack, before looping over the channels.
+const chunk = 64
+
 // Forward writes into dst the source images src sampled at the disparity
-// disp in direction dir, and, if mask is not nil, the validity of each
-// sample (1 or 0). dst and src have N*C*H*W values, disp and mask N*H*W.
-// Forward does not allocate. It panics if a slice length does not match s
-// or dst aliases src.
+// disp in direction dir with border b, and, if mask is not nil, the validity
+// of each sample (1 or 0). dst and src have N*C*H*W values, disp and mask
+// N*H*W. Forward does not allocate. src is assumed finite (a NaN or Inf
+// pixel may spread to neighbours that weight it by 0). It panics if s is
+// not a valid shape, a slice length does not match s, dir or b is not a
+// defined value, or dst starts at the same element as src.
 func Forward(dst, mask, src, disp []float32, s Shape, dir Direction, b Border) {
-	s.check("Forward", dst, src, disp, mask, false)
-	if len(dst) > 0 && &dst[0] == &src[0] {
+	s.check("Forward", dir, b, [][]float32{dst, src}, [][]float32{disp, mask})
+	if dst == nil || src == nil || disp == nil {
+		panic("warp.Forward: nil buffer")
+	}
+	if same(dst, src) {
 		panic("warp.Forward: dst aliases src")
 	}
 	scale := float32(dir) * float32(s.W)
-	plane := s.H * s.W
+	w, plane := s.W, s.H*s.W
+	var taps [chunk]tap
 	for n := 0; n < s.N; n++ {
 		for y := 0; y < s.H; y++ {
-			drow := disp[(n*s.H+y)*s.W : (n*s.H+y+1)*s.W]
-			for x, d := range drow {
-				t := locate(x, d, s.W, scale, b)
+			prow := (n*s.H + y) * w
+			base := n*s.C*plane + y*w
+			for x0 := 0; x0 < w; x0 += chunk {
+				x1 := min(x0+chunk, w)
+				ts := taps[:x1-x0]
+				for k, d := range disp[prow+x0 : prow+x1] {
+					ts[k].locate(x0+k, d, w, scale, b)
+				}
 				if mask != nil {
-					if t.valid {
-						mask[(n*s.H+y)*s.W+x] = 1
-					} else {
-						mask[(n*s.H+y)*s.W+x] = 0
+					m := mask[prow+x0 : prow+x1]
+					for k := range m {
+						m[k] = ts[k].valid
 					}
 				}
-				for c := 0; c < s.C; c++ {
-					row := src[(n*s.C+c)*plane+y*s.W : (n*s.C+c)*plane+(y+1)*s.W]
-					var v float32
-					if t.ok0 {
-						v = (1 - t.a) * row[t.i0]
+				for o := base; o < base+s.C*plane; o += plane {
+					row := src[o : o+w]
+					out := dst[o+x0 : o+x1]
+					for k := range out {
+						t := &ts[k]
+						out[k] = t.w0*row[t.j0] + t.w1*row[t.j1]
 					}
-					if t.ok1 {
-						v += t.a * row[t.i1]
-					}
-					dst[(n*s.C+c)*plane+y*s.W+x] = v
 				}
 			}
 		}
@@ -162,48 +203,58 @@ func Forward(dst, mask, src, disp []float32, s Shape, dir Direction, b Border) {
 
 // Backward computes the gradients of a scalar loss with respect to the
 // source images and the disparity, given gradDst, the gradient with respect
-// to Forward's output. gradSrc (N*C*H*W values) and gradDisp (N*H*W values)
-// are overwritten; either may be nil to skip it. Backward does not
-// allocate. It panics if a slice length does not match s.
+// to Forward's output for the same src, disp, dir and b. gradSrc (N*C*H*W
+// values) and gradDisp (N*H*W values) are overwritten; either may be nil to
+// skip it. Backward does not allocate. It panics if s is not a valid shape,
+// a slice length does not match s, dir or b is not a defined value, or a
+// gradient buffer starts at the same element as an input.
 func Backward(gradSrc, gradDisp, gradDst, src, disp []float32, s Shape, dir Direction, b Border) {
-	s.check("Backward", gradDst, src, disp, nil, false)
-	if gradSrc != nil && len(gradSrc) != len(src) {
-		panic(fmt.Sprintf("warp.Backward: source gradient has %d values, shape %+v needs %d", len(gradSrc), s, len(src)))
+	s.check("Backward", dir, b, [][]float32{gradSrc, gradDst, src}, [][]float32{gradDisp, disp})
+	if gradDst == nil || src == nil || disp == nil {
+		panic("warp.Backward: nil buffer")
 	}
-	if gradDisp != nil && len(gradDisp) != len(disp) {
-		panic(fmt.Sprintf("warp.Backward: disparity gradient has %d values, shape %+v needs %d", len(gradDisp), s, len(disp)))
+	if same(gradSrc, gradDst) || same(gradSrc, src) || same(gradDisp, disp) {
+		panic("warp.Backward: a gradient buffer aliases an input")
 	}
 	if gradSrc != nil {
 		clear(gradSrc)
 	}
 	scale := float32(dir) * float32(s.W)
-	plane := s.H * s.W
+	w, plane := s.W, s.H*s.W
+	var taps [chunk]tap
+	var gd [chunk]float32
 	for n := 0; n < s.N; n++ {
 		for y := 0; y < s.H; y++ {
-			drow := disp[(n*s.H+y)*s.W : (n*s.H+y+1)*s.W]
-			for x, d := range drow {
-				t := locate(x, d, s.W, scale, b)
-				var gd float32
-				for c := 0; c < s.C; c++ {
-					off := (n*s.C+c)*plane + y*s.W
-					g := gradDst[off+x]
-					var v0, v1 float32
-					if t.ok0 {
-						v0 = src[off+t.i0]
-						if gradSrc != nil {
-							gradSrc[off+t.i0] += g * (1 - t.a)
+			prow := (n*s.H + y) * w
+			base := n*s.C*plane + y*w
+			for x0 := 0; x0 < w; x0 += chunk {
+				x1 := min(x0+chunk, w)
+				ts := taps[:x1-x0]
+				for k, d := range disp[prow+x0 : prow+x1] {
+					ts[k].locate(x0+k, d, w, scale, b)
+				}
+				gds := gd[:len(ts)]
+				clear(gds)
+				for o := base; o < base+s.C*plane; o += plane {
+					row := src[o : o+w]
+					g := gradDst[o+x0 : o+x1]
+					if gradDisp != nil {
+						for k, gk := range g {
+							t := &ts[k]
+							gds[k] += gk * (t.e1*row[t.j1] - t.e0*row[t.j0])
 						}
 					}
-					if t.ok1 {
-						v1 = src[off+t.i1]
-						if gradSrc != nil {
-							gradSrc[off+t.i1] += g * t.a
+					if gradSrc != nil {
+						grow := gradSrc[o : o+w]
+						for k, gk := range g {
+							t := &ts[k]
+							grow[t.j0] += gk * t.w0
+							grow[t.j1] += gk * t.w1
 						}
 					}
-					gd += g * (v1 - v0)
 				}
 				if gradDisp != nil {
-					gradDisp[(n*s.H+y)*s.W+x] = gd * t.du
+					copy(gradDisp[prow+x0:prow+x1], gds)
 				}
 			}
 		}

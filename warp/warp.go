@@ -10,8 +10,8 @@ import (
 // returns the warped images and their validity masks (N×1×H×W, 1 = the sample
 // fell inside the source image). It returns an error naming the problem if
 // an argument is nil or empty, the shapes disagree, disp does not have one
-// channel, dir or b is not one of the defined values, or disp holds NaN or
-// Inf.
+// channel, dir or b is not one of the defined values, or disp or src holds
+// NaN or Inf.
 func Warp(src, disp *planar.Image, dir Direction, b Border) (out, mask *planar.Image, err error) {
 	s, err := checkArgs(src, disp, dir, b)
 	if err != nil {
@@ -43,6 +43,9 @@ func checkArgs(src, disp *planar.Image, dir Direction, b Border) (Shape, error) 
 		return Shape{}, fmt.Errorf("warp: unknown border mode %v", b)
 	}
 	if err := disp.CheckFinite("disparity"); err != nil {
+		return Shape{}, fmt.Errorf("warp: %w", err)
+	}
+	if err := src.CheckFinite("source image"); err != nil {
 		return Shape{}, fmt.Errorf("warp: %w", err)
 	}
 	return Shape{N: src.N, C: src.C, H: src.H, W: src.W}, nil
