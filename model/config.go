@@ -1,0 +1,168 @@
+package model
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// ArchName names the architecture described in this package; it is stored
+// with the weights and checked on load.
+const ArchName = "parallax-ed"
+
+// ArchVersion is the version of the architecture description. It changes
+// whenever the layer list changes in a way that old weights no longer fit.
+const ArchVersion = 1
+
+// Levels is the number of encoder levels; each halves the resolution, so the
+// input width and height must be multiples of 1<<Levels = 32.
+const Levels = 5
+
+// Scales is the number of disparity outputs: full, ½, ¼ and ⅛ resolution.
+const Scales = 4
+
+// Default sizes and widths; see Config.
+const (
+	DefaultWidth  = 256
+	DefaultHeight = 128
+	DefaultDMax   = 0.3
+)
+
+// DefaultEncoder and DefaultDecoder are the channel widths used when a Config
+// leaves them empty. Entry i belongs to level i+1 (resolution 1/2^(i+1) for
+// the encoder, 1/2^i for the decoder).
+var (
+	DefaultEncoder = [Levels]int{16, 32, 64, 96, 128}
+	DefaultDecoder = [Levels]int{16, 16, 32, 64, 96}
+)
+
+// MaxChannels bounds every channel width, so a hostile config in a weights
+// file cannot ask for an absurd allocation.
+const MaxChannels = 1024
+
+// MaxSide bounds the input width and height.
+const MaxSide = 8192
+
+// Config describes one instance of the architecture. It travels with the
+// weights (see Save). The zero value is valid and means the defaults.
+type Config struct {
+	// Arch is the architecture name. If empty it is defaulted to ArchName;
+	// any other value is rejected.
+	Arch string `json:"arch"`
+	// Version is the architecture version. If 0 it is defaulted to
+	// ArchVersion; any other value is rejected.
+	Version int `json:"version"`
+	// Width and Height are the input size in pixels, multiples of 32.
+	// If 0 they are defaulted to DefaultWidth and DefaultHeight.
+	Width  int `json:"width"`
+	Height int `json:"height"`
+	// Encoder holds the output channels of the five encoder levels, from
+	// the finest (½ resolution) to the coarsest (1/32). If nil it is
+	// defaulted to DefaultEncoder.
+	Encoder []int `json:"encoder"`
+	// Decoder holds the channels of the five decoder levels, from the finest
+	// (full resolution) to the coarsest (1/16). If nil it is defaulted to
+	// DefaultDecoder.
+	Decoder []int `json:"decoder"`
+	// DMax is the largest disparity the heads can output, as a fraction of
+	// the image width (see DMaxFromRig). If 0 it is defaulted to DefaultDMax.
+	DMax float64 `json:"d_max"`
+}
+
+// WithDefaults returns c with every zero field replaced by its default. It
+// does not validate; see Validate.
+func (c Config) WithDefaults() Config {
+	if c.Arch == "" {
+		c.Arch = ArchName
+	}
+	if c.Version == 0 {
+		c.Version = ArchVersion
+	}
+	if c.Width == 0 {
+		c.Width = DefaultWidth
+	}
+	if c.Height == 0 {
+		c.Height = DefaultHeight
+	}
+	if c.Encoder == nil {
+		c.Encoder = append([]int(nil), DefaultEncoder[:]...)
+	} else {
+		c.Encoder = append([]int(nil), c.Encoder...)
+	}
+	if c.Decoder == nil {
+		c.Decoder = append([]int(nil), DefaultDecoder[:]...)
+	} else {
+		c.Decoder = append([]int(nil), c.Decoder...)
+	}
+	if c.DMax == 0 {
+		c.DMax = DefaultDMax
+	}
+	return c
+}
+
+// Validate returns an error naming the first field of c (after defaults)
+// that is out of range.
+func (c Config) Validate() error {
+	c = c.WithDefaults()
+	if c.Arch != ArchName {
+		return fmt.Errorf("model: config: unknown architecture %q (want %q)", c.Arch, ArchName)
+	}
+	if c.Version != ArchVersion {
+		return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
+	}
+	const m = 1 << Levels
+	if c.Width < m || c.Width > MaxSide || c.Width%m != 0 {
+		return fmt.Errorf("model: config: width %d must be a multiple of %d in [%d, %d]", c.Width, m, m, MaxSide)
+	}
+	if c.Height < m || c.Height > MaxSide || c.Height%m != 0 {
+		return fmt.Errorf("model: config: height %d must be a multiple of %d in [%d, %d]", c.Height, m, m, MaxSide)
+	}
+	if len(c.Encoder) != Levels {
+		return fmt.Errorf("model: config: encoder has %d widths, want %d", len(c.Encoder), Levels)
+	}
+	if len(c.Decoder) != Levels {
+		return fmt.Errorf("model: config: decoder has %d widths, want %d", len(c.Decoder), Levels)
+	}
+	for i, v := range c.Encoder {
+		if v < 1 || v > MaxChannels {
+			return fmt.Errorf("model: config: encoder width %d at level %d is outside [1, %d]", v, i+1, MaxChannels)
+		}
+	}
+	for i, v := range c.Decoder {
+		if v < 1 || v > MaxChannels {
+			return fmt.Errorf("model: config: decoder width %d at level %d is outside [1, %d]", v, i, MaxChannels)
+		}
+	}
+	if math.IsNaN(c.DMax) || c.DMax <= 0 || c.DMax > 1 {
+		return fmt.Errorf("model: config: d_max %v must be in (0, 1] (a fraction of the width)", c.DMax)
+	}
+	return nil
+}
+
+// DMax returns the largest disparity, as a fraction of the image width, of a
+// point at the nearest depth of interest minDepth seen by a rectified rig
+// with focal length focal (pixels, at image width width) and baseline
+// baseline (same unit as minDepth): d_max = focal·baseline / minDepth / width.
+// It returns an error for non-finite or non-positive arguments, or a result
+// above 1 (the point would be outside the other view).
+func DMax(focal, baseline, minDepth float64, width int) (float64, error) {
+	for _, a := range []struct {
+		name string
+		v    float64
+	}{{"focal length", focal}, {"baseline", baseline}, {"minimum depth", minDepth}} {
+		if math.IsNaN(a.v) || math.IsInf(a.v, 0) || a.v <= 0 {
+			return 0, fmt.Errorf("model: %s %v must be positive and finite", a.name, a.v)
+		}
+	}
+	if width <= 0 {
+		return 0, fmt.Errorf("model: image width %d must be positive", width)
+	}
+	d := focal * baseline / minDepth / float64(width)
+	if math.IsInf(d, 0) || d > 1 {
+		return 0, fmt.Errorf("model: d_max %v exceeds the image width: the minimum depth %v is too close for this rig", d, minDepth)
+	}
+	if !(d > 0) {
+		return 0, errors.New("model: d_max underflows to 0")
+	}
+	return d, nil
+}

@@ -1,0 +1,90 @@
+// Package model describes the disparity network, stores its weights and
+// runs it without a training graph.
+//
+// # The network
+//
+// A compact encoder-decoder with skip connections. From the left image
+// alone it predicts two disparity maps, one for each view, at four scales.
+// Every convolution is 3×3 with reflect padding of 1 and is followed by an
+// ELU, except the heads, which end in a sigmoid scaled by DMax. There is no
+// normalisation layer. With the default Config (input 256×128, encoder
+// widths 16 32 64 96 128, decoder widths 16 16 32 64 96) the network has
+// 929,352 parameters.
+//
+//	image 3×H×W ───────────────────────────────────────────────┐ (skip)
+//	 enc1a s2, enc1b          E1×H/2  ──────────────────────┐    │
+//	 enc2a s2, enc2b          E2×H/4  ─────────────────┐    │    │
+//	 enc3a s2, enc3b          E3×H/8  ────────────┐    │    │    │
+//	 enc4a s2, enc4b          E4×H/16 ───────┐    │    │    │    │
+//	 enc5a s2, enc5b          E5×H/32        │    │    │    │    │
+//	 dec4: reduce, ×2 nearest, cat(skip) ◄───┘    │    │    │    │
+//	       conv               D4×H/16             │    │    │    │
+//	 dec3: reduce, ×2, cat(skip) ◄────────────────┘    │    │    │
+//	       conv → head3 → disp3 2×H/8                  │    │    │
+//	 dec2: reduce, ×2, cat(skip, disp3 ×2 bilinear) ◄──┘    │    │
+//	       conv → head2 → disp2 2×H/4                       │    │
+//	 dec1: reduce, ×2, cat(skip, disp2 ×2) ◄────────────────┘    │
+//	       conv → head1 → disp1 2×H/2                            │
+//	 dec0: reduce, ×2, cat(image, disp1 ×2) ◄────────────────────┘
+//	       conv → head0 → disp0 2×H
+//
+// "reduce" is a stride-1 convolution at the coarser resolution that sets
+// the decoder width before the nearest-neighbour upsampling; "cat" joins
+// channels in the order listed.
+//
+// The network exists once, as data: Build returns an Arch whose Layers list
+// every step in evaluation order with its operation, input tensor names,
+// output shape and settings. The graph-free forward pass in this package
+// and the training graph in model/train both walk that list, so they cannot
+// disagree. Tensor names: "image" is the input; "encLa", "encLb" (L = 1 … 5),
+// "decL.reduce", "decL.up", "decL.cat", "decL" (L = 4 … 0), "headS",
+// "dispS" and "dispS.up" (S = 3 … 0) are layer outputs.
+//
+// # Conventions
+//
+//   - Tensors are NCHW float32, contiguous (see package planar); an Arch
+//     gives shapes for one image (C, H, W).
+//   - The input is the left image, RGB in [0, 1], Config.Height × Config.Width,
+//     both multiples of 32.
+//   - Output dispS (S = 0 … 3) has shape 2 × H/2^S × W/2^S: channel 0 is the
+//     left view's disparity d_L, channel 1 the right view's d_R, both
+//     positive fractions of the width in (0, DMax), with the signs of
+//     package warp (d_L maps left column x to right column x − d_L·W).
+//   - Convolution weights are OIHW (out channels, in channels, kernel rows,
+//     kernel columns) and named NAME.weight; biases have shape [out] and are
+//     named NAME.bias, where NAME is the convolution layer's name.
+//   - DMax, the largest disparity a head can output, comes from the rig and
+//     the nearest depth of interest: d_max = f·B / Z_min / W (see DMax).
+//
+// # Weights files
+//
+// Weights are stored in the safetensors format: an 8-byte little-endian
+// header length N, N bytes of JSON that map each tensor name to its dtype,
+// shape and data_offsets [begin, end) within the data section, then the
+// data, little-endian and row-major. Tensors are stored as F32 or F16
+// (binary16, rounded to nearest, ties to even). The tensors must tile the
+// data section exactly: no gaps, no overlaps, nothing after the last.
+//
+// The JSON key "__metadata__" holds string fields:
+//
+//	format          "parallax-weights"
+//	format_version  "1" (FormatVersion; other versions are rejected)
+//	arch            "parallax-ed" (ArchName)
+//	arch_version    "1" (ArchVersion)
+//	config          the Config as JSON: {"arch", "version", "width",
+//	                "height", "encoder", "decoder", "d_max"}
+//	input_width, input_height, d_max
+//	                repeat the config for readers that do not parse it;
+//	                they must agree with it
+//	provenance.KEY  free text about how the weights were made
+//
+// Loading rejects, with an error naming the tensor or field, files that are
+// truncated, whose header length runs past the file, whose offsets overlap,
+// leave gaps or fall outside the data, whose dtypes are not F32 or F16,
+// whose tensors are missing, unexpected or of the wrong shape for the
+// architecture in the config, or whose format version is unknown. Save
+// writes atomically: a temporary file in the same directory, synced, then
+// renamed over the target.
+//
+// Errors start with "model: ". Nothing in this package panics on data.
+package model

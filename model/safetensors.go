@@ -1,0 +1,289 @@
+package model
+
+import (
+	"bytes"
+	"encoding/binary"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"math/bits"
+	"sort"
+	"strconv"
+)
+
+// This file reads and writes the safetensors container: an 8-byte
+// little-endian header length N, N bytes of JSON mapping each tensor name to
+// {"dtype", "shape", "data_offsets": [begin, end]} (byte offsets into the
+// data that follows the header) plus an optional "__metadata__" map of
+// strings, then the tensor bytes, little-endian, row-major.
+
+// DType is the storage type of a tensor in a weights file.
+type DType string
+
+// The storage types this package reads and writes. Values are always
+// float32 in memory; F16 halves the file size at a precision cost.
+const (
+	F32 DType = "F32"
+	F16 DType = "F16"
+)
+
+func (d DType) size() int {
+	switch d {
+	case F32:
+		return 4
+	case F16:
+		return 2
+	}
+	return 0
+}
+
+// maxHeader bounds the JSON header, so a hostile length cannot ask for an
+// absurd allocation even inside a large file.
+const maxHeader = 100 << 20
+
+// maxDims bounds the rank of a tensor.
+const maxDims = 8
+
+const metadataKey = "__metadata__"
+
+// stTensor is one tensor of a safetensors file.
+type stTensor struct {
+	name   string
+	dtype  DType // as stored
+	shape  []int
+	data   []float32
+	begin  uint64
+	end    uint64
+	stored []byte // the raw bytes, aliasing the file buffer
+}
+
+type stEntry struct {
+	Dtype       string        `json:"dtype"`
+	Shape       []json.Number `json:"shape"`
+	DataOffsets []json.Number `json:"data_offsets"`
+}
+
+// readSafetensors parses b. It allocates at most a small multiple of len(b).
+func readSafetensors(b []byte) (map[string]string, []stTensor, error) {
+	if len(b) < 8 {
+		return nil, nil, fmt.Errorf("model: weights file is truncated: %d bytes, the header length alone needs 8", len(b))
+	}
+	n := binary.LittleEndian.Uint64(b)
+	rest := uint64(len(b) - 8)
+	if n > rest {
+		return nil, nil, fmt.Errorf("model: header length %d exceeds the file (%d bytes follow the length field)", n, rest)
+	}
+	if n > maxHeader {
+		return nil, nil, fmt.Errorf("model: header length %d exceeds the limit of %d bytes", n, maxHeader)
+	}
+	if n < 2 {
+		return nil, nil, fmt.Errorf("model: header length %d is too short for a JSON object", n)
+	}
+	header := b[8 : 8+n]
+	data := b[8+n:]
+	if header[0] != '{' {
+		return nil, nil, fmt.Errorf("model: header does not start with a JSON object")
+	}
+
+	dec := json.NewDecoder(bytes.NewReader(header))
+	dec.UseNumber()
+	if _, err := dec.Token(); err != nil {
+		return nil, nil, fmt.Errorf("model: header: %v", err)
+	}
+	var meta map[string]string
+	var ts []stTensor
+	seen := map[string]bool{}
+	for dec.More() {
+		tok, err := dec.Token()
+		if err != nil {
+			return nil, nil, fmt.Errorf("model: header: %v", err)
+		}
+		name, ok := tok.(string)
+		if !ok {
+			return nil, nil, fmt.Errorf("model: header: key %v is not a string", tok)
+		}
+		if seen[name] {
+			return nil, nil, fmt.Errorf("model: header: key %q appears twice", name)
+		}
+		seen[name] = true
+		if name == metadataKey {
+			if err := dec.Decode(&meta); err != nil {
+				return nil, nil, fmt.Errorf("model: header: %s must map strings to strings: %v", metadataKey, err)
+			}
+			continue
+		}
+		var e stEntry
+		if err := dec.Decode(&e); err != nil {
+			return nil, nil, fmt.Errorf("model: header: tensor %q: %v", name, err)
+		}
+		t, err := checkEntry(name, e, uint64(len(data)))
+		if err != nil {
+			return nil, nil, err
+		}
+		ts = append(ts, t)
+	}
+	if _, err := dec.Token(); err != nil {
+		return nil, nil, fmt.Errorf("model: header: %v", err)
+	}
+	if tail := bytes.TrimRight(header[dec.InputOffset():], " \t\r\n"); len(tail) != 0 {
+		return nil, nil, fmt.Errorf("model: header: %d unexpected bytes after the JSON object", len(tail))
+	}
+
+	// The tensors must tile the data section: sorted by offset, each starts
+	// where the previous ended, and the last ends with the file.
+	order := make([]int, len(ts))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(i, j int) bool {
+		a, b := ts[order[i]], ts[order[j]]
+		if a.begin != b.begin {
+			return a.begin < b.begin
+		}
+		return a.end < b.end
+	})
+	var pos uint64
+	prev := ""
+	for _, i := range order {
+		t := ts[i]
+		if t.begin < pos {
+			return nil, nil, fmt.Errorf("model: tensor %q (bytes %d–%d) overlaps tensor %q", t.name, t.begin, t.end, prev)
+		}
+		if t.begin > pos {
+			return nil, nil, fmt.Errorf("model: data bytes %d–%d before tensor %q belong to no tensor", pos, t.begin, t.name)
+		}
+		pos = t.end
+		prev = t.name
+	}
+	if pos != uint64(len(data)) {
+		return nil, nil, fmt.Errorf("model: data section has %d bytes but the tensors cover %d", len(data), pos)
+	}
+
+	for i := range ts {
+		t := &ts[i]
+		t.stored = data[t.begin:t.end:t.end]
+		t.data = make([]float32, (t.end-t.begin)/uint64(t.dtype.size()))
+		switch t.dtype {
+		case F32:
+			for k := range t.data {
+				t.data[k] = math.Float32frombits(binary.LittleEndian.Uint32(t.stored[4*k:]))
+			}
+		case F16:
+			for k := range t.data {
+				t.data[k] = Float16From(binary.LittleEndian.Uint16(t.stored[2*k:]))
+			}
+		}
+	}
+	return meta, ts, nil
+}
+
+func checkEntry(name string, e stEntry, dataLen uint64) (stTensor, error) {
+	t := stTensor{name: name, dtype: DType(e.Dtype)}
+	if t.dtype.size() == 0 {
+		if e.Dtype == "" {
+			return t, fmt.Errorf("model: tensor %q has no dtype", name)
+		}
+		return t, fmt.Errorf("model: tensor %q has dtype %q; this package reads F32 and F16", name, e.Dtype)
+	}
+	if e.Shape == nil {
+		return t, fmt.Errorf("model: tensor %q has no shape", name)
+	}
+	if len(e.Shape) > maxDims {
+		return t, fmt.Errorf("model: tensor %q has %d dimensions, more than %d", name, len(e.Shape), maxDims)
+	}
+	count := uint64(1)
+	for _, s := range e.Shape {
+		d, err := strconv.ParseUint(string(s), 10, 63)
+		if err != nil {
+			return t, fmt.Errorf("model: tensor %q has an invalid dimension %s", name, s)
+		}
+		hi, lo := bits.Mul64(count, d)
+		if hi != 0 || lo > dataLen {
+			return t, fmt.Errorf("model: tensor %q has shape %v, larger than the data section (%d bytes)", name, e.Shape, dataLen)
+		}
+		count = lo
+		t.shape = append(t.shape, int(d))
+	}
+	if len(e.DataOffsets) != 2 {
+		return t, fmt.Errorf("model: tensor %q: data_offsets must hold 2 numbers, has %d", name, len(e.DataOffsets))
+	}
+	var off [2]uint64
+	for i, s := range e.DataOffsets {
+		v, err := strconv.ParseUint(string(s), 10, 64)
+		if err != nil {
+			return t, fmt.Errorf("model: tensor %q has an invalid data offset %s", name, s)
+		}
+		off[i] = v
+	}
+	t.begin, t.end = off[0], off[1]
+	if t.begin > t.end || t.end > dataLen {
+		return t, fmt.Errorf("model: tensor %q has data offsets [%d, %d] outside the data section of %d bytes", name, t.begin, t.end, dataLen)
+	}
+	if want := count * uint64(t.dtype.size()); t.end-t.begin != want {
+		return t, fmt.Errorf("model: tensor %q: shape %v of %s needs %d bytes, its offsets span %d", name, t.shape, t.dtype, want, t.end-t.begin)
+	}
+	return t, nil
+}
+
+// writeSafetensors writes meta and ts (in the given order) to w, storing
+// the values as dtype. The header is padded with spaces to a multiple of 8
+// bytes so that the data is aligned.
+func writeSafetensors(w io.Writer, meta map[string]string, ts []stTensor, dtype DType) error {
+	size := dtype.size()
+	if size == 0 {
+		return fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
+	}
+	header := map[string]any{}
+	if len(meta) > 0 {
+		header[metadataKey] = meta
+	}
+	var off uint64
+	for _, t := range ts {
+		if _, dup := header[t.name]; dup || t.name == metadataKey {
+			return fmt.Errorf("model: tensor name %q used twice or reserved", t.name)
+		}
+		n := uint64(len(t.data) * size)
+		shape := t.shape
+		if shape == nil {
+			shape = []int{}
+		}
+		header[t.name] = map[string]any{"dtype": string(dtype), "shape": shape, "data_offsets": [2]uint64{off, off + n}}
+		off += n
+	}
+	hb, err := json.Marshal(header)
+	if err != nil {
+		return fmt.Errorf("model: encoding header: %v", err)
+	}
+	for len(hb)%8 != 0 {
+		hb = append(hb, ' ')
+	}
+	var lb [8]byte
+	binary.LittleEndian.PutUint64(lb[:], uint64(len(hb)))
+	if _, err := w.Write(lb[:]); err != nil {
+		return fmt.Errorf("model: writing weights: %w", err)
+	}
+	if _, err := w.Write(hb); err != nil {
+		return fmt.Errorf("model: writing weights: %w", err)
+	}
+	buf := make([]byte, 0, 1<<16)
+	for _, t := range ts {
+		for _, v := range t.data {
+			if dtype == F32 {
+				buf = binary.LittleEndian.AppendUint32(buf, math.Float32bits(v))
+			} else {
+				buf = binary.LittleEndian.AppendUint16(buf, Float16Bits(v))
+			}
+			if len(buf) >= 1<<16-4 {
+				if _, err := w.Write(buf); err != nil {
+					return fmt.Errorf("model: writing weights: %w", err)
+				}
+				buf = buf[:0]
+			}
+		}
+	}
+	if _, err := w.Write(buf); err != nil {
+		return fmt.Errorf("model: writing weights: %w", err)
+	}
+	return nil
+}

@@ -1,0 +1,367 @@
+package model
+
+import (
+	"bufio"
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// FormatName and FormatVersion identify the metadata layout of a weights
+// file (see the package documentation). Load rejects other versions.
+const (
+	FormatName    = "parallax-weights"
+	FormatVersion = 1
+)
+
+// Metadata keys of a weights file. Every value is a string, as safetensors
+// requires.
+const (
+	metaFormat        = "format"
+	metaFormatVersion = "format_version"
+	metaArch          = "arch"
+	metaArchVersion   = "arch_version"
+	metaConfig        = "config"
+	metaWidth         = "input_width"
+	metaHeight        = "input_height"
+	metaDMax          = "d_max"
+	metaProvenance    = "provenance."
+)
+
+// Weights holds the learned parameters of one network with the Config they
+// belong to.
+type Weights struct {
+	// Config is the architecture instance (defaults filled in).
+	Config Config
+	// Params maps each parameter name of the architecture (see Arch.Params)
+	// to its values, row-major in the parameter's shape.
+	Params map[string][]float32
+	// Provenance is free text about how the weights were made (data set,
+	// steps, date, command line ...). It is stored with the weights.
+	Provenance map[string]string
+}
+
+// NewWeights returns weights for c initialised for training: convolution
+// weights drawn from a normal distribution with standard deviation
+// sqrt(2 / fan_in) (He initialisation, common practice for ELU-like
+// networks) and zero biases, from a generator seeded by seed.
+func NewWeights(c Config, seed uint64) (*Weights, error) {
+	a, err := Build(c)
+	if err != nil {
+		return nil, err
+	}
+	r := rand.New(rand.NewPCG(seed, 0x7061726178))
+	w := &Weights{Config: a.Config, Params: make(map[string][]float32, len(a.Params)), Provenance: map[string]string{}}
+	for _, p := range a.Params {
+		v := make([]float32, p.Len())
+		if len(p.Shape) == 4 {
+			std := math.Sqrt(2 / float64(p.Shape[1]*p.Shape[2]*p.Shape[3]))
+			for i := range v {
+				v[i] = float32(r.NormFloat64() * std)
+			}
+		}
+		w.Params[p.Name] = v
+	}
+	return w, nil
+}
+
+// Arch returns the architecture of w.Config.
+func (w *Weights) Arch() (*Arch, error) { return Build(w.Config) }
+
+// Check returns an error if w does not fit its architecture: a missing or
+// unexpected parameter, a wrong length, or a non-finite value.
+func (w *Weights) Check() error {
+	a, err := w.Arch()
+	if err != nil {
+		return err
+	}
+	return w.check(a)
+}
+
+func (w *Weights) check(a *Arch) error {
+	for _, p := range a.Params {
+		v, ok := w.Params[p.Name]
+		if !ok {
+			return fmt.Errorf("model: parameter %q is missing", p.Name)
+		}
+		if len(v) != p.Len() {
+			return fmt.Errorf("model: parameter %q has %d values, shape %v needs %d", p.Name, len(v), p.Shape, p.Len())
+		}
+		for i, x := range v {
+			if math.IsNaN(float64(x)) || math.IsInf(float64(x), 0) {
+				return fmt.Errorf("model: parameter %q has a non-finite value %v at index %d", p.Name, x, i)
+			}
+		}
+	}
+	if len(w.Params) != len(a.Params) {
+		for _, name := range sortedKeys(w.Params) {
+			if _, ok := a.Param(name); !ok {
+				return fmt.Errorf("model: unexpected parameter %q: the architecture has no such tensor", name)
+			}
+		}
+	}
+	return nil
+}
+
+func sortedKeys[V any](m map[string]V) []string {
+	k := make([]string, 0, len(m))
+	for s := range m {
+		k = append(k, s)
+	}
+	sort.Strings(k)
+	return k
+}
+
+// Encode writes w to out in the safetensors format, storing values as dtype
+// (F32 or F16; "" means F32). It returns an error if w does not pass Check.
+// F16 rounds each value to nearest, ties to even; magnitudes above 65504
+// become infinite and are rejected.
+func (w *Weights) Encode(out io.Writer, dtype DType) error {
+	if dtype == "" {
+		dtype = F32
+	}
+	if dtype.size() == 0 {
+		return fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
+	}
+	a, err := w.Arch()
+	if err != nil {
+		return err
+	}
+	if err := w.check(a); err != nil {
+		return err
+	}
+	ts := make([]stTensor, len(a.Params))
+	for i, p := range a.Params {
+		ts[i] = stTensor{name: p.Name, shape: p.Shape, data: w.Params[p.Name]}
+		if dtype == F16 {
+			for k, v := range ts[i].data {
+				if math.Abs(float64(v)) > 65504 && math.IsInf(float64(Float16From(Float16Bits(v))), 0) {
+					return fmt.Errorf("model: parameter %q value %v at index %d overflows F16", p.Name, v, k)
+				}
+			}
+		}
+	}
+	meta, err := w.metadata(a.Config)
+	if err != nil {
+		return err
+	}
+	return writeSafetensors(out, meta, ts, dtype)
+}
+
+func (w *Weights) metadata(c Config) (map[string]string, error) {
+	cj, err := json.Marshal(c)
+	if err != nil {
+		return nil, fmt.Errorf("model: encoding config: %v", err)
+	}
+	m := map[string]string{
+		metaFormat:        FormatName,
+		metaFormatVersion: strconv.Itoa(FormatVersion),
+		metaArch:          c.Arch,
+		metaArchVersion:   strconv.Itoa(c.Version),
+		metaConfig:        string(cj),
+		metaWidth:         strconv.Itoa(c.Width),
+		metaHeight:        strconv.Itoa(c.Height),
+		metaDMax:          strconv.FormatFloat(c.DMax, 'g', -1, 64),
+	}
+	for k, v := range w.Provenance {
+		if k == "" {
+			return nil, fmt.Errorf("model: provenance has an empty key")
+		}
+		m[metaProvenance+k] = v
+	}
+	return m, nil
+}
+
+// Save writes w to the file path atomically (a temporary file in the same
+// directory, synced, then renamed over path), storing values as dtype (see
+// Encode).
+func (w *Weights) Save(path string, dtype DType) (err error) {
+	// Encode first so that a bad w leaves no temporary file behind.
+	var buf bytes.Buffer
+	if err := w.Encode(&buf, dtype); err != nil {
+		return err
+	}
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp*")
+	if err != nil {
+		return fmt.Errorf("model: saving weights: %w", err)
+	}
+	tmp := f.Name()
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(tmp)
+		}
+	}()
+	bw := bufio.NewWriter(f)
+	if _, err = buf.WriteTo(bw); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if err = bw.Flush(); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if err = f.Sync(); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if err = f.Close(); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if err = os.Chmod(tmp, 0o644); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if err = os.Rename(tmp, path); err != nil {
+		return fmt.Errorf("model: saving weights to %s: %w", path, err)
+	}
+	if d, derr := os.Open(dir); derr == nil {
+		d.Sync() // make the rename durable where the platform allows it
+		d.Close()
+	}
+	return nil
+}
+
+// Load reads weights saved by Save (or written by any tool that follows the
+// format described in the package documentation). It returns an error
+// naming the field or tensor if the file is truncated or malformed, the
+// format or architecture version is unknown, or the tensors do not match
+// the architecture in the file's config.
+func Load(path string) (*Weights, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("model: %w", err)
+	}
+	w, err := Decode(b)
+	if err != nil {
+		return nil, fmt.Errorf("%w (file %s)", err, path)
+	}
+	return w, nil
+}
+
+// Decode parses weights from the bytes of a weights file; see Load.
+func Decode(b []byte) (*Weights, error) {
+	meta, ts, err := readSafetensors(b)
+	if err != nil {
+		return nil, err
+	}
+	c, err := configFromMetadata(meta)
+	if err != nil {
+		return nil, err
+	}
+	a, err := Build(c)
+	if err != nil {
+		return nil, err
+	}
+	w := &Weights{Config: a.Config, Params: make(map[string][]float32, len(ts)), Provenance: map[string]string{}}
+	for k, v := range meta {
+		if p, ok := strings.CutPrefix(k, metaProvenance); ok {
+			w.Provenance[p] = v
+		}
+	}
+	for _, t := range ts {
+		p, ok := a.Param(t.name)
+		if !ok {
+			return nil, fmt.Errorf("model: unexpected tensor %q: the architecture has no such parameter", t.name)
+		}
+		if !equalInts(p.Shape, t.shape) {
+			return nil, fmt.Errorf("model: tensor %q has shape %v, the architecture wants %v", t.name, t.shape, p.Shape)
+		}
+		w.Params[t.name] = t.data
+	}
+	for _, p := range a.Params {
+		if _, ok := w.Params[p.Name]; !ok {
+			return nil, fmt.Errorf("model: tensor %q is missing", p.Name)
+		}
+	}
+	if err := w.check(a); err != nil {
+		return nil, err
+	}
+	return w, nil
+}
+
+func equalInts(a, b []int) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+func configFromMetadata(meta map[string]string) (Config, error) {
+	get := func(k string) (string, error) {
+		v, ok := meta[k]
+		if !ok {
+			return "", fmt.Errorf("model: metadata field %q is missing", k)
+		}
+		return v, nil
+	}
+	var c Config
+	if meta == nil {
+		return c, fmt.Errorf("model: the file has no %s: not a weights file of this package", metadataKey)
+	}
+	f, err := get(metaFormat)
+	if err != nil {
+		return c, err
+	}
+	if f != FormatName {
+		return c, fmt.Errorf("model: metadata field %q is %q, want %q", metaFormat, f, FormatName)
+	}
+	fv, err := get(metaFormatVersion)
+	if err != nil {
+		return c, err
+	}
+	if fv != strconv.Itoa(FormatVersion) {
+		return c, fmt.Errorf("model: unsupported format_version %q (this build reads %d)", fv, FormatVersion)
+	}
+	cj, err := get(metaConfig)
+	if err != nil {
+		return c, err
+	}
+	dec := json.NewDecoder(strings.NewReader(cj))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&c); err != nil {
+		return c, fmt.Errorf("model: metadata field %q: %v", metaConfig, err)
+	}
+	if err := c.Validate(); err != nil {
+		return c, err
+	}
+	c = c.WithDefaults()
+	// The plain fields repeat the config for readers that do not parse it;
+	// they must agree.
+	checks := []struct{ key, want string }{
+		{metaArch, c.Arch},
+		{metaArchVersion, strconv.Itoa(c.Version)},
+		{metaWidth, strconv.Itoa(c.Width)},
+		{metaHeight, strconv.Itoa(c.Height)},
+	}
+	for _, k := range checks {
+		v, err := get(k.key)
+		if err != nil {
+			return c, err
+		}
+		if v != k.want {
+			return c, fmt.Errorf("model: metadata field %q is %q but the config says %q", k.key, v, k.want)
+		}
+	}
+	dv, err := get(metaDMax)
+	if err != nil {
+		return c, err
+	}
+	if d, err := strconv.ParseFloat(dv, 64); err != nil || d != c.DMax {
+		return c, fmt.Errorf("model: metadata field %q is %q but the config says %v", metaDMax, dv, c.DMax)
+	}
+	return c, nil
+}

@@ -1,0 +1,126 @@
+#!/usr/bin/python3
+"""Regenerate the fixtures of package model from outside references.
+
+Run from the repository root with Debian's interpreter:
+
+    /usr/bin/python3 testdata/model/gen_st.py
+
+Needs Debian python3-torch 1.13.1 and python3-numpy 1.24.2. Debian ships no
+python3-safetensors package, so the safetensors files are written here by the
+format's definition (8-byte little-endian header length, JSON header with
+dtype / shape / data_offsets and a __metadata__ map of strings, then the raw
+little-endian tensor bytes) with struct and json, from torch tensors' bytes.
+
+Writes into testdata/model/:
+  f16_cases.bin         float32 -> binary16 conversions by numpy (astype
+                        float16, round to nearest even): records of
+                        <u32 float32 bits><u16 half bits>, little-endian.
+  tiny_f32.safetensors  weights for the tiny architecture in tiny_arch.json
+  tiny_f16.safetensors  the same weights converted by torch .half()
+  tiny_values.json      {"f32": {name: [u32 bits]}, "f16": {name: [u32 bits
+                        of torch's half value widened to float32]}}
+
+tiny_arch.json is written by `go test ./model -run TestTinyArchGolden -update`.
+"""
+import json
+import os
+import struct
+import sys
+
+import numpy as np
+import torch
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+def f16_cases():
+    rng = np.random.default_rng(20240611)
+    # The float32 value halfway between every positive finite half and the
+    # next one (ties), and for every 8th tie the float32 neighbours just
+    # below and just above it.
+    h = np.arange(0, 0x7C00, dtype=np.uint16)
+    lo = h.view(np.float16).astype(np.float32).astype(np.float64)
+    hi = (h + 1).view(np.float16).astype(np.float32).astype(np.float64)
+    mid = ((lo + hi) / 2).astype(np.float32)  # exact: halves have 11 bits
+    below = np.nextafter(mid[::8], np.float32(0))
+    above = np.nextafter(mid[::8], np.float32(np.inf))
+    # Random float32 across the half range and beyond, both signs.
+    e = rng.uniform(-27, 17, 20000)
+    r = (np.exp2(e) * rng.choice([-1.0, 1.0], 20000)).astype(np.float32)
+    special = np.array([0.0, -0.0, 1.0, -2.0, 65504.0, 65519.99, 65520.0, 1e6,
+                        2.0**-24, 2.0**-25, 2.0**-25 * 1.0000001, 2.0**-14,
+                        np.inf, -np.inf], dtype=np.float32)
+    f = np.concatenate([mid, below, above, r, special]).astype(np.float32)
+    with np.errstate(over="ignore"):  # overflow to inf is a case under test
+        half = f.astype(np.float16).view(np.uint16)
+    rec = np.zeros(len(f), dtype=[("f", "<u4"), ("h", "<u2")])
+    rec["f"] = f.view(np.uint32)
+    rec["h"] = half
+    with open(os.path.join(HERE, "f16_cases.bin"), "wb") as out:
+        out.write(rec.tobytes())
+    return len(f)
+
+
+def write_safetensors(path, tensors, meta, order):
+    """tensors: name -> torch tensor (float32 or float16); order: the order
+    of the data section (deliberately not the header's key order)."""
+    dt = {torch.float32: "F32", torch.float16: "F16"}
+    header = {"__metadata__": meta}
+    blobs = []
+    off = 0
+    for name in order:
+        t = tensors[name].contiguous()
+        b = t.numpy().astype(t.numpy().dtype.newbyteorder("<")).tobytes()
+        header[name] = {"dtype": dt[t.dtype], "shape": list(t.shape),
+                        "data_offsets": [off, off + len(b)]}
+        off += len(b)
+        blobs.append(b)
+    # Header keys in reverse name order, to show the reader does not rely on
+    # key order.
+    keys = ["__metadata__"] + sorted(tensors, reverse=True)
+    hj = json.dumps({k: header[k] for k in keys}, separators=(",", ":")).encode()
+    hj += b" " * (-len(hj) % 8)
+    with open(path, "wb") as out:
+        out.write(struct.pack("<Q", len(hj)))
+        out.write(hj)
+        for b in blobs:
+            out.write(b)
+
+
+def tiny_weights():
+    with open(os.path.join(HERE, "tiny_arch.json")) as f:
+        arch = json.load(f)
+    cfg = arch["config"]
+    g = torch.Generator().manual_seed(5)
+    tensors = {}
+    for p in arch["params"]:
+        tensors[p["name"]] = torch.randn(p["shape"], generator=g, dtype=torch.float32) * 0.3
+    meta = {
+        "format": "parallax-weights",
+        "format_version": "1",
+        "arch": cfg["arch"],
+        "arch_version": str(cfg["version"]),
+        "config": json.dumps(cfg),
+        "input_width": str(cfg["width"]),
+        "input_height": str(cfg["height"]),
+        "d_max": repr(float(cfg["d_max"])),
+        "provenance.source": "testdata/model/gen_st.py, torch %s" % torch.__version__,
+    }
+    names = [p["name"] for p in arch["params"]]
+    order = names[1::2] + names[0::2]  # biases first, then weights
+    write_safetensors(os.path.join(HERE, "tiny_f32.safetensors"), tensors, meta, order)
+    halves = {k: v.half() for k, v in tensors.items()}
+    write_safetensors(os.path.join(HERE, "tiny_f16.safetensors"), halves, meta, order)
+    values = {
+        "f32": {k: v.numpy().view(np.uint32).ravel().tolist() for k, v in tensors.items()},
+        "f16": {k: v.float().numpy().view(np.uint32).ravel().tolist() for k, v in halves.items()},
+    }
+    with open(os.path.join(HERE, "tiny_values.json"), "w") as f:
+        json.dump(values, f, separators=(",", ":"))
+    return arch, tensors
+
+
+if __name__ == "__main__":
+    print("torch", torch.__version__, "numpy", np.__version__, file=sys.stderr)
+    print("f16 cases:", f16_cases(), file=sys.stderr)
+    tiny_weights()
