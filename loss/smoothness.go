@@ -1,0 +1,141 @@
+package loss
+
+import "math"
+
+// SmoothnessMeanEpsilon is added to the per-image mean disparity before
+// dividing by it, so that a zero mean does not divide by zero.
+const SmoothnessMeanEpsilon = 1e-7
+
+// SmoothnessKernel computes the edge-aware smoothness of a disparity map
+// guided by its image, and the gradient with respect to the disparity:
+//
+//	S = mean_{x-terms} |∂x d|·exp(−|∂x I|) + mean_{y-terms} |∂y d|·exp(−|∂y I|)
+//
+// with forward differences (∂x d at column x is d[x+1] − d[x], defined for
+// x < W−1, so there are N·H·(W−1) x-terms and N·(H−1)·W y-terms; a term with
+// no differences contributes 0) and the image differences |∂I| averaged over
+// the channels. If normalize is true, d is first divided by its per-image
+// mean plus SmoothnessMeanEpsilon, and the gradient includes the path
+// through that mean. The subgradient of |·| at 0 is 0.
+type SmoothnessKernel struct {
+	gd []float32
+}
+
+// Eval returns the smoothness of disp (N*H*W values) guided by img
+// (N*C*H*W values, s is its shape) and writes its gradient with respect to
+// disp into gradDisp (N*H*W values, overwritten; nil to skip). It does not
+// allocate in steady state. It panics if a slice length does not match s.
+func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normalize bool) float64 {
+	const name = "SmoothnessKernel.Eval"
+	checkShape(name, s)
+	plane := s.H * s.W
+	checkLen(name, "disp", disp, s.N*plane, s)
+	checkLen(name, "img", img, s.N*s.C*plane, s)
+	checkOptLen(name, "gradDisp", gradDisp, s.N*plane, s)
+
+	var kx, ky float32 // weights of one x- and one y-term in the mean
+	if s.W > 1 {
+		kx = 1 / float32(s.N*s.H*(s.W-1))
+	}
+	if s.H > 1 {
+		ky = 1 / float32(s.N*(s.H-1)*s.W)
+	}
+	invC := 1 / float32(s.C)
+	var sumX, sumY float64
+	for b := 0; b < s.N; b++ {
+		d := disp[b*plane : (b+1)*plane]
+		im := img[b*s.C*plane : (b+1)*s.C*plane]
+		inv := 1.0
+		if normalize {
+			var mean float64
+			for _, v := range d {
+				mean += float64(v)
+			}
+			inv = 1 / (mean/float64(plane) + SmoothnessMeanEpsilon)
+		}
+		var g []float32 // gradient with respect to the (normalised) d
+		if gradDisp != nil {
+			if normalize {
+				k.gd = grow(k.gd, plane)
+				g = k.gd
+			} else {
+				g = gradDisp[b*plane : (b+1)*plane]
+			}
+			clear(g)
+		}
+		for y := 0; y < s.H; y++ {
+			row := y * s.W
+			for x := 0; x < s.W; x++ {
+				j := row + x
+				if x+1 < s.W {
+					var gi float32
+					for c := 0; c < s.C; c++ {
+						v := im[c*plane+j+1] - im[c*plane+j]
+						if v < 0 {
+							v = -v
+						}
+						gi += v
+					}
+					w := float32(math.Exp(float64(-gi * invC)))
+					dd := float64(d[j+1]-d[j]) * inv
+					if dd < 0 {
+						sumX -= dd * float64(w)
+						if g != nil {
+							g[j+1] -= w * kx
+							g[j] += w * kx
+						}
+					} else if dd > 0 {
+						sumX += dd * float64(w)
+						if g != nil {
+							g[j+1] += w * kx
+							g[j] -= w * kx
+						}
+					} else if dd != dd { // NaN propagates
+						sumX += float64(dd)
+					}
+				}
+				if y+1 < s.H {
+					var gi float32
+					for c := 0; c < s.C; c++ {
+						v := im[c*plane+j+s.W] - im[c*plane+j]
+						if v < 0 {
+							v = -v
+						}
+						gi += v
+					}
+					w := float32(math.Exp(float64(-gi * invC)))
+					dd := float64(d[j+s.W]-d[j]) * inv
+					if dd < 0 {
+						sumY -= dd * float64(w)
+						if g != nil {
+							g[j+s.W] -= w * ky
+							g[j] += w * ky
+						}
+					} else if dd > 0 {
+						sumY += dd * float64(w)
+						if g != nil {
+							g[j+s.W] += w * ky
+							g[j] -= w * ky
+						}
+					} else if dd != dd {
+						sumY += dd
+					}
+				}
+			}
+		}
+		if gradDisp != nil && normalize {
+			// d' = d·inv with inv = 1/(mean(d)+ε): dL/dd_j = inv·g_j − inv²/P · Σ_i g_i d_i.
+			var gdot float64
+			for i, v := range d {
+				gdot += float64(g[i]) * float64(v)
+			}
+			corr := float32(gdot * inv * inv / float64(plane))
+			inv32 := float32(inv)
+			out := gradDisp[b*plane : (b+1)*plane]
+			for i := range out {
+				out[i] = g[i]*inv32 - corr
+			}
+		}
+	}
+	return sumX*float64(kx) + sumY*float64(ky)
+}

@@ -1,0 +1,271 @@
+package loss
+
+import (
+	"fmt"
+
+	"github.com/parallaxdepth/parallax/warp"
+)
+
+// Shape is the shape (N, C, H, W) of the batch a kernel works on. It is
+// warp.Shape, so the same value serves both packages.
+type Shape = warp.Shape
+
+// SSIM stability constants as fractions of the data range L:
+// C1 = (K1·L)², C2 = (K2·L)² (Wang et al. 2004, IEEE TIP 13(4), eq. 7 and 9).
+const (
+	SSIMK1 = 0.01
+	SSIMK2 = 0.03
+)
+
+// SSIMKernel computes the structural similarity (Wang et al. 2004, IEEE TIP
+// 13(4), eq. 13) of two image batches, per pixel and per channel, and its
+// gradient.
+//
+// The local statistics are taken over a 3×3 box window with population
+// moments (divided by 9): μx, μy, σx² = E[x²] − μx², σy², σxy = E[xy] − μxμy,
+// and
+//
+//	SSIM = (2μxμy + C1)(2σxy + C2) / ((μx² + μy² + C1)(σx² + σy² + C2)).
+//
+// Border rule: the window reflects about the edge with the edge pixel
+// repeated (scipy.ndimage mode "reflect", d c b a | a b c d | d c b a). For a
+// window of radius 1 this is the same as repeating the edge pixel. It was
+// chosen over a valid-region map because the appearance term needs a value
+// at every pixel, and because it is what scikit-image's
+// structural_similarity does, so the whole map (borders included) can be
+// checked against it. The box filter with this border is a symmetric linear
+// map, so the backward pass uses the same filter as its own transpose.
+//
+// Forward stores the local statistics in the kernel; Backward uses the
+// statistics of the last Forward call, which must have been made with the
+// same x, y and Shape (Backward panics if the Shape differs). Use one kernel
+// per SSIM evaluation whose backward pass is still to come.
+type SSIMKernel struct {
+	// DataRange is the dynamic range L of the images. If DataRange is 0 it
+	// defaults to 1.
+	DataRange float32
+
+	shape                  Shape
+	ready                  bool
+	mux, muy, vx, vy, cxy  []float32 // N*C*H*W local statistics
+	h0, h1, h2, h3, h4, t0 []float32 // one plane each
+}
+
+func (k *SSIMKernel) constants() (c1, c2 float32) {
+	l := k.DataRange
+	if l == 0 {
+		l = 1
+	}
+	return (SSIMK1 * l) * (SSIMK1 * l), (SSIMK2 * l) * (SSIMK2 * l)
+}
+
+// grow returns buf resliced to n values, reallocating only when its
+// capacity is too small. The contents are not cleared.
+func grow(buf []float32, n int) []float32 {
+	if cap(buf) < n {
+		return make([]float32, n)
+	}
+	return buf[:n]
+}
+
+func checkShape(name string, s Shape) {
+	if s.N <= 0 || s.C <= 0 || s.H <= 0 || s.W <= 0 {
+		panic(fmt.Sprintf("loss.%s: invalid shape %+v", name, s))
+	}
+}
+
+func checkLen(name, what string, buf []float32, n int, s Shape) {
+	if len(buf) != n {
+		panic(fmt.Sprintf("loss.%s: %s has %d values, shape %+v needs %d", name, what, len(buf), s, n))
+	}
+}
+
+func checkOptLen(name, what string, buf []float32, n int, s Shape) {
+	if buf != nil {
+		checkLen(name, what, buf, n, s)
+	}
+}
+
+// Forward writes into dst (N*C*H*W values) the SSIM map of x and y (N*C*H*W
+// values each) and keeps the local statistics for Backward. It does not
+// allocate once the kernel has seen a batch of this size. It panics if a
+// slice length does not match s.
+func (k *SSIMKernel) Forward(dst, x, y []float32, s Shape) {
+	checkShape("SSIMKernel.Forward", s)
+	n := s.N * s.C * s.H * s.W
+	checkLen("SSIMKernel.Forward", "dst", dst, n, s)
+	checkLen("SSIMKernel.Forward", "x", x, n, s)
+	checkLen("SSIMKernel.Forward", "y", y, n, s)
+	k.shape = s
+	k.ready = true
+	k.mux, k.muy = grow(k.mux, n), grow(k.muy, n)
+	k.vx, k.vy, k.cxy = grow(k.vx, n), grow(k.vy, n), grow(k.cxy, n)
+	plane := s.H * s.W
+	k.h0, k.h1, k.h2 = grow(k.h0, plane), grow(k.h1, plane), grow(k.h2, plane)
+	k.h3, k.h4 = grow(k.h3, plane), grow(k.h4, plane)
+	c1, c2 := k.constants()
+	for p := 0; p < s.N*s.C; p++ {
+		o := p * plane
+		k.forwardPlane(dst[o:o+plane], x[o:o+plane], y[o:o+plane], o, s.H, s.W, c1, c2)
+	}
+}
+
+// forwardPlane computes the statistics and the SSIM map of one plane whose
+// statistics start at offset o.
+func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float32) {
+	hx, hy, hxx, hyy, hxy := k.h0, k.h1, k.h2, k.h3, k.h4
+	// Horizontal 3-tap sums of x, y, x², y², xy with the edge repeated.
+	for r := 0; r < h; r++ {
+		xr, yr := x[r*w:(r+1)*w], y[r*w:(r+1)*w]
+		for i := range xr {
+			l, rr := i-1, i+1
+			if l < 0 {
+				l = 0
+			}
+			if rr >= w {
+				rr = w - 1
+			}
+			xl, xc, xn := xr[l], xr[i], xr[rr]
+			yl, yc, yn := yr[l], yr[i], yr[rr]
+			j := r*w + i
+			hx[j] = xl + xc + xn
+			hy[j] = yl + yc + yn
+			hxx[j] = xl*xl + xc*xc + xn*xn
+			hyy[j] = yl*yl + yc*yc + yn*yn
+			hxy[j] = xl*yl + xc*yc + xn*yn
+		}
+	}
+	const ninth = 1.0 / 9
+	mux, muy := k.mux[o:o+h*w], k.muy[o:o+h*w]
+	vx, vy, cxy := k.vx[o:o+h*w], k.vy[o:o+h*w], k.cxy[o:o+h*w]
+	for r := 0; r < h; r++ {
+		u, d := r-1, r+1
+		if u < 0 {
+			u = 0
+		}
+		if d >= h {
+			d = h - 1
+		}
+		u, c, d := u*w, r*w, d*w
+		for i := 0; i < w; i++ {
+			mx := (hx[u+i] + hx[c+i] + hx[d+i]) * ninth
+			my := (hy[u+i] + hy[c+i] + hy[d+i]) * ninth
+			sxx := (hxx[u+i]+hxx[c+i]+hxx[d+i])*ninth - mx*mx
+			syy := (hyy[u+i]+hyy[c+i]+hyy[d+i])*ninth - my*my
+			sxy := (hxy[u+i]+hxy[c+i]+hxy[d+i])*ninth - mx*my
+			j := c + i
+			mux[j], muy[j], vx[j], vy[j], cxy[j] = mx, my, sxx, syy, sxy
+			dst[j] = (2*mx*my + c1) * (2*sxy + c2) / ((mx*mx + my*my + c1) * (sxx + syy + c2))
+		}
+	}
+}
+
+// Backward writes into gradX and gradY (N*C*H*W values each) the gradient
+// of a scalar with respect to x and y, given gradMap, its gradient with
+// respect to the SSIM map of the last Forward call. Either gradient may be
+// nil to skip it. It uses the statistics kept by Forward, so x and y must be
+// the slices Forward saw, unchanged. It does not allocate in steady state.
+// It panics if Forward has not been called, s differs from Forward's shape,
+// or a slice length does not match s.
+func (k *SSIMKernel) Backward(gradX, gradY, gradMap, x, y []float32, s Shape) {
+	if !k.ready || s != k.shape {
+		panic(fmt.Sprintf("loss.SSIMKernel.Backward: shape %+v does not match the last Forward (%+v, called: %v)", s, k.shape, k.ready))
+	}
+	n := s.N * s.C * s.H * s.W
+	checkLen("SSIMKernel.Backward", "gradMap", gradMap, n, s)
+	checkLen("SSIMKernel.Backward", "x", x, n, s)
+	checkLen("SSIMKernel.Backward", "y", y, n, s)
+	checkOptLen("SSIMKernel.Backward", "gradX", gradX, n, s)
+	checkOptLen("SSIMKernel.Backward", "gradY", gradY, n, s)
+	if gradX == nil && gradY == nil {
+		return
+	}
+	plane := s.H * s.W
+	k.t0 = grow(k.t0, plane)
+	c1, c2 := k.constants()
+	for p := 0; p < s.N*s.C; p++ {
+		o := p * plane
+		var gx, gy []float32
+		if gradX != nil {
+			gx = gradX[o : o+plane]
+		}
+		if gradY != nil {
+			gy = gradY[o : o+plane]
+		}
+		k.backwardPlane(gx, gy, gradMap[o:o+plane], x[o:o+plane], y[o:o+plane], o, s.H, s.W, c1, c2)
+	}
+}
+
+func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c2 float32) {
+	np := h * w
+	mux, muy := k.mux[o:o+np], k.muy[o:o+np]
+	vx, vy, cxy := k.vx[o:o+np], k.vy[o:o+np], k.cxy[o:o+np]
+	// Per-pixel gradients with respect to the window moments μx, μy,
+	// E[x²] (= that of E[y²]) and E[xy].
+	gmx, gmy, gsq, gxy := k.h0, k.h1, k.h2, k.h3
+	for j := 0; j < np; j++ {
+		mx, my := mux[j], muy[j]
+		a1 := 2*mx*my + c1
+		a2 := 2*cxy[j] + c2
+		b1 := mx*mx + my*my + c1
+		b2 := vx[j] + vy[j] + c2
+		inv := 1 / (b1 * b2)
+		ssim := a1 * a2 * inv
+		gj := g[j]
+		dA1 := gj * a2 * inv
+		dA2 := gj * a1 * inv
+		dB1 := -gj * ssim / b1
+		dB2 := -gj * ssim / b2
+		gmx[j] = 2*my*(dA1-dA2) + 2*mx*(dB1-dB2)
+		gmy[j] = 2*mx*(dA1-dA2) + 2*my*(dB1-dB2)
+		gsq[j] = dB2
+		gxy[j] = 2 * dA2
+	}
+	box3(gsq, k.t0, h, w)
+	box3(gxy, k.t0, h, w)
+	if gx != nil {
+		box3(gmx, k.t0, h, w)
+		for j := 0; j < np; j++ {
+			gx[j] = gmx[j] + 2*x[j]*gsq[j] + y[j]*gxy[j]
+		}
+	}
+	if gy != nil {
+		box3(gmy, k.t0, h, w)
+		for j := 0; j < np; j++ {
+			gy[j] = gmy[j] + 2*y[j]*gsq[j] + x[j]*gxy[j]
+		}
+	}
+}
+
+// box3 replaces the h×w plane a by its 3×3 box mean with the edge pixel
+// repeated, using tmp (h*w values) as scratch.
+func box3(a, tmp []float32, h, w int) {
+	for r := 0; r < h; r++ {
+		ar, tr := a[r*w:(r+1)*w], tmp[r*w:(r+1)*w]
+		for i := range ar {
+			l, rr := i-1, i+1
+			if l < 0 {
+				l = 0
+			}
+			if rr >= w {
+				rr = w - 1
+			}
+			tr[i] = ar[l] + ar[i] + ar[rr]
+		}
+	}
+	const ninth = 1.0 / 9
+	for r := 0; r < h; r++ {
+		u, d := r-1, r+1
+		if u < 0 {
+			u = 0
+		}
+		if d >= h {
+			d = h - 1
+		}
+		tu, tc, td := tmp[u*w:(u+1)*w], tmp[r*w:(r+1)*w], tmp[d*w:(d+1)*w]
+		ar := a[r*w : (r+1)*w]
+		for i := range ar {
+			ar[i] = (tu[i] + tc[i] + td[i]) * ninth
+		}
+	}
+}
