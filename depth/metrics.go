@@ -127,7 +127,7 @@ func DepthErrors(est, gt *Depth, opt *DepthOptions) (DepthMetrics, error) {
 		return m, fmt.Errorf("%w", ErrNoValidPixels)
 	}
 	if o.MedianScale {
-		m.Scale = median(gs) / median(es)
+		m.Scale = median(slices.Clone(gs)) / median(slices.Clone(es))
 	}
 	var absRel, sqRel, sq, sqLog float64
 	var d1, d2, d3 int
@@ -169,7 +169,7 @@ func DepthErrors(est, gt *Depth, opt *DepthOptions) (DepthMetrics, error) {
 }
 
 // median returns the median of v (the mean of the two middle values for an
-// even count), reordering v.
+// even count). It sorts v in place: pass a copy.
 func median(v []float64) float64 {
 	slices.Sort(v)
 	n := len(v)
