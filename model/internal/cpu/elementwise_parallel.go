@@ -1,0 +1,76 @@
+package cpu
+
+import (
+	"fmt"
+	"sync"
+)
+
+// opGrainBytes is the amount of memory one range of a memory-bound operator
+// touches (read plus written) before ParallelFor hands out the next range.
+// Smaller tensors run on the caller's goroutine: starting a second core
+// costs a few microseconds, about what one core needs to stream this much.
+const opGrainBytes = 256 << 10
+
+// opTask carries the arguments of one operator call to the ranges that
+// ParallelFor hands out. Tasks are pooled and their run method value is
+// bound once, at creation, so a call does not allocate in steady state
+// (a closure literal passed to ParallelFor would escape to the heap).
+type opTask struct {
+	dst, a, b  []float32
+	parts      [concatGroup][]float32 // copied, so the caller's slice stays on its stack
+	chans      [concatGroup]int
+	nparts     int
+	off        int
+	s, t       float32
+	n, c, h, w int
+	body       func(t *opTask, lo, hi int)
+	run        func(lo, hi int)
+}
+
+func (t *opTask) exec(lo, hi int) { t.body(t, lo, hi) }
+
+var opTasks = sync.Pool{New: func() any {
+	t := new(opTask)
+	t.run = t.exec
+	return t
+}}
+
+// opStart returns a cleared task that will run body.
+func opStart(body func(t *opTask, lo, hi int)) *opTask {
+	t := opTasks.Get().(*opTask)
+	t.body = body
+	return t
+}
+
+// opRun runs t.body over the units [0, units), grain units per range, and
+// returns t to the pool. A unit is whatever the body iterates over (an
+// element, a row, a plane); unitBytes is the memory one unit touches and
+// sets the grain.
+func opRun(t *opTask, units, unitBytes int) {
+	grain := units
+	if unitBytes > 0 {
+		grain = max(1, opGrainBytes/unitBytes)
+	}
+	if grain >= units {
+		t.body(t, 0, units)
+	} else {
+		ParallelFor(units, grain, t.run)
+	}
+	run := t.run
+	*t = opTask{run: run} // drop the references to the caller's slices
+	opTasks.Put(t)
+}
+
+// opCheckShape panics unless every dimension is positive.
+func opCheckShape(fn string, n, c, h, w int) {
+	if n <= 0 || c <= 0 || h <= 0 || w <= 0 {
+		panic(fmt.Sprintf("cpu.%s: invalid shape %dx%dx%dx%d", fn, n, c, h, w))
+	}
+}
+
+// opCheckLen panics unless len(s) == want.
+func opCheckLen(fn, what string, s []float32, want int) {
+	if len(s) != want {
+		panic(fmt.Sprintf("cpu.%s: %s has %d values, want %d", fn, what, len(s), want))
+	}
+}
