@@ -33,10 +33,10 @@ type Cubehelix struct {
 	Gamma     float64 // exponent on λ; below 1 brightens the low end. 0 means 1
 }
 
-// DefaultCubehelix is this package's default, chosen for depth maps: it
-// starts from a dark blue-green, passes through purple and ends in a warm
-// white, and no channel clips (so brightness is exactly λ^0.9). These
-// parameters are our own choice, not the paper's example.
+// DefaultCubehelix is this package's default, chosen for depth maps: from
+// black it runs through dark green, olive, rose and lavender to white, and
+// no channel clips, so brightness is exactly λ^0.9 (γ < 1 lifts the far,
+// dark end). These parameters are our own choice, not the paper's example.
 var DefaultCubehelix = Cubehelix{Start: 2.6, Rotations: -1.1, Hue: 1.1, Gamma: 0.9}
 
 // RGB returns the colour of fraction lambda, each channel in [0, 1]. lambda
