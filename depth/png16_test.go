@@ -195,7 +195,9 @@ func hugePNGHeader() []byte {
 	return b
 }
 
-func putBE32(b []byte, v uint32) { b[0], b[1], b[2], b[3] = byte(v>>24), byte(v>>16), byte(v>>8), byte(v) }
+func putBE32(b []byte, v uint32) {
+	b[0], b[1], b[2], b[3] = byte(v>>24), byte(v>>16), byte(v>>8), byte(v)
+}
 
 func crc32IEEE(b []byte) uint32 {
 	c := ^uint32(0)
