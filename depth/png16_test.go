@@ -2,7 +2,9 @@ package depth
 
 import (
 	"bytes"
+	"encoding/binary"
 	"encoding/json"
+	"hash/crc32"
 	"image"
 	"image/color"
 	"image/png"
@@ -189,29 +191,10 @@ func hugePNGHeader() []byte {
 	png.Encode(&buf, image.NewGray16(image.Rect(0, 0, 1, 1)))
 	b := buf.Bytes()[:33] // signature (8) + IHDR length, type, 13 bytes, CRC
 	b = append([]byte(nil), b...)
-	putBE32(b[16:], 60000)
-	putBE32(b[20:], 60000)
-	putBE32(b[29:], crc32IEEE(b[12:29]))
+	binary.BigEndian.PutUint32(b[16:], 60000)
+	binary.BigEndian.PutUint32(b[20:], 60000)
+	binary.BigEndian.PutUint32(b[29:], crc32.ChecksumIEEE(b[12:29]))
 	return b
-}
-
-func putBE32(b []byte, v uint32) {
-	b[0], b[1], b[2], b[3] = byte(v>>24), byte(v>>16), byte(v>>8), byte(v)
-}
-
-func crc32IEEE(b []byte) uint32 {
-	c := ^uint32(0)
-	for _, x := range b {
-		c ^= uint32(x)
-		for k := 0; k < 8; k++ {
-			if c&1 != 0 {
-				c = c>>1 ^ 0xedb88320
-			} else {
-				c >>= 1
-			}
-		}
-	}
-	return ^c
 }
 
 func TestDepthFromImageFastPaths(t *testing.T) {
