@@ -14,11 +14,10 @@ import (
 // (x, y) at depth Z back-projects to ((x−1.5)Z/100, (y−1)Z/80, Z).
 var plyRig = &Rig{Width: 4, Height: 3, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 80, Cx: 1.5, Cy: 1, MaxDepth: 50}
 
-func plyScene(t *testing.T) (*Depth, *image.NRGBA) {
-	t.Helper()
+func plyScene() (*Depth, *image.NRGBA) {
 	z, err := NewDepth(image.Rect(0, 0, 4, 3))
 	if err != nil {
-		t.Fatal(err)
+		panic(err)
 	}
 	img := image.NewNRGBA(image.Rect(10, 20, 14, 23)) // origin not at (0, 0)
 	for y := 0; y < 3; y++ {
@@ -33,7 +32,7 @@ func plyScene(t *testing.T) (*Depth, *image.NRGBA) {
 }
 
 func TestPointCloudFromDepth(t *testing.T) {
-	z, img := plyScene(t)
+	z, img := plyScene()
 	pc, err := PointCloudFromDepth(z, img, plyRig)
 	if err != nil {
 		t.Fatal(err)
@@ -62,7 +61,7 @@ func TestPointCloudFromDepth(t *testing.T) {
 }
 
 func TestPLYRoundTrip(t *testing.T) {
-	z, img := plyScene(t)
+	z, img := plyScene()
 	pc, err := PointCloudFromDepth(z, img, plyRig)
 	if err != nil {
 		t.Fatal(err)

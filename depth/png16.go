@@ -74,13 +74,22 @@ func SavePNG16(path string, d *Depth) (dropped int, err error) {
 	return dropped, err
 }
 
+// maxDeflateRatio is the largest expansion of zlib's deflate (about 1032:1),
+// used to bound the image a PNG of a given size can honestly hold.
+const maxDeflateRatio = 1032
+
 // ReadPNG16 reads a 16-bit grey PNG of depth in millimetres, 0 invalid, into
 // a depth map in metres with bounds (0, 0)–(width, height). It checks the
 // header before decoding and returns an error for a PNG that is not 16-bit
-// grey or whose size exceeds MaxSide or MaxPixels.
+// grey, whose size exceeds MaxSide or MaxPixels, or whose header claims more
+// pixels than its compressed data could hold; so the memory it allocates is
+// bounded by about a thousand times the input size.
 func ReadPNG16(r io.Reader) (*Depth, error) {
-	var head bytes.Buffer
-	cfg, err := png.DecodeConfig(io.TeeReader(r, &head))
+	data, err := io.ReadAll(io.LimitReader(r, 2*MaxPixels+1<<20))
+	if err != nil {
+		return nil, fmt.Errorf("depth: PNG16: %w", err)
+	}
+	cfg, err := png.DecodeConfig(bytes.NewReader(data))
 	if err != nil {
 		return nil, fmt.Errorf("depth: PNG16: %w", err)
 	}
@@ -90,7 +99,10 @@ func ReadPNG16(r io.Reader) (*Depth, error) {
 	if cfg.Width < 1 || cfg.Height < 1 || cfg.Width > MaxSide || cfg.Height > MaxSide || cfg.Width*cfg.Height > MaxPixels {
 		return nil, fmt.Errorf("depth: PNG16: size %dx%d out of range (sides in [1, %d], at most %d pixels)", cfg.Width, cfg.Height, MaxSide, MaxPixels)
 	}
-	img, err := png.Decode(io.MultiReader(&head, r))
+	if raw := cfg.Height * (1 + 2*cfg.Width); raw > maxDeflateRatio*len(data) {
+		return nil, fmt.Errorf("depth: PNG16: a %dx%d image cannot fit in %d bytes: the file is truncated or corrupt", cfg.Width, cfg.Height, len(data))
+	}
+	img, err := png.Decode(bytes.NewReader(data))
 	if err != nil {
 		return nil, fmt.Errorf("depth: PNG16: %w", err)
 	}

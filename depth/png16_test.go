@@ -174,7 +174,8 @@ func TestReadPNG16Errors(t *testing.T) {
 		{"RGBA", rgb.Bytes(), "16-bit grey"},
 		{"8-bit grey", gray8.Bytes(), "16-bit grey"},
 		{"truncated", g16.Bytes()[:g16.Len()/2], "PNG16"},
-		{"huge header", hugePNGHeader(), "out of range"},
+		{"huge header", hugePNGHeader(60000, 60000), "out of range"},
+		{"header without data", hugePNGHeader(4000, 4000), "cannot fit"},
 	}
 	for _, c := range cases {
 		_, err := ReadPNG16(bytes.NewReader(c.data))
@@ -185,14 +186,14 @@ func TestReadPNG16Errors(t *testing.T) {
 }
 
 // hugePNGHeader returns the signature and IHDR chunk of a 16-bit grey PNG
-// of 60000 × 60000 pixels, with no data.
-func hugePNGHeader() []byte {
+// of w × h pixels, with no data.
+func hugePNGHeader(w, h uint32) []byte {
 	var buf bytes.Buffer
 	png.Encode(&buf, image.NewGray16(image.Rect(0, 0, 1, 1)))
 	b := buf.Bytes()[:33] // signature (8) + IHDR length, type, 13 bytes, CRC
 	b = append([]byte(nil), b...)
-	binary.BigEndian.PutUint32(b[16:], 60000)
-	binary.BigEndian.PutUint32(b[20:], 60000)
+	binary.BigEndian.PutUint32(b[16:], w)
+	binary.BigEndian.PutUint32(b[20:], h)
 	binary.BigEndian.PutUint32(b[29:], crc32.ChecksumIEEE(b[12:29]))
 	return b
 }
