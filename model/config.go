@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"github.com/parallaxdepth/parallax/depth"
 )
 
 // ArchName names the architecture described in this package; it is stored
@@ -65,7 +67,7 @@ type Config struct {
 	// DefaultDecoder.
 	Decoder []int `json:"decoder"`
 	// DMax is the largest disparity the heads can output, as a fraction of
-	// the image width (see DMaxFromRig). If 0 it is defaulted to DefaultDMax.
+	// the image width (see DMax and DMaxFromRig). If 0 it is defaulted to DefaultDMax.
 	DMax float64 `json:"d_max"`
 }
 
@@ -163,6 +165,31 @@ func DMax(focal, baseline, minDepth float64, width int) (float64, error) {
 	}
 	if !(d > 0) {
 		return 0, errors.New("model: d_max underflows to 0")
+	}
+	return d, nil
+}
+
+// DMaxFromRig returns the largest disparity, as a fraction of the rig's
+// image width, of a point at the rig's MinDepth: (Focal·Baseline/MinDepth −
+// Doffs) / Width, which is DMax for a rig with Doffs = 0. It returns an
+// error if the rig is invalid, MinDepth is 0, or the result is not in (0, 1].
+func DMaxFromRig(r *depth.Rig) (float64, error) {
+	if r == nil {
+		return 0, errors.New("model: rig is nil")
+	}
+	if err := r.Validate(); err != nil {
+		return 0, fmt.Errorf("model: %w", err)
+	}
+	if !(r.MinDepth > 0) {
+		return 0, fmt.Errorf("model: the rig's minimum depth %v must be positive to bound the disparity", r.MinDepth)
+	}
+	px, ok := r.PixelsFromDepth(r.MinDepth)
+	if !ok {
+		return 0, fmt.Errorf("model: the rig gives no positive disparity at its minimum depth %v", r.MinDepth)
+	}
+	d := px / float64(r.Width)
+	if d > 1 {
+		return 0, fmt.Errorf("model: d_max %v exceeds the image width: the minimum depth %v is too close for this rig", d, r.MinDepth)
 	}
 	return d, nil
 }

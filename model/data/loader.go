@@ -1,0 +1,264 @@
+package data
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math/rand/v2"
+	"sync"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/planar"
+)
+
+// Options configures a Loader. A nil *Options means the defaults; each zero
+// field means its default.
+type Options struct {
+	// Width and Height are the output size; 0 means model.DefaultWidth and
+	// model.DefaultHeight.
+	Width, Height int
+	// BatchSize is the number of samples per batch; 0 means 8.
+	BatchSize int
+	// Shuffle reorders the pairs every epoch, by Seed and the epoch number.
+	Shuffle bool
+	// Seed seeds shuffling and augmentation.
+	Seed uint64
+	// Augment, if not nil, is applied to every sample.
+	Augment *Augment
+	// Prefetch is the number of batches prepared ahead in goroutines; 0
+	// means 2. At most Prefetch+1 batches exist at once besides those the
+	// caller holds.
+	Prefetch int
+	// DropPartial drops the last batch of an epoch if it is smaller than
+	// BatchSize.
+	DropPartial bool
+}
+
+// Batch is BatchSize samples (fewer for the last batch of an epoch unless
+// Options.DropPartial), stacked.
+type Batch struct {
+	// Names of the pairs, in batch order.
+	Names []string
+	// Left and Right are N×3×H×W.
+	Left, Right *planar.Image
+	// DispLeft and DispRight are N×1×H×W fractions of the width, 0 where
+	// there is no ground truth; nil if the dataset has none of that kind.
+	DispLeft, DispRight *planar.Image
+	// DepthLeft (metres) and OccLeft are N×1×H×W or nil; flipped samples
+	// hold zeros there.
+	DepthLeft, OccLeft *planar.Image
+	// Flipped[i] reports that sample i was mirrored and its views swapped.
+	Flipped []bool
+}
+
+// Loader serves a Dataset as batches.
+type Loader struct {
+	ds  *Dataset
+	opt Options
+}
+
+// NewLoader returns a loader over ds. It returns an error for an empty
+// dataset or invalid options.
+func NewLoader(ds *Dataset, opt *Options) (*Loader, error) {
+	var o Options
+	if opt != nil {
+		o = *opt
+	}
+	if o.Width == 0 {
+		o.Width = model.DefaultWidth
+	}
+	if o.Height == 0 {
+		o.Height = model.DefaultHeight
+	}
+	if o.BatchSize == 0 {
+		o.BatchSize = 8
+	}
+	if o.Prefetch == 0 {
+		o.Prefetch = 2
+	}
+	if ds == nil || len(ds.Pairs) == 0 {
+		return nil, errors.New("data: the dataset has no pairs")
+	}
+	if o.Width < 1 || o.Height < 1 || o.BatchSize < 1 || o.Prefetch < 1 {
+		return nil, fmt.Errorf("data: invalid options: size %d×%d, batch size %d, prefetch %d", o.Width, o.Height, o.BatchSize, o.Prefetch)
+	}
+	if _, err := planar.NewChecked(o.BatchSize, 3, o.Height, o.Width); err != nil {
+		return nil, fmt.Errorf("data: %w", err)
+	}
+	if o.Augment != nil {
+		a := *o.Augment
+		if err := a.Validate(); err != nil {
+			return nil, err
+		}
+		o.Augment = &a
+	}
+	if o.DropPartial && len(ds.Pairs) < o.BatchSize {
+		return nil, fmt.Errorf("data: %d pairs make no full batch of %d", len(ds.Pairs), o.BatchSize)
+	}
+	return &Loader{ds: ds, opt: o}, nil
+}
+
+// NumBatches returns the number of batches in one epoch.
+func (l *Loader) NumBatches() int {
+	n := len(l.ds.Pairs)
+	if l.opt.DropPartial {
+		return n / l.opt.BatchSize
+	}
+	return (n + l.opt.BatchSize - 1) / l.opt.BatchSize
+}
+
+// Order returns the pair indices of epoch in the order they are served.
+func (l *Loader) Order(epoch int) []int {
+	n := len(l.ds.Pairs)
+	if !l.opt.Shuffle {
+		p := make([]int, n)
+		for i := range p {
+			p[i] = i
+		}
+		return p
+	}
+	return permutation(n, rand.New(rand.NewPCG(l.opt.Seed, shuffleStream^uint64(epoch)<<20)))
+}
+
+// Iter walks the batches of one epoch. Call Close when done, also after an
+// error or io.EOF.
+type Iter struct {
+	pending chan chan result
+	cancel  context.CancelFunc
+	wg      sync.WaitGroup
+	err     error
+}
+
+type result struct {
+	b   *Batch
+	err error
+}
+
+// Epoch starts serving epoch number epoch. Batches are prepared by up to
+// Options.Prefetch goroutines and delivered in order; the result does not
+// depend on the number of goroutines. Cancelling ctx stops the workers.
+func (l *Loader) Epoch(ctx context.Context, epoch int) *Iter {
+	ctx, cancel := context.WithCancel(ctx)
+	it := &Iter{pending: make(chan chan result, l.opt.Prefetch), cancel: cancel}
+	order := l.Order(epoch)
+	nb := l.NumBatches()
+	sem := make(chan struct{}, l.opt.Prefetch)
+	it.wg.Add(1)
+	go func() {
+		defer it.wg.Done()
+		defer close(it.pending)
+		for k := 0; k < nb; k++ {
+			select {
+			case sem <- struct{}{}:
+			case <-ctx.Done():
+				return
+			}
+			slot := make(chan result, 1)
+			select {
+			case it.pending <- slot:
+			case <-ctx.Done():
+				return
+			}
+			lo := k * l.opt.BatchSize
+			idx := order[lo:min(lo+l.opt.BatchSize, len(order))]
+			it.wg.Add(1)
+			go func() {
+				defer it.wg.Done()
+				defer func() { <-sem }()
+				b, err := l.batch(ctx, epoch, lo, idx)
+				slot <- result{b, err}
+			}()
+		}
+	}()
+	return it
+}
+
+// Next returns the next batch, io.EOF after the last one, or the first
+// error met (naming the file); after an error every call returns it.
+func (it *Iter) Next() (*Batch, error) {
+	if it.err != nil {
+		return nil, it.err
+	}
+	slot, ok := <-it.pending
+	if !ok {
+		it.err = io.EOF
+		return nil, io.EOF
+	}
+	r := <-slot
+	if r.err != nil {
+		it.err = r.err
+		it.cancel()
+		return nil, r.err
+	}
+	return r.b, nil
+}
+
+// Close stops the workers and waits for them.
+func (it *Iter) Close() {
+	it.cancel()
+	go func() {
+		for range it.pending {
+		}
+	}()
+	it.wg.Wait()
+	if it.err == nil {
+		it.err = errors.New("data: iterator closed")
+	}
+}
+
+// batch loads the samples idx, which start at position pos of the epoch.
+func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, error) {
+	o := l.opt
+	n := len(idx)
+	b := &Batch{
+		Names:   make([]string, n),
+		Left:    planar.New(n, 3, o.Height, o.Width),
+		Right:   planar.New(n, 3, o.Height, o.Width),
+		Flipped: make([]bool, n),
+	}
+	for _, k := range l.ds.Truth {
+		m := planar.New(n, 1, o.Height, o.Width)
+		switch k {
+		case DispLeft:
+			b.DispLeft = m
+		case DispRight:
+			b.DispRight = m
+		case DepthLeft:
+			b.DepthLeft = m
+		case OccLeft:
+			b.OccLeft = m
+		}
+	}
+	for j, i := range idx {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		s, err := l.ds.Load(i, o.Width, o.Height)
+		if err != nil {
+			return nil, err
+		}
+		if o.Augment != nil {
+			r := rand.New(rand.NewPCG(o.Seed^augmentStream, uint64(epoch)<<32|uint64(pos+j)))
+			o.Augment.apply(s, r)
+		}
+		b.Names[j] = s.Name
+		b.Flipped[j] = s.Flipped
+		put(b.Left, j, s.Left)
+		put(b.Right, j, s.Right)
+		put(b.DispLeft, j, s.DispLeft)
+		put(b.DispRight, j, s.DispRight)
+		put(b.DepthLeft, j, s.DepthLeft)
+		put(b.OccLeft, j, s.OccLeft)
+	}
+	return b, nil
+}
+
+// put copies the single image src into item j of dst; a nil src leaves
+// zeros, a nil dst does nothing.
+func put(dst *planar.Image, j int, src *planar.Image) {
+	if dst == nil || src == nil {
+		return
+	}
+	copy(dst.Item(j).Pix, src.Pix)
+}
