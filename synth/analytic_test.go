@@ -1,0 +1,174 @@
+package synth
+
+import (
+	"math"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/depth"
+)
+
+// testRig returns a small greenhouse rig for the analytic scenes.
+func testRig(t *testing.T, w, h int) *depth.Rig {
+	t.Helper()
+	rig, err := Greenhouse.Rig(w, h)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return rig
+}
+
+// planeScene is a textured fronto-parallel plane at depth z in front of a
+// camera at the origin looking along +z, lit from a fixed direction.
+func planeScene(z float64) *scene {
+	sc := &scene{
+		mats: []material{{kind: texLabels, base: rgb{0.6, 0.45, 0.3}, alt: rgb{0.5, 0.38, 0.25},
+			ink: rgb{0.1, 0.1, 0.1}, scale: 0.1, density: 0.8, contrast: 0.4, seed: 7}},
+		shapes:  []shape{{kind: shapePlane, normal: vec3{0, 0, 1}, offset: z, uvOrigin: vec3{0.013, 0.029, z}}},
+		light:   vec3{0.3, 0.8, -0.52}.normalized(),
+		ambient: 0.6, diffuse: 0.4,
+	}
+	sc.setPose(vec3{}, 0, 0)
+	return sc
+}
+
+// TestRigFocal checks the style rigs against the pinhole relation between
+// field of view and focal length, f = (W/2)/tan(hfov/2) (common practice),
+// with the fields of view stated in the Style docs.
+func TestRigFocal(t *testing.T) {
+	for _, c := range []struct {
+		style    Style
+		hfovDeg  float64
+		baseline float64
+	}{{Greenhouse, 72, 0.12}, {Storage, 60, 0.1}} {
+		for _, w := range []int{256, 640} {
+			rig, err := c.style.Rig(w, w/2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			want := float64(w) / 2 / math.Tan(c.hfovDeg/2*math.Pi/180)
+			if math.Abs(rig.Focal-want) > 1e-9*want || rig.Fx != rig.Focal || rig.Fy != rig.Focal {
+				t.Errorf("%s at width %d: focal %v fx %v fy %v, want %v", c.style, w, rig.Focal, rig.Fx, rig.Fy, want)
+			}
+			if rig.Baseline != c.baseline || rig.Doffs != 0 {
+				t.Errorf("%s: baseline %v doffs %v, want %v and 0", c.style, rig.Baseline, rig.Doffs, c.baseline)
+			}
+			if rig.Cx != float64(w-1)/2 || rig.Cy != float64(w/2-1)/2 {
+				t.Errorf("%s: principal point (%v, %v), want the image centre", c.style, rig.Cx, rig.Cy)
+			}
+		}
+	}
+}
+
+// TestFrontoParallelPlane renders a plane at depth Z facing the rig. Every
+// pixel's disparity must be f·B/Z and its depth Z (the pinhole stereo
+// relation, common practice); the right image must equal the left image
+// shifted by that disparity, which is chosen to be a whole number of pixels;
+// and visibility must be 0 exactly in the strip that leaves the other view.
+func TestFrontoParallelPlane(t *testing.T) {
+	const w, h = 96, 48
+	rig := testRig(t, w, h)
+	const shift = 7 // pixels
+	z := rig.Focal * rig.Baseline / shift
+	p := render(planeScene(z), rig, 2)
+
+	wantFrac := rig.Focal * rig.Baseline / z / float64(w)
+	for i := range p.DispLeft.Pix {
+		if d := float64(p.DispLeft.Pix[i]); math.Abs(d-wantFrac) > 1e-6*wantFrac {
+			t.Fatalf("left disparity at %d is %v, want f·B/Z/W = %v", i, d, wantFrac)
+		}
+		if d := float64(p.DispRight.Pix[i]); math.Abs(d-wantFrac) > 1e-6*wantFrac {
+			t.Fatalf("right disparity at %d is %v, want %v", i, d, wantFrac)
+		}
+		if dz := float64(p.DepthLeft.Pix[i]); math.Abs(dz-z) > 1e-6*z {
+			t.Fatalf("depth at %d is %v, want %v", i, dz, z)
+		}
+	}
+	plane := w * h
+	var maxDiff float64
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			// Left x is seen at x−7 in the right view, inside it iff x ≥ 7.
+			if want := float32(b2f(x-shift >= 0)); p.VisibleLeft.Pix[i] != want {
+				t.Fatalf("left visibility at (%d, %d) is %v, want %v", x, y, p.VisibleLeft.Pix[i], want)
+			}
+			if want := float32(b2f(x+shift <= w-1)); p.VisibleRight.Pix[i] != want {
+				t.Fatalf("right visibility at (%d, %d) is %v, want %v", x, y, p.VisibleRight.Pix[i], want)
+			}
+			if x < shift {
+				continue
+			}
+			for c := 0; c < 3; c++ {
+				l := p.Left.Pix[c*plane+i]
+				r := p.Right.Pix[c*plane+i-shift]
+				maxDiff = math.Max(maxDiff, math.Abs(float64(l-r)))
+			}
+		}
+	}
+	// The two views see the same surface points; only rounding of the ray
+	// arithmetic differs, far below one 8-bit step (1/255).
+	if maxDiff > 1e-5 {
+		t.Errorf("right image shifted by %d px differs from the left by up to %v", shift, maxDiff)
+	}
+	// The texture must not be flat, or the comparison above proves nothing.
+	var lo, hi float32 = 1, 0
+	for _, v := range p.Left.Pix[:plane] {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	if hi-lo < 0.2 {
+		t.Errorf("plane texture spans only [%v, %v]", lo, hi)
+	}
+}
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// TestOcclusionBand puts a box in front of the plane. Background pixels just
+// left of the box in the left view are hidden from the right camera by the
+// box: on each row the hidden band is d_box − d_plane pixels wide (from the
+// projection x_R = x − d; common practice for rectified stereo).
+func TestOcclusionBand(t *testing.T) {
+	const w, h = 128, 64
+	rig := testRig(t, w, h)
+	fb := rig.Focal * rig.Baseline
+	z0, z1 := fb/4, fb/16 // plane disparity 4 px, box front 16 px
+	sc := planeScene(z0)
+	sc.mats = append(sc.mats, material{kind: texMottled, base: rgb{0.2, 0.5, 0.2}, alt: rgb{0.1, 0.3, 0.1}, scale: 0.05, contrast: 0.5, seed: 3})
+	// Box front face at depth z1, spanning x in [−0.1·z1, 0.2·z1] (columns
+	// about cx − 0.1·f … cx + 0.2·f) and the middle rows.
+	sc.shapes = append(sc.shapes, shape{kind: shapeBox,
+		lo: vec3{-0.1 * z1, -0.15 * z1, z1}, hi: vec3{0.2 * z1, 0.15 * z1, z1 + 0.05}, mats: all6(1)})
+	p := render(sc, rig, 2)
+	want := 16 - 4
+	rows := 0
+	for y := h/2 - 4; y <= h/2+4; y++ {
+		// The box's left edge in the left view.
+		edge := -1
+		for x := 0; x < w; x++ {
+			if p.DispLeft.Pix[y*w+x]*float32(w) > 10 {
+				edge = x
+				break
+			}
+		}
+		if edge < want+2 {
+			t.Fatalf("row %d: box edge at column %d, scene misplaced", y, edge)
+		}
+		hidden := 0
+		for x := edge - 1; x >= 0 && p.VisibleLeft.Pix[y*w+x] == 0; x-- {
+			hidden++
+		}
+		// The hidden band is [a − 12, a) for the box edge a; any half-open
+		// interval of length 12 holds exactly 12 pixel centres.
+		if hidden != want {
+			t.Errorf("row %d: %d hidden pixels left of the box, want %d", y, hidden, want)
+		}
+		rows++
+	}
+	if rows == 0 {
+		t.Fatal("no rows checked")
+	}
+}

@@ -1,0 +1,30 @@
+package synth
+
+import (
+	"fmt"
+	"testing"
+)
+
+// benchmarkGenerate renders pairs of the style at the given size, one pair
+// per iteration, on one goroutine.
+func benchmarkGenerate(b *testing.B, style Style, w, h int) {
+	b.ReportAllocs()
+	opt := &Options{Width: w, Height: h}
+	cpu0, ok := processCPU()
+	n := 0
+	for b.Loop() {
+		if _, err := Generate(style, 1, n%16, opt); err != nil {
+			b.Fatal(err)
+		}
+		n++
+	}
+	if cpu1, ok1 := processCPU(); ok && ok1 && n > 0 {
+		b.ReportMetric(float64(cpu1-cpu0)/float64(n), "cpu-ns/op")
+	}
+}
+
+func BenchmarkGenerate(b *testing.B) {
+	for _, st := range Styles {
+		b.Run(fmt.Sprintf("%s/256x128", st), func(b *testing.B) { benchmarkGenerate(b, st, 256, 128) })
+	}
+}

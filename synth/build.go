@@ -1,0 +1,81 @@
+package synth
+
+import (
+	"math"
+	"math/rand/v2"
+)
+
+// builder assembles a scene from a seeded generator. Every random choice
+// goes through rng in program order, so a seed fixes the scene.
+type builder struct {
+	sc  *scene
+	rng *rand.Rand
+}
+
+func newBuilder(seed uint64, index int, style Style) *builder {
+	// The stream depends on the seed, the pair index and the style, so pair
+	// i of a run does not depend on how many pairs are made or in which
+	// order.
+	s2 := uint64(index)*0x9e3779b97f4a7c15 ^ uint64(style+1)*0xbf58476d1ce4e5b9
+	return &builder{sc: &scene{}, rng: rand.New(rand.NewPCG(seed, s2))}
+}
+
+func (b *builder) uni(lo, hi float64) float64 { return lo + (hi-lo)*b.rng.Float64() }
+func (b *builder) chance(p float64) bool      { return b.rng.Float64() < p }
+func (b *builder) intn(n int) int             { return b.rng.IntN(n) }
+
+// tint returns c with each component scaled by a factor in [1−a, 1+a].
+func (b *builder) tint(c rgb, a float64) rgb {
+	return rgb{
+		clamp01(c[0] * b.uni(1-a, 1+a)),
+		clamp01(c[1] * b.uni(1-a, 1+a)),
+		clamp01(c[2] * b.uni(1-a, 1+a)),
+	}
+}
+
+func (b *builder) seed() uint32 { return b.rng.Uint32() }
+
+// mat adds a material and returns its index.
+func (b *builder) mat(m material) uint16 {
+	if m.seed == 0 {
+		m.seed = b.seed()
+	}
+	b.sc.mats = append(b.sc.mats, m)
+	return uint16(len(b.sc.mats) - 1)
+}
+
+func all6(m uint16) [6]uint16 { return [6]uint16{m, m, m, m, m, m} }
+
+// box adds a solid axis-aligned box with one material per face (see the
+// face numbering in shape.go).
+func (b *builder) box(lo, hi vec3, mats [6]uint16) {
+	b.sc.shapes = append(b.sc.shapes, shape{kind: shapeBox, lo: lo, hi: hi, mats: mats, uvOrigin: lo})
+}
+
+// room adds the enclosing room; faces are seen from inside.
+func (b *builder) room(lo, hi vec3, mats [6]uint16) {
+	b.sc.shapes = append(b.sc.shapes, shape{kind: shapeRoom, lo: lo, hi: hi, mats: mats, uvOrigin: lo})
+}
+
+// cylinder adds a vertical cylinder standing on y0 up to y1; mats holds the
+// side, bottom and top materials.
+func (b *builder) cylinder(x, z, r, y0, y1 float64, side, caps uint16) {
+	b.sc.shapes = append(b.sc.shapes, shape{
+		kind: shapeCylinder, centre: vec3{x, 0, z}, radius: r,
+		lo: vec3{0, y0, 0}, hi: vec3{0, y1, 0},
+		mats: [6]uint16{side, caps, caps},
+	})
+}
+
+func (b *builder) sphere(c vec3, r float64, m uint16) {
+	b.sc.shapes = append(b.sc.shapes, shape{kind: shapeSphere, centre: c, radius: r, mats: [6]uint16{m}})
+}
+
+// lighting sets a distant light from above at a random azimuth.
+func (b *builder) lighting(ambLo, ambHi, difLo, difHi float64) {
+	az := b.uni(0, 2*math.Pi)
+	el := b.uni(0.7, 1.3)
+	b.sc.light = vec3{math.Cos(az) * math.Cos(el), math.Sin(el), math.Sin(az) * math.Cos(el)}
+	b.sc.ambient = b.uni(ambLo, ambHi)
+	b.sc.diffuse = b.uni(difLo, difHi)
+}

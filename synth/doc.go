@@ -1,0 +1,76 @@
+// Package synth renders rectified stereo pairs of procedurally generated
+// scenes with exact ground truth: disparity of both views, metric depth of
+// the left view and occlusion masks. It is the project's demo, training and
+// benchmark data; it uses no external assets.
+//
+// Two styles exist (see Style): a greenhouse aisle seen from a small rover,
+// and a storage room with shelving, seen by a different rig. A pair is fixed
+// by (style, seed, index, image size, samples): Generate(style, seed, i, opt)
+// returns the same pair whatever else is generated, in any order and on any
+// number of goroutines.
+//
+// Conventions:
+//
+//   - Rig. Pinhole and rectified: the right camera sits Rig.Baseline metres
+//     along the left camera's x axis with the same orientation, both share
+//     the principal point (Doffs = 0), pixels are square (Fy = Fx = Focal)
+//     and the principal point is the image centre ((W−1)/2, (H−1)/2). Each
+//     style fixes its horizontal field of view, so Focal scales with the
+//     width. Camera frames have x right, y down, z forward; the world has Y
+//     up.
+//   - Pixel centres sit at integer coordinates 0 … W−1 (as in packages
+//     planar and warp).
+//   - Ground truth is exact and taken at pixel centres: the ray through the
+//     centre of pixel (x, y) meets the nearest surface at depth Z (camera z,
+//     metres), and the disparity is Focal·Baseline/Z pixels. In memory
+//     (Pair) disparities are a fraction of the width, as package warp wants
+//     them; files hold pixels.
+//   - Colour is anti-aliased, so it is not a point sample: away from
+//     silhouettes a pixel shows its centre point with textures pre-filtered
+//     to the pixel's footprint; near silhouettes and creases it averages
+//     Samples×Samples rays. A pixel on a depth edge therefore mixes the
+//     colours of both surfaces while its ground truth belongs to the surface
+//     under its centre.
+//   - Colour is view-independent: textures are functions of surface
+//     coordinates in metres, shading is Lambertian (ambient plus one distant
+//     light, no highlights, no shadows), and the texture footprint is
+//     measured from the midpoint of the two cameras. A surface point has the
+//     same colour in both views up to anti-aliasing and 8-bit rounding.
+//   - Visibility. A left pixel is visible in the right view if its surface
+//     point projects inside the right image, at x − d with 0 ≤ x − d ≤ W−1
+//     (the range in which warp's validity mask is 1), and the right camera's
+//     ray through that point meets nothing nearer (the ray is cast; no depth
+//     map is interpolated). Likewise for the right view at x + d. In memory a
+//     visibility mask holds 1 for visible (the module's mask convention);
+//     the occlusion files hold 255 for not visible.
+//   - A ray that meets nothing (impossible in the built-in styles, which are
+//     closed rooms) gives black, disparity 0, depth 0 and not visible.
+//
+// Dataset layout (WriteDataset, Pair.Save), NAME = PairName(index), six
+// digits:
+//
+//	DIR/rig.json                    the rig (depth.SaveRig)
+//	DIR/left/NAME.png               8-bit RGB
+//	DIR/right/NAME.png              8-bit RGB
+//	DIR/truth/disp_left/NAME.pfm    left disparity, pixels, float32 PFM
+//	DIR/truth/disp_right/NAME.pfm   right disparity, pixels, float32 PFM
+//	DIR/truth/depth_left/NAME.pfm   left depth Z, metres, float32 PFM
+//	DIR/truth/occ_left/NAME.png     8-bit gray, 255 = not visible in the right view
+//	DIR/truth/occ_right/NAME.png    8-bit gray, 255 = not visible in the left view
+//
+// A rig owner's own recording uses the same rig.json, left/ and right/
+// without truth/. Every file is written atomically (temporary file in the
+// same folder, synced, renamed).
+//
+// Determinism. Random choices come from math/rand/v2's PCG seeded with
+// (seed, index, style); textures hash integer lattice points; nothing
+// depends on map order or goroutine scheduling. The output is byte-identical
+// across runs and machines of one architecture with one Go release. The
+// residual risk across architectures is floating-point contraction: Go may
+// fuse x*y+z into one FMA instruction on arm64, ppc64, s390x and riscv64
+// (not on amd64), which can change the last bit of a float64 and, rarely,
+// an 8-bit colour or the last bit of a float32 map value. TestGolden
+// compares against the committed testdata/synth files and would show it.
+//
+// Errors start with "synth: ". Nothing panics on options or data.
+package synth

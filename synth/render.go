@@ -1,0 +1,373 @@
+package synth
+
+import (
+	"math"
+	"sort"
+
+	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/planar"
+)
+
+// scene is a procedurally built world with its lighting and the pose of the
+// left camera. The right camera sits Baseline metres along the left
+// camera's x axis (right), with the same orientation: the pair is rectified.
+type scene struct {
+	shapes []shape
+	mats   []material
+
+	light   vec3    // unit vector towards a distant light
+	ambient float64 // light reaching every surface
+	diffuse float64 // strength of the directional light
+
+	origin           vec3 // left camera centre, world frame
+	right, down, fwd vec3 // camera axes in the world frame (orthonormal)
+}
+
+// setPose places the left camera at origin looking along the direction
+// given by yaw (about world Y, positive turns right) and pitch (positive
+// looks up), with no roll, so that image rows stay horizontal.
+func (sc *scene) setPose(origin vec3, yaw, pitch float64) {
+	sc.origin = origin
+	cy, sy := math.Cos(yaw), math.Sin(yaw)
+	cp, sp := math.Cos(pitch), math.Sin(pitch)
+	sc.fwd = vec3{sy * cp, sp, cy * cp}
+	sc.right = vec3{cy, 0, -sy}
+	sc.down = sc.right.cross(sc.fwd)
+}
+
+// tileSize is the side, in pixels, of the screen tiles that bin shapes.
+const tileSize = 8
+
+// view is one camera of the pair, with its shapes binned into screen tiles
+// so that a ray tests only the shapes whose projection can contain it.
+type view struct {
+	sc             *scene
+	origin         vec3
+	fx, fy, cx, cy float64
+	w, h           int
+	tilesX, tilesY int
+	tileStart      []int32  // tile i holds tileItems[tileStart[i]:tileStart[i+1]]
+	tileItems      []uint16 // shape indices, nearest minimum depth first
+	minZ           []float64
+}
+
+func newView(sc *scene, rig *depth.Rig, origin vec3) *view {
+	v := &view{
+		sc: sc, origin: origin,
+		fx: rig.Fx, fy: rig.Fy, cx: rig.Cx, cy: rig.Cy,
+		w: rig.Width, h: rig.Height,
+	}
+	v.tilesX = (v.w + tileSize - 1) / tileSize
+	v.tilesY = (v.h + tileSize - 1) / tileSize
+	n := len(sc.shapes)
+	type rect struct{ x0, y0, x1, y1 int }
+	rects := make([]rect, n)
+	v.minZ = make([]float64, n)
+	order := make([]int, n)
+	full := rect{0, 0, v.tilesX - 1, v.tilesY - 1}
+	for i := range sc.shapes {
+		order[i] = i
+		lo, hi, finite := sc.shapes[i].bounds()
+		if !finite || sc.shapes[i].kind == shapeRoom {
+			rects[i] = full
+			continue
+		}
+		minZ := math.Inf(1)
+		x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
+		behind := false
+		for c := 0; c < 8; c++ {
+			p := vec3{lo.x, lo.y, lo.z}
+			if c&1 != 0 {
+				p.x = hi.x
+			}
+			if c&2 != 0 {
+				p.y = hi.y
+			}
+			if c&4 != 0 {
+				p.z = hi.z
+			}
+			q := p.sub(origin)
+			z := q.dot(sc.fwd)
+			minZ = math.Min(minZ, z)
+			if z <= 1e-6 {
+				behind = true
+				continue
+			}
+			px := v.cx + v.fx*q.dot(sc.right)/z
+			py := v.cy + v.fy*q.dot(sc.down)/z
+			x0, x1 = math.Min(x0, px), math.Max(x1, px)
+			y0, y1 = math.Min(y0, py), math.Max(y1, py)
+		}
+		v.minZ[i] = math.Max(minZ, 0)
+		if behind {
+			if hiZ := maxCornerZ(lo, hi, origin, sc.fwd); hiZ <= 0 {
+				rects[i] = rect{1, 1, 0, 0} // entirely behind: in no tile
+			} else {
+				rects[i] = full
+			}
+			continue
+		}
+		// A margin of two pixels covers supersample offsets and rounding.
+		r := rect{
+			x0: tileOf(x0-2, v.tilesX), y0: tileOf(y0-2, v.tilesY),
+			x1: tileOf(x1+2, v.tilesX), y1: tileOf(y1+2, v.tilesY),
+		}
+		if x1+2 < -0.5 || y1+2 < -0.5 || x0-2 > float64(v.w)-0.5 || y0-2 > float64(v.h)-0.5 {
+			r = rect{1, 1, 0, 0} // off screen
+		}
+		rects[i] = r
+	}
+	sort.SliceStable(order, func(a, b int) bool { return v.minZ[order[a]] < v.minZ[order[b]] })
+	tiles := v.tilesX * v.tilesY
+	counts := make([]int32, tiles+1)
+	for _, i := range order {
+		r := rects[i]
+		for ty := r.y0; ty <= r.y1; ty++ {
+			for tx := r.x0; tx <= r.x1; tx++ {
+				counts[ty*v.tilesX+tx+1]++
+			}
+		}
+	}
+	for t := 0; t < tiles; t++ {
+		counts[t+1] += counts[t]
+	}
+	v.tileStart = counts
+	v.tileItems = make([]uint16, counts[tiles])
+	fill := append([]int32(nil), counts[:tiles]...)
+	for _, i := range order {
+		r := rects[i]
+		for ty := r.y0; ty <= r.y1; ty++ {
+			for tx := r.x0; tx <= r.x1; tx++ {
+				t := ty*v.tilesX + tx
+				v.tileItems[fill[t]] = uint16(i)
+				fill[t]++
+			}
+		}
+	}
+	return v
+}
+
+func maxCornerZ(lo, hi, origin, fwd vec3) float64 {
+	z := math.Inf(-1)
+	for c := 0; c < 8; c++ {
+		p := lo
+		if c&1 != 0 {
+			p.x = hi.x
+		}
+		if c&2 != 0 {
+			p.y = hi.y
+		}
+		if c&4 != 0 {
+			p.z = hi.z
+		}
+		z = math.Max(z, p.sub(origin).dot(fwd))
+	}
+	return z
+}
+
+// tileOf returns the tile holding pixel coordinate p (pixel x covers
+// [x−½, x+½]), clamped to [0, n−1].
+func tileOf(p float64, n int) int {
+	t := int(math.Floor((p + 0.5) / tileSize))
+	if t < 0 {
+		return 0
+	}
+	if t > n-1 {
+		return n - 1
+	}
+	return t
+}
+
+// hit is the nearest intersection of a ray: depth t (camera z, metres),
+// shape index and face; shape < 0 means the ray hit nothing.
+type hit struct {
+	t     float64
+	shape int32
+	face  int32
+}
+
+// nearZ is the smallest depth a hit may have, metres.
+const nearZ = 1e-3
+
+// dir returns the world direction of the ray through pixel coordinates
+// (px, py), scaled so that its component along the optical axis is 1.
+func (v *view) dir(px, py float64) vec3 {
+	sc := v.sc
+	return sc.right.scale((px - v.cx) / v.fx).add(sc.down.scale((py - v.cy) / v.fy)).add(sc.fwd)
+}
+
+// trace casts the ray through pixel coordinates (px, py) of the view.
+func (v *view) trace(px, py float64) hit {
+	sc := v.sc
+	r := newRay(v.origin, v.dir(px, py))
+	h := hit{t: math.Inf(1), shape: -1}
+	tx, ty := tileOf(px, v.tilesX), tileOf(py, v.tilesY)
+	tile := ty*v.tilesX + tx
+	for _, i := range v.tileItems[v.tileStart[tile]:v.tileStart[tile+1]] {
+		if v.minZ[i] >= h.t {
+			break // every remaining shape lies farther than the hit
+		}
+		if t, face, ok := sc.shapes[i].intersect(&r, nearZ); ok && t < h.t {
+			h.t, h.shape, h.face = t, int32(i), int32(face)
+		}
+	}
+	return h
+}
+
+// shade returns the colour of a hit. The colour depends only on the surface
+// point, never on the view: textures are functions of surface coordinates,
+// the light is Lambertian (diffuse, from a fixed direction) and the texture
+// footprint is measured from the midpoint of the two cameras.
+func (v *view) shade(h *hit, px, py float64, mid vec3) rgb {
+	if h.shape < 0 {
+		return rgb{}
+	}
+	sc := v.sc
+	s := &sc.shapes[h.shape]
+	p := v.origin.add(v.dir(px, py).scale(h.t))
+	n, u, w := s.surface(p, int(h.face))
+	toMid := mid.sub(p)
+	dist := toMid.length()
+	cosView := n.dot(toMid) / dist
+	if cosView < 0 && s.kind == shapePlane {
+		n, cosView = n.scale(-1), -cosView
+	}
+	fp := h.t / v.fx / math.Max(math.Abs(cosView), 0.25)
+	m := &sc.mats[s.mats[h.face]]
+	c := m.color(u, w, fp, uint32(h.shape)*6+uint32(h.face))
+	light := sc.ambient*(0.85+0.15*n.y) + sc.diffuse*math.Max(0, n.dot(sc.light))
+	return c.mul(light)
+}
+
+// Pair is a rendered stereo pair with its ground truth. Images are
+// 1×3×H×W, maps 1×1×H×W (see the package documentation for units).
+type Pair struct {
+	Rig *depth.Rig
+
+	Left, Right *planar.Image // colour, R, G, B in [0, 1]
+
+	// DispLeft and DispRight are the disparities of the left and right
+	// views as a fraction of the width (the module's convention); multiply
+	// by Rig.Width for pixels.
+	DispLeft, DispRight *planar.Image
+
+	// DepthLeft is the depth (camera z) of the left view, metres.
+	DepthLeft *planar.Image
+
+	// VisibleLeft is 1 where the left pixel's surface point is seen by the
+	// right camera (inside its image and not hidden), 0 elsewhere;
+	// VisibleRight likewise for the right view seen from the left.
+	VisibleLeft, VisibleRight *planar.Image
+}
+
+// render draws both views of sc and their ground truth.
+//
+// Ground truth (depth, disparity, visibility) comes from one ray through
+// each pixel centre. Colour is anti-aliased: where the centre rays of a
+// pixel and of its eight neighbours all hit the same face, the pixel takes
+// the (pre-filtered) colour of its centre point; elsewhere, near silhouettes
+// and creases, it averages samples×samples rays on a regular sub-pixel grid.
+// So at a depth edge a pixel's colour mixes both surfaces while its
+// disparity is that of the surface under its centre.
+func render(sc *scene, rig *depth.Rig, samples int) *Pair {
+	w, h := rig.Width, rig.Height
+	rightOrigin := sc.origin.add(sc.right.scale(rig.Baseline))
+	mid := sc.origin.add(sc.right.scale(rig.Baseline / 2))
+	views := [2]*view{newView(sc, rig, sc.origin), newView(sc, rig, rightOrigin)}
+	p := &Pair{
+		Rig:          rig,
+		Left:         planar.New(1, 3, h, w),
+		Right:        planar.New(1, 3, h, w),
+		DispLeft:     planar.New(1, 1, h, w),
+		DispRight:    planar.New(1, 1, h, w),
+		DepthLeft:    planar.New(1, 1, h, w),
+		VisibleLeft:  planar.New(1, 1, h, w),
+		VisibleRight: planar.New(1, 1, h, w),
+	}
+	fb := rig.Focal * rig.Baseline
+	plane := w * h
+	inv := 1 / float64(samples*samples)
+	centres := make([]hit, plane)
+	for vi, v := range views {
+		img, disp, vis := p.Left, p.DispLeft, p.VisibleLeft
+		other := views[1]
+		sign := -1.0 // a left pixel x is seen at x − d in the right view
+		if vi == 1 {
+			img, disp, vis = p.Right, p.DispRight, p.VisibleRight
+			other = views[0]
+			sign = 1
+		}
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				centres[y*w+x] = v.trace(float64(x), float64(y))
+			}
+		}
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				i := y*w + x
+				centre := &centres[i]
+				var c rgb
+				if uniformAround(centres, x, y, w, h) {
+					c = v.shade(centre, float64(x), float64(y), mid)
+				} else {
+					for sy := 0; sy < samples; sy++ {
+						oy := (float64(sy)+0.5)/float64(samples) - 0.5
+						for sx := 0; sx < samples; sx++ {
+							ox := (float64(sx)+0.5)/float64(samples) - 0.5
+							px, py := float64(x)+ox, float64(y)+oy
+							hh := v.trace(px, py)
+							s := v.shade(&hh, px, py, mid)
+							c[0] += s[0]
+							c[1] += s[1]
+							c[2] += s[2]
+						}
+					}
+					c = c.mul(inv)
+				}
+				for k := 0; k < 3; k++ {
+					img.Pix[k*plane+i] = float32(clamp01(c[k]))
+				}
+				if centre.shape < 0 {
+					continue // nothing hit: disparity and depth 0, not visible
+				}
+				dpx := fb / centre.t
+				disp.Pix[i] = float32(dpx / float64(w))
+				if vi == 0 {
+					p.DepthLeft.Pix[i] = float32(centre.t)
+				}
+				xo := float64(x) + sign*dpx
+				if xo < 0 || xo > float64(w-1) {
+					continue // outside the other image
+				}
+				// The surface point projects to (xo, y) in the other view;
+				// it is visible there if the other camera's ray through that
+				// point reaches it before anything else.
+				oh := other.trace(xo, float64(y))
+				if oh.shape >= 0 && oh.t >= centre.t*(1-visTol) {
+					vis.Pix[i] = 1
+				}
+			}
+		}
+	}
+	return p
+}
+
+// uniformAround reports whether the centre hits of pixel (x, y) and of its
+// neighbours inside the image all lie on one face of one shape.
+func uniformAround(hits []hit, x, y, w, h int) bool {
+	c := &hits[y*w+x]
+	for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
+		for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
+			o := &hits[yy*w+xx]
+			if o.shape != c.shape || o.face != c.face {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// visTol is the relative depth difference below which the other view's hit
+// is taken as the same surface point (rounding only: real occluders are
+// millimetres to metres nearer).
+const visTol = 1e-6
