@@ -1,5 +1,7 @@
 package cpu
 
+import "math"
+
 // ELU writes the exponential linear unit with alpha = 1 of src into dst:
 // x for x > 0, e^x − 1 otherwise. dst may be src (in place); otherwise they
 // must not overlap. NaN stays NaN. ELU does not allocate in steady state. It
@@ -16,11 +18,15 @@ func eluRange(t *opTask, lo, hi int) {
 	s := t.a[lo:hi]
 	s = s[:len(d)]
 	for i, x := range s {
-		if x > 0 {
-			d[i] = x
-		} else {
-			d[i] = expm1NonPos(x)
-		}
+		// Both branches are computed and one is kept by the sign bit: real
+		// activations have random signs, and a mispredicted branch costs
+		// more than the exponential.
+		neg := signMask(x)
+		v := math.Float32frombits(math.Float32bits(x) & neg) // min(x, 0)
+		s, r := expReduce(v)
+		q := expPoly(r)
+		m := selectBits(^expInRange(v), -1, s*q+(s-1)) // expm1NonPos(v)
+		d[i] = selectBits(neg, m, x)
 	}
 }
 
@@ -44,11 +50,7 @@ func eluBackwardRange(t *opTask, lo, hi int) {
 	g = g[:len(d)]
 	y = y[:len(d)]
 	for i, v := range y {
-		if v > 0 {
-			d[i] = g[i]
-		} else {
-			d[i] = g[i] * (v + 1)
-		}
+		d[i] = g[i] * selectBits(signMask(v), v+1, 1)
 	}
 }
 
@@ -88,18 +90,14 @@ func sigmoidScaleRange(t *opTask, lo, hi int) {
 	s = s[:len(d)]
 	k := t.s
 	for i, x := range s {
-		var e float32
-		if x > 0 {
-			e = expNonPos(-x)
-		} else {
-			e = expNonPos(x)
-		}
-		r := k / (1 + e)
-		if x > 0 {
-			d[i] = r
-		} else {
-			d[i] = e * r
-		}
+		// e^−|x| never overflows; the sign bit picks 1/(1+e) or e/(1+e)
+		// without a branch (see eluRange).
+		v := math.Float32frombits(math.Float32bits(x) | 1<<31) // −|x|
+		s, r := expReduce(v)
+		q := expPoly(r)
+		e := math.Float32frombits(math.Float32bits(s+s*q) & expInRange(v)) // expNonPos(v)
+		p := k / (1 + e)
+		d[i] = selectBits(signMask(x), e*p, p)
 	}
 }
 
@@ -133,4 +131,15 @@ func sigmoidScaleBackwardRange(t *opTask, lo, hi int) {
 	for i, v := range y {
 		d[i] = g[i] * v * ((scale - v) * inv)
 	}
+}
+
+// signMask returns all ones if x's sign bit is set (negative numbers, −0,
+// and NaNs with the sign set) and 0 otherwise.
+func signMask(x float32) uint32 { return uint32(int32(math.Float32bits(x)) >> 31) }
+
+// selectBits returns neg where mask is all ones and pos where it is 0,
+// without a branch (the compiler does not turn float selects into
+// conditional moves).
+func selectBits(mask uint32, neg, pos float32) float32 {
+	return math.Float32frombits(math.Float32bits(neg)&mask | math.Float32bits(pos)&^mask)
 }

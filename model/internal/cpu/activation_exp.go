@@ -13,6 +13,11 @@ import "math"
 // of the Cephes library's expf (coefficients from memory; the tests measure
 // the error against the standard library's float64 math.Exp), and
 // e^x = 2^k·e^r, with 2^k built from its bits.
+//
+// expReduce, expPoly, expInRange and selectBits are small enough for the
+// compiler to inline; the activation loops call them directly, composed as
+// in expNonPos and expm1NonPos (which are too large to inline and serve the
+// accuracy tests). The under-range case is masked rather than branched on.
 const (
 	expLog2e  = 1.44269504088896341
 	expLn2Hi  = 0.693359375
@@ -27,41 +32,50 @@ const (
 	expP5 = 5.0000001201e-1
 )
 
-// expSplit returns s = 2^k and q such that e^x = s·(1 + q) for x in
-// [expMinArg, 0]; q = r + r²·P(r) is accurate even when e^x is close to 1.
-func expSplit(x float32) (s, q float32) {
-	k := int32(x*expLog2e - 0.5) // round to nearest for x <= 0
-	fk := float32(k)
-	r := x - fk*expLn2Hi
-	r -= fk * expLn2Lo
-	p := expP0*r + expP1
-	p = p*r + expP2
-	p = p*r + expP3
-	p = p*r + expP4
-	p = p*r + expP5
-	q = p*r*r + r
+// expReduce returns s = 2^k and r = x − k·ln2, with k = round(x/ln2),
+// for x in [expMinArg, 0], so that e^x = s·e^r and |r| <= ln2/2. Outside
+// that range s and r are meaningless (see expInRange). k is rounded by
+// adding 1.5·2^23, which leaves k in the low mantissa bits: cheaper than
+// float-to-int and int-to-float conversions.
+func expReduce(x float32) (s, r float32) {
+	const round = 0x1.8p23
+	t := x*expLog2e + round
+	fk := t - round
+	k := int32(math.Float32bits(t)) - 0x4B400000 // the bits of 1.5·2^23
 	s = math.Float32frombits(uint32(k+127) << 23)
-	return s, q
+	return s, x - fk*expLn2Hi - fk*expLn2Lo
+}
+
+// expPoly returns r + r²·P(r) ≈ e^r − 1 for |r| <= ln2/2.
+func expPoly(r float32) float32 {
+	p := ((((expP0*r+expP1)*r+expP2)*r+expP3)*r+expP4)*r + expP5
+	return p*r*r + r
+}
+
+// expInRange returns all ones if x >= expMinArg or x is NaN, and 0 for
+// smaller x, where the exponential is taken as 0.
+func expInRange(x float32) uint32 {
+	m := ^uint32(0)
+	if x < expMinArg {
+		m = 0 // an integer select: compiled to a conditional move
+	}
+	return m
 }
 
 // expNonPos returns e^x for x <= 0: 0 below expMinArg, NaN for NaN.
 func expNonPos(x float32) float32 {
-	if x < expMinArg {
-		return 0
-	}
-	s, q := expSplit(x)
-	return s + s*q
+	s, r := expReduce(x)
+	q := expPoly(r)
+	return math.Float32frombits(math.Float32bits(s+s*q) & expInRange(x))
 }
 
 // expm1NonPos returns e^x − 1 for x <= 0, accurate near 0 where computing
 // e^x and subtracting 1 would lose the low bits: −1 below expMinArg, NaN
 // for NaN.
 func expm1NonPos(x float32) float32 {
-	if x < expMinArg {
-		return -1
-	}
-	s, q := expSplit(x)
+	s, r := expReduce(x)
+	q := expPoly(r)
 	// s − 1 is exact while s >= 2^-24; below, it rounds to −1 and s·q is
 	// far under half an ulp of the result.
-	return s*q + (s - 1)
+	return selectBits(^expInRange(x), -1, s*q+(s-1))
 }
