@@ -15,6 +15,7 @@ const (
 	RebuildRight Direction = +1
 )
 
+// String returns the constant's name, or Direction(n) for an undefined value.
 func (d Direction) String() string {
 	switch d {
 	case RebuildLeft:
@@ -35,6 +36,7 @@ const (
 	Clamp
 )
 
+// String returns the constant's name, or Border(n) for an undefined value.
 func (b Border) String() string {
 	switch b {
 	case Zero:
