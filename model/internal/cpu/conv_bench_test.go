@@ -1,0 +1,80 @@
+package cpu
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+)
+
+// benchConvShapes are the 3×3 layers the targets are stated for:
+// (N, Cin, H, W → Cout), stride 1, zero padding 1.
+var benchConvShapes = [][5]int{
+	{1, 3, 128, 256, 32},
+	{1, 32, 64, 128, 64},
+	{1, 64, 32, 64, 128},
+	{4, 32, 64, 128, 64},
+}
+
+func benchmarkConv(b *testing.B, s [5]int, backward bool) {
+	n, cin, h, w, cout := s[0], s[1], s[2], s[3], s[4]
+	c, err := NewConv2D(ConvParams{InC: cin, OutC: cout, Kernel: 3, Pad: 1}, n, h, w)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(1, 1))
+	x := randSlice(rng, n*cin*h*w)
+	wt := randSlice(rng, c.WeightLen())
+	bias := randSlice(rng, cout)
+	_, _, ho, wo := c.OutShape()
+	y := make([]float32, n*cout*ho*wo)
+	dy := randSlice(rng, len(y))
+	dx, dw, db := make([]float32, len(x)), make([]float32, len(wt)), make([]float32, cout)
+	flops := c.FLOPs()
+	step := func() { c.Forward(y, x, wt, bias) }
+	if backward {
+		flops *= 3
+		step = func() {
+			c.Forward(y, x, wt, bias)
+			c.Backward(dx, dw, db, x, wt, dy)
+		}
+	}
+	step()
+	b.ReportAllocs()
+	b.ResetTimer()
+	for range b.N {
+		step()
+	}
+	b.ReportMetric(flops*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
+}
+
+func BenchmarkConv3x3Forward(b *testing.B) {
+	for _, s := range benchConvShapes {
+		b.Run(fmt.Sprintf("%dx%dx%dx%d-%d", s[0], s[1], s[2], s[3], s[4]), func(b *testing.B) { benchmarkConv(b, s, false) })
+	}
+}
+
+// BenchmarkConv3x3ForwardBackward times Forward followed by Backward with
+// all three gradients (dx, dweight, dbias); it counts 3× the forward FLOPs.
+func BenchmarkConv3x3ForwardBackward(b *testing.B) {
+	for _, s := range benchConvShapes {
+		b.Run(fmt.Sprintf("%dx%dx%dx%d-%d", s[0], s[1], s[2], s[3], s[4]), func(b *testing.B) { benchmarkConv(b, s, true) })
+	}
+}
+
+func benchmarkSgemm(b *testing.B, m, n, k int) {
+	rng := rand.New(rand.NewPCG(2, 2))
+	a, bb, c := randSlice(rng, m*k), randSlice(rng, k*n), make([]float32, m*n)
+	Sgemm(false, false, m, n, k, a, k, bb, n, c, n, false)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for range b.N {
+		Sgemm(false, false, m, n, k, a, k, bb, n, c, n, false)
+	}
+	b.ReportMetric(2*float64(m)*float64(n)*float64(k)*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
+}
+
+func BenchmarkSgemm(b *testing.B) {
+	for _, s := range []int{256, 1024} {
+		b.Run(fmt.Sprint(s), func(b *testing.B) { benchmarkSgemm(b, s, s, s) })
+	}
+}
