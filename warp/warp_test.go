@@ -200,3 +200,56 @@ func FuzzWarp(f *testing.F) {
 		}
 	})
 }
+
+// FuzzKernels feeds Forward and Backward arbitrary disparity bits (NaN,
+// ±Inf, huge, subnormal) over sources in [0, 1]: no panic, a 0/1 mask,
+// outputs in [0, 1] and finite gradients.
+func FuzzKernels(f *testing.F) {
+	f.Add([]byte{0, 0, 192, 127, 0, 0, 128, 255, 255, 255, 127, 127, 1, 0, 0, 0}, uint8(2), uint8(3), int8(1), uint8(1))
+	f.Add([]byte{0, 0, 128, 62, 0, 0, 0, 191}, uint8(1), uint8(1), int8(-1), uint8(0))
+	f.Fuzz(func(t *testing.T, data []byte, hw, c uint8, dir int8, b uint8) {
+		vals := make([]float32, len(data)/4)
+		for i := range vals {
+			vals[i] = math.Float32frombits(uint32(data[4*i]) | uint32(data[4*i+1])<<8 | uint32(data[4*i+2])<<16 | uint32(data[4*i+3])<<24)
+		}
+		if len(vals) == 0 {
+			return
+		}
+		s := Shape{N: 1, C: int(c%3) + 1, H: int(hw%3) + 1}
+		s.W = (len(vals) + s.H - 1) / s.H
+		disp := make([]float32, s.H*s.W)
+		copy(disp, vals)
+		src := make([]float32, s.C*s.H*s.W)
+		gradDst := make([]float32, len(src))
+		for i := range src {
+			src[i] = float32(i%11) / 10
+			gradDst[i] = float32(i%5) - 2
+		}
+		d := RebuildLeft
+		if dir >= 0 {
+			d = RebuildRight
+		}
+		bd := Border(b % 2)
+		dst, mask := make([]float32, len(src)), make([]float32, len(disp))
+		Forward(dst, mask, src, disp, s, d, bd)
+		gs, gd := make([]float32, len(src)), make([]float32, len(disp))
+		Backward(gs, gd, gradDst, src, disp, s, d, bd)
+		for i, v := range dst {
+			if !(v >= 0 && v <= 1+1e-6) {
+				t.Fatalf("out[%d] = %v outside the source range [0, 1]", i, v)
+			}
+		}
+		for i, v := range mask {
+			if v != 0 && v != 1 {
+				t.Fatalf("mask[%d] = %v", i, v)
+			}
+		}
+		for _, g := range [][]float32{gs, gd} {
+			for i, v := range g {
+				if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+					t.Fatalf("gradient[%d] = %v", i, v)
+				}
+			}
+		}
+	})
+}
