@@ -131,7 +131,7 @@ func ExampleWritePFM() {
 func ExampleWritePNG16() {
 	z, _ := depth.NewDepth(image.Rect(0, 0, 3, 1))
 	z.Set(0, 0, 1.2344) // 1234 mm
-	z.Set(1, 0, 80) // beyond 65.535 m: stored as 0 (invalid), counted
+	z.Set(1, 0, 80)     // beyond 65.535 m: stored as 0 (invalid), counted
 	var buf bytes.Buffer
 	dropped, err := depth.WritePNG16(&buf, z)
 	if err != nil {
