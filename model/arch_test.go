@@ -16,7 +16,7 @@ import (
 var update = flag.Bool("update", false, "rewrite the golden files in testdata/model")
 
 // tinyConfig is the small instance used by the cross-checks with PyTorch.
-var tinyConfig = Config{Width: 64, Height: 32, Encoder: []int{4, 4, 8, 8, 8}, Decoder: []int{4, 4, 4, 8, 8}, DMax: 0.25}
+var tinyConfig = Config{Width: 128, Height: 64, Encoder: []int{4, 4, 8, 8, 8}, Decoder: []int{4, 4, 4, 8, 8}, DMax: 0.25}
 
 func TestDefaultParamBudget(t *testing.T) {
 	a, err := Build(Config{})
@@ -44,7 +44,7 @@ func TestDefaultParamBudget(t *testing.T) {
 }
 
 func TestArchWiring(t *testing.T) {
-	for _, c := range []Config{{}, tinyConfig, {Width: 320, Height: 96}} {
+	for _, c := range []Config{{}, tinyConfig, {Width: 320, Height: 96}, {Width: 64, Height: 64}} {
 		a, err := Build(c)
 		if err != nil {
 			t.Fatal(err)
@@ -112,6 +112,7 @@ func TestConfigValidate(t *testing.T) {
 	}{
 		{Config{Width: 100}, "width 100"},
 		{Config{Height: 16}, "height 16"},
+		{Config{Height: 32}, "height 32"},
 		{Config{Arch: "other"}, "unknown architecture"},
 		{Config{Version: 7}, "version 7"},
 		{Config{Encoder: []int{1, 2}}, "encoder has 2"},

@@ -17,7 +17,7 @@ const ArchName = "parallax-ed"
 const ArchVersion = 1
 
 // Levels is the number of encoder levels; each halves the resolution, so the
-// input width and height must be multiples of 1<<Levels = 32.
+// input width and height must be multiples of 1<<Levels = 32 (see SizeStep).
 const Levels = 5
 
 // Scales is the number of disparity outputs: full, ½, ¼ and ⅛ resolution.
@@ -42,8 +42,13 @@ var (
 // file cannot ask for an absurd allocation.
 const MaxChannels = 1024
 
-// MaxSide bounds the input width and height.
-const MaxSide = 8192
+// Input sizes: width and height are multiples of SizeStep = 2^Levels in
+// [MinSide, MaxSide].
+const (
+	SizeStep = 1 << Levels
+	MinSide  = 2 * SizeStep
+	MaxSide  = 8192
+)
 
 // Config describes one instance of the architecture. It travels with the
 // weights (see Save). The zero value is valid and means the defaults.
@@ -54,8 +59,10 @@ type Config struct {
 	// Version is the architecture version. If 0 it is defaulted to
 	// ArchVersion; any other value is rejected.
 	Version int `json:"version"`
-	// Width and Height are the input size in pixels, multiples of 32.
-	// If 0 they are defaulted to DefaultWidth and DefaultHeight.
+	// Width and Height are the input size in pixels, multiples of 32 and
+	// at least 64 (the coarsest level, 1/32, must be at least 2 pixels for
+	// reflect padding). If 0 they are defaulted to DefaultWidth and
+	// DefaultHeight.
 	Width  int `json:"width"`
 	Height int `json:"height"`
 	// Encoder holds the output channels of the five encoder levels, from
@@ -112,12 +119,11 @@ func (c Config) Validate() error {
 	if c.Version != ArchVersion {
 		return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
 	}
-	const m = 1 << Levels
-	if c.Width < m || c.Width > MaxSide || c.Width%m != 0 {
-		return fmt.Errorf("model: config: width %d must be a multiple of %d in [%d, %d]", c.Width, m, m, MaxSide)
+	if c.Width < MinSide || c.Width > MaxSide || c.Width%SizeStep != 0 {
+		return fmt.Errorf("model: config: width %d must be a multiple of %d in [%d, %d]", c.Width, SizeStep, MinSide, MaxSide)
 	}
-	if c.Height < m || c.Height > MaxSide || c.Height%m != 0 {
-		return fmt.Errorf("model: config: height %d must be a multiple of %d in [%d, %d]", c.Height, m, m, MaxSide)
+	if c.Height < MinSide || c.Height > MaxSide || c.Height%SizeStep != 0 {
+		return fmt.Errorf("model: config: height %d must be a multiple of %d in [%d, %d]", c.Height, SizeStep, MinSide, MaxSide)
 	}
 	if len(c.Encoder) != Levels {
 		return fmt.Errorf("model: config: encoder has %d widths, want %d", len(c.Encoder), Levels)

@@ -45,7 +45,7 @@
 //   - Tensors are NCHW float32, contiguous (see package planar); an Arch
 //     gives shapes for one image (C, H, W).
 //   - The input is the left image, RGB in [0, 1], Config.Height × Config.Width,
-//     both multiples of 32.
+//     multiples of 32, at least 64.
 //   - Output dispS (S = 0 … 3) has shape 2 × H/2^S × W/2^S: channel 0 is the
 //     left view's disparity d_L, channel 1 the right view's d_R, both
 //     positive fractions of the width in (0, DMax), with the signs of
@@ -85,6 +85,14 @@
 // architecture in the config, or whose format version is unknown. Save
 // writes atomically: a temporary file in the same directory, synced, then
 // renamed over the target.
+//
+// # Inference
+//
+// NewNet prepares a graph-free forward pass for a fixed batch size: one
+// buffer per tensor and one convolution plan per layer of package
+// model/internal/cpu. Net.Forward walks the layer list and does not
+// allocate after its first call; the outputs it returns share the Net's
+// buffers. This package does not import gorgonia.
 //
 // Errors start with "model: ". Nothing in this package panics on data.
 package model

@@ -51,7 +51,7 @@ func TestWeightsRoundTrip(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", d, err)
 		}
-		if got.Config.Width != 64 || got.Config.DMax != 0.25 || got.Config.Encoder[2] != 8 {
+		if got.Config.Width != 128 || got.Config.DMax != 0.25 || got.Config.Encoder[2] != 8 {
 			t.Errorf("%s: config %+v", d, got.Config)
 		}
 		if got.Provenance["data"] != "unit test" || got.Provenance["steps"] != "0" || len(got.Provenance) != 2 {
@@ -259,15 +259,15 @@ func TestDecodeRejects(t *testing.T) {
 			return nil
 		}), "__metadata__ must map strings to strings"},
 		{"width disagrees", rewrite(t, good, func(h map[string]any) []byte {
-			meta(h)["input_width"] = "128"
+			meta(h)["input_width"] = "256"
 			return nil
-		}), `"input_width" is "128" but the config says "64"`},
+		}), `"input_width" is "256" but the config says "128"`},
 		{"bad config", rewrite(t, good, func(h map[string]any) []byte {
 			meta(h)["config"] = `{"width": 65}`
 			return nil
 		}), "width 65"},
 		{"unknown config field", rewrite(t, good, func(h map[string]any) []byte {
-			meta(h)["config"] = `{"widht": 64}`
+			meta(h)["config"] = `{"widht": 128}`
 			return nil
 		}), `unknown field "widht"`},
 		{"other architecture", rewrite(t, good, func(h map[string]any) []byte {

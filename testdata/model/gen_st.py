@@ -19,6 +19,12 @@ Writes into testdata/model/:
   tiny_f16.safetensors  the same weights converted by torch .half()
   tiny_values.json      {"f32": {name: [u32 bits]}, "f16": {name: [u32 bits
                         of torch's half value widened to float32]}}
+  tiny_forward.bin      a forward pass of the tiny network with the F32
+                        weights, computed by walking the layer list of
+                        tiny_arch.json with torch.nn.functional (float64):
+                        the input batch (2x3x32x64, uniform [0, 1]) then
+                        disp0, disp1, disp2, disp3 (2x2xHxW each), all
+                        float32 little-endian
 
 tiny_arch.json is written by `go test ./model -run TestTinyArchGolden -update`.
 """
@@ -94,7 +100,11 @@ def tiny_weights():
     g = torch.Generator().manual_seed(5)
     tensors = {}
     for p in arch["params"]:
-        tensors[p["name"]] = torch.randn(p["shape"], generator=g, dtype=torch.float32) * 0.3
+        shape = p["shape"]
+        # Weights scaled by 1/sqrt(fan_in) keep the activations in range, so
+        # that the heads' sigmoids do not saturate in the forward fixture.
+        std = (1.0 / (shape[1] * shape[2] * shape[3])) ** 0.5 if len(shape) == 4 else 0.1
+        tensors[p["name"]] = torch.randn(shape, generator=g, dtype=torch.float32) * std
     meta = {
         "format": "parallax-weights",
         "format_version": "1",
@@ -120,7 +130,54 @@ def tiny_weights():
     return arch, tensors
 
 
+def forward(arch, params, x):
+    """Walk the layer list the way package model's Net does."""
+    import torch.nn.functional as F
+    t = {"image": x}
+    for l in arch["layers"]:
+        ins = [t[n] for n in l["inputs"]]
+        op = l["op"]
+        if op == "conv":
+            v = ins[0]
+            p = l["pad"]
+            if p:
+                mode = {"reflect": "reflect", "zero": "constant"}[l["padding"]]
+                v = F.pad(v, (p, p, p, p), mode=mode)
+            v = F.conv2d(v, params[l["name"] + ".weight"], params[l["name"] + ".bias"],
+                         stride=l["stride"], dilation=l["dilation"])
+            v = {"elu": F.elu, "sigmoid": torch.sigmoid, "none": lambda z: z}[l["act"]](v)
+        elif op == "upsample":
+            if l["mode"] == "bilinear":
+                v = F.interpolate(ins[0], scale_factor=2, mode="bilinear", align_corners=False)
+            else:
+                v = F.interpolate(ins[0], scale_factor=2, mode="nearest")
+        elif op == "concat":
+            v = torch.cat(ins, dim=1)
+        elif op == "scale":
+            v = ins[0] * l["factor"]
+        else:
+            raise ValueError("unknown op " + op)
+        assert list(v.shape[1:]) == [l["out"]["c"], l["out"]["h"], l["out"]["w"]], l["name"]
+        t[l["name"]] = v
+    return [t[n] for n in arch["outputs"]]
+
+
+def tiny_forward(arch, tensors):
+    g = torch.Generator().manual_seed(11)
+    c = arch["input"]
+    x = torch.rand((2, c["c"], c["h"], c["w"]), generator=g, dtype=torch.float32)
+    params = {k: v.double() for k, v in tensors.items()}
+    outs = forward(arch, params, x.double())
+    with open(os.path.join(HERE, "tiny_forward.bin"), "wb") as f:
+        f.write(x.numpy().astype("<f4").tobytes())
+        for o in outs:
+            f.write(o.float().numpy().astype("<f4").tobytes())
+    for i, o in enumerate(outs):
+        print("disp%d" % i, tuple(o.shape), "min %.4f max %.4f std %.4f" % (o.min(), o.max(), o.std()), file=sys.stderr)
+
+
 if __name__ == "__main__":
     print("torch", torch.__version__, "numpy", np.__version__, file=sys.stderr)
     print("f16 cases:", f16_cases(), file=sys.stderr)
-    tiny_weights()
+    arch, tensors = tiny_weights()
+    tiny_forward(arch, tensors)
