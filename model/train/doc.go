@@ -1,0 +1,56 @@
+// Package train trains the disparity network of package model on gorgonia
+// (gorgonia.org/gorgonia v0.9.18): custom operators over the project's
+// kernels, the self-supervised objective as one node, an Adam solver with
+// saveable state, and a graph builder that walks model's declarative
+// architecture.
+//
+// # Operators
+//
+// Conv2D (with bias), ELU, SigmoidScale (the disparity head, d_max·sigmoid),
+// Scale, UpsampleBilinear2x, UpsampleNearest2x and Concat each add one node
+// whose op calls a kernel of model/internal/cpu; its symbolic gradient
+// (gorgonia's SDOp) is built from further ops that call the same kernel's
+// backward. NewObjective adds loss.Objective as one scalar node whose
+// gradients are the ones the loss kernels computed in the same call. No
+// formula is implemented in this package.
+//
+// Conventions:
+//
+//   - Tensors are float32, NCHW, contiguous (see package planar); weights
+//     are OIHW and biases have one value per output channel, as in package
+//     model. Disparity tensors are (N, 2, H, W): channel 0 is the left
+//     view's d_L, channel 1 the right view's d_R, fractions of the width
+//     with the signs of package warp.
+//   - Every node is named (gorgonia merges unnamed nodes that look alike),
+//     and every op's Hashcode covers its kind, its layer name, its settings
+//     and all shapes, so two identical-looking layers stay two nodes.
+//     Gradient nodes are named after their layer: NAME.dx, NAME.dweight,
+//     NAME.dbias.
+//   - A convolution's forward and backward ops share one cpu.Conv2D plan
+//     and its workspaces. Graphs have a fixed batch size.
+//   - Buffers: each op owns its output buffer, allocates it on its first
+//     run and overwrites it on every run; the TapeMachine's Reset drops its
+//     registers, so ops do not implement UsePreallocDoer. gorgonia may
+//     reuse a dead value's buffer in place for a later node of the same
+//     run (its register allocation), so the Value of an intermediate node
+//     read after RunAll is not reliable: read disparities from
+//     Objective.Disparity and losses from Objective.Terms, which are the
+//     ops' own copies. Parameter gradients are safe: gorgonia adds each
+//     run's gradient into the parameter's own gradient buffer (so they
+//     accumulate over runs until Adam.Step clears them).
+//   - Errors for data start with "train: "; operators check input shapes
+//     and dtypes at every run and return errors, never panic.
+//
+// # Training
+//
+// A training step: set the input image (Network.SetInput) and the image
+// pair of the objective (Objective.SetImages), run the TapeMachine, read
+// Objective.Terms, call Adam.Step on the parameters, Reset the machine.
+// Session bundles those. gorgonia's own solvers skip a parameter without a
+// gradient silently and hide Adam's moments; Adam here returns an error
+// for a missing or non-finite gradient before changing any weight and
+// exports its state for checkpoints.
+//
+// gorgonia's Conv2d, Upsample2D, pooling and axis reductions are not used:
+// they are slow or give wrong values in v0.9.18 (see DEVELOPERS.md).
+package train
