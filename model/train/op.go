@@ -35,8 +35,8 @@ type kernelOp struct {
 	out       *tensor.Dense
 	scalar    G.F32
 	scalarOut [1]float32
-	ins    [][]float32
-	one    [][1]float32
+	ins       [][]float32
+	one       [][1]float32
 }
 
 func newKernelOp(kind, name, param string, out tensor.Shape, in ...tensor.Shape) *kernelOp {

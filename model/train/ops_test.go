@@ -54,7 +54,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "elu",
 			shapes: []tensor.Shape{{2, 3, 4, 5}},
 			lo:     -2, hi: 2,
-			build:  func(in []*G.Node) (*G.Node, error) { return ELU("e", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return ELU("e", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.ELU(y, in[0])
@@ -65,7 +65,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "sigmoid scaled by 0.3",
 			shapes: []tensor.Shape{{2, 2, 3, 4}},
 			lo:     -4, hi: 4,
-			build:  func(in []*G.Node) (*G.Node, error) { return SigmoidScale("s", in[0], 0.3) },
+			build: func(in []*G.Node) (*G.Node, error) { return SigmoidScale("s", in[0], 0.3) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.SigmoidScale(y, in[0], 0.3)
@@ -76,7 +76,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "scale",
 			shapes: []tensor.Shape{{1, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build:  func(in []*G.Node) (*G.Node, error) { return Scale("k", in[0], -2.5) },
+			build: func(in []*G.Node) (*G.Node, error) { return Scale("k", in[0], -2.5) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.ScaleShift(y, in[0], -2.5, 0)
@@ -87,7 +87,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "bilinear 2x",
 			shapes: []tensor.Shape{{2, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build:  func(in []*G.Node) (*G.Node, error) { return UpsampleBilinear2x("u", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return UpsampleBilinear2x("u", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 4*len(in[0]))
 				cpu.UpsampleBilinear2x(y, in[0], 2, 2, 3, 4)
@@ -98,7 +98,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "nearest 2x",
 			shapes: []tensor.Shape{{1, 3, 2, 3}},
 			lo:     -1, hi: 1,
-			build:  func(in []*G.Node) (*G.Node, error) { return UpsampleNearest2x("u", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return UpsampleNearest2x("u", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 4*len(in[0]))
 				cpu.UpsampleNearest2x(y, in[0], 1, 3, 2, 3)
@@ -109,7 +109,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "concat of three",
 			shapes: []tensor.Shape{{2, 1, 3, 4}, {2, 3, 3, 4}, {2, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build:  func(in []*G.Node) (*G.Node, error) { return Concat("cat", in...) },
+			build: func(in []*G.Node) (*G.Node, error) { return Concat("cat", in...) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 2*6*3*4)
 				cpu.Concat(y, in, []int{1, 3, 2}, 2, 3, 4)
