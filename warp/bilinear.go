@@ -240,6 +240,18 @@ func Backward(gradSrc, gradDisp, gradDst, src, disp []float32, s Shape, dir Dire
 				for o := base; o < base+s.C*plane; o += plane {
 					row := src[o : o+w]
 					g := gradDst[o+x0 : o+x1]
+					if gradDisp != nil && gradSrc != nil {
+						// Both gradients in one pass over the taps.
+						grow := gradSrc[o : o+w]
+						for k, gk := range g {
+							t := &ts[k]
+							j0, j1 := t.j0, t.j1
+							gds[k] += gk * (t.e1*row[j1] - t.e0*row[j0])
+							grow[j0] += gk * t.w0
+							grow[j1] += gk * t.w1
+						}
+						continue
+					}
 					if gradDisp != nil {
 						for k, gk := range g {
 							t := &ts[k]
