@@ -114,7 +114,8 @@ func DepthErrors(est, gt *Depth, opt *DepthOptions) (DepthMetrics, error) {
 		(o.MaxDepth > 0 && o.MaxDepth <= o.MinDepth) || math.IsInf(o.MinDepth, 0) {
 		return DepthMetrics{}, fmt.Errorf("depth: DepthErrors: limits [%v, %v] are invalid", o.MinDepth, o.MaxDepth)
 	}
-	var es, gs []float64
+	n0 := est.Rect.Dx() * est.Rect.Dy()
+	es, gs := make([]float64, 0, n0), make([]float64, 0, n0)
 	pairs(&est.Map, &gt.Map, func(e, g float64) {
 		if e <= 0 || g <= 0 || (o.MinDepth > 0 && g <= o.MinDepth) || (o.MaxDepth > 0 && g >= o.MaxDepth) {
 			return
@@ -169,14 +170,59 @@ func DepthErrors(est, gt *Depth, opt *DepthOptions) (DepthMetrics, error) {
 }
 
 // median returns the median of v (the mean of the two middle values for an
-// even count). It sorts v in place: pass a copy.
+// even count). It reorders v: pass a copy.
 func median(v []float64) float64 {
-	slices.Sort(v)
 	n := len(v)
+	hi := selectNth(v, n/2)
 	if n%2 == 1 {
-		return v[n/2]
+		return hi
 	}
-	return 0.5 * (v[n/2-1] + v[n/2])
+	// After selection every element before n/2 is ≤ v[n/2]; the lower middle
+	// value is the largest of them.
+	return 0.5 * (slices.Max(v[:n/2]) + hi)
+}
+
+// selectNth reorders v so that v[k] is the value a sort would put there,
+// with no larger value before it and no smaller one after it, and returns
+// v[k] (Hoare's selection, median-of-three pivots; expected linear time).
+func selectNth(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		if v[mid] < v[lo] {
+			v[mid], v[lo] = v[lo], v[mid]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[mid] {
+			v[hi], v[mid] = v[mid], v[hi]
+		}
+		pivot := v[mid]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k]
+		}
+	}
+	return v[k]
 }
 
 // DisparityErrors scores a disparity estimate against ground truth, both in

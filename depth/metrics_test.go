@@ -6,7 +6,9 @@ import (
 	"errors"
 	"image"
 	"math"
+	"math/rand/v2"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -272,5 +274,26 @@ func TestSummary(t *testing.T) {
 	}
 	if recs[2][1] != "123456" {
 		t.Errorf("CSV pixels = %q", recs[2][1])
+	}
+}
+
+// TestMedian compares the selection-based median with sorting, on random
+// data with many ties, odd and even lengths.
+func TestMedian(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	for n := 1; n < 200; n++ {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = float64(r.IntN(n/3 + 1))
+		}
+		s := slices.Clone(v)
+		slices.Sort(s)
+		want := s[n/2]
+		if n%2 == 0 {
+			want = 0.5 * (s[n/2-1] + s[n/2])
+		}
+		if got := median(v); got != want {
+			t.Fatalf("n = %d: median %v, want %v", n, got, want)
+		}
 	}
 }

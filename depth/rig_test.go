@@ -2,6 +2,7 @@ package depth
 
 import (
 	"bytes"
+	"flag"
 	"math"
 	"os"
 	"path/filepath"
@@ -152,5 +153,26 @@ func TestRigScaled(t *testing.T) {
 	near("doffs back", back.Doffs, rig.Doffs)
 	if _, err := rig.Scaled(0, 10); err == nil {
 		t.Error("Scaled(0, 10): no error")
+	}
+}
+
+var updateRig = flag.Bool("update-rig", false, "rewrite testdata/depth/motorcycle_rig.json")
+
+// TestRigFile checks the committed example rig file
+// (testdata/depth/motorcycle_rig.json, the Motorcycle calibration; rewrite
+// it with go test ./depth -run TestRigFile -update-rig).
+func TestRigFile(t *testing.T) {
+	const path = "../testdata/depth/motorcycle_rig.json"
+	if *updateRig {
+		if err := SaveRig(path, motorcycleRig()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	rig, err := LoadRig(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if *rig != *motorcycleRig() {
+		t.Errorf("%s holds %+v, want %+v", path, *rig, *motorcycleRig())
 	}
 }
