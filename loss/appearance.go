@@ -71,78 +71,74 @@ func (k *AppearanceKernel) Eval(gradTarget, gradRecon, target, recon, mask []flo
 	scale := 1 / (float64(s.C) * count)
 	gSSIM := float32(-0.5 * float64(alpha) * scale)
 	gL1 := float32((1 - float64(alpha)) * scale)
+	beta := 1 - alpha
 	var sum float64
+	// One pass: the value, the L1 gradient (written), and the upstream
+	// gradient of the SSIM map, whose backward pass then adds its part.
 	for b := 0; b < s.N; b++ {
+		var mrow []float32
+		if mask != nil {
+			mrow = mask[b*plane : (b+1)*plane]
+		}
 		for c := 0; c < s.C; c++ {
 			o := (b*s.C + c) * plane
-			for i := 0; i < plane; i++ {
+			tg, rc := target[o:o+plane], recon[o:o+plane]
+			var sm, gm, gt, gr []float32
+			if useSSIM {
+				sm = k.smap[o : o+plane]
+				if wantGrad {
+					gm = k.gmap[o : o+plane]
+				}
+			}
+			if gradTarget != nil {
+				gt = gradTarget[o : o+plane]
+			}
+			if gradRecon != nil {
+				gr = gradRecon[o : o+plane]
+			}
+			var rowSum float64
+			for i := range tg {
 				m := float32(1)
-				if mask != nil {
-					m = mask[b*plane+i]
+				if mrow != nil {
+					m = mrow[i]
 				}
-				j := o + i
-				diff := target[j] - recon[j]
+				diff := rc[i] - tg[i]
+				var g float32 // L1 gradient with respect to recon
 				ad := diff
-				if ad < 0 {
-					ad = -ad
+				if diff < 0 {
+					ad, g = -diff, -gL1*m
+				} else if diff > 0 {
+					g = gL1 * m
 				}
-				var e float32
-				if useSSIM {
-					d := (1 - k.smap[j]) / 2
-					inside := true
+				e := beta * ad
+				if sm != nil {
+					d := (1 - sm[i]) / 2
+					gs := gSSIM * m
 					if d < 0 {
-						d, inside = 0, false
+						d, gs = 0, 0
 					} else if d > 1 {
-						d, inside = 1, false
+						d, gs = 1, 0
 					}
-					e = alpha*d + (1-alpha)*ad
-					if wantGrad {
-						if inside && m != 0 {
-							k.gmap[j] = gSSIM * m
-						} else {
-							k.gmap[j] = 0
-						}
+					e += alpha * d
+					if gm != nil {
+						gm[i] = gs
 					}
-				} else {
-					e = ad
 				}
 				if m != 0 {
-					sum += float64(m) * float64(e)
+					rowSum += float64(m * e)
+				}
+				if gr != nil {
+					gr[i] = g
+				}
+				if gt != nil {
+					gt[i] = -g
 				}
 			}
+			sum += rowSum
 		}
 	}
-	if wantGrad {
-		if useSSIM {
-			k.SSIM.Backward(gradTarget, gradRecon, k.gmap, target, recon, s)
-		} else {
-			clear(gradTarget)
-			clear(gradRecon)
-		}
-		for b := 0; b < s.N; b++ {
-			for c := 0; c < s.C; c++ {
-				o := (b*s.C + c) * plane
-				for i := 0; i < plane; i++ {
-					m := float32(1)
-					if mask != nil {
-						m = mask[b*plane+i]
-					}
-					j := o + i
-					var g float32
-					if d := recon[j] - target[j]; d > 0 {
-						g = gL1 * m
-					} else if d < 0 {
-						g = -gL1 * m
-					}
-					if gradRecon != nil {
-						gradRecon[j] += g
-					}
-					if gradTarget != nil {
-						gradTarget[j] -= g
-					}
-				}
-			}
-		}
+	if wantGrad && useSSIM {
+		k.SSIM.backward(gradTarget, gradRecon, k.gmap, target, recon, s, true)
 	}
 	return sum * scale
 }

@@ -2,6 +2,34 @@ package loss
 
 import "math"
 
+// expNeg returns e^x for x ≤ 0 in float32, with a relative error below
+// 3e-7 (checked against math.Exp in the tests): x = k·ln2 + r with
+// |r| ≤ ln2/2, a degree-6 Taylor polynomial for e^r, and 2^k set in the
+// exponent bits. It is the edge weight of the smoothness term, where
+// math.Exp was the largest cost. Positive x and NaN go to math.Exp.
+func expNeg(x float32) float32 {
+	if !(x <= 0) {
+		return float32(math.Exp(float64(x)))
+	}
+	if x < -87 {
+		return 0 // below the smallest normal float32 (and -Inf)
+	}
+	const (
+		log2e = 1.44269504088896341
+		ln2hi = 0.693359375 // ln 2 split so that k·ln2hi is exact
+		ln2lo = -2.12194440e-4
+	)
+	t := x*log2e + 0.5
+	ki := int32(t) // truncates towards 0; t ≤ 0.5, so fix up to floor
+	if float32(ki) > t {
+		ki--
+	}
+	k := float32(ki)
+	r := x - k*ln2hi - k*ln2lo
+	p := 1 + r*(1+r*(1.0/2+r*(1.0/6+r*(1.0/24+r*(1.0/120+r*(1.0/720))))))
+	return p * math.Float32frombits(uint32(ki+127)<<23)
+}
+
 // SmoothnessMeanEpsilon is added to the per-image mean disparity before
 // dividing by it, so that a zero mean does not divide by zero.
 const SmoothnessMeanEpsilon = 1e-7
@@ -18,7 +46,7 @@ const SmoothnessMeanEpsilon = 1e-7
 // mean plus SmoothnessMeanEpsilon, and the gradient includes the path
 // through that mean. The subgradient of |·| at 0 is 0.
 type SmoothnessKernel struct {
-	gd []float32
+	gd, ex, ey []float32
 }
 
 // Eval returns the smoothness of disp (N*H*W values) guided by img
@@ -41,6 +69,7 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 		ky = 1 / float32(s.N*(s.H-1)*s.W)
 	}
 	invC := 1 / float32(s.C)
+	k.ex, k.ey = grow(k.ex, s.W), grow(k.ey, s.W)
 	var sumX, sumY float64
 	for b := 0; b < s.N; b++ {
 		d := disp[b*plane : (b+1)*plane]
@@ -63,63 +92,74 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 			}
 			clear(g)
 		}
+		ex, ey := k.ex[:s.W], k.ey[:s.W]
 		for y := 0; y < s.H; y++ {
 			row := y * s.W
-			for x := 0; x < s.W; x++ {
-				j := row + x
-				if x+1 < s.W {
-					var gi float32
-					for c := 0; c < s.C; c++ {
-						v := im[c*plane+j+1] - im[c*plane+j]
-						if v < 0 {
-							v = -v
-						}
-						gi += v
+			// Image differences summed over the channels, then the edge
+			// weights exp(−mean |∂I|), for this row's x- and y-terms.
+			clear(ex)
+			clear(ey)
+			for c := 0; c < s.C; c++ {
+				cur := im[c*plane+row : c*plane+row+s.W]
+				for x := 0; x+1 < len(cur); x++ {
+					v := cur[x+1] - cur[x]
+					if v < 0 {
+						v = -v
 					}
-					w := float32(math.Exp(float64(-gi * invC)))
-					dd := float64(d[j+1]-d[j]) * inv
-					if dd < 0 {
-						sumX -= dd * float64(w)
-						if g != nil {
-							g[j+1] -= w * kx
-							g[j] += w * kx
-						}
-					} else if dd > 0 {
-						sumX += dd * float64(w)
-						if g != nil {
-							g[j+1] += w * kx
-							g[j] -= w * kx
-						}
-					} else if dd != dd { // NaN propagates
-						sumX += float64(dd)
-					}
+					ex[x] += v
 				}
 				if y+1 < s.H {
-					var gi float32
-					for c := 0; c < s.C; c++ {
-						v := im[c*plane+j+s.W] - im[c*plane+j]
+					nxt := im[c*plane+row+s.W : c*plane+row+2*s.W]
+					for x, v := range nxt {
+						v -= cur[x]
 						if v < 0 {
 							v = -v
 						}
-						gi += v
+						ey[x] += v
 					}
-					w := float32(math.Exp(float64(-gi * invC)))
-					dd := float64(d[j+s.W]-d[j]) * inv
-					if dd < 0 {
-						sumY -= dd * float64(w)
-						if g != nil {
-							g[j+s.W] -= w * ky
-							g[j] += w * ky
-						}
-					} else if dd > 0 {
-						sumY += dd * float64(w)
-						if g != nil {
-							g[j+s.W] += w * ky
-							g[j] -= w * ky
-						}
-					} else if dd != dd {
-						sumY += dd
+				}
+			}
+			for x := 0; x+1 < s.W; x++ {
+				j := row + x
+				w := expNeg(-ex[x] * invC)
+				dd := float64(d[j+1]-d[j]) * inv
+				if dd < 0 {
+					sumX -= dd * float64(w)
+					if g != nil {
+						g[j+1] -= w * kx
+						g[j] += w * kx
 					}
+				} else if dd > 0 {
+					sumX += dd * float64(w)
+					if g != nil {
+						g[j+1] += w * kx
+						g[j] -= w * kx
+					}
+				} else if dd != dd { // NaN propagates
+					sumX += dd
+				}
+			}
+			if y+1 == s.H {
+				continue
+			}
+			for x := 0; x < s.W; x++ {
+				j := row + x
+				w := expNeg(-ey[x] * invC)
+				dd := float64(d[j+s.W]-d[j]) * inv
+				if dd < 0 {
+					sumY -= dd * float64(w)
+					if g != nil {
+						g[j+s.W] -= w * ky
+						g[j] += w * ky
+					}
+				} else if dd > 0 {
+					sumY += dd * float64(w)
+					if g != nil {
+						g[j+s.W] += w * ky
+						g[j] -= w * ky
+					}
+				} else if dd != dd {
+					sumY += dd
 				}
 			}
 		}

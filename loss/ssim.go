@@ -114,25 +114,29 @@ func (k *SSIMKernel) Forward(dst, x, y []float32, s Shape) {
 // statistics start at offset o.
 func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float32) {
 	hx, hy, hxx, hyy, hxy := k.h0, k.h1, k.h2, k.h3, k.h4
-	// Horizontal 3-tap sums of x, y, x², y², xy with the edge repeated.
+	// Horizontal 3-tap sums of x, y, x², y², xy with the edge repeated,
+	// sliding the window so each product is formed once.
 	for r := 0; r < h; r++ {
 		xr, yr := x[r*w:(r+1)*w], y[r*w:(r+1)*w]
+		hxr, hyr := hx[r*w:(r+1)*w], hy[r*w:(r+1)*w]
+		hxxr, hyyr, hxyr := hxx[r*w:(r+1)*w], hyy[r*w:(r+1)*w], hxy[r*w:(r+1)*w]
+		xc, yc := xr[0], yr[0]
+		xl, yl := xc, yc
+		xxc, yyc, xyc := xc*xc, yc*yc, xc*yc
+		xxl, yyl, xyl := xxc, yyc, xyc
 		for i := range xr {
-			l, rr := i-1, i+1
-			if l < 0 {
-				l = 0
+			xn, yn := xc, yc
+			if i+1 < len(xr) {
+				xn, yn = xr[i+1], yr[i+1]
 			}
-			if rr >= w {
-				rr = w - 1
-			}
-			xl, xc, xn := xr[l], xr[i], xr[rr]
-			yl, yc, yn := yr[l], yr[i], yr[rr]
-			j := r*w + i
-			hx[j] = xl + xc + xn
-			hy[j] = yl + yc + yn
-			hxx[j] = xl*xl + xc*xc + xn*xn
-			hyy[j] = yl*yl + yc*yc + yn*yn
-			hxy[j] = xl*yl + xc*yc + xn*yn
+			xxn, yyn, xyn := xn*xn, yn*yn, xn*yn
+			hxr[i] = xl + xc + xn
+			hyr[i] = yl + yc + yn
+			hxxr[i] = xxl + xxc + xxn
+			hyyr[i] = yyl + yyc + yyn
+			hxyr[i] = xyl + xyc + xyn
+			xl, xc, yl, yc = xc, xn, yc, yn
+			xxl, xxc, yyl, yyc, xyl, xyc = xxc, xxn, yyc, yyn, xyc, xyn
 		}
 	}
 	const ninth = 1.0 / 9
@@ -168,6 +172,12 @@ func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float
 // It panics if Forward has not been called, s differs from Forward's shape,
 // or a slice length does not match s.
 func (k *SSIMKernel) Backward(gradX, gradY, gradMap, x, y []float32, s Shape) {
+	k.backward(gradX, gradY, gradMap, x, y, s, false)
+}
+
+// backward is Backward; with acc it adds to gradX and gradY instead of
+// overwriting them.
+func (k *SSIMKernel) backward(gradX, gradY, gradMap, x, y []float32, s Shape, acc bool) {
 	if !k.ready || s != k.shape {
 		panic(fmt.Sprintf("loss.SSIMKernel.Backward: shape %+v does not match the last Forward (%+v, called: %v)", s, k.shape, k.ready))
 	}
@@ -181,7 +191,7 @@ func (k *SSIMKernel) Backward(gradX, gradY, gradMap, x, y []float32, s Shape) {
 		return
 	}
 	plane := s.H * s.W
-	k.t0 = grow(k.t0, plane)
+	k.t0 = grow(k.t0, 4*s.W)
 	c1, c2 := k.constants()
 	for p := 0; p < s.N*s.C; p++ {
 		o := p * plane
@@ -192,67 +202,53 @@ func (k *SSIMKernel) Backward(gradX, gradY, gradMap, x, y []float32, s Shape) {
 		if gradY != nil {
 			gy = gradY[o : o+plane]
 		}
-		k.backwardPlane(gx, gy, gradMap[o:o+plane], x[o:o+plane], y[o:o+plane], o, s.H, s.W, c1, c2)
+		k.backwardPlane(gx, gy, gradMap[o:o+plane], x[o:o+plane], y[o:o+plane], o, s.H, s.W, c1, c2, acc)
 	}
 }
 
-func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c2 float32) {
+func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c2 float32, acc bool) {
 	np := h * w
 	mux, muy := k.mux[o:o+np], k.muy[o:o+np]
 	vx, vy, cxy := k.vx[o:o+np], k.vy[o:o+np], k.cxy[o:o+np]
 	// Per-pixel gradients with respect to the window moments μx, μy,
-	// E[x²] (= that of E[y²]) and E[xy].
-	gmx, gmy, gsq, gxy := k.h0, k.h1, k.h2, k.h3
-	for j := 0; j < np; j++ {
-		mx, my := mux[j], muy[j]
-		a1 := 2*mx*my + c1
-		a2 := 2*cxy[j] + c2
-		b1 := mx*mx + my*my + c1
-		b2 := vx[j] + vy[j] + c2
-		inv := 1 / (b1 * b2)
-		ssim := a1 * a2 * inv
-		gj := g[j]
-		dA1 := gj * a2 * inv
-		dA2 := gj * a1 * inv
-		dB1 := -gj * ssim / b1
-		dB2 := -gj * ssim / b2
-		gmx[j] = 2*my*(dA1-dA2) + 2*mx*(dB1-dB2)
-		gmy[j] = 2*mx*(dA1-dA2) + 2*my*(dB1-dB2)
-		gsq[j] = dB2
-		gxy[j] = 2 * dA2
-	}
-	box3(gsq, k.t0, h, w)
-	box3(gxy, k.t0, h, w)
-	if gx != nil {
-		box3(gmx, k.t0, h, w)
-		for j := 0; j < np; j++ {
-			gx[j] = gmx[j] + 2*x[j]*gsq[j] + y[j]*gxy[j]
-		}
-	}
-	if gy != nil {
-		box3(gmy, k.t0, h, w)
-		for j := 0; j < np; j++ {
-			gy[j] = gmy[j] + 2*y[j]*gsq[j] + x[j]*gxy[j]
-		}
-	}
-}
-
-// box3 replaces the h×w plane a by its 3×3 box mean with the edge pixel
-// repeated, using tmp (h*w values) as scratch.
-func box3(a, tmp []float32, h, w int) {
+	// E[x²] (= that of E[y²]) and E[xy], one row at a time, followed at
+	// once by their horizontal 3-tap sums (the first half of the box
+	// filter's transpose, which is the filter itself).
+	hmx, hmy, hsq, hxy := k.h0, k.h1, k.h2, k.h3
+	rmx, rmy, rsq, rxy := k.t0[:w], k.t0[w:2*w], k.t0[2*w:3*w], k.t0[3*w:4*w]
 	for r := 0; r < h; r++ {
-		ar, tr := a[r*w:(r+1)*w], tmp[r*w:(r+1)*w]
-		for i := range ar {
-			l, rr := i-1, i+1
-			if l < 0 {
-				l = 0
-			}
-			if rr >= w {
-				rr = w - 1
-			}
-			tr[i] = ar[l] + ar[i] + ar[rr]
+		off := r * w
+		for i := 0; i < w; i++ {
+			j := off + i
+			mx, my := mux[j], muy[j]
+			a1 := 2*mx*my + c1
+			a2 := 2*cxy[j] + c2
+			b1 := mx*mx + my*my + c1
+			b2 := vx[j] + vy[j] + c2
+			inv1, inv2 := 1/b1, 1/b2
+			inv := inv1 * inv2
+			gj := g[j]
+			gs := -gj * a1 * a2 * inv // −g·SSIM
+			dA1 := gj * a2 * inv
+			dA2 := gj * a1 * inv
+			dB1 := gs * inv1
+			dB2 := gs * inv2
+			rmx[i] = 2*my*(dA1-dA2) + 2*mx*(dB1-dB2)
+			rmy[i] = 2*mx*(dA1-dA2) + 2*my*(dB1-dB2)
+			rsq[i] = dB2
+			rxy[i] = 2 * dA2
+		}
+		hsum3(hsq[off:off+w], rsq)
+		hsum3(hxy[off:off+w], rxy)
+		if gx != nil {
+			hsum3(hmx[off:off+w], rmx)
+		}
+		if gy != nil {
+			hsum3(hmy[off:off+w], rmy)
 		}
 	}
+	// Vertical 3-tap sums, the 1/9, and the chain rule to the pixels:
+	// dL/dx = B(gμx) + 2x·B(gE[x²]) + y·B(gE[xy]), and the same for y.
 	const ninth = 1.0 / 9
 	for r := 0; r < h; r++ {
 		u, d := r-1, r+1
@@ -262,10 +258,41 @@ func box3(a, tmp []float32, h, w int) {
 		if d >= h {
 			d = h - 1
 		}
-		tu, tc, td := tmp[u*w:(u+1)*w], tmp[r*w:(r+1)*w], tmp[d*w:(d+1)*w]
-		ar := a[r*w : (r+1)*w]
-		for i := range ar {
-			ar[i] = (tu[i] + tc[i] + td[i]) * ninth
+		u, c, d := u*w, r*w, d*w
+		for i := 0; i < w; i++ {
+			sq := (hsq[u+i] + hsq[c+i] + hsq[d+i]) * ninth
+			xy := (hxy[u+i] + hxy[c+i] + hxy[d+i]) * ninth
+			j := c + i
+			if gx != nil {
+				v := (hmx[u+i]+hmx[c+i]+hmx[d+i])*ninth + 2*x[j]*sq + y[j]*xy
+				if acc {
+					gx[j] += v
+				} else {
+					gx[j] = v
+				}
+			}
+			if gy != nil {
+				v := (hmy[u+i]+hmy[c+i]+hmy[d+i])*ninth + 2*y[j]*sq + x[j]*xy
+				if acc {
+					gy[j] += v
+				} else {
+					gy[j] = v
+				}
+			}
 		}
+	}
+}
+
+// hsum3 writes into dst the 3-tap sums of src with the edge repeated.
+func hsum3(dst, src []float32) {
+	l, c := src[0], src[0]
+	dst = dst[:len(src)]
+	for i := range dst {
+		n := c
+		if i+1 < len(src) {
+			n = src[i+1]
+		}
+		dst[i] = l + c + n
+		l, c = c, n
 	}
 }

@@ -316,3 +316,21 @@ func TestConsistencyGradient(t *testing.T) {
 		}
 	}
 }
+
+func TestExpNeg(t *testing.T) {
+	worst := 0.0
+	for i := 0; i <= 200000; i++ {
+		x := -float32(i) * 87 / 200000
+		want := math.Exp(float64(x))
+		rel := math.Abs(float64(expNeg(x))-want) / want
+		worst = math.Max(worst, rel)
+	}
+	t.Logf("expNeg: max relative error %.3g over [-87, 0]", worst)
+	// Reference: Go's math.Exp in float64.
+	if worst > 3e-7 {
+		t.Errorf("expNeg relative error %.3g, want below 3e-7", worst)
+	}
+	if expNeg(float32(math.Inf(-1))) != 0 || expNeg(0) != 1 || !math.IsNaN(float64(expNeg(float32(math.NaN())))) {
+		t.Error("expNeg special values wrong")
+	}
+}
