@@ -71,7 +71,32 @@ type Conv2D struct {
 
 	fwdStripe, dwStripe, dxBlock int
 	fwdFn, dwFn, dxFn            func(lo, hi int)
+
+	// The stride-1 path: fd computes the forward pass and holds the padded
+	// input for the weight gradient, gg the output gradient on fd's grid,
+	// bd the input gradient as a convolution of the padded output
+	// gradient with the flipped weights, into dxpad.
+	fd, bd *direct
+	gg     *gradGrid
+	dxpad  []float32
+	task   convTask
+	taskFn func(lo, hi int)
+	// state of the current call on the stride-1 path
+	src, dst []float32
 }
+
+// convTask selects what taskFn does on the stride-1 path.
+type convTask uint8
+
+const (
+	taskPadX convTask = iota
+	taskForward
+	taskPadDy
+	taskInputGrad
+	taskFold
+	taskFillGrid
+	taskWeightGrad
+)
 
 // convWorker is what one goroutine needs for a unit of convolution work.
 type convWorker struct {
@@ -83,6 +108,7 @@ type convWorker struct {
 	mat2 matrixPacker
 	dw   []float32 // private weight-gradient partial sum
 	dcol []float32 // a block of the im2col gradient
+	cbuf []float32 // an output block of the stride-1 path
 }
 
 // maxElems bounds every tensor a plan handles so that index arithmetic
@@ -138,6 +164,13 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	c.fwdFn = c.forwardUnits
 	c.dwFn = c.weightGradUnits
 	c.dxFn = c.inputGradUnits
+	c.taskFn = c.runTask
+	if p.Stride == 1 && !c.ident {
+		c.fd = newDirect(p.InC, p.OutC, h, w, p.Kernel, p.Dilation, p.Pad, p.Padding == ReflectPad, n)
+		span := (p.Kernel - 1) * p.Dilation
+		c.bd = newDirect(p.OutC, p.InC, ho, wo, p.Kernel, p.Dilation, span, false, n)
+		c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+	}
 	c.makeWorkers()
 	return c, nil
 }
@@ -161,11 +194,20 @@ func (c *Conv2D) makeWorkers() {
 
 	c.workers = make([]*convWorker, procs)
 	c.free = make(chan *convWorker, procs)
+	dwLen, dcolLen, cbufLen := c.p.OutC*c.kdim, c.dxBlock*kk2*blockN, 0
+	if c.fd != nil {
+		c.fd.size(procs)
+		c.bd.size(procs)
+		c.gg = newGradGrid(c.fd, procs)
+		dwLen, dcolLen = c.gg.mopad*c.gg.kpad, 0
+		cbufLen = max(c.fd.mpad*c.fd.ncb, c.bd.mpad*c.bd.ncb)
+	}
 	for i := range c.workers {
 		wk := &convWorker{
 			ws:   newWorkspace(),
-			dw:   make([]float32, c.p.OutC*c.kdim),
-			dcol: make([]float32, c.dxBlock*kk2*blockN),
+			dw:   make([]float32, dwLen),
+			dcol: make([]float32, dcolLen),
+			cbuf: make([]float32, cbufLen),
 		}
 		wk.col.g, wk.colT.g = &c.g, &c.g
 		wk.op.fn = nil
@@ -219,6 +261,14 @@ func (c *Conv2D) Forward(y, x, weight, bias []float32) {
 		c.check("Forward", bias, c.p.OutC, "bias")
 	}
 	c.refresh()
+	if c.fd != nil {
+		c.fd.packWeights(weight, false)
+		c.fd.bias, c.fd.dst = bias, y
+		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
+		c.runTasks(taskForward, c.fd.units(), nil, nil)
+		c.fd.bias, c.fd.dst = nil, nil
+		return
+	}
 	c.x, c.w, c.b, c.y = x, weight, bias, y
 	c.wPack = matrixPacker{data: weight, ld: c.kdim, rows: c.p.OutC, cols: c.kdim}
 	stripes := (c.pix + c.fwdStripe - 1) / c.fwdStripe
@@ -252,4 +302,55 @@ func (c *Conv2D) forwardUnits(lo, hi int) {
 	op.a, op.b, op.c, op.rowBias = nil, nil, nil, nil
 	wk.col.x, wk.mat.data = nil, nil
 	c.free <- wk
+}
+
+// runTasks runs n units of task t over goroutines; src and dst are the
+// caller's tensors the task reads and writes.
+func (c *Conv2D) runTasks(t convTask, n int, src, dst []float32) {
+	c.task, c.src, c.dst = t, src, dst
+	grain := 1
+	switch t {
+	case taskPadX, taskPadDy, taskFold, taskFillGrid:
+		grain = max(1, n/(4*runtime.GOMAXPROCS(0)))
+	}
+	ParallelFor(n, grain, c.taskFn)
+	c.src, c.dst = nil, nil
+}
+
+func (c *Conv2D) runTask(lo, hi int) {
+	fd, bd := c.fd, c.bd
+	switch c.task {
+	case taskPadX: // unit: one input plane
+		inPlane := fd.h * fd.w
+		for i := lo; i < hi; i++ {
+			fd.padPlane(fd.xpad[i*fd.plane:(i+1)*fd.plane], c.src[i*inPlane:(i+1)*inPlane])
+		}
+	case taskPadDy: // unit: one output-gradient plane
+		inPlane := bd.h * bd.w
+		for i := lo; i < hi; i++ {
+			bd.padPlane(bd.xpad[i*bd.plane:(i+1)*bd.plane], c.src[i*inPlane:(i+1)*inPlane])
+		}
+	case taskFold: // unit: one input-gradient plane
+		inPlane := fd.h * fd.w
+		for i := lo; i < hi; i++ {
+			fd.foldPlane(c.dst[i*inPlane:(i+1)*inPlane], c.dxpad[i*fd.plane:(i+1)*fd.plane])
+		}
+	case taskFillGrid: // unit: one output-gradient plane
+		for i := lo; i < hi; i++ {
+			c.gg.fillRow(fd, i/c.p.OutC, i%c.p.OutC, c.src)
+		}
+	case taskForward, taskInputGrad, taskWeightGrad:
+		wk := <-c.free
+		for u := lo; u < hi; u++ {
+			switch c.task {
+			case taskForward:
+				fd.forwardUnit(u, wk.cbuf)
+			case taskInputGrad:
+				bd.forwardUnit(u, wk.cbuf)
+			case taskWeightGrad:
+				c.gg.weightUnit(fd, u, wk.dw)
+			}
+		}
+		c.free <- wk
+	}
 }

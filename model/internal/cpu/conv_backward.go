@@ -18,6 +18,10 @@ func (c *Conv2D) Backward(dx, dweight, dbias, x, weight, dy []float32) {
 		return
 	}
 	c.refresh()
+	if c.fd != nil {
+		c.directBackward(dx, dweight, x, weight, dy)
+		return
+	}
 	if dweight != nil {
 		c.check("Backward", dweight, c.WeightLen(), "dweight")
 		c.check("Backward", x, inLen, "x")
@@ -138,4 +142,39 @@ func (c *Conv2D) inputGradUnits(lo, hi int) {
 	op.a, op.b, op.c = nil, nil, nil
 	wk.mat.data = nil
 	c.free <- wk
+}
+
+// directBackward is Backward on the stride-1 path.
+func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
+	inLen := c.n * c.p.InC * c.g.h * c.g.w
+	if dw != nil {
+		c.check("Backward", dw, c.WeightLen(), "dweight")
+		c.check("Backward", x, inLen, "x")
+		for _, wk := range c.workers {
+			clear(wk.dw)
+		}
+		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
+		c.runTasks(taskFillGrid, c.n*c.p.OutC, dy, nil)
+		c.runTasks(taskWeightGrad, c.gg.units(c.n), nil, nil)
+		kp := c.gg.kpad
+		for o := range c.p.OutC {
+			row := dw[o*c.kdim : (o+1)*c.kdim]
+			copy(row, c.workers[0].dw[o*kp:o*kp+c.kdim])
+			for _, wk := range c.workers[1:] {
+				for i, v := range wk.dw[o*kp : o*kp+c.kdim] {
+					row[i] += v
+				}
+			}
+		}
+	}
+	if dx != nil {
+		c.check("Backward", dx, inLen, "dx")
+		c.check("Backward", w, c.WeightLen(), "weight")
+		c.runTasks(taskPadDy, c.n*c.p.OutC, dy, nil)
+		c.bd.packWeights(w, true)
+		c.bd.dst = c.dxpad
+		c.runTasks(taskInputGrad, c.bd.units(), nil, nil)
+		c.bd.dst = nil
+		c.runTasks(taskFold, c.n*c.p.InC, nil, dx)
+	}
 }

@@ -1,0 +1,254 @@
+package cpu
+
+// direct computes a stride-1 convolution on the padded grid. The input is
+// copied once into a padded buffer of wp columns; output pixel q = oy·wp+ox
+// of that grid reads padded input q + offs[kk] for kernel tap kk, so the
+// rows of the GEMM's B operand are plain slices of the padded input and no
+// im2col matrix is built. Columns ox >= wo of the grid are computed and
+// dropped.
+type direct struct {
+	cin, cout int
+	h, w      int // input
+	pad       int
+	reflect   bool
+	k, d      int
+	hp, wp    int // padded input
+	ho, wo    int // output
+	plane     int // hp·wp
+	kdim      int // cin·k²
+	offs      []int
+
+	// Sized for the micro-kernel in use.
+	mr, nr int
+	mpad   int       // cout rounded up to mr
+	wpack  []float32 // packed weights, mpad/mr panels of kdim×mr
+	xpad   []float32 // n images of cin·plane, then slack
+	ncb    int       // grid columns per output block
+	rows   int       // output rows per unit of work
+	dst    []float32 // output of the current call, n×cout×ho×wo
+	bias   []float32
+	nimg   int
+}
+
+func newDirect(cin, cout, h, w, k, d, pad int, reflect bool, n int) *direct {
+	span := (k - 1) * d
+	dc := &direct{
+		cin: cin, cout: cout, h: h, w: w, pad: pad, reflect: reflect, k: k, d: d,
+		hp: h + 2*pad, wp: w + 2*pad, nimg: n,
+	}
+	dc.ho, dc.wo = dc.hp-span, dc.wp-span
+	dc.plane = dc.hp * dc.wp
+	dc.kdim = cin * k * k
+	dc.offs = make([]int, 0, dc.kdim)
+	for c := range cin {
+		for ky := range k {
+			for kx := range k {
+				dc.offs = append(dc.offs, c*dc.plane+ky*d*dc.wp+kx*d)
+			}
+		}
+	}
+	dc.xpad = make([]float32, n*cin*dc.plane+dc.slack())
+	return dc
+}
+
+// slack is how far past the last image the kernels may read: a panel that
+// starts on the last valid grid column reads nr (or a dot chunk) further.
+func (dc *direct) slack() int { return 64 + (dc.k-1)*dc.d + 16 }
+
+// size sizes the buffers that depend on the micro-kernel.
+func (dc *direct) size(procs int) {
+	dc.mr, dc.nr = kern.mr, kern.nr
+	dc.mpad = (dc.cout + dc.mr - 1) / dc.mr * dc.mr
+	if cap(dc.wpack) < dc.mpad*dc.kdim {
+		dc.wpack = make([]float32, dc.mpad*dc.kdim)
+	}
+	dc.wpack = dc.wpack[:dc.mpad*dc.kdim]
+	dc.ncb = (256 + dc.nr - 1) / dc.nr * dc.nr
+	// At least two units per goroutine over the batch.
+	units := max(1, (2*procs+dc.nimg-1)/dc.nimg)
+	dc.rows = max(1, (dc.ho+units-1)/units)
+}
+
+// packWeights packs OIHW weights into micro-panels. If flip is set the
+// weights are used transposed and rotated by 180°, as the input gradient
+// needs: output channel o of this convolution and input channel c read
+// w[c][o][k-1-ky][k-1-kx] of a layer with dc.cin outputs.
+func (dc *direct) packWeights(w []float32, flip bool) {
+	mr, k2 := dc.mr, dc.k*dc.k
+	clear(dc.wpack)
+	for o := range dc.cout {
+		panel := dc.wpack[(o/mr)*mr*dc.kdim:]
+		i := o % mr
+		for kk := range dc.kdim {
+			var v float32
+			if flip {
+				c, t := kk/k2, kk%k2
+				v = w[(c*dc.cout+o)*k2+k2-1-t]
+			} else {
+				v = w[o*dc.kdim+kk]
+			}
+			panel[kk*mr+i] = v
+		}
+	}
+}
+
+// padPlane copies channel plane src (h×w) into the padded plane dst.
+func (dc *direct) padPlane(dst, src []float32) {
+	p, w := dc.pad, dc.w
+	for py := range dc.hp {
+		row := dst[py*dc.wp : (py+1)*dc.wp]
+		iy := py - p
+		if iy < 0 || iy >= dc.h {
+			if !dc.reflect {
+				clear(row)
+				continue
+			}
+			iy = reflectIndex(iy, dc.h)
+		}
+		s := src[iy*w : (iy+1)*w]
+		copy(row[p:p+w], s)
+		for px := range p {
+			if dc.reflect {
+				row[px] = s[reflectIndex(px-p, w)]
+				row[p+w+px] = s[reflectIndex(w+px, w)]
+			} else {
+				row[px], row[p+w+px] = 0, 0
+			}
+		}
+	}
+}
+
+// foldPlane adds the padded-plane gradient src onto the input-plane
+// gradient dst (overwritten): interior pixels map to themselves, padded
+// ones onto the pixels they mirror (reflect) or nowhere (zero).
+func (dc *direct) foldPlane(dst, src []float32) {
+	p, w := dc.pad, dc.w
+	clear(dst)
+	for py := range dc.hp {
+		row := src[py*dc.wp : (py+1)*dc.wp]
+		iy := py - p
+		if iy < 0 || iy >= dc.h {
+			if !dc.reflect {
+				continue
+			}
+			iy = reflectIndex(iy, dc.h)
+		}
+		d := dst[iy*w : (iy+1)*w]
+		for x, v := range row[p : p+w] {
+			d[x] += v
+		}
+		if dc.reflect {
+			for px := range p {
+				d[reflectIndex(px-p, w)] += row[px]
+				d[reflectIndex(w+px, w)] += row[p+w+px]
+			}
+		}
+	}
+}
+
+// units returns the number of (image, row block) units of a forward pass.
+func (dc *direct) units() int { return dc.nimg * ((dc.ho + dc.rows - 1) / dc.rows) }
+
+// forwardUnit computes output rows of one unit into dc.dst, with cbuf a
+// worker's mpad×ncb block buffer.
+func (dc *direct) forwardUnit(u int, cbuf []float32) {
+	blocks := (dc.ho + dc.rows - 1) / dc.rows
+	img, blk := u/blocks, u%blocks
+	oy0 := blk * dc.rows
+	oy1 := min(oy0+dc.rows, dc.ho)
+	mr, nr, ncb := dc.mr, dc.nr, dc.ncb
+	x := dc.xpad[img*dc.cin*dc.plane:]
+	out := dc.dst[img*dc.cout*dc.ho*dc.wo : (img+1)*dc.cout*dc.ho*dc.wo]
+	q0, q1 := oy0*dc.wp, (oy1-1)*dc.wp+dc.wo
+	ind := kern.ind
+	for jc := q0; jc < q1; jc += ncb {
+		nc := min(ncb, q1-jc)
+		for jr := 0; jr < nc; jr += nr {
+			b := x[jc+jr:]
+			for ir := 0; ir < dc.mpad; ir += mr {
+				ind(dc.kdim, dc.wpack[ir*dc.kdim:(ir+mr)*dc.kdim], b, dc.offs, cbuf[ir*ncb+jr:], ncb)
+			}
+		}
+		// Copy the valid grid columns out, adding the bias.
+		for oy := jc / dc.wp; oy*dc.wp < jc+nc; oy++ {
+			a := max(jc-oy*dc.wp, 0)
+			e := min(jc+nc-oy*dc.wp, dc.wo)
+			if a >= e {
+				continue
+			}
+			for o := range dc.cout {
+				src := cbuf[o*ncb+oy*dc.wp+a-jc : o*ncb+oy*dc.wp+e-jc]
+				d := out[(o*dc.ho+oy)*dc.wo+a : (o*dc.ho+oy)*dc.wo+e]
+				if dc.bias != nil {
+					b := dc.bias[o]
+					for i, v := range src {
+						d[i] = v + b
+					}
+				} else {
+					copy(d, src)
+				}
+			}
+		}
+	}
+}
+
+// gradOut lays dY out on the padded-width grid for the weight gradient:
+// rows of ldq values, zero in the dropped columns and beyond.
+type gradGrid struct {
+	mo, mk, lanes int
+	mopad, kpad   int
+	ldq           int // grid values per row, a multiple of lanes
+	offs          []int
+	dyp           []float32 // n images of mopad×ldq
+	chunk         int       // q values per dot call, a multiple of lanes
+	span          int       // q values per unit, a multiple of chunk
+}
+
+func newGradGrid(dc *direct, procs int) *gradGrid {
+	g := &gradGrid{mo: kern.mo, mk: kern.mk, lanes: kern.lanes}
+	g.mopad = (dc.cout + g.mo - 1) / g.mo * g.mo
+	g.kpad = (dc.kdim + g.mk - 1) / g.mk * g.mk
+	q := dc.ho * dc.wp
+	g.chunk = (512 + g.lanes - 1) / g.lanes * g.lanes
+	g.ldq = (q + g.lanes - 1) / g.lanes * g.lanes
+	g.offs = make([]int, g.kpad)
+	copy(g.offs, dc.offs)
+	g.dyp = make([]float32, dc.nimg*g.mopad*g.ldq)
+	units := max(1, (2*procs+dc.nimg-1)/dc.nimg)
+	per := (g.ldq + g.chunk - 1) / g.chunk
+	g.span = max(1, (per+units-1)/units) * g.chunk
+	return g
+}
+
+func (g *gradGrid) units(nimg int) int { return nimg * ((g.ldq + g.span - 1) / g.span) }
+
+// fillRow writes output channel o of image img of dy onto the grid.
+func (g *gradGrid) fillRow(dc *direct, img, o int, dy []float32) {
+	row := g.dyp[(img*g.mopad+o)*g.ldq : (img*g.mopad+o+1)*g.ldq]
+	clear(row)
+	src := dy[(img*dc.cout+o)*dc.ho*dc.wo:]
+	for oy := range dc.ho {
+		copy(row[oy*dc.wp:oy*dc.wp+dc.wo], src[oy*dc.wo:(oy+1)*dc.wo])
+	}
+}
+
+// weightUnit accumulates one unit's share of the weight gradient into out
+// (mopad×kpad, leading dimension kpad).
+func (g *gradGrid) weightUnit(dc *direct, u int, out []float32) {
+	per := (g.ldq + g.span - 1) / g.span
+	img, s := u/per, u%per
+	x := dc.xpad[img*dc.cin*dc.plane:]
+	dyp := g.dyp[img*g.mopad*g.ldq : (img+1)*g.mopad*g.ldq]
+	dot := kern.dot
+	q1 := min((s+1)*g.span, g.ldq)
+	for q0 := s * g.span; q0 < q1; q0 += g.chunk {
+		n := min(g.chunk, q1-q0)
+		xs := x[q0:]
+		for kb := 0; kb < g.kpad; kb += g.mk {
+			offs := g.offs[kb : kb+g.mk]
+			for ob := 0; ob < g.mopad; ob += g.mo {
+				dot(n, dyp[ob*g.ldq+q0:], g.ldq, xs, offs, out[ob*g.kpad+kb:], g.kpad)
+			}
+		}
+	}
+}
