@@ -12,8 +12,9 @@ const (
 )
 
 // benchmarkWarp times Forward (with the mask) and/or Backward (both
-// gradients) over a 1×c×h×w batch with disparities up to 30% of the width,
-// the range a stereo network predicts.
+// gradients) over a 1×c×h×w batch with disparities up to 30% of the width
+// (a common upper bound for the disparity a stereo network predicts, common
+// practice).
 func benchmarkWarp(b *testing.B, run, c, h, w int, dir Direction, border Border) {
 	s := Shape{N: 1, C: c, H: h, W: w}
 	rng := rand.New(rand.NewPCG(1, 2))

@@ -85,9 +85,10 @@ var handCases = []handCase{
 	// No shift: u = x, output = input, all valid. Zero: gradDisp =
 	// -4·(src[x+1] - src[x]) = -4, -8, -16, and -4·(0-8) = 32 at x = 3.
 	// Clamp: 0 at u = 0 and u = 3 (clamp holds), -8, -16 inside. These are
-	// the values PyTorch 1.13.1 grid_sample gives for the same input
-	// (checked with a one-off /usr/bin/python3 run; also in the fixtures of
-	// TestGridSample, case *_kinks).
+	// the values PyTorch 1.13.1 grid_sample gives for this very input
+	// (a one-off /usr/bin/python3 run while writing this test); the same
+	// rule is pinned on other inputs by the *_kinks fixtures of
+	// TestGridSample.
 	{"0/left/zero", 0, RebuildLeft, Zero,
 		[4]float32{1, 2, 4, 8}, [4]float32{1, 1, 1, 1},
 		[4]float32{1, 1, 1, 1}, [4]float32{-4, -8, -16, 32}},
