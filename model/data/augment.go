@@ -112,18 +112,18 @@ func photometric(im *planar.Image, gamma, bright float32, colour [3]float64) {
 
 // FlipSwap mirrors s horizontally and swaps its views: the mirrored right
 // image becomes the left image and the mirrored left image the right one;
-// the mirrored right disparity becomes the left disparity and vice versa.
-// A point at left column x with left disparity d (right column x − d·W)
-// appears after the swap at left column W−1−(x−d·W) with disparity d and
-// right column W−1−x, so disparities stay positive and consistent. Depth
-// and occlusion, known only for the original left view, are dropped.
+// the mirrored right disparity becomes the left disparity and vice versa,
+// and so do the occlusion maps. A point at left column x with left
+// disparity d (right column x − d·W) appears after the swap at left column
+// W−1−(x−d·W) with disparity d and right column W−1−x, so disparities stay
+// positive and consistent. Depth, known only for the original left view, is
+// dropped.
 func FlipSwap(s *Sample) {
 	l, r := mirror(s.Left), mirror(s.Right)
 	s.Left, s.Right = r, l
-	if s.DispLeft != nil || s.DispRight != nil {
-		s.DispLeft, s.DispRight = mirror(s.DispRight), mirror(s.DispLeft)
-	}
-	s.DepthLeft, s.OccLeft = nil, nil
+	s.DispLeft, s.DispRight = mirror(s.DispRight), mirror(s.DispLeft)
+	s.OccLeft, s.OccRight = mirror(s.OccRight), mirror(s.OccLeft)
+	s.DepthLeft = nil
 	s.Flipped = !s.Flipped
 }
 

@@ -382,8 +382,8 @@ func TestFlipSwapConsistent(t *testing.T) {
 	check("original", s)
 	FlipSwap(s)
 	check("flipped", s)
-	if !s.Flipped || s.DepthLeft != nil || s.OccLeft != nil {
-		t.Errorf("flipped sample: Flipped %v, depth %v, occ %v", s.Flipped, s.DepthLeft != nil, s.OccLeft != nil)
+	if !s.Flipped || s.DepthLeft != nil {
+		t.Errorf("flipped sample: Flipped %v, depth %v", s.Flipped, s.DepthLeft != nil)
 	}
 	// The sample without swapping (mirror only) must fail the same test:
 	// this is what makes the check meaningful.
@@ -414,13 +414,17 @@ func TestFlipSwapMapsTruth(t *testing.T) {
 		}
 		return im
 	}
-	s := &Sample{Left: mk(3), Right: mk(3), DispLeft: mk(1), DispRight: mk(1), DepthLeft: mk(1), OccLeft: mk(1)}
-	orig := &Sample{Left: s.Left.Clone(), Right: s.Right.Clone(), DispLeft: s.DispLeft.Clone(), DispRight: s.DispRight.Clone()}
+	s := &Sample{Left: mk(3), Right: mk(3), DispLeft: mk(1), DispRight: mk(1), DepthLeft: mk(1), OccLeft: mk(1), OccRight: mk(1)}
+	orig := &Sample{Left: s.Left.Clone(), Right: s.Right.Clone(), DispLeft: s.DispLeft.Clone(), DispRight: s.DispRight.Clone(),
+		OccLeft: s.OccLeft.Clone(), OccRight: s.OccRight.Clone()}
 	FlipSwap(s)
 	for y := 0; y < 2; y++ {
 		for x := 0; x < 5; x++ {
 			if s.DispLeft.At(0, 0, y, x) != orig.DispRight.At(0, 0, y, 4-x) || s.DispRight.At(0, 0, y, x) != orig.DispLeft.At(0, 0, y, 4-x) {
 				t.Fatalf("disparity maps not swapped and mirrored at (%d, %d)", x, y)
+			}
+			if s.OccLeft.At(0, 0, y, x) != orig.OccRight.At(0, 0, y, 4-x) || s.OccRight.At(0, 0, y, x) != orig.OccLeft.At(0, 0, y, 4-x) {
+				t.Fatalf("occlusion maps not swapped and mirrored at (%d, %d)", x, y)
 			}
 			for c := 0; c < 3; c++ {
 				if s.Left.At(0, c, y, x) != orig.Right.At(0, c, y, 4-x) || s.Right.At(0, c, y, x) != orig.Left.At(0, c, y, 4-x) {

@@ -22,10 +22,11 @@ const (
 	DispRight = "disp_right"
 	DepthLeft = "depth_left"
 	OccLeft   = "occ_left"
+	OccRight  = "occ_right"
 )
 
 var truthKinds = []struct{ dir, ext string }{
-	{DispLeft, ".pfm"}, {DispRight, ".pfm"}, {DepthLeft, ".pfm"}, {OccLeft, ".png"},
+	{DispLeft, ".pfm"}, {DispRight, ".pfm"}, {DepthLeft, ".pfm"}, {OccLeft, ".png"}, {OccRight, ".png"},
 }
 
 // Pair is one stereo pair of a Dataset: the paths of its files.

@@ -9,7 +9,10 @@
 //	DIR/truth/disp_left/NAME.pfm   optional: left disparity, pixels, PFM float32
 //	DIR/truth/disp_right/NAME.pfm  optional: right disparity, pixels
 //	DIR/truth/depth_left/NAME.pfm  optional: left depth, metres
-//	DIR/truth/occ_left/NAME.png    optional: left occlusion map (grey levels)
+//	DIR/truth/occ_left/NAME.png    optional: left occlusion map (grey levels;
+//	                               package synth writes 255 where a left pixel
+//	                               is not visible in the right view)
+//	DIR/truth/occ_right/NAME.png   optional: the right view's occlusion map
 //
 // Files with other extensions and names starting with "." are ignored.
 // Every left image needs a right partner and every right image a left one;
@@ -40,9 +43,10 @@
 //   - Horizontal flip swaps the views: the mirrored right image becomes the
 //     left image and the mirrored left image the right one, and the truth
 //     maps follow (mirrored right disparity becomes the left disparity), so
-//     disparities stay positive with the signs of package warp. Depth and
-//     occlusion exist only for the original left view, so a flipped sample
-//     has none (zeros in a batch, Batch.Flipped set).
+//     disparities stay positive with the signs of package warp; likewise
+//     the occlusion maps swap. Depth exists only for the original left
+//     view, so a flipped sample has none (zeros in a batch, Batch.Flipped
+//     set).
 //
 // Errors start with "data: ".
 package data

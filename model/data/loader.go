@@ -45,9 +45,10 @@ type Batch struct {
 	// DispLeft and DispRight are N×1×H×W fractions of the width, 0 where
 	// there is no ground truth; nil if the dataset has none of that kind.
 	DispLeft, DispRight *planar.Image
-	// DepthLeft (metres) and OccLeft are N×1×H×W or nil; flipped samples
-	// hold zeros there.
-	DepthLeft, OccLeft *planar.Image
+	// DepthLeft (metres) is N×1×H×W or nil; flipped samples hold zeros.
+	DepthLeft *planar.Image
+	// OccLeft and OccRight are N×1×H×W or nil.
+	OccLeft, OccRight *planar.Image
 	// Flipped[i] reports that sample i was mirrored and its views swapped.
 	Flipped []bool
 }
@@ -228,6 +229,8 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 			b.DepthLeft = m
 		case OccLeft:
 			b.OccLeft = m
+		case OccRight:
+			b.OccRight = m
 		}
 	}
 	for j, i := range idx {
@@ -250,6 +253,7 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 		put(b.DispRight, j, s.DispRight)
 		put(b.DepthLeft, j, s.DepthLeft)
 		put(b.OccLeft, j, s.OccLeft)
+		put(b.OccRight, j, s.OccRight)
 	}
 	return b, nil
 }

@@ -23,10 +23,10 @@ type Sample struct {
 	DispLeft, DispRight *planar.Image
 	// DepthLeft is 1×1×H×W depth in metres (0 = no ground truth), or nil.
 	DepthLeft *planar.Image
-	// OccLeft is the 1×1×H×W occlusion map in [0, 1], or nil.
-	OccLeft *planar.Image
+	// OccLeft and OccRight are the 1×1×H×W occlusion maps in [0, 1], or nil.
+	OccLeft, OccRight *planar.Image
 	// Flipped reports that the sample was mirrored and its views swapped
-	// (see Augment); DepthLeft and OccLeft are then nil.
+	// (see FlipSwap); DepthLeft is then nil.
 	Flipped bool
 }
 
@@ -65,9 +65,14 @@ func (d *Dataset) Load(i, width, height int) (*Sample, error) {
 			return nil, err
 		}
 	}
-	if path, ok := p.Truth[OccLeft]; ok {
-		if s.OccLeft, err = d.loadGrey(p, path, width, height); err != nil {
-			return nil, err
+	for _, k := range []struct {
+		kind string
+		dst  **planar.Image
+	}{{OccLeft, &s.OccLeft}, {OccRight, &s.OccRight}} {
+		if path, ok := p.Truth[k.kind]; ok {
+			if *k.dst, err = d.loadGrey(p, path, width, height); err != nil {
+				return nil, err
+			}
 		}
 	}
 	return s, nil
