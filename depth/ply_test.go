@@ -199,3 +199,57 @@ func TestReadPLYErrors(t *testing.T) {
 		t.Error("NaN point: no error")
 	}
 }
+
+// TestPointCloudColourPaths: the RGBA fast path un-premultiplies, and the
+// general path (here *image.Gray) gives grey colours.
+func TestPointCloudColourPaths(t *testing.T) {
+	z, _ := plyScene()
+	rgba := image.NewRGBA(image.Rect(0, 0, 4, 3))
+	rgba.SetRGBA(0, 0, color.RGBA{50, 25, 0, 128}) // premultiplied: 50/128·255 ≈ 100
+	rgba.SetRGBA(1, 0, color.RGBA{1, 2, 3, 255})
+	pc, err := PointCloudFromDepth(z, rgba, plyRig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := pc.Points[0]; p.R != 99 || p.G != 49 || p.B != 0 {
+		t.Errorf("half-transparent pixel: %d %d %d, want 99 49 0", p.R, p.G, p.B)
+	}
+	if p := pc.Points[1]; p.R != 1 || p.G != 2 || p.B != 3 {
+		t.Errorf("opaque pixel: %d %d %d", p.R, p.G, p.B)
+	}
+	gray := image.NewGray(image.Rect(0, 0, 4, 3))
+	gray.Pix[2] = 77
+	pc, err = PointCloudFromDepth(z, gray, plyRig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := pc.Points[2]; p.R != 77 || p.G != 77 || p.B != 77 {
+		t.Errorf("grey pixel: %d %d %d", p.R, p.G, p.B)
+	}
+}
+
+// TestReadPLYBinaryTypes decodes every PLY scalar type from a hand-made
+// little-endian record.
+func TestReadPLYBinaryTypes(t *testing.T) {
+	var buf bytes.Buffer
+	buf.WriteString("ply\nformat binary_little_endian 1.0\nelement vertex 1\n" +
+		"property char a\nproperty short b\nproperty ushort c\nproperty int x\n" +
+		"property uint y\nproperty float64 z\nproperty uint8 red\nproperty uchar green\nproperty uchar blue\nend_header\n")
+	buf.Write([]byte{0xfe})                   // char −2
+	buf.Write([]byte{0xfd, 0xff})             // short −3
+	buf.Write([]byte{0x10, 0x00})             // ushort 16
+	buf.Write([]byte{0xfb, 0xff, 0xff, 0xff}) // int −5
+	buf.Write([]byte{0x07, 0x00, 0x00, 0x00}) // uint 7
+	z := math.Float64bits(2.5)
+	for k := 0; k < 8; k++ {
+		buf.WriteByte(byte(z >> (8 * k)))
+	}
+	buf.Write([]byte{9, 8, 7})
+	pc, err := ReadPLY(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !pc.Color || pc.Points[0] != (Point{X: -5, Y: 7, Z: 2.5, R: 9, G: 8, B: 7}) {
+		t.Errorf("read %+v", pc)
+	}
+}
