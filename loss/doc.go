@@ -3,8 +3,9 @@
 // its inputs: SSIM (ssim.go), the photometric appearance term
 // (appearance.go), edge-aware disparity smoothness (smoothness.go),
 // left-right disparity consistency (consistency.go), their multi-scale
-// combination (objective.go), and a finite-difference gradient checker
-// (gradcheck.go).
+// combination (objective.go) with a 2×2 area-averaging image pyramid
+// (pyramid.go), a finite-difference gradient checker (gradcheck.go), and
+// checked entry points on *planar.Image (checked.go).
 //
 // Conventions:
 //

@@ -110,8 +110,9 @@ type Objective struct {
 // skips that gradient). If perScale is not nil it receives the weighted
 // terms of each scale; they sum to the returned totals. Eval does not
 // allocate in steady state. It panics if grads or perScale is not nil and
-// has a length other than len(scales), or if a slice length does not match
-// its scale's Shape.
+// has a length other than len(scales), if a slice length does not match
+// its scale's Shape, or if Options.Border is not a defined warp.Border (as
+// warp.Forward does); Evaluate checks all of these and returns errors.
 func (o *Objective) Eval(perScale []Terms, grads []DispGrad, scales []Scale) Terms {
 	const name = "Objective.Eval"
 	if grads != nil && len(grads) != len(scales) {

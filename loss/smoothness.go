@@ -4,7 +4,7 @@ import "math"
 
 // expNeg returns e^x for x ≤ 0 in float32, with a relative error below
 // 3e-7 (checked against math.Exp in the tests): x = k·ln2 + r with
-// |r| ≤ ln2/2, a degree-6 Taylor polynomial for e^r, and 2^k set in the
+// |r| ≤ ln2/2 (k rounded to nearest), a degree-6 Taylor polynomial for e^r, and 2^k set in the
 // exponent bits. It is the edge weight of the smoothness term, where
 // math.Exp was the largest cost. Positive x and NaN go to math.Exp.
 func expNeg(x float32) float32 {
@@ -19,12 +19,12 @@ func expNeg(x float32) float32 {
 		ln2hi = 0.693359375 // ln 2 split so that k·ln2hi is exact
 		ln2lo = -2.12194440e-4
 	)
-	t := x*log2e + 0.5
-	ki := int32(t) // truncates towards 0; t ≤ 0.5, so fix up to floor
-	if float32(ki) > t {
-		ki--
-	}
-	k := float32(ki)
+	// Adding 1.5·2²³ rounds x·log2(e) to the nearest integer k, read back
+	// from the low mantissa bits (|x·log2 e| < 126 fits).
+	const magic = 12582912
+	t := x*log2e + magic
+	ki := int32(math.Float32bits(t)) - 0x4B400000
+	k := t - magic
 	r := x - k*ln2hi - k*ln2lo
 	p := 1 + r*(1+r*(1.0/2+r*(1.0/6+r*(1.0/24+r*(1.0/120+r*(1.0/720))))))
 	return p * math.Float32frombits(uint32(ki+127)<<23)
