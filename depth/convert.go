@@ -202,3 +202,40 @@ func (d *Disparity) Fraction(width int) (frac, mask []float32) {
 	}
 	return frac, mask
 }
+
+// DepthFromFraction returns the depth in metres of a disparity given as a
+// fraction of the image width, which is the same at any resolution:
+// DepthFromPixels(frac·Width).
+func (r *Rig) DepthFromFraction(frac float64) (z float64, ok bool) {
+	return r.DepthFromPixels(FractionToPixels(frac, r.Width))
+}
+
+// FractionFromDepth returns the disparity, as a fraction of the image width,
+// of a point z metres away: PixelsFromDepth(z)/Width.
+func (r *Rig) FractionFromDepth(z float64) (frac float64, ok bool) {
+	px, ok := r.PixelsFromDepth(z)
+	if !ok {
+		return 0, false
+	}
+	return PixelsToFraction(px, r.Width), true
+}
+
+// DepthMapFromFraction converts image n of a batch of single-channel
+// disparities expressed as fractions of the width (the network's output)
+// into metric depth. The batch may have any resolution: the rig is rescaled
+// to W × H with Scaled first, so r describes the cameras at their own size.
+// Pixels whose disparity is not positive and finite, or whose depth is not,
+// are invalid.
+func (r *Rig) DepthMapFromFraction(im *planar.Image, n int) (*Depth, error) {
+	d, err := DisparityFromFraction(im, n)
+	if err != nil {
+		return nil, err
+	}
+	s := r
+	if im.W != r.Width || im.H != r.Height {
+		if s, err = r.Scaled(im.W, im.H); err != nil {
+			return nil, err
+		}
+	}
+	return s.DisparityToDepth(d)
+}

@@ -312,3 +312,33 @@ func TestMaskRange(t *testing.T) {
 		t.Error("11 m kept")
 	}
 }
+
+func TestDepthMapFromFraction(t *testing.T) {
+	rig := motorcycleRig()
+	// 48.9999 px at 741 px wide, as a fraction, at a quarter of the size.
+	frac := float32(48.9999 / 741)
+	im := planar.New(1, 1, 125, 185)
+	for i := range im.Pix {
+		im.Pix[i] = frac
+	}
+	im.Pix[7] = 0
+	z, err := rig.DepthMapFromFraction(im, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if z.Rect != image.Rect(0, 0, 185, 125) || z.Valid() != 185*125-1 {
+		t.Fatalf("bounds %v, %d valid", z.Rect, z.Valid())
+	}
+	// Same depth as the worked example (float32 fraction: 1e-6 relative).
+	if v, _ := z.At(3, 3); math.Abs(float64(v)-2.39782) > 2.39782*1e-6+5e-6 {
+		t.Errorf("depth %v m, want 2.39782 m", v)
+	}
+	zs, ok := rig.DepthFromFraction(48.9999 / 741)
+	if !ok || math.Abs(zs-2.39782) > 5e-6 {
+		t.Errorf("DepthFromFraction = %v, %v", zs, ok)
+	}
+	f, ok := rig.FractionFromDepth(zs)
+	if !ok || math.Abs(f-48.9999/741) > 1e-12 {
+		t.Errorf("FractionFromDepth = %v, %v", f, ok)
+	}
+}

@@ -40,4 +40,20 @@
 //     files. Decoders bound their allocation (MaxSide, MaxPixels) and by the
 //     size of their input where the format allows. Save functions write
 //     atomically: a temporary file in the same directory, synced, renamed.
+//
+// What is where:
+//
+//   - rig.go: Rig, its JSON file (ReadRig, LoadRig, Write, SaveRig),
+//     Validate, and Scaled for a resized image (a crop instead keeps the
+//     focal length and shifts Cx, Cy by the crop's origin).
+//   - convert.go: fraction ↔ pixels ↔ metres, for single values and maps
+//     (DepthFromPixels, DisparityToDepth, DepthMapFromFraction, …).
+//   - maps.go: Map, Disparity, Depth, Confidence; DisparityFromImage and
+//     DepthFromImage read grey images, with fast paths for *image.Gray16
+//     and *image.Gray.
+//   - metrics.go, summary.go: DepthErrors (abs rel, sq rel, RMSE, RMSE log,
+//     δ < 1.25ᵏ; formulas on DepthMetrics, common practice), DisparityErrors
+//     (end-point error, bad-1/2/3 rates, Scharstein & Szeliski, IJCV 2002),
+//     and Summary for text tables and CSV.
+//   - png16.go, pfm.go, ply.go, cubehelix.go: the files people open.
 package depth
