@@ -28,3 +28,24 @@ func BenchmarkGenerate(b *testing.B) {
 		b.Run(fmt.Sprintf("%s/256x128", st), func(b *testing.B) { benchmarkGenerate(b, st, 256, 128) })
 	}
 }
+
+// BenchmarkWriteDataset writes 16 greenhouse pairs at 256×128 per iteration
+// (render, encode, atomic writes) with the default number of workers; the
+// pair/s and cpu-ns/pair metrics give the time for 1,000 pairs.
+func BenchmarkWriteDataset(b *testing.B) {
+	b.ReportAllocs()
+	const pairs = 16
+	dir := b.TempDir()
+	cpu0, ok := processCPU()
+	n := 0
+	for b.Loop() {
+		if err := WriteDataset(dir, Greenhouse, 1, pairs, nil); err != nil {
+			b.Fatal(err)
+		}
+		n++
+	}
+	b.ReportMetric(float64(n*pairs)/b.Elapsed().Seconds(), "pairs/s")
+	if cpu1, ok1 := processCPU(); ok && ok1 && n > 0 {
+		b.ReportMetric(float64(cpu1-cpu0)/float64(n*pairs), "cpu-ns/pair")
+	}
+}

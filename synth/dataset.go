@@ -198,9 +198,13 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	return first
 }
 
+// pngEncoder favours speed: at the default level, compression takes about
+// as long as rendering, for files only about 15 % smaller.
+var pngEncoder = png.Encoder{CompressionLevel: png.BestSpeed}
+
 // savePNG encodes img as PNG into path atomically.
 func savePNG(path string, img image.Image) error {
-	return writeFileAtomic(path, func(w io.Writer) error { return png.Encode(w, img) })
+	return writeFileAtomic(path, func(w io.Writer) error { return pngEncoder.Encode(w, img) })
 }
 
 // writeFileAtomic writes a file so that a reader never sees it half

@@ -264,7 +264,7 @@ type Pair struct {
 //
 // Ground truth (depth, disparity, visibility) comes from one ray through
 // each pixel centre. Colour is anti-aliased: where the centre rays of a
-// pixel and of its eight neighbours all hit the same face, the pixel takes
+// pixel and of its four edge neighbours all hit the same face, the pixel takes
 // the (pre-filtered) colour of its centre point; elsewhere, near silhouettes
 // and creases, it averages samples×samples rays on a regular sub-pixel grid.
 // So at a depth edge a pixel's colour mixes both surfaces while its
@@ -353,18 +353,16 @@ func render(sc *scene, rig *depth.Rig, samples int) *Pair {
 }
 
 // uniformAround reports whether the centre hits of pixel (x, y) and of its
-// neighbours inside the image all lie on one face of one shape.
+// four edge neighbours inside the image all lie on one face of one shape.
+// An edge that crosses the pixel's sub-sample grid (within ±½ pixel of its
+// centre) also separates it from a neighbour's centre, except for features
+// smaller than a pixel that slip between centres, which then are point
+// sampled.
 func uniformAround(hits []hit, x, y, w, h int) bool {
-	c := &hits[y*w+x]
-	for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
-		for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
-			o := &hits[yy*w+xx]
-			if o.shape != c.shape || o.face != c.face {
-				return false
-			}
-		}
-	}
-	return true
+	c := hits[y*w+x]
+	same := func(i int) bool { return hits[i].shape == c.shape && hits[i].face == c.face }
+	return (x == 0 || same(y*w+x-1)) && (x == w-1 || same(y*w+x+1)) &&
+		(y == 0 || same((y-1)*w+x)) && (y == h-1 || same((y+1)*w+x))
 }
 
 // visTol is the relative depth difference below which the other view's hit
