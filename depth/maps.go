@@ -10,6 +10,11 @@ import (
 // Map is a single-channel float32 map with a validity mask, laid out like
 // the standard library's image types. It is the common part of Disparity,
 // Depth and Confidence.
+//
+// The methods assume that Pix and Mask cover Rect, as the constructors
+// guarantee; on a map built by hand with short slices they panic, like the
+// image types do. Check verifies a map; the functions of this package that
+// return an error call it on the maps they are given.
 type Map struct {
 	// Pix holds the values: the value at (x, y) is
 	// Pix[(y-Rect.Min.Y)*Stride + (x-Rect.Min.X)].
