@@ -16,6 +16,16 @@ func ELU(dst, src []float32) {
 func eluRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	s := t.a[lo:hi]
+	if activationAVX2 {
+		n := len(d) &^ 7
+		eluAVX2(d[:n], s[:n])
+		d, s = d[n:], s[n:]
+	}
+	eluGo(d, s)
+}
+
+// eluGo is ELU's portable loop.
+func eluGo(d, s []float32) {
 	s = s[:len(d)]
 	for i, x := range s {
 		// Both branches are computed and one is kept by the sign bit: real
@@ -47,6 +57,16 @@ func eluBackwardRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	g := t.a[lo:hi]
 	y := t.b[lo:hi]
+	if activationAVX2 {
+		n := len(d) &^ 7
+		eluBackwardAVX2(d[:n], g[:n], y[:n])
+		d, g, y = d[n:], g[n:], y[n:]
+	}
+	eluBackwardGo(d, g, y)
+}
+
+// eluBackwardGo is ELUBackward's portable loop.
+func eluBackwardGo(d, g, y []float32) {
 	g = g[:len(d)]
 	y = y[:len(d)]
 	for i, v := range y {
@@ -87,11 +107,20 @@ func SigmoidScale(dst, src []float32, scale float32) {
 func sigmoidScaleRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	s := t.a[lo:hi]
+	if activationAVX2 {
+		n := len(d) &^ 7
+		sigmoidScaleAVX2(d[:n], s[:n], t.s)
+		d, s = d[n:], s[n:]
+	}
+	sigmoidScaleGo(d, s, t.s)
+}
+
+// sigmoidScaleGo is SigmoidScale's portable loop.
+func sigmoidScaleGo(d, s []float32, k float32) {
 	s = s[:len(d)]
-	k := t.s
 	for i, x := range s {
 		// e^−|x| never overflows; the sign bit picks 1/(1+e) or e/(1+e)
-		// without a branch (see eluRange).
+		// without a branch (see eluGo).
 		v := math.Float32frombits(math.Float32bits(x) | 1<<31) // −|x|
 		s, r := expReduce(v)
 		q := expPoly(r)

@@ -6,7 +6,24 @@ import (
 	"testing"
 )
 
+// activationPaths runs f with the Go loops and, where the CPU has them,
+// with the AVX2 loops.
+func activationPaths(t *testing.T, f func(t *testing.T)) {
+	saved := activationAVX2
+	defer func() { activationAVX2 = saved }()
+	activationAVX2 = false
+	t.Run("go", f)
+	if saved {
+		activationAVX2 = true
+		t.Run("avx2", f)
+	}
+}
+
 func TestActivationsAgainstTorch(t *testing.T) {
+	activationPaths(t, testActivationsAgainstTorch)
+}
+
+func testActivationsAgainstTorch(t *testing.T) {
 	for _, c := range loadOpsFixture(t, "activation.json") {
 		name := c.Op + " " + c.Input
 		y := make([]float32, len(c.X))
@@ -93,7 +110,52 @@ func TestExpNonPosAccuracy(t *testing.T) {
 	}
 }
 
-func TestActivationsNonFinite(t *testing.T) {
+// TestActivationsAVX2MatchesGo compares the two loops over every length up
+// to 40 (the SIMD body and the Go tail) and a wide range of values.
+func TestActivationsAVX2MatchesGo(t *testing.T) {
+	if !activationAVX2 {
+		t.Skip("no AVX2 loops on this CPU or build")
+	}
+	defer func() { activationAVX2 = true }()
+	x := opsRandom(1<<16, 30, 15)
+	copy(x, []float32{0, float32(math.Copysign(0, -1)), -87, -87.01, -86.99, -1e-30, 1e-30, -200, 200,
+		float32(math.NaN()), float32(math.Inf(1)), float32(math.Inf(-1)), -0.3466, -0.3467})
+	run := func(avx bool, f func(y, x []float32)) []float32 {
+		activationAVX2 = avx
+		y := make([]float32, len(x))
+		for n := 0; n <= 40; n++ {
+			f(y[:n], x[:n])
+		}
+		f(y[40:], x[40:])
+		return y
+	}
+	for _, k := range []struct {
+		name string
+		f    func(y, x []float32)
+	}{
+		{"ELU", ELU},
+		{"ELUBackward", func(y, x []float32) { ELUBackward(y, x[len(x)-len(y):], x) }},
+		{"Sigmoid", Sigmoid},
+		{"SigmoidScale", func(y, x []float32) { SigmoidScale(y, x, 0.3) }},
+	} {
+		g, a := run(false, k.f), run(true, k.f)
+		// The loops differ only by fused multiply-adds: within 2 float32 ulps
+		// (2^-22 relative) of each other, or 1e-38 absolute near zero.
+		for i := range g {
+			if g[i] == a[i] {
+				continue
+			}
+			if math.IsNaN(float64(g[i])) != math.IsNaN(float64(a[i])) ||
+				(!math.IsNaN(float64(g[i])) && !(math.Abs(float64(g[i]-a[i])) <= 0x1p-22*math.Abs(float64(g[i]))+1e-38)) {
+				t.Fatalf("%s(%v): Go %v, AVX2 %v", k.name, x[i], g[i], a[i])
+			}
+		}
+	}
+}
+
+func TestActivationsNonFinite(t *testing.T) { activationPaths(t, testActivationsNonFinite) }
+
+func testActivationsNonFinite(t *testing.T) {
 	// IEEE semantics (common practice): ELU(+Inf) = +Inf, ELU(−Inf) = −1,
 	// sigmoid(±Inf) = 1 or 0, NaN stays NaN.
 	nan := float32(math.NaN())
@@ -137,7 +199,9 @@ func TestActivationsFiniteDifferences(t *testing.T) {
 
 // TestActivationsLarge splits over cores and compares with float64
 // formulas (the textbook definitions, common practice).
-func TestActivationsLarge(t *testing.T) {
+func TestActivationsLarge(t *testing.T) { activationPaths(t, testActivationsLarge) }
+
+func testActivationsLarge(t *testing.T) {
 	const n = 1<<18 + 5
 	x := opsRandom(n, 4, 13)
 	gy := opsRandom(n, 1, 14)
