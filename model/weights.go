@@ -22,6 +22,10 @@ const (
 	FormatVersion = 1
 )
 
+// MaxFileSize bounds the size of a weights file that Load reads (the
+// default network takes under 4 MB as F32).
+const MaxFileSize = 1 << 31
+
 // Metadata keys of a weights file. Every value is a string, as safetensors
 // requires.
 const (
@@ -236,9 +240,22 @@ func (w *Weights) Save(path string, dtype DType) (err error) {
 // format or architecture version is unknown, or the tensors do not match
 // the architecture in the file's config.
 func Load(path string) (*Weights, error) {
-	b, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("model: %w", err)
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, fmt.Errorf("model: %w", err)
+	}
+	if st.Size() > MaxFileSize {
+		return nil, fmt.Errorf("model: %s has %d bytes, more than the limit of %d for a weights file", path, st.Size(), int64(MaxFileSize))
+	}
+	// Read at most one byte more than the size seen, in case the file grows.
+	b, err := io.ReadAll(io.LimitReader(f, st.Size()+1))
+	if err != nil {
+		return nil, fmt.Errorf("model: reading %s: %w", path, err)
 	}
 	w, err := Decode(b)
 	if err != nil {

@@ -408,3 +408,27 @@ func FuzzDecode(f *testing.F) {
 		}
 	})
 }
+
+func TestLoadRejectsHugeFile(t *testing.T) {
+	// A sparse file larger than MaxFileSize is refused before it is read.
+	path := filepath.Join(t.TempDir(), "huge.safetensors")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Truncate(MaxFileSize + 1); err != nil {
+		f.Close()
+		t.Skipf("cannot make a sparse file: %v", err)
+	}
+	f.Close()
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	_, err = Load(path)
+	runtime.ReadMemStats(&after)
+	if err == nil || !strings.Contains(err.Error(), "more than the limit") {
+		t.Fatalf("Load: %v", err)
+	}
+	if d := after.TotalAlloc - before.TotalAlloc; d > 1<<20 {
+		t.Errorf("refusing the file allocated %d bytes", d)
+	}
+}

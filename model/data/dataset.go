@@ -47,7 +47,8 @@ type Dataset struct {
 	// Dir is the folder.
 	Dir string
 	// Rig is the rig read from DIR/rig.json, or nil if there is none. It
-	// describes the stored image size.
+	// describes the stored image size; Rig.Scaled gives the rig at the
+	// loader's size.
 	Rig *depth.Rig
 	// Pairs, sorted by Name.
 	Pairs []Pair
