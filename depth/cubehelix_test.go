@@ -35,6 +35,13 @@ func TestCubehelixEndpoints(t *testing.T) {
 // equals λ^γ where nothing clips, so it is monotone. The default must not
 // clip at all.
 func TestCubehelixLuminance(t *testing.T) {
+	// The deviation directions (the cos and sin columns of the formula) have
+	// no brightness: that is what makes brightness equal λ^γ.
+	cosDir := 0.30*-0.14861 + 0.59*-0.29227 + 0.11*1.97294
+	sinDir := 0.30*1.78277 + 0.59*-0.90649 + 0.11*0
+	if math.Abs(cosDir) > 1e-5 || math.Abs(sinDir) > 1e-5 {
+		t.Fatalf("coefficients carry brightness %v, %v", cosDir, sinDir)
+	}
 	c := DefaultCubehelix
 	prev := -1.0
 	for i := 0; i <= 4096; i++ {
