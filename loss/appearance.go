@@ -102,14 +102,8 @@ func (k *AppearanceKernel) Eval(gradTarget, gradRecon, target, recon, mask []flo
 				if mrow != nil {
 					m = mrow[i]
 				}
-				diff := rc[i] - tg[i]
-				var g float32 // L1 gradient with respect to recon
-				ad := diff
-				if diff < 0 {
-					ad, g = -diff, -gL1*m
-				} else if diff > 0 {
-					g = gL1 * m
-				}
+				// g is the L1 gradient with respect to recon.
+				ad, g := absSign(rc[i]-tg[i], gL1*m)
 				e := beta * ad
 				if sm != nil {
 					d := (1 - sm[i]) / 2

@@ -57,10 +57,7 @@ func (k *ConsistencyKernel) term(gradSelf, gradOther, self, other []float32, s S
 	for i, m := range k.mask {
 		if m != 0 {
 			count++
-			e := self[i] - k.rec[i]
-			if e < 0 {
-				e = -e
-			}
+			e, _ := absSign(self[i]-k.rec[i], 0)
 			sum += float64(e)
 		}
 	}
@@ -72,14 +69,7 @@ func (k *ConsistencyKernel) term(gradSelf, gradOther, self, other []float32, s S
 	}
 	g := float32(1 / count)
 	for i, m := range k.mask {
-		var gi float32
-		if m != 0 {
-			if e := self[i] - k.rec[i]; e > 0 {
-				gi = g
-			} else if e < 0 {
-				gi = -g
-			}
-		}
+		_, gi := absSign(self[i]-k.rec[i], g*m)
 		k.gdst[i] = -gi
 		if gradSelf != nil {
 			gradSelf[i] += gi

@@ -102,20 +102,12 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 			for c := 0; c < s.C; c++ {
 				cur := im[c*plane+row : c*plane+row+s.W]
 				for x := 0; x+1 < len(cur); x++ {
-					v := cur[x+1] - cur[x]
-					if v < 0 {
-						v = -v
-					}
-					ex[x] += v
+					ex[x] += abs32(cur[x+1] - cur[x])
 				}
 				if y+1 < s.H {
 					nxt := im[c*plane+row+s.W : c*plane+row+2*s.W]
 					for x, v := range nxt {
-						v -= cur[x]
-						if v < 0 {
-							v = -v
-						}
-						ey[x] += v
+						ey[x] += abs32(v - cur[x])
 					}
 				}
 			}
@@ -123,20 +115,11 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 				j := row + x
 				w := expNeg(-ex[x] * invC)
 				dd := float64(d[j+1]-d[j]) * inv
-				if dd < 0 {
-					sumX -= dd * float64(w)
-					if g != nil {
-						g[j+1] -= w * kx
-						g[j] += w * kx
-					}
-				} else if dd > 0 {
-					sumX += dd * float64(w)
-					if g != nil {
-						g[j+1] += w * kx
-						g[j] -= w * kx
-					}
-				} else if dd != dd { // NaN propagates
-					sumX += dd
+				_, sw := absSign(float32(dd), w*kx)
+				sumX += math.Abs(dd) * float64(w)
+				if g != nil {
+					g[j+1] += sw
+					g[j] -= sw
 				}
 			}
 			if y+1 == s.H {
@@ -146,20 +129,11 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 				j := row + x
 				w := expNeg(-ey[x] * invC)
 				dd := float64(d[j+s.W]-d[j]) * inv
-				if dd < 0 {
-					sumY -= dd * float64(w)
-					if g != nil {
-						g[j+s.W] -= w * ky
-						g[j] += w * ky
-					}
-				} else if dd > 0 {
-					sumY += dd * float64(w)
-					if g != nil {
-						g[j+s.W] += w * ky
-						g[j] -= w * ky
-					}
-				} else if dd != dd {
-					sumY += dd
+				_, sw := absSign(float32(dd), w*ky)
+				sumY += math.Abs(dd) * float64(w)
+				if g != nil {
+					g[j+s.W] += sw
+					g[j] -= sw
 				}
 			}
 		}

@@ -2,6 +2,7 @@ package loss
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/parallaxdepth/parallax/warp"
 )
@@ -66,6 +67,24 @@ func grow(buf []float32, n int) []float32 {
 		return make([]float32, n)
 	}
 	return buf[:n]
+}
+
+// absSign returns |v| and sign(v)·w, with sign(0) = 0 (the subgradient
+// of |·| at 0). It works on the bits, since the sign of a residual is
+// unpredictable and a branch on it costs more than the arithmetic.
+func absSign(v, w float32) (abs, sw float32) {
+	b := math.Float32bits(v)
+	abs = math.Float32frombits(b &^ (1 << 31))
+	sw = math.Float32frombits(b&(1<<31) ^ math.Float32bits(w))
+	if v == 0 {
+		sw = 0
+	}
+	return abs, sw
+}
+
+// abs32 returns |v| by clearing the sign bit, without a branch.
+func abs32(v float32) float32 {
+	return math.Float32frombits(math.Float32bits(v) &^ (1 << 31))
 }
 
 func checkShape(name string, s Shape) {
