@@ -108,8 +108,10 @@ func TestMotorcycleReduced(t *testing.T) {
 	if got := disp.Valid(); got != w*h-12697 {
 		t.Errorf("%d valid disparities, want %d (+Inf must be invalid)", got, w*h-12697)
 	}
-	crop := motorcycleRig()
-	crop.Width = 740 // the last column was dropped; intrinsics unchanged
+	crop, err := motorcycleRig().Cropped(image.Rect(0, 0, 740, 500)) // the last column was dropped
+	if err != nil {
+		t.Fatal(err)
+	}
 	rig, err := crop.Scaled(370, 250)
 	if err != nil {
 		t.Fatal(err)

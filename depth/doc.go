@@ -37,15 +37,14 @@
 //     rows and byte order.
 //   - Errors. Functions that take data return errors whose text starts with
 //     "depth: "; nothing panics on values, sizes in a file header or corrupt
-//     files. Decoders bound their allocation (MaxSide, MaxPixels) and by the
-//     size of their input where the format allows. Save functions write
+//     files. Decoders bound their allocation by MaxSide and MaxPixels and,
+//     where the format allows, by the size of their input. Save functions write
 //     atomically: a temporary file in the same directory, synced, renamed.
 //
 // What is where:
 //
 //   - rig.go: Rig, its JSON file (ReadRig, LoadRig, Write, SaveRig),
-//     Validate, and Scaled for a resized image (a crop instead keeps the
-//     focal length and shifts Cx, Cy by the crop's origin).
+//     Validate, Scaled for resized images and Cropped for cropped ones.
 //   - convert.go: fraction ↔ pixels ↔ metres, for single values and maps
 //     (DepthFromPixels, DisparityToDepth, DepthMapFromFraction, …).
 //   - maps.go: Map, Disparity, Depth, Confidence; DisparityFromImage and

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"image"
 	"io"
 	"math"
 	"os"
@@ -273,4 +274,26 @@ func (r *Rig) Scaled(width, height int) (*Rig, error) {
 	s.Cx = (r.Cx+0.5)*sx - 0.5
 	s.Cy = (r.Cy+0.5)*sy - 0.5
 	return &s, nil
+}
+
+// Cropped returns the rig of both images cropped to rect, given in the
+// pixel coordinates of r's image: the size becomes rect's, the principal
+// point moves by −rect.Min, and focal lengths, Doffs (both views shift
+// alike), baseline and depth range stay. It returns an error if r is invalid
+// or rect is empty or not inside the image.
+func (r *Rig) Cropped(rect image.Rectangle) (*Rig, error) {
+	if err := r.Validate(); err != nil {
+		return nil, err
+	}
+	if rect.Empty() || !rect.In(image.Rect(0, 0, r.Width, r.Height)) {
+		return nil, fmt.Errorf("depth: Cropped: %v is empty or not inside the %dx%d image", rect, r.Width, r.Height)
+	}
+	c := *r
+	c.Width, c.Height = rect.Dx(), rect.Dy()
+	c.Cx -= float64(rect.Min.X)
+	c.Cy -= float64(rect.Min.Y)
+	if err := c.Validate(); err != nil {
+		return nil, err
+	}
+	return &c, nil
 }

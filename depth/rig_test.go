@@ -3,6 +3,7 @@ package depth
 import (
 	"bytes"
 	"flag"
+	"image"
 	"math"
 	"os"
 	"path/filepath"
@@ -174,5 +175,24 @@ func TestRigFile(t *testing.T) {
 	}
 	if *rig != *motorcycleRig() {
 		t.Errorf("%s holds %+v, want %+v", path, *rig, *motorcycleRig())
+	}
+}
+
+func TestRigCropped(t *testing.T) {
+	rig := motorcycleRig()
+	c, err := rig.Cropped(image.Rect(10, 20, 710, 420))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := *rig
+	want.Width, want.Height = 700, 400
+	want.Cx, want.Cy = 311.193-10, 254.877-20
+	if *c != want {
+		t.Errorf("Cropped = %+v, want %+v", *c, want)
+	}
+	for _, r := range []image.Rectangle{image.Rect(0, 0, 742, 500), image.Rect(5, 5, 5, 9), image.Rect(-1, 0, 10, 10)} {
+		if _, err := rig.Cropped(r); err == nil {
+			t.Errorf("Cropped(%v): no error", r)
+		}
 	}
 }
