@@ -252,8 +252,11 @@ func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c
 			dA2 := gj * a1 * inv
 			dB1 := gs * inv1
 			dB2 := gs * inv2
-			rmx[i] = 2*my*(dA1-dA2) + 2*mx*(dB1-dB2)
-			rmy[i] = 2*mx*(dA1-dA2) + 2*my*(dB1-dB2)
+			dA, dB := 2*(dA1-dA2), 2*(dB1-dB2)
+			if gx != nil {
+				rmx[i] = my*dA + mx*dB
+			}
+			rmy[i] = mx*dA + my*dB
 			rsq[i] = dB2
 			rxy[i] = 2 * dA2
 		}
