@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"strconv"
+	"strings"
 )
 
 // Op is the operation of one Layer.
@@ -315,4 +316,29 @@ func (a *Arch) Param(name string) (Param, bool) {
 		}
 	}
 	return Param{}, false
+}
+
+// Summary returns a table of the layers, one per line: name, operation
+// with its settings, inputs, output shape and parameter count, then the
+// total.
+func (a *Arch) Summary() string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%-12s %-26s %-24s %-11s %8s\n", "layer", "op", "inputs", "out", "params")
+	for _, l := range a.Layers {
+		op := l.Op.String()
+		params := 0
+		switch l.Op {
+		case OpConv:
+			op = fmt.Sprintf("conv%dx%d/%d %s %s", l.Kernel, l.Kernel, l.Stride, l.Padding, l.Act)
+			in, _ := a.Shape(l.Inputs[0])
+			params = l.Out.C*in.C*l.Kernel*l.Kernel + l.Out.C
+		case OpUpsample:
+			op = "upsample2x " + l.Mode.String()
+		case OpScale:
+			op = fmt.Sprintf("scale %g", l.Factor)
+		}
+		fmt.Fprintf(&b, "%-12s %-26s %-24s %-11s %8d\n", l.Name, op, strings.Join(l.Inputs, ","), l.Out, params)
+	}
+	fmt.Fprintf(&b, "total %d parameters\n", a.NumParams())
+	return b.String()
 }

@@ -202,3 +202,15 @@ func TestDMaxFromRig(t *testing.T) {
 		t.Error("nil rig accepted")
 	}
 }
+
+func TestSummary(t *testing.T) {
+	a, _ := Build(Config{})
+	s := a.Summary()
+	lines := strings.Split(strings.TrimSpace(s), "\n")
+	if len(lines) != len(a.Layers)+2 || !strings.HasSuffix(lines[len(lines)-1], "929352 parameters") {
+		t.Fatalf("summary has %d lines, last %q", len(lines), lines[len(lines)-1])
+	}
+	if !strings.Contains(s, "conv3x3/2 reflect elu") || !strings.Contains(s, "upsample2x bilinear") || !strings.Contains(s, "scale 0.3") {
+		t.Errorf("summary lacks settings:\n%s", s)
+	}
+}
