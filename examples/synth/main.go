@@ -33,26 +33,26 @@ func main() {
 	}
 	flag.Parse()
 	if err := run(*style, *n, *seed, *out, *width, *height, *samples, *workers, *quiet); err != nil {
-		fmt.Fprintln(os.Stderr, "synth:", err)
+		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)
 	}
 }
 
 func run(styleName string, n int, seed uint64, out string, width, height, samples, workers int, quiet bool) error {
 	if flag.NArg() > 0 {
-		return fmt.Errorf("unexpected argument %q (flags only; see -help)", flag.Arg(0))
+		return fmt.Errorf("synth: unexpected argument %q (flags only; see -help)", flag.Arg(0))
 	}
 	if out == "" {
-		return fmt.Errorf("-out DIR is required (see -help)")
+		return fmt.Errorf("synth: -out DIR is required (see -help)")
 	}
 	if n < 1 {
-		return fmt.Errorf("-n %d: want at least one pair", n)
+		return fmt.Errorf("synth: -n %d: want at least one pair", n)
 	}
 	if width < 2 || height < 1 {
-		return fmt.Errorf("-width %d -height %d: the image must be at least 2×1 pixels", width, height)
+		return fmt.Errorf("synth: -width %d -height %d: the image must be at least 2×1 pixels", width, height)
 	}
 	if workers < 1 {
-		return fmt.Errorf("-workers %d: want at least 1", workers)
+		return fmt.Errorf("synth: -workers %d: want at least 1", workers)
 	}
 	style, err := synth.ParseStyle(styleName)
 	if err != nil {
@@ -60,17 +60,18 @@ func run(styleName string, n int, seed uint64, out string, width, height, sample
 	}
 	start := time.Now()
 	last := time.Time{}
+	printed := false
 	opt := &synth.Options{Width: width, Height: height, Samples: samples, Workers: workers}
 	if !quiet {
 		opt.Progress = func(done, total int) {
 			if now := time.Now(); done == total || now.Sub(last) > 500*time.Millisecond {
-				last = now
+				last, printed = now, true
 				fmt.Fprintf(os.Stderr, "\r%s: %d/%d pairs, %.1fs", style, done, total, now.Sub(start).Seconds())
 			}
 		}
 	}
 	if err := synth.WriteDataset(out, style, seed, n, opt); err != nil {
-		if !quiet {
+		if printed {
 			fmt.Fprintln(os.Stderr)
 		}
 		return err
