@@ -95,7 +95,8 @@ func (r *Rig) DisparityToDepth(d *Disparity) (*Depth, error) {
 			if mask[x] == 0 {
 				continue
 			}
-			if zz, ok := r.DepthFromPixels(float64(v)); ok && zz <= math.MaxFloat32 {
+			// The float32 result must stay positive and finite too.
+			if zz, ok := r.DepthFromPixels(float64(v)); ok && zz <= math.MaxFloat32 && float32(zz) > 0 {
 				dst[x], dmask[x] = float32(zz), 1
 			}
 		}
@@ -125,7 +126,7 @@ func (r *Rig) DepthToDisparity(z *Depth) (*Disparity, error) {
 			if mask[x] == 0 {
 				continue
 			}
-			if px, ok := r.PixelsFromDepth(float64(v)); ok && px <= math.MaxFloat32 {
+			if px, ok := r.PixelsFromDepth(float64(v)); ok && px <= math.MaxFloat32 && float32(px) > 0 {
 				dst[x], dmask[x] = float32(px), 1
 			}
 		}

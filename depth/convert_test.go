@@ -232,6 +232,15 @@ func TestDisparityToDepthMap(t *testing.T) {
 			t.Errorf("round trip at %v: %v → %v", p, a, b)
 		}
 	}
+	// A depth below float32's range rounds to 0: invalid, not a valid 0.
+	tiny := &Rig{Width: 8, Height: 4, Focal: 1e-30, Baseline: 1e-30, Fx: 1e-30, Fy: 1, Cx: 3.5, Cy: 1.5, MaxDepth: 1}
+	zt, err := tiny.DisparityToDepth(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if v, ok := zt.At(2, 1); ok {
+		t.Errorf("a depth of 1e-61 m is valid as %v", v)
+	}
 	outside, _ := NewDisparity(image.Rect(0, 0, 9, 4))
 	if _, err := rig.DisparityToDepth(outside); err == nil {
 		t.Error("map wider than the rig's image: no error")
