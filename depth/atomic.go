@@ -46,5 +46,11 @@ func writeFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	if err = os.Rename(tmp, path); err != nil {
 		return fmt.Errorf("depth: writing %s: %w", path, err)
 	}
+	// Sync the directory so the rename itself survives a crash; not every
+	// file system supports it, so a failure here is not reported.
+	if d, derr := os.Open(dir); derr == nil {
+		d.Sync()
+		d.Close()
+	}
 	return nil
 }

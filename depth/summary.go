@@ -54,7 +54,8 @@ func (s *Summary) AddDisparity(name string, m DisparityMetrics) error {
 	return s.add(name, m.N, disparityColumns, []float64{m.EPE, m.Bad1, m.Bad2, m.Bad3})
 }
 
-// cells returns the header and rows as text, values with 4 decimals.
+// cells returns the header and rows as text, values with prec decimals
+// (−1: the fewest digits that read back exactly).
 func (s *Summary) cells(prec int) [][]string {
 	out := [][]string{append([]string{"name", "pixels"}, s.Columns...)}
 	for _, r := range s.Rows {
