@@ -247,3 +247,59 @@ func FuzzEvaluate(f *testing.F) {
 		}
 	})
 }
+
+// TestKernelPanicsOnMisuse: slice lengths that disagree with the shape are
+// a programmer's error and panic with a message naming the kernel.
+func TestKernelPanicsOnMisuse(t *testing.T) {
+	s := Shape{N: 1, C: 3, H: 4, W: 5}
+	img := make([]float32, 60)
+	short := make([]float32, 59)
+	disp := make([]float32, 20)
+	cases := map[string]func(){
+		"SSIM Forward":    func() { var k SSIMKernel; k.Forward(img, img, short, s) },
+		"SSIM Backward":   func() { var k SSIMKernel; k.Backward(img, img, img, img, img, s) },
+		"Appearance mask": func() { var k AppearanceKernel; k.Eval(nil, nil, img, img, short, s, 0.85) },
+		"Smoothness disp": func() { var k SmoothnessKernel; k.Eval(nil, short, img, s, true) },
+		"Consistency C":   func() { var k ConsistencyKernel; k.Eval(nil, nil, disp, disp, s, warp.Zero) },
+		"Objective grads": func() {
+			var o Objective
+			o.Eval(nil, make([]DispGrad, 2), []Scale{{Left: img, Right: img, DispL: disp, DispR: disp, Shape: s}})
+		},
+		"Objective shape":    func() { var o Objective; o.Eval(nil, nil, []Scale{{Left: img, Right: img, DispL: disp, DispR: disp}}) },
+		"Downsample too low": func() { Downsample2(disp, disp, Shape{N: 1, C: 1, H: 1, W: 20}) },
+	}
+	for name, f := range cases {
+		func() {
+			defer func() {
+				r := recover()
+				if msg, ok := r.(string); !ok || !strings.HasPrefix(msg, "loss.") {
+					t.Errorf("%s: recovered %v, want a panic message starting with \"loss.\"", name, r)
+				}
+			}()
+			f()
+		}()
+	}
+}
+
+// TestKernelsNoPanicOnValues: NaN and Inf flow through the kernels into
+// the result; they never panic.
+func TestKernelsNoPanicOnValues(t *testing.T) {
+	s := Shape{N: 1, C: 3, H: 4, W: 5}
+	img := make([]float32, 60)
+	disp := make([]float32, 20)
+	for i := range img {
+		img[i] = 0.5
+	}
+	for i := range disp {
+		disp[i] = 0.1
+	}
+	img[7] = float32(math.NaN())
+	disp[3] = float32(math.Inf(1))
+	disp[4] = float32(math.NaN())
+	var o Objective
+	g := []DispGrad{{DispL: make([]float32, 20), DispR: make([]float32, 20)}}
+	terms := o.Eval(nil, g, []Scale{{Left: img, Right: img, DispL: disp, DispR: disp, Shape: s}})
+	if !math.IsNaN(terms.Total) {
+		t.Errorf("total %v with NaN inputs, want NaN", terms.Total)
+	}
+}
