@@ -3,9 +3,11 @@ package cpu
 import "math"
 
 // ELU writes the exponential linear unit with alpha = 1 of src into dst:
-// x for x > 0, e^x − 1 otherwise. dst may be src (in place); otherwise they
-// must not overlap. NaN stays NaN. ELU does not allocate in steady state. It
-// panics if the lengths differ.
+// x for x > 0, e^x − 1 otherwise, within 2^-22 relative of the exact value
+// (about 2 float32 ulps). dst may be src (in place); otherwise they must not
+// overlap. NaN stays NaN. On amd64 with AVX2 and FMA the loop runs 8 values
+// at a time in assembly. ELU does not allocate in steady state. It panics if
+// the lengths differ.
 func ELU(dst, src []float32) {
 	opCheckLen("ELU", "src", src, len(dst))
 	t := opStart(eluRange)
@@ -33,9 +35,9 @@ func eluGo(d, s []float32) {
 		// more than the exponential.
 		neg := signMask(x)
 		v := math.Float32frombits(math.Float32bits(x) & neg) // min(x, 0)
-		s, r := expReduce(v)
+		sc, r := expReduce(v)
 		q := expPoly(r)
-		m := selectBits(^expInRange(v), -1, s*q+(s-1)) // expm1NonPos(v)
+		m := selectBits(^expInRange(v), -1, sc*q+(sc-1)) // expm1NonPos(v)
 		d[i] = selectBits(neg, m, x)
 	}
 }
@@ -122,9 +124,9 @@ func sigmoidScaleGo(d, s []float32, k float32) {
 		// e^−|x| never overflows; the sign bit picks 1/(1+e) or e/(1+e)
 		// without a branch (see eluGo).
 		v := math.Float32frombits(math.Float32bits(x) | 1<<31) // −|x|
-		s, r := expReduce(v)
+		sc, r := expReduce(v)
 		q := expPoly(r)
-		e := math.Float32frombits(math.Float32bits(s+s*q) & expInRange(v)) // expNonPos(v)
+		e := math.Float32frombits(math.Float32bits(sc+sc*q) & expInRange(v)) // expNonPos(v)
 		p := k / (1 + e)
 		d[i] = selectBits(signMask(x), e*p, p)
 	}

@@ -47,8 +47,30 @@ func upBilinearRows(t *opTask, lo, hi int) {
 // upBilinearRow writes into out (2·len(a) values) the horizontal 2×
 // upsampling of the row ¾·a + ¼·b.
 func upBilinearRow(out, a, b []float32) {
+	j := 0
+	if upsampleAVX2 && len(a) >= 10 {
+		// Columns 1 … k in assembly, 8 at a time; each block reads one
+		// column either side, so column 0 and the last one stay in Go.
+		k := (len(a) - 2) &^ 7
+		upBilinearRowAVX2(out[2:2+2*k], a[:k+2], b[:k+2])
+		m0 := 0.75*a[0] + 0.25*b[0]
+		out[0] = 0.75*m0 + 0.25*m0
+		out[1] = 0.75*m0 + 0.25*(0.75*a[1]+0.25*b[1])
+		j = k + 1
+	}
+	upBilinearCols(out[2*j:], a, b, j)
+}
+
+// upBilinearCols is upBilinearRow for the columns j0 … len(a)−1, writing
+// out[0:] for column j0 onwards.
+func upBilinearCols(out, a, b []float32, j0 int) {
+	b = b[:len(a)]
+	prev := 0.75*a[max(j0-1, 0)] + 0.25*b[max(j0-1, 0)]
+	a, b = a[j0:], b[j0:]
 	cur := 0.75*a[0] + 0.25*b[0]
-	prev := cur
+	if j0 == 0 {
+		prev = cur
+	}
 	// The loop walks out in pairs and a, b one by one by reslicing, and its
 	// condition covers every index, so the body has no bounds checks.
 	o := out

@@ -6,7 +6,22 @@ import (
 	"testing"
 )
 
-func TestUpsample2xAgainstTorch(t *testing.T) {
+// upsamplePaths runs f with the Go loops and, where the CPU has them,
+// with the AVX2 loops.
+func upsamplePaths(t *testing.T, f func(t *testing.T)) {
+	saved := upsampleAVX2
+	defer func() { upsampleAVX2 = saved }()
+	upsampleAVX2 = false
+	t.Run("go", f)
+	if saved {
+		upsampleAVX2 = true
+		t.Run("avx2", f)
+	}
+}
+
+func TestUpsample2xAgainstTorch(t *testing.T) { upsamplePaths(t, testUpsample2xAgainstTorch) }
+
+func testUpsample2xAgainstTorch(t *testing.T) {
 	for _, c := range loadOpsFixture(t, "upsample.json") {
 		n, ch, h, w := c.nchw()
 		name := fmt.Sprintf("%s %v", c.Op, c.Shape)
@@ -91,8 +106,15 @@ func naiveUpsampleBilinear2xBackward(g []float32, n, c, h, w int) []float32 {
 
 // TestUpsampleBilinear2xLarge runs a tensor big enough to be split over
 // cores and compares it with the direct formula.
-func TestUpsampleBilinear2xLarge(t *testing.T) {
-	for _, s := range []struct{ n, c, h, w int }{{2, 5, 37, 61}, {1, 3, 64, 128}} {
+func TestUpsampleBilinear2xLarge(t *testing.T) { upsamplePaths(t, testUpsampleBilinear2xLarge) }
+
+func testUpsampleBilinear2xLarge(t *testing.T) {
+	// Widths around the 8-column SIMD blocks, and decoder-sized planes.
+	shapes := []struct{ n, c, h, w int }{{2, 5, 37, 61}, {1, 3, 64, 128}}
+	for w := 1; w <= 27; w++ {
+		shapes = append(shapes, struct{ n, c, h, w int }{1, 1, 3, w})
+	}
+	for _, s := range shapes {
 		x := opsRandom(s.n*s.c*s.h*s.w, 1, 1)
 		g := opsRandom(4*len(x), 1, 2)
 		y := make([]float32, 4*len(x))
@@ -136,8 +158,10 @@ func TestUpsampleNearest2xLarge(t *testing.T) {
 	}
 }
 
-func TestUpsample2xFiniteDifferences(t *testing.T) {
-	for _, s := range []struct{ n, c, h, w int }{{1, 1, 1, 1}, {1, 2, 3, 4}, {2, 1, 5, 2}} {
+func TestUpsample2xFiniteDifferences(t *testing.T) { upsamplePaths(t, testUpsample2xFiniteDifferences) }
+
+func testUpsample2xFiniteDifferences(t *testing.T) {
+	for _, s := range []struct{ n, c, h, w int }{{1, 1, 1, 1}, {1, 2, 3, 4}, {2, 1, 5, 2}, {1, 1, 2, 19}} {
 		x := opsRandom(s.n*s.c*s.h*s.w, 1, 5)
 		gy := opsRandom(4*len(x), 1, 6)
 		grad := make([]float32, len(x))

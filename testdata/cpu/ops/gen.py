@@ -57,7 +57,7 @@ def write(name, cases):
 
 def upsample():
     cases = []
-    shapes = [(1, 1, 1, 1), (1, 1, 1, 4), (1, 1, 3, 1), (2, 3, 4, 5),
+    shapes = [(1, 1, 1, 1), (1, 1, 1, 4), (1, 1, 3, 1), (2, 3, 4, 5), (1, 2, 3, 21), (2, 1, 4, 40),
               (1, 2, 7, 3), (3, 1, 2, 9), (1, 1, 5, 6)]
     for mode in ("bilinear", "nearest"):
         for shape in shapes:
