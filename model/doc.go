@@ -78,6 +78,12 @@
 //	                they must agree with it
 //	provenance.KEY  free text about how the weights were made
 //
+// ReadSafetensors, WriteSafetensors, LoadSafetensors and SaveSafetensors
+// handle any safetensors file of F32 and F16 tensors, for programs that
+// store more than weights in one file (a training checkpoint adds solver
+// tensors and metadata keys): Weights.Tensors gives the weights' part and
+// WeightsFromTensors reads it back.
+//
 // Loading rejects, with an error naming the tensor or field, files that are
 // truncated, whose header length runs past the file, whose offsets overlap,
 // leave gaps or fall outside the data, whose dtypes are not F32 or F16,

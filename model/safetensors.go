@@ -47,15 +47,20 @@ const maxDims = 8
 
 const metadataKey = "__metadata__"
 
-// stTensor is one tensor of a safetensors file.
-type stTensor struct {
-	name   string
-	dtype  DType // as stored
-	shape  []int
-	data   []float32
-	begin  uint64
-	end    uint64
-	stored []byte // the raw bytes, aliasing the file buffer
+// Tensor is one named tensor of a safetensors file, held as float32.
+type Tensor struct {
+	// Name is the tensor's key in the header.
+	Name string
+	// Shape lists the dimensions, outermost first; empty for a scalar.
+	Shape []int
+	// Data holds the values row-major; its length is the product of Shape.
+	Data []float32
+	// DType is the storage type the tensor was read with. WriteSafetensors
+	// ignores it and stores every tensor with the dtype it is given.
+	DType DType
+
+	begin, end uint64
+	raw        []byte // the stored bytes, aliasing the file buffer
 }
 
 type stEntry struct {
@@ -64,8 +69,16 @@ type stEntry struct {
 	DataOffsets []json.Number `json:"data_offsets"`
 }
 
-// readSafetensors parses b. It allocates at most a small multiple of len(b).
-func readSafetensors(b []byte) (map[string]string, []stTensor, error) {
+// ReadSafetensors parses the bytes of a safetensors file and returns its
+// metadata (nil if the file has none) and its tensors in header order. It
+// accepts F32 and F16 tensors and returns an error naming the tensor or
+// field if the file is truncated, the header length runs past the file or
+// beyond 100 MiB, the header is not one JSON object or repeats a key, a
+// dtype is unsupported, a shape does not match its byte span, or the
+// tensors do not tile the data section exactly (overlaps, gaps, bytes out
+// of range or after the last tensor). Its allocation is a small multiple of
+// len(b), whatever the header claims.
+func ReadSafetensors(b []byte) (map[string]string, []Tensor, error) {
 	if len(b) < 8 {
 		return nil, nil, fmt.Errorf("model: weights file is truncated: %d bytes, the header length alone needs 8", len(b))
 	}
@@ -92,7 +105,7 @@ func readSafetensors(b []byte) (map[string]string, []stTensor, error) {
 		return nil, nil, fmt.Errorf("model: header: %v", err)
 	}
 	var meta map[string]string
-	var ts []stTensor
+	var ts []Tensor
 	seen := map[string]bool{}
 	for dec.More() {
 		tok, err := dec.Token()
@@ -148,13 +161,13 @@ func readSafetensors(b []byte) (map[string]string, []stTensor, error) {
 	for _, i := range order {
 		t := ts[i]
 		if t.begin < pos {
-			return nil, nil, fmt.Errorf("model: tensor %q (bytes %d–%d) overlaps tensor %q", t.name, t.begin, t.end, prev)
+			return nil, nil, fmt.Errorf("model: tensor %q (bytes %d–%d) overlaps tensor %q", t.Name, t.begin, t.end, prev)
 		}
 		if t.begin > pos {
-			return nil, nil, fmt.Errorf("model: data bytes %d–%d before tensor %q belong to no tensor", pos, t.begin, t.name)
+			return nil, nil, fmt.Errorf("model: data bytes %d–%d before tensor %q belong to no tensor", pos, t.begin, t.Name)
 		}
 		pos = t.end
-		prev = t.name
+		prev = t.Name
 	}
 	if pos != uint64(len(data)) {
 		return nil, nil, fmt.Errorf("model: data section has %d bytes but the tensors cover %d", len(data), pos)
@@ -162,25 +175,25 @@ func readSafetensors(b []byte) (map[string]string, []stTensor, error) {
 
 	for i := range ts {
 		t := &ts[i]
-		t.stored = data[t.begin:t.end:t.end]
-		t.data = make([]float32, (t.end-t.begin)/uint64(t.dtype.size()))
-		switch t.dtype {
+		t.raw = data[t.begin:t.end:t.end]
+		t.Data = make([]float32, (t.end-t.begin)/uint64(t.DType.size()))
+		switch t.DType {
 		case F32:
-			for k := range t.data {
-				t.data[k] = math.Float32frombits(binary.LittleEndian.Uint32(t.stored[4*k:]))
+			for k := range t.Data {
+				t.Data[k] = math.Float32frombits(binary.LittleEndian.Uint32(t.raw[4*k:]))
 			}
 		case F16:
-			for k := range t.data {
-				t.data[k] = Float16From(binary.LittleEndian.Uint16(t.stored[2*k:]))
+			for k := range t.Data {
+				t.Data[k] = Float16From(binary.LittleEndian.Uint16(t.raw[2*k:]))
 			}
 		}
 	}
 	return meta, ts, nil
 }
 
-func checkEntry(name string, e stEntry, dataLen uint64) (stTensor, error) {
-	t := stTensor{name: name, dtype: DType(e.Dtype)}
-	if t.dtype.size() == 0 {
+func checkEntry(name string, e stEntry, dataLen uint64) (Tensor, error) {
+	t := Tensor{Name: name, DType: DType(e.Dtype)}
+	if t.DType.size() == 0 {
 		if e.Dtype == "" {
 			return t, fmt.Errorf("model: tensor %q has no dtype", name)
 		}
@@ -203,7 +216,7 @@ func checkEntry(name string, e stEntry, dataLen uint64) (stTensor, error) {
 			return t, fmt.Errorf("model: tensor %q has shape %v, larger than the data section (%d bytes)", name, e.Shape, dataLen)
 		}
 		count = lo
-		t.shape = append(t.shape, int(d))
+		t.Shape = append(t.Shape, int(d))
 	}
 	if len(e.DataOffsets) != 2 {
 		return t, fmt.Errorf("model: tensor %q: data_offsets must hold 2 numbers, has %d", name, len(e.DataOffsets))
@@ -220,16 +233,19 @@ func checkEntry(name string, e stEntry, dataLen uint64) (stTensor, error) {
 	if t.begin > t.end || t.end > dataLen {
 		return t, fmt.Errorf("model: tensor %q has data offsets [%d, %d] outside the data section of %d bytes", name, t.begin, t.end, dataLen)
 	}
-	if want := count * uint64(t.dtype.size()); t.end-t.begin != want {
-		return t, fmt.Errorf("model: tensor %q: shape %v of %s needs %d bytes, its offsets span %d", name, t.shape, t.dtype, want, t.end-t.begin)
+	if want := count * uint64(t.DType.size()); t.end-t.begin != want {
+		return t, fmt.Errorf("model: tensor %q: shape %v of %s needs %d bytes, its offsets span %d", name, t.Shape, t.DType, want, t.end-t.begin)
 	}
 	return t, nil
 }
 
-// writeSafetensors writes meta and ts (in the given order) to w, storing
-// the values as dtype. The header is padded with spaces to a multiple of 8
-// bytes so that the data is aligned.
-func writeSafetensors(w io.Writer, meta map[string]string, ts []stTensor, dtype DType) error {
+// WriteSafetensors writes meta (which may be nil) and ts, in that order,
+// to w as a safetensors file, storing every value as dtype (F16 rounds to
+// nearest, ties to even). The header is padded with spaces to a multiple of
+// 8 bytes so that the data is aligned. It returns an error for an unknown
+// dtype, a repeated or reserved name, or a Data length that does not match
+// its Shape.
+func WriteSafetensors(w io.Writer, meta map[string]string, ts []Tensor, dtype DType) error {
 	size := dtype.size()
 	if size == 0 {
 		return fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
@@ -240,15 +256,25 @@ func writeSafetensors(w io.Writer, meta map[string]string, ts []stTensor, dtype 
 	}
 	var off uint64
 	for _, t := range ts {
-		if _, dup := header[t.name]; dup || t.name == metadataKey {
-			return fmt.Errorf("model: tensor name %q used twice or reserved", t.name)
+		if _, dup := header[t.Name]; dup || t.Name == metadataKey {
+			return fmt.Errorf("model: tensor name %q used twice or reserved", t.Name)
 		}
-		n := uint64(len(t.data) * size)
-		shape := t.shape
+		count := 1
+		for _, d := range t.Shape {
+			if d < 0 {
+				return fmt.Errorf("model: tensor %q has a negative dimension in %v", t.Name, t.Shape)
+			}
+			count *= d
+		}
+		if count != len(t.Data) {
+			return fmt.Errorf("model: tensor %q has %d values, shape %v needs %d", t.Name, len(t.Data), t.Shape, count)
+		}
+		n := uint64(len(t.Data) * size)
+		shape := t.Shape
 		if shape == nil {
 			shape = []int{}
 		}
-		header[t.name] = map[string]any{"dtype": string(dtype), "shape": shape, "data_offsets": [2]uint64{off, off + n}}
+		header[t.Name] = map[string]any{"dtype": string(dtype), "shape": shape, "data_offsets": [2]uint64{off, off + n}}
 		off += n
 	}
 	hb, err := json.Marshal(header)
@@ -268,7 +294,7 @@ func writeSafetensors(w io.Writer, meta map[string]string, ts []stTensor, dtype 
 	}
 	buf := make([]byte, 0, 1<<16)
 	for _, t := range ts {
-		for _, v := range t.data {
+		for _, v := range t.Data {
 			if dtype == F32 {
 				buf = binary.LittleEndian.AppendUint32(buf, math.Float32bits(v))
 			} else {
@@ -286,4 +312,31 @@ func writeSafetensors(w io.Writer, meta map[string]string, ts []stTensor, dtype 
 		return fmt.Errorf("model: writing weights: %w", err)
 	}
 	return nil
+}
+
+// SaveSafetensors writes meta and ts to the file path as WriteSafetensors
+// does, atomically: a temporary file in the same directory, synced, then
+// renamed over path. On error the old file, if any, is left unchanged.
+func SaveSafetensors(path string, meta map[string]string, ts []Tensor, dtype DType) error {
+	// Encode first so that bad tensors leave no temporary file behind.
+	var buf bytes.Buffer
+	if err := WriteSafetensors(&buf, meta, ts, dtype); err != nil {
+		return err
+	}
+	return writeFileAtomic(path, buf.Bytes())
+}
+
+// LoadSafetensors reads the safetensors file at path (see
+// ReadSafetensors). It refuses files larger than MaxFileSize before
+// reading them.
+func LoadSafetensors(path string) (map[string]string, []Tensor, error) {
+	b, err := readFileLimited(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	meta, ts, err := ReadSafetensors(b)
+	if err != nil {
+		return nil, nil, fmt.Errorf("%w (file %s)", err, path)
+	}
+	return meta, ts, nil
 }

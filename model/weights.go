@@ -1,15 +1,12 @@
 package model
 
 import (
-	"bufio"
 	"bytes"
 	"encoding/json"
 	"fmt"
 	"io"
 	"math"
 	"math/rand/v2"
-	"os"
-	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -21,10 +18,6 @@ const (
 	FormatName    = "parallax-weights"
 	FormatVersion = 1
 )
-
-// MaxFileSize bounds the size of a weights file that Load reads (the
-// default network takes under 4 MB as F32).
-const MaxFileSize = 1 << 31
 
 // Metadata keys of a weights file. Every value is a string, as safetensors
 // requires.
@@ -135,29 +128,46 @@ func (w *Weights) Encode(out io.Writer, dtype DType) error {
 	if dtype.size() == 0 {
 		return fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
 	}
-	a, err := w.Arch()
+	ts, meta, err := w.Tensors()
 	if err != nil {
 		return err
 	}
-	if err := w.check(a); err != nil {
-		return err
-	}
-	ts := make([]stTensor, len(a.Params))
-	for i, p := range a.Params {
-		ts[i] = stTensor{name: p.Name, shape: p.Shape, data: w.Params[p.Name]}
-		if dtype == F16 {
-			for k, v := range ts[i].data {
+	if dtype == F16 {
+		for _, t := range ts {
+			for k, v := range t.Data {
 				if math.Abs(float64(v)) > 65504 && math.IsInf(float64(Float16From(Float16Bits(v))), 0) {
-					return fmt.Errorf("model: parameter %q value %v at index %d overflows F16", p.Name, v, k)
+					return fmt.Errorf("model: parameter %q value %v at index %d overflows F16", t.Name, v, k)
 				}
 			}
 		}
 	}
+	return WriteSafetensors(out, meta, ts, dtype)
+}
+
+// Tensors returns the parameters of w as tensors in the order of
+// Arch.Params (sharing w's slices) and the metadata that describes them
+// (format, architecture, config, provenance; see the package
+// documentation), ready for WriteSafetensors. A program that stores more
+// than the weights in one file (a training checkpoint, say) adds its own
+// tensors and metadata keys and reads the weights back with
+// WeightsFromTensors. It returns an error if w does not pass Check.
+func (w *Weights) Tensors() ([]Tensor, map[string]string, error) {
+	a, err := w.Arch()
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := w.check(a); err != nil {
+		return nil, nil, err
+	}
+	ts := make([]Tensor, len(a.Params))
+	for i, p := range a.Params {
+		ts[i] = Tensor{Name: p.Name, Shape: p.Shape, Data: w.Params[p.Name]}
+	}
 	meta, err := w.metadata(a.Config)
 	if err != nil {
-		return err
+		return nil, nil, err
 	}
-	return writeSafetensors(out, meta, ts, dtype)
+	return ts, meta, nil
 }
 
 func (w *Weights) metadata(c Config) (map[string]string, error) {
@@ -187,51 +197,13 @@ func (w *Weights) metadata(c Config) (map[string]string, error) {
 // Save writes w to the file path atomically (a temporary file in the same
 // directory, synced, then renamed over path), storing values as dtype (see
 // Encode).
-func (w *Weights) Save(path string, dtype DType) (err error) {
+func (w *Weights) Save(path string, dtype DType) error {
 	// Encode first so that a bad w leaves no temporary file behind.
 	var buf bytes.Buffer
 	if err := w.Encode(&buf, dtype); err != nil {
 		return err
 	}
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return fmt.Errorf("model: saving weights: %w", err)
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	bw := bufio.NewWriter(f)
-	if _, err = buf.WriteTo(bw); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if err = bw.Flush(); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if err = os.Chmod(tmp, 0o644); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return fmt.Errorf("model: saving weights to %s: %w", path, err)
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync() // make the rename durable where the platform allows it
-		d.Close()
-	}
-	return nil
+	return writeFileAtomic(path, buf.Bytes())
 }
 
 // Load reads weights saved by Save (or written by any tool that follows the
@@ -240,22 +212,9 @@ func (w *Weights) Save(path string, dtype DType) (err error) {
 // format or architecture version is unknown, or the tensors do not match
 // the architecture in the file's config.
 func Load(path string) (*Weights, error) {
-	f, err := os.Open(path)
+	b, err := readFileLimited(path)
 	if err != nil {
-		return nil, fmt.Errorf("model: %w", err)
-	}
-	defer f.Close()
-	st, err := f.Stat()
-	if err != nil {
-		return nil, fmt.Errorf("model: %w", err)
-	}
-	if st.Size() > MaxFileSize {
-		return nil, fmt.Errorf("model: %s has %d bytes, more than the limit of %d for a weights file", path, st.Size(), int64(MaxFileSize))
-	}
-	// Read at most one byte more than the size seen, in case the file grows.
-	b, err := io.ReadAll(io.LimitReader(f, st.Size()+1))
-	if err != nil {
-		return nil, fmt.Errorf("model: reading %s: %w", path, err)
+		return nil, err
 	}
 	w, err := Decode(b)
 	if err != nil {
@@ -266,10 +225,20 @@ func Load(path string) (*Weights, error) {
 
 // Decode parses weights from the bytes of a weights file; see Load.
 func Decode(b []byte) (*Weights, error) {
-	meta, ts, err := readSafetensors(b)
+	meta, ts, err := ReadSafetensors(b)
 	if err != nil {
 		return nil, err
 	}
+	return WeightsFromTensors(meta, ts)
+}
+
+// WeightsFromTensors builds weights from the metadata and tensors of a
+// weights file (see Tensors). It keeps the tensors' Data slices. It returns
+// an error naming the field or tensor if the metadata is missing, of an
+// unknown format version or inconsistent, or if a tensor is missing,
+// unexpected, of the wrong shape or holds NaN or Inf. Extra metadata keys
+// are ignored.
+func WeightsFromTensors(meta map[string]string, ts []Tensor) (*Weights, error) {
 	c, err := configFromMetadata(meta)
 	if err != nil {
 		return nil, err
@@ -285,14 +254,17 @@ func Decode(b []byte) (*Weights, error) {
 		}
 	}
 	for _, t := range ts {
-		p, ok := a.Param(t.name)
+		p, ok := a.Param(t.Name)
 		if !ok {
-			return nil, fmt.Errorf("model: unexpected tensor %q: the architecture has no such parameter", t.name)
+			return nil, fmt.Errorf("model: unexpected tensor %q: the architecture has no such parameter", t.Name)
 		}
-		if !equalInts(p.Shape, t.shape) {
-			return nil, fmt.Errorf("model: tensor %q has shape %v, the architecture wants %v", t.name, t.shape, p.Shape)
+		if !equalInts(p.Shape, t.Shape) {
+			return nil, fmt.Errorf("model: tensor %q has shape %v, the architecture wants %v", t.Name, t.Shape, p.Shape)
 		}
-		w.Params[t.name] = t.data
+		if _, dup := w.Params[t.Name]; dup {
+			return nil, fmt.Errorf("model: tensor %q appears twice", t.Name)
+		}
+		w.Params[t.Name] = t.Data
 	}
 	for _, p := range a.Params {
 		if _, ok := w.Params[p.Name]; !ok {

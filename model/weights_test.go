@@ -126,14 +126,14 @@ func TestTorchFixture(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, ts, err := readSafetensors(b)
+	_, ts, err := ReadSafetensors(b)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, st := range ts {
-		for i, bits := range values["f32"][st.name] {
-			if got, want := Float16Bits(math.Float32frombits(bits)), binary.LittleEndian.Uint16(st.stored[2*i:]); got != want {
-				t.Fatalf("%s[%d]: Float16Bits = %#04x, torch .half() %#04x", st.name, i, got, want)
+		for i, bits := range values["f32"][st.Name] {
+			if got, want := Float16Bits(math.Float32frombits(bits)), binary.LittleEndian.Uint16(st.raw[2*i:]); got != want {
+				t.Fatalf("%s[%d]: Float16Bits = %#04x, torch .half() %#04x", st.Name, i, got, want)
 			}
 		}
 	}
@@ -172,14 +172,13 @@ func TestDecodeRejects(t *testing.T) {
 
 	// Files missing or adding a tensor are written whole, so that the data
 	// section stays tiled.
-	write := func(edit func(ts []stTensor) []stTensor) []byte {
-		m, _ := w.metadata(w.Config)
-		var ts []stTensor
-		for _, p := range a.Params {
-			ts = append(ts, stTensor{name: p.Name, shape: p.Shape, data: w.Params[p.Name]})
+	write := func(edit func(ts []Tensor) []Tensor) []byte {
+		ts, m, err := w.Tensors()
+		if err != nil {
+			t.Fatal(err)
 		}
 		var buf bytes.Buffer
-		if err := writeSafetensors(&buf, m, edit(ts), F32); err != nil {
+		if err := WriteSafetensors(&buf, m, edit(ts), F32); err != nil {
 			t.Fatal(err)
 		}
 		return buf.Bytes()
@@ -233,13 +232,13 @@ func TestDecodeRejects(t *testing.T) {
 			entry(h, first)["shape"] = []any{3, 4, 3, 3}
 			return nil
 		}), `tensor "enc1a.weight" has shape [3 4 3 3], the architecture wants [4 3 3 3]`},
-		{"missing tensor", write(func(ts []stTensor) []stTensor { return ts[1:] }), `tensor "enc1a.weight" is missing`},
-		{"unexpected tensor", write(func(ts []stTensor) []stTensor {
-			return append(ts, stTensor{name: "extra.weight", shape: []int{2}, data: []float32{1, 2}})
+		{"missing tensor", write(func(ts []Tensor) []Tensor { return ts[1:] }), `tensor "enc1a.weight" is missing`},
+		{"unexpected tensor", write(func(ts []Tensor) []Tensor {
+			return append(ts, Tensor{Name: "extra.weight", Shape: []int{2}, Data: []float32{1, 2}})
 		}), `unexpected tensor "extra.weight"`},
-		{"non-finite", write(func(ts []stTensor) []stTensor {
-			ts[1].data = append([]float32(nil), ts[1].data...)
-			ts[1].data[2] = float32(math.Inf(1))
+		{"non-finite", write(func(ts []Tensor) []Tensor {
+			ts[1].Data = append([]float32(nil), ts[1].Data...)
+			ts[1].Data[2] = float32(math.Inf(1))
 			return ts
 		}), `"enc1a.bias" has a non-finite value +Inf at index 2`},
 		{"format version", rewrite(t, good, func(h map[string]any) []byte {
@@ -430,5 +429,83 @@ func TestLoadRejectsHugeFile(t *testing.T) {
 	}
 	if d := after.TotalAlloc - before.TotalAlloc; d > 1<<20 {
 		t.Errorf("refusing the file allocated %d bytes", d)
+	}
+}
+
+func TestSafetensorsGeneric(t *testing.T) {
+	// A file holding more than weights (as a training checkpoint would):
+	// the weights' tensors and metadata plus tensors and keys of its own.
+	w := tinyWeights(t)
+	ts, meta, err := w.Tensors()
+	if err != nil {
+		t.Fatal(err)
+	}
+	meta["step"] = "1200"
+	extra := []Tensor{
+		{Name: "solver.step", Shape: []int{}, Data: []float32{1200}},
+		{Name: "solver.empty", Shape: []int{0, 3}, Data: []float32{}},
+		{Name: "solver.m/enc1a.bias", Shape: []int{4}, Data: []float32{1, -2, 3.5, 1e-30}},
+	}
+	path := filepath.Join(t.TempDir(), "ckpt.safetensors")
+	if err := SaveSafetensors(path, meta, append(append([]Tensor(nil), ts...), extra...), F32); err != nil {
+		t.Fatal(err)
+	}
+	gotMeta, got, err := LoadSafetensors(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if gotMeta["step"] != "1200" || len(got) != len(ts)+len(extra) {
+		t.Fatalf("metadata %v, %d tensors", gotMeta["step"], len(got))
+	}
+	var weights []Tensor
+	byName := map[string]Tensor{}
+	for _, g := range got {
+		byName[g.Name] = g
+		if g.DType != F32 {
+			t.Errorf("%s read as %s", g.Name, g.DType)
+		}
+		if !strings.HasPrefix(g.Name, "solver.") {
+			weights = append(weights, g)
+		}
+	}
+	for _, e := range extra {
+		g := byName[e.Name]
+		if !equalInts(g.Shape, e.Shape) || len(g.Data) != len(e.Data) {
+			t.Fatalf("%s: shape %v, %d values", e.Name, g.Shape, len(g.Data))
+		}
+		for i := range e.Data {
+			if g.Data[i] != e.Data[i] {
+				t.Fatalf("%s[%d] = %v, want %v", e.Name, i, g.Data[i], e.Data[i])
+			}
+		}
+	}
+	w2, err := WeightsFromTensors(gotMeta, weights)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w2.Params["head0.bias"][1] != w.Params["head0.bias"][1] {
+		t.Error("weights changed in the round trip")
+	}
+	if _, err := WeightsFromTensors(gotMeta, got); err == nil || !strings.Contains(err.Error(), `unexpected tensor "solver.`) {
+		t.Errorf("WeightsFromTensors with solver tensors: %v", err)
+	}
+	if _, err := WeightsFromTensors(gotMeta, append(weights, weights[0])); err == nil || !strings.Contains(err.Error(), "appears twice") {
+		t.Errorf("WeightsFromTensors with a repeated tensor: %v", err)
+	}
+	// Writing checks lengths and names.
+	for _, bad := range [][]Tensor{
+		{{Name: "a", Shape: []int{3}, Data: []float32{1, 2}}},
+		{{Name: "a", Shape: []int{1}, Data: []float32{1}}, {Name: "a", Shape: []int{1}, Data: []float32{1}}},
+		{{Name: metadataKey, Shape: []int{1}, Data: []float32{1}}},
+		{{Name: "a", Shape: []int{-1}, Data: nil}},
+	} {
+		if err := SaveSafetensors(path, nil, bad, F16); err == nil || !strings.HasPrefix(err.Error(), "model: ") {
+			t.Errorf("SaveSafetensors(%v) = %v", bad, err)
+		}
+	}
+	// The torch fixture reads with its stored dtype.
+	_, ft, err := LoadSafetensors(filepath.Join("..", "testdata", "model", "tiny_f16.safetensors"))
+	if err != nil || ft[0].DType != F16 {
+		t.Fatalf("F16 fixture: %v", err)
 	}
 }
