@@ -51,7 +51,7 @@ func WritePNG16(w io.Writer, d *Depth) (dropped int, err error) {
 		return 0, err
 	}
 	img, dropped := d.Gray16()
-	if err := png.Encode(w, img); err != nil {
+	if err := encodeGray16(w, img); err != nil {
 		return 0, fmt.Errorf("depth: writing PNG: %w", err)
 	}
 	return dropped, nil
