@@ -2,34 +2,6 @@ package loss
 
 import "math"
 
-// expNeg returns e^x for x ≤ 0 in float32, with a relative error below
-// 3e-7 (checked against math.Exp in the tests): x = k·ln2 + r with
-// |r| ≤ ln2/2 (k rounded to nearest), a degree-6 Taylor polynomial for e^r, and 2^k set in the
-// exponent bits. It is the edge weight of the smoothness term, where
-// math.Exp was the largest cost. Positive x and NaN go to math.Exp.
-func expNeg(x float32) float32 {
-	if !(x <= 0) {
-		return float32(math.Exp(float64(x)))
-	}
-	if x < -87 {
-		return 0 // below the smallest normal float32 (and -Inf)
-	}
-	const (
-		log2e = 1.44269504088896341
-		ln2hi = 0.693359375 // ln 2 split so that k·ln2hi is exact
-		ln2lo = -2.12194440e-4
-	)
-	// Adding 1.5·2²³ rounds x·log2(e) to the nearest integer k, read back
-	// from the low mantissa bits (|x·log2 e| < 126 fits).
-	const magic = 12582912
-	t := x*log2e + magic
-	ki := int32(math.Float32bits(t)) - 0x4B400000
-	k := t - magic
-	r := x - k*ln2hi - k*ln2lo
-	p := 1 + r*(1+r*(1.0/2+r*(1.0/6+r*(1.0/24+r*(1.0/120+r*(1.0/720))))))
-	return p * math.Float32frombits(uint32(ki+127)<<23)
-}
-
 // SmoothnessMeanEpsilon is added to the per-image mean disparity before
 // dividing by it, so that a zero mean does not divide by zero.
 const SmoothnessMeanEpsilon = 1e-7
@@ -152,4 +124,33 @@ func (k *SmoothnessKernel) Eval(gradDisp, disp, img []float32, s Shape, normaliz
 		}
 	}
 	return sumX*float64(kx) + sumY*float64(ky)
+}
+
+// expNeg returns e^x for x ≤ 0 in float32, with a relative error below
+// 3e-7 (checked against math.Exp in the tests): x = k·ln2 + r with k
+// rounded to nearest and |r| ≤ ln2/2, a degree-6 Taylor polynomial for e^r,
+// and 2^k set in the exponent bits. It computes the smoothness term's edge
+// weights, where math.Exp was the largest cost. Positive x and NaN go to
+// math.Exp.
+func expNeg(x float32) float32 {
+	if !(x <= 0) {
+		return float32(math.Exp(float64(x)))
+	}
+	if x < -87 {
+		return 0 // below the smallest normal float32 (and -Inf)
+	}
+	const (
+		log2e = 1.44269504088896341
+		ln2hi = 0.693359375 // ln 2 split so that k·ln2hi is exact
+		ln2lo = -2.12194440e-4
+	)
+	// Adding 1.5·2²³ rounds x·log2(e) to the nearest integer k, read back
+	// from the low mantissa bits (|x·log2 e| < 126 fits).
+	const magic = 12582912
+	t := x*log2e + magic
+	ki := int32(math.Float32bits(t)) - 0x4B400000
+	k := t - magic
+	r := x - k*ln2hi - k*ln2lo
+	p := 1 + r*(1+r*(1.0/2+r*(1.0/6+r*(1.0/24+r*(1.0/120+r*(1.0/720))))))
+	return p * math.Float32frombits(uint32(ki+127)<<23)
 }
