@@ -1,0 +1,259 @@
+package train
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/planar"
+	G "gorgonia.org/gorgonia"
+)
+
+// tinyConfig is the smallest instance of the architecture (inputs must be
+// at least 64 pixels a side), with narrow layers so tests run fast.
+var tinyConfig = model.Config{Width: 64, Height: 64, Encoder: []int{4, 4, 6, 6, 8}, Decoder: []int{4, 4, 4, 6, 6}}
+
+func randomImage(rng *rand.Rand, n, c, h, w int) *planar.Image {
+	im := planar.New(n, c, h, w)
+	copy(im.Pix, uniform(rng, len(im.Pix), 0, 1))
+	return im
+}
+
+// The graph built from the architecture computes what the graph-free
+// forward pass of package model computes (both walk Arch.Layers with the
+// cpu kernels; the graph fuses each sigmoid head with its d_max scale, so
+// values may differ by float rounding).
+func TestNetworkMatchesGraphFreeForward(t *testing.T) {
+	const batch = 2
+	w, err := model.NewWeights(tinyConfig, 11)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, v := range w.Params { // non-zero biases too
+		for i := range v {
+			v[i] += float32(0.05 * rng.NormFloat64())
+		}
+	}
+	img := randomImage(rng, batch, 3, 64, 64)
+	ref, err := model.NewNet(w, batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := ref.Forward(img)
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	g := G.NewGraph()
+	net, err := BuildNetwork(g, ref.Arch(), batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := net.SetWeights(w); err != nil {
+		t.Fatal(err)
+	}
+	if err := net.SetInput(img); err != nil {
+		t.Fatal(err)
+	}
+	for _, l := range ref.Arch().Layers { // every layer is a node of its name, or fused
+		if net.Node(l.Name) == nil && net.Node(l.Name+".pre") == nil {
+			t.Errorf("layer %q has no node", l.Name)
+		}
+	}
+	vm := G.NewTapeMachine(g)
+	defer vm.Close()
+	if err := vm.RunAll(); err != nil {
+		t.Fatal(err)
+	}
+	for s := range model.Scales {
+		got := net.Outputs[s].Value().Data().([]float32)
+		if d := maxDiff(got, want[s].Pix); d > 1e-5 {
+			t.Errorf("scale %d: max |graph − model.Net| = %g, want ≤ 1e-5", s, d)
+		} else {
+			t.Logf("scale %d: max |graph − model.Net| = %.3g", s, d)
+		}
+	}
+	// Intermediate tensors agree too.
+	for _, name := range []string{"enc1a", "enc5b", "dec4.cat", "dec0"} {
+		got := net.Node(name).Value().Data().([]float32)
+		if d := maxDiff(got, ref.Tensor(name)); d > 1e-5 {
+			t.Errorf("%s: max difference %g", name, d)
+		}
+	}
+}
+
+// The training graph's disparities (the objective's copies) equal the
+// graph-free forward's, and the whole network's parameter gradients match
+// finite differences of the objective on a few sampled parameters.
+func TestSessionGradients(t *testing.T) {
+	const batch = 1
+	w, err := model.NewWeights(tinyConfig, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	left, right := smoothPair(batch, 64, 64, 3)
+	s, err := NewSession(w, batch, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	ref, err := model.NewNet(w, batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := ref.Forward(left)
+	if err != nil {
+		t.Fatal(err)
+	}
+	terms, err := s.Forward(left, right)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(terms.Total > 0) || math.Abs(terms.Appearance+terms.Smoothness+terms.Consistency-terms.Total) > 1e-9 {
+		t.Errorf("terms %+v do not add up to a positive total", terms)
+	}
+	for sc := range model.Scales {
+		dl, dr := s.Objective.Disparity(sc)
+		hw := len(dl)
+		if d := math.Max(maxDiff(dl, want[sc].Pix[:hw]), maxDiff(dr, want[sc].Pix[hw:])); d > 1e-5 {
+			t.Errorf("scale %d: objective saw disparities %g away from model.Net's", sc, d)
+		}
+	}
+	analytic := map[string][]float32{}
+	for _, n := range s.Net.Params {
+		g, err := n.Grad()
+		if err != nil {
+			t.Fatalf("%s: %v", n.Name(), err)
+		}
+		analytic[n.Name()] = append([]float32(nil), g.Data().([]float32)...)
+	}
+	s.ClearGradients()
+	cost := func() float64 {
+		t.Helper()
+		tm, err := s.Forward(left, right)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s.ClearGradients()
+		return tm.Total
+	}
+	// The objective is only piecewise smooth (bilinear sampling, |·|), so
+	// finite differences of it through the whole network are dominated by
+	// kinks (TestNetworkGradients checks the network with a smooth cost).
+	// Here: a small step against the gradient lowers the loss, along it
+	// raises it.
+	var g2 float64
+	for _, ga := range analytic {
+		for _, v := range ga {
+			g2 += float64(v) * float64(v)
+		}
+	}
+	eps := 1e-3 / math.Sqrt(g2)
+	shift := func(k float64) {
+		for name, v := range s.Net.params {
+			for i, gv := range analytic[name] {
+				v[i] += float32(k * eps * float64(gv))
+			}
+		}
+	}
+	orig := s.Weights()
+	shift(1)
+	fp := cost()
+	if err := s.Net.SetWeights(orig); err != nil {
+		t.Fatal(err)
+	}
+	shift(-1)
+	fm := cost()
+	if err := s.Net.SetWeights(orig); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("loss %.6f, after a step of 1e-3 against the gradient %.6f, along it %.6f", terms.Total, fm, fp)
+	if fm >= terms.Total || fp <= terms.Total {
+		t.Errorf("a step against the gradient does not lower the loss: %g, %g, %g", fm, terms.Total, fp)
+	}
+}
+
+// TestNetworkGradients checks the gradient of every parameter tensor of the
+// whole network, through gorgonia's TapeMachine, with a smooth cost (a
+// random linear probe of disp0, which depends on every layer): the central
+// directional derivative along the tensor's own gradient must equal
+// |gradient|² (a wrong or lost gradient term changes one side).
+func TestNetworkGradients(t *testing.T) {
+	w, err := model.NewWeights(tinyConfig, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := w.Arch()
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := G.NewGraph()
+	net, err := BuildNetwork(g, a, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := net.SetWeights(w); err != nil {
+		t.Fatal(err)
+	}
+	left, _ := smoothPair(2, 64, 64, 3)
+	if err := net.SetInput(left); err != nil {
+		t.Fatal(err)
+	}
+	p, err := newProbe(net.Outputs[0], rand.New(rand.NewPCG(1, 2)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := G.Grad(p.node, net.Params...); err != nil {
+		t.Fatal(err)
+	}
+	vm := G.NewTapeMachine(g, G.BindDualValues(net.Params...))
+	defer vm.Close()
+	cost := func() float64 {
+		if err := vm.RunAll(); err != nil {
+			t.Fatal(err)
+		}
+		vm.Reset()
+		return p.value
+	}
+	cost()
+	analytic := map[string][]float32{}
+	for _, n := range net.Params {
+		gv, err := n.Grad()
+		if err != nil {
+			t.Fatalf("%s: %v", n.Name(), err)
+		}
+		d := gv.Data().([]float32)
+		analytic[n.Name()] = append([]float32(nil), d...)
+		clear(d)
+	}
+	for _, pp := range a.Params {
+		ga := analytic[pp.Name]
+		var g2 float64
+		for _, v := range ga {
+			g2 += float64(v) * float64(v)
+		}
+		if !(g2 > 0) {
+			t.Errorf("%s: gradient is zero", pp.Name)
+			continue
+		}
+		v := net.params[pp.Name]
+		orig := append([]float32(nil), v...)
+		eps := 3e-3 / math.Sqrt(g2)
+		for i := range v {
+			v[i] = orig[i] + float32(eps*float64(ga[i]))
+		}
+		fp := cost()
+		for i := range v {
+			v[i] = orig[i] - float32(eps*float64(ga[i]))
+		}
+		fm := cost()
+		copy(v, orig)
+		// 2% for curvature, 1e-5 for float32 rounding of the network (it
+		// matters for the heads' biases, whose |gradient|² is ~1e-5).
+		if num := (fp - fm) / (2 * eps); math.Abs(num-g2) > 0.02*g2+1e-5 {
+			t.Errorf("%s: directional derivative %.4g, |gradient|² %.4g", pp.Name, num, g2)
+		}
+	}
+}
