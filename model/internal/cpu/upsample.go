@@ -129,17 +129,39 @@ func upBilinearBackwardRows(t *opTask, lo, hi int) {
 // g[j] = ¾·(s[2j]+s[2j+1]) + ¼·(s[2j−1]+s[2j+2]), with the edge columns
 // standing in for s[−1] and s[2w].
 func upBilinearBackwardRow(g, r0, r1, ru, rd []float32) {
+	j := 0
+	if upsampleAVX2 && len(g) >= 10 {
+		// Columns 1 … k in assembly, 8 at a time; column 0 and the last
+		// ones stay in Go (each block reads one column pair either side).
+		k := (len(g) - 2) &^ 7
+		upBilinearBackRowAVX2(g[1:1+k], r0, r1, ru, rd)
+		j = k + 1
+		upBilinearBackCols(g[:1], r0, r1, ru, rd, 0)
+	}
+	upBilinearBackCols(g[j:], r0, r1, ru, rd, j)
+}
+
+// upBilinearBackCols is upBilinearBackwardRow for the columns j0 onwards,
+// writing g[0:] for column j0; g may end before the row does.
+func upBilinearBackCols(g, r0, r1, ru, rd []float32, j0 int) {
+	col := func(k int) float32 { return 0.75*(r0[k]+r1[k]) + 0.25*(ru[k]+rd[k]) }
+	left := col(max(2*j0-1, 0))
+	r0, r1, ru, rd = r0[2*j0:], r1[2*j0:], ru[2*j0:], rd[2*j0:]
 	s0 := 0.75*(r0[0]+r1[0]) + 0.25*(ru[0]+rd[0])
-	left := s0
-	for len(g) > 1 && len(r0) > 2 && len(r1) > 2 && len(ru) > 2 && len(rd) > 2 {
+	if j0 == 0 {
+		left = s0
+	}
+	for len(g) > 0 && len(r0) > 2 && len(r1) > 2 && len(ru) > 2 && len(rd) > 2 {
 		s1 := 0.75*(r0[1]+r1[1]) + 0.25*(ru[1]+rd[1])
 		s2 := 0.75*(r0[2]+r1[2]) + 0.25*(ru[2]+rd[2])
 		g[0] = 0.75*(s0+s1) + 0.25*(left+s2)
 		left, s0 = s1, s2
 		g, r0, r1, ru, rd = g[1:], r0[2:], r1[2:], ru[2:], rd[2:]
 	}
-	s1 := 0.75*(r0[1]+r1[1]) + 0.25*(ru[1]+rd[1])
-	g[0] = 0.75*(s0+s1) + 0.25*(left+s1)
+	if len(g) > 0 { // the last column: its right neighbour is itself
+		s1 := 0.75*(r0[1]+r1[1]) + 0.25*(ru[1]+rd[1])
+		g[0] = 0.75*(s0+s1) + 0.25*(left+s1)
+	}
 }
 
 // UpsampleNearest2x writes into dst (shape (n, c, 2h, 2w)) the nearest 2×

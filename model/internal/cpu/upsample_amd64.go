@@ -16,3 +16,11 @@ var upsampleAVX2 = cpu.X86.HasAVX2 && cpu.X86.HasFMA
 //
 //go:noescape
 func upBilinearRowAVX2(out, a, b []float32)
+
+// upBilinearBackRowAVX2 writes g[j−1] for the input columns j = 1 …
+// len(g), 8 at a time, of upBilinearBackwardRow over the output rows r0, r1,
+// ru, rd (passed from column 0). len(g) must be a multiple of 8 and the
+// rows at least 2·len(g) + 4 long.
+//
+//go:noescape
+func upBilinearBackRowAVX2(g, r0, r1, ru, rd []float32)

@@ -47,3 +47,59 @@ upLoop:
 
 upDone:
 	RET
+
+// COLSUM computes s = ¾·(r0+r1) + ¼·(ru+rd) of the 8 output columns at
+// byte offset off (plus 8·CX) into reg, using Y10.
+#define COLSUM(off, reg) \
+	VMOVUPS off(R8)(CX*8), Y10 \
+	VADDPS off(R9)(CX*8), Y10, Y10 \
+	VMOVUPS off(R10)(CX*8), reg \
+	VADDPS off(R11)(CX*8), reg, reg \
+	VMULPS Y15, reg, reg \
+	VFMADD231PS Y14, Y10, reg
+
+// EVEN and ODD gather the even or odd elements of the 16 values lo, hi.
+#define EVEN(lo, hi, reg) \
+	VSHUFPS $0x88, hi, lo, reg \
+	VPERMPD $0xD8, reg, reg
+#define ODD(lo, hi, reg) \
+	VSHUFPS $0xDD, hi, lo, reg \
+	VPERMPD $0xD8, reg, reg
+
+// func upBilinearBackRowAVX2(g, r0, r1, ru, rd []float32)
+TEXT ·upBilinearBackRowAVX2(SB), NOSPLIT, $0-120
+	MOVQ g_base+0(FP), DI
+	MOVQ g_len+8(FP), DX
+	MOVQ r0_base+24(FP), R8
+	MOVQ r1_base+48(FP), R9
+	MOVQ ru_base+72(FP), R10
+	MOVQ rd_base+96(FP), R11
+	TESTQ DX, DX
+	JZ   upBackDone
+	VBROADCASTSS upConst<>+0(SB), Y14
+	VBROADCASTSS upConst<>+4(SB), Y15
+	XORQ CX, CX                 // column j−1, from 0
+
+upBackLoop:
+	COLSUM(0, Y0)               // s[2j−2 …]
+	COLSUM(32, Y1)
+	COLSUM(8, Y2)               // s[2j …]
+	COLSUM(40, Y3)
+	COLSUM(16, Y4)              // s[2j+2 …]
+	COLSUM(48, Y5)
+	ODD(Y0, Y1, Y6)             // s[2j−1]
+	EVEN(Y2, Y3, Y7)            // s[2j]
+	ODD(Y2, Y3, Y8)             // s[2j+1]
+	EVEN(Y4, Y5, Y9)            // s[2j+2]
+	VADDPS Y8, Y7, Y7
+	VADDPS Y9, Y6, Y6
+	VMULPS Y15, Y6, Y6
+	VFMADD231PS Y14, Y7, Y6     // ¾·(s[2j]+s[2j+1]) + ¼·(s[2j−1]+s[2j+2])
+	VMOVUPS Y6, (DI)(CX*4)
+	ADDQ $8, CX
+	CMPQ CX, DX
+	JLT  upBackLoop
+	VZEROUPPER
+
+upBackDone:
+	RET
