@@ -3,7 +3,6 @@ package cpu
 import (
 	"fmt"
 	"runtime"
-	"sync"
 )
 
 // Block sizes of the GEMM driver, in elements. A kc×nr panel of B and an
@@ -50,7 +49,12 @@ func Sgemm(transA, transB bool, m, n, k int, a []float32, lda int, b []float32, 
 		}
 		return
 	}
-	s := sgemmPool.Get().(*sgemmCall)
+	var s *sgemmCall
+	select {
+	case s = <-freeSgemm:
+	default:
+		s = new(sgemmCall)
+	}
 	op := &s.op
 	op.m, op.n, op.k = m, n, k
 	op.a, op.b = &s.pa, &s.pb
@@ -58,9 +62,22 @@ func Sgemm(transA, transB bool, m, n, k int, a []float32, lda int, b []float32, 
 	op.ci0, op.cj0 = 0, 0
 	s.pa = matrixPacker{data: a, ld: lda, trans: transA, rows: m, cols: k}
 	s.pb = matrixPacker{data: b, ld: ldb, trans: !transB, rows: n, cols: k}
+	// Pack all of A once, shared by the goroutines, when it is reused by
+	// more than one column stripe.
+	op.apackAll = nil
+	if n > blockN {
+		mpad := (m + kern.mr - 1) / kern.mr * kern.mr
+		if cap(s.apack) < mpad*k {
+			s.apack = make([]float32, mpad*k)
+		}
+		op.apackAll = s.apack[:mpad*k]
+	}
 	s.op.run(&s.set)
-	s.pa, s.pb, s.op.c = matrixPacker{}, matrixPacker{}, nil
-	sgemmPool.Put(s)
+	s.pa, s.pb, s.op.c, s.op.apackAll = matrixPacker{}, matrixPacker{}, nil, nil
+	select {
+	case freeSgemm <- s:
+	default:
+	}
 }
 
 func checkMatrix(name string, x []float32, rows, cols, ld int) {
@@ -79,9 +96,12 @@ type sgemmCall struct {
 	op     gemmOp
 	pa, pb matrixPacker
 	set    workspaceSet
+	apack  []float32
 }
 
-var sgemmPool = sync.Pool{New: func() any { return new(sgemmCall) }}
+// freeSgemm recycles call state, workspaces included, between Sgemm calls;
+// a channel never drops its contents, unlike sync.Pool.
+var freeSgemm = make(chan *sgemmCall, 8)
 
 // packer packs panels of one GEMM operand. The operand is seen as a
 // rows×cols matrix whose cols run along the reduction dimension k: A is
@@ -115,6 +135,23 @@ func (p *matrixPacker) pack(dst []float32, w, r0, nr, k0, kc int) {
 		}
 		return
 	}
+	if nr == 8 && w == 8 {
+		ld := p.ld
+		base := r0*ld + k0
+		r := p.data[base : base+7*ld+kc]
+		for kk := range kc {
+			o := d[kk*8 : kk*8+8 : kk*8+8]
+			o[0] = r[kk]
+			o[1] = r[ld+kk]
+			o[2] = r[2*ld+kk]
+			o[3] = r[3*ld+kk]
+			o[4] = r[4*ld+kk]
+			o[5] = r[5*ld+kk]
+			o[6] = r[6*ld+kk]
+			o[7] = r[7*ld+kk]
+		}
+		return
+	}
 	if nr < w {
 		clear(d)
 	}
@@ -140,10 +177,38 @@ type gemmOp struct {
 	// once the full product is in place.
 	rowBias []float32
 
+	// apackAll, if not nil, receives all of A packed before the product
+	// starts (mpad·k values, mpad = m rounded up to mr): pass pc of the k
+	// split starts at pc·mpad and holds mpad/mr panels of kc×mr.
+	apackAll []float32
+
 	// run state
 	tilesN int
 	set    *workspaceSet
 	fn     func(lo, hi int)
+	packFn func(lo, hi int)
+	passes int
+	step   int
+}
+
+// kSplit returns how ws.gemm splits [0, k) into passes: the number of
+// passes and the length of all but the last.
+func kSplit(k int) (passes, step int) {
+	passes = (k + blockK - 1) / blockK
+	return passes, (k + passes - 1) / passes
+}
+
+// prepack packs A micro-panels [lo, hi) of op.apackAll, numbered pass by
+// pass.
+func (op *gemmOp) prepack(lo, hi int) {
+	mr := kern.mr
+	panels := (op.m + mr - 1) / mr
+	mpad := panels * mr
+	for t := lo; t < hi; t++ {
+		p, ir := t/panels*op.step, t%panels*mr
+		kc := min(op.step, op.k-p)
+		op.a.pack(op.apackAll[p*mpad+ir*kc:], mr, ir, min(mr, op.m-ir), p, kc)
+	}
 }
 
 // run computes the product, splitting it into column stripes over
@@ -153,6 +218,13 @@ func (op *gemmOp) run(set *workspaceSet) {
 	op.set = set
 	if op.fn == nil {
 		op.fn = op.stripes
+		op.packFn = op.prepack
+	}
+	if op.apackAll != nil {
+		var passes int
+		passes, op.step = kSplit(op.k)
+		panels := (op.m + kern.mr - 1) / kern.mr
+		ParallelFor(passes*panels, max(1, passes*panels/(8*runtime.GOMAXPROCS(0))), op.packFn)
 	}
 	// Stripes of whole micro-panels; at least two per goroutine when the
 	// matrix is wide enough, so that a slow goroutine does not hold the rest.
@@ -225,8 +297,8 @@ func (s *workspaceSet) put(w *workspace) { s.free <- w }
 func (ws *workspace) gemm(op *gemmOp, m0, m1, n0, n1, k0, k1 int) {
 	mr, nr := kern.mr, kern.nr
 	// Split k into near-equal passes of at most blockK.
-	passes := (k1 - k0 + blockK - 1) / blockK
-	step := (k1 - k0 + passes - 1) / passes
+	_, step := kSplit(k1 - k0)
+	mpad := (op.m + mr - 1) / mr * mr
 	for pc := k0; pc < k1; pc += step {
 		kc := min(step, k1-pc)
 		acc := op.accumulate || pc > k0
@@ -238,10 +310,15 @@ func (ws *workspace) gemm(op *gemmOp, m0, m1, n0, n1, k0, k1 int) {
 			}
 			for ic := m0; ic < m1; ic += blockM {
 				mc := min(blockM, m1-ic)
-				for ir := 0; ir < mc; ir += mr {
-					op.a.pack(ws.apack[ir*kc:], mr, ic+ir, min(mr, mc-ir), pc, kc)
+				ap := ws.apack
+				if op.apackAll != nil {
+					ap = op.apackAll[pc*mpad+ic*kc:]
+				} else {
+					for ir := 0; ir < mc; ir += mr {
+						op.a.pack(ap[ir*kc:], mr, ic+ir, min(mr, mc-ir), pc, kc)
+					}
 				}
-				ws.macro(op, ic, mc, jc, nc, kc, acc, last)
+				ws.macro(op, ap, ic, mc, jc, nc, kc, acc, last)
 			}
 		}
 	}
@@ -249,14 +326,14 @@ func (ws *workspace) gemm(op *gemmOp, m0, m1, n0, n1, k0, k1 int) {
 
 // macro runs the micro-kernel over one packed mc×kc block of A and kc×nc
 // block of B.
-func (ws *workspace) macro(op *gemmOp, ic, mc, jc, nc, kc int, acc, last bool) {
+func (ws *workspace) macro(op *gemmOp, ap []float32, ic, mc, jc, nc, kc int, acc, last bool) {
 	mr, nr := kern.mr, kern.nr
 	ldc := op.ldc
 	for jr := 0; jr < nc; jr += nr {
 		b := ws.bpack[jr*kc : jr*kc+kc*nr]
 		w := min(nr, nc-jr)
 		for ir := 0; ir < mc; ir += mr {
-			a := ws.apack[ir*kc : ir*kc+kc*mr]
+			a := ap[ir*kc : ir*kc+kc*mr]
 			h := min(mr, mc-ir)
 			off := (ic+ir-op.ci0)*ldc + jc + jr - op.cj0
 			if h == mr && w == nr {

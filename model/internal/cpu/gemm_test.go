@@ -55,7 +55,7 @@ func forEachKernel(t *testing.T, f func(t *testing.T)) {
 func TestSgemmAgainstNaive(t *testing.T) {
 	forEachKernel(t, func(t *testing.T) {
 		rng := rand.New(rand.NewPCG(1, 2))
-		sizes := [][3]int{{1, 1, 1}, {3, 5, 7}, {8, 48, 16}, {17, 33, 9}, {64, 100, 300}, {130, 97, 513}, {5, 1000, 3}, {200, 7, 600}}
+		sizes := [][3]int{{1, 1, 1}, {3, 5, 7}, {8, 48, 16}, {17, 33, 9}, {64, 100, 300}, {130, 97, 513}, {5, 1000, 3}, {200, 7, 600}, {70, 700, 600}}
 		for _, s := range sizes {
 			m, n, k := s[0], s[1], s[2]
 			for _, ta := range []bool{false, true} {

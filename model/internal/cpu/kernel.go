@@ -7,9 +7,8 @@ package cpu
 type microKernel func(k int, a, b, c []float32, ldc int, acc bool)
 
 // indirectKernel is microKernel for the stride-1 convolution: row k of
-// the B panel is read from b[offs[k]:], not from a packed panel, and the
-// tile is overwritten.
-type indirectKernel func(k int, a, b []float32, offs []int, c []float32, ldc int)
+// the B panel is read from b[offs[k]:], not from a packed panel.
+type indirectKernel func(k int, a, b []float32, offs []int, c []float32, ldc int, acc bool)
 
 // dotKernel accumulates an mo×mk block of dot products of length n (a
 // multiple of the kernel's lanes): out[i*ldo+j] += Σ_t y[i*ldy+t]·x[offs[j]+t].

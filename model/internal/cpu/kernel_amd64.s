@@ -242,9 +242,9 @@ kernelAVX2x4x24_store:
 	VZEROUPPER
 	RET
 
-// func indirectAVX512x8x48(k int, a []float32, b []float32, offs []int, c []float32, ldc int)
+// func indirectAVX512x8x48(k int, a []float32, b []float32, offs []int, c []float32, ldc int, acc bool)
 // Requires: AVX, AVX512F
-TEXT ·indirectAVX512x8x48(SB), NOSPLIT, $0-112
+TEXT ·indirectAVX512x8x48(SB), NOSPLIT, $0-113
 	MOVQ   k+0(FP), AX
 	MOVQ   a_base+8(FP), CX
 	MOVQ   b_base+32(FP), DX
@@ -319,9 +319,46 @@ indirectAVX512x8x48_loop:
 	JNZ          indirectAVX512x8x48_loop
 
 indirectAVX512x8x48_tail:
-	MOVQ    c_base+80(FP), AX
-	MOVQ    ldc+104(FP), CX
-	SHLQ    $0x02, CX
+	MOVQ   c_base+80(FP), AX
+	MOVQ   ldc+104(FP), CX
+	SHLQ   $0x02, CX
+	MOVB   acc+112(FP), DL
+	TESTB  DL, DL
+	JZ     indirectAVX512x8x48_store
+	MOVQ   AX, DX
+	VADDPS (DX), Z0, Z0
+	VADDPS 64(DX), Z1, Z1
+	VADDPS 128(DX), Z2, Z2
+	ADDQ   CX, DX
+	VADDPS (DX), Z3, Z3
+	VADDPS 64(DX), Z4, Z4
+	VADDPS 128(DX), Z5, Z5
+	ADDQ   CX, DX
+	VADDPS (DX), Z6, Z6
+	VADDPS 64(DX), Z7, Z7
+	VADDPS 128(DX), Z8, Z8
+	ADDQ   CX, DX
+	VADDPS (DX), Z9, Z9
+	VADDPS 64(DX), Z10, Z10
+	VADDPS 128(DX), Z11, Z11
+	ADDQ   CX, DX
+	VADDPS (DX), Z12, Z12
+	VADDPS 64(DX), Z13, Z13
+	VADDPS 128(DX), Z14, Z14
+	ADDQ   CX, DX
+	VADDPS (DX), Z15, Z15
+	VADDPS 64(DX), Z16, Z16
+	VADDPS 128(DX), Z17, Z17
+	ADDQ   CX, DX
+	VADDPS (DX), Z18, Z18
+	VADDPS 64(DX), Z19, Z19
+	VADDPS 128(DX), Z20, Z20
+	ADDQ   CX, DX
+	VADDPS (DX), Z21, Z21
+	VADDPS 64(DX), Z22, Z22
+	VADDPS 128(DX), Z23, Z23
+
+indirectAVX512x8x48_store:
 	VMOVUPS Z0, (AX)
 	VMOVUPS Z1, 64(AX)
 	VMOVUPS Z2, 128(AX)
@@ -356,9 +393,9 @@ indirectAVX512x8x48_tail:
 	VZEROUPPER
 	RET
 
-// func indirectAVX2x4x24(k int, a []float32, b []float32, offs []int, c []float32, ldc int)
+// func indirectAVX2x4x24(k int, a []float32, b []float32, offs []int, c []float32, ldc int, acc bool)
 // Requires: AVX, FMA3
-TEXT ·indirectAVX2x4x24(SB), NOSPLIT, $0-112
+TEXT ·indirectAVX2x4x24(SB), NOSPLIT, $0-113
 	MOVQ   k+0(FP), AX
 	MOVQ   a_base+8(FP), CX
 	MOVQ   b_base+32(FP), DX
@@ -405,9 +442,30 @@ indirectAVX2x4x24_loop:
 	JNZ          indirectAVX2x4x24_loop
 
 indirectAVX2x4x24_tail:
-	MOVQ    c_base+80(FP), AX
-	MOVQ    ldc+104(FP), CX
-	SHLQ    $0x02, CX
+	MOVQ   c_base+80(FP), AX
+	MOVQ   ldc+104(FP), CX
+	SHLQ   $0x02, CX
+	MOVB   acc+112(FP), DL
+	TESTB  DL, DL
+	JZ     indirectAVX2x4x24_store
+	MOVQ   AX, DX
+	VADDPS (DX), Y0, Y0
+	VADDPS 32(DX), Y1, Y1
+	VADDPS 64(DX), Y2, Y2
+	ADDQ   CX, DX
+	VADDPS (DX), Y3, Y3
+	VADDPS 32(DX), Y4, Y4
+	VADDPS 64(DX), Y5, Y5
+	ADDQ   CX, DX
+	VADDPS (DX), Y6, Y6
+	VADDPS 32(DX), Y7, Y7
+	VADDPS 64(DX), Y8, Y8
+	ADDQ   CX, DX
+	VADDPS (DX), Y9, Y9
+	VADDPS 32(DX), Y10, Y10
+	VADDPS 64(DX), Y11, Y11
+
+indirectAVX2x4x24_store:
 	VMOVUPS Y0, (AX)
 	VMOVUPS Y1, 32(AX)
 	VMOVUPS Y2, 64(AX)

@@ -60,7 +60,7 @@ func kernelGeneric4x4(k int, a, b, c []float32, ldc int, acc bool) {
 }
 
 // indirectGeneric4x4 is the portable indirectKernel.
-func indirectGeneric4x4(k int, a, b []float32, offs []int, c []float32, ldc int) {
+func indirectGeneric4x4(k int, a, b []float32, offs []int, c []float32, ldc int, acc bool) {
 	var c00, c01, c02, c03 float32
 	var c10, c11, c12, c13 float32
 	var c20, c21, c22, c23 float32
@@ -92,6 +92,24 @@ func indirectGeneric4x4(k int, a, b []float32, offs []int, c []float32, ldc int)
 	r1 := c[ldc : ldc+4 : ldc+4]
 	r2 := c[2*ldc : 2*ldc+4 : 2*ldc+4]
 	r3 := c[3*ldc : 3*ldc+4 : 3*ldc+4]
+	if acc {
+		c00 += r0[0]
+		c01 += r0[1]
+		c02 += r0[2]
+		c03 += r0[3]
+		c10 += r1[0]
+		c11 += r1[1]
+		c12 += r1[2]
+		c13 += r1[3]
+		c20 += r2[0]
+		c21 += r2[1]
+		c22 += r2[2]
+		c23 += r2[3]
+		c30 += r3[0]
+		c31 += r3[1]
+		c32 += r3[2]
+		c33 += r3[3]
+	}
 	r0[0], r0[1], r0[2], r0[3] = c00, c01, c02, c03
 	r1[0], r1[1], r1[2], r1[3] = c10, c11, c12, c13
 	r2[0], r2[1], r2[2], r2[3] = c20, c21, c22, c23

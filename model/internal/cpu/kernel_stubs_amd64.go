@@ -11,10 +11,10 @@ func kernelAVX512x8x48(k int, a []float32, b []float32, c []float32, ldc int, ac
 func kernelAVX2x4x24(k int, a []float32, b []float32, c []float32, ldc int, acc bool)
 
 // indirectAVX512x8x48 computes one 8×48 tile; see indirectKernel.
-func indirectAVX512x8x48(k int, a []float32, b []float32, offs []int, c []float32, ldc int)
+func indirectAVX512x8x48(k int, a []float32, b []float32, offs []int, c []float32, ldc int, acc bool)
 
 // indirectAVX2x4x24 computes one 4×24 tile; see indirectKernel.
-func indirectAVX2x4x24(k int, a []float32, b []float32, offs []int, c []float32, ldc int)
+func indirectAVX2x4x24(k int, a []float32, b []float32, offs []int, c []float32, ldc int, acc bool)
 
 // dotAVX512x4x6 accumulates one 4×6 block of dot products; see dotKernel.
 func dotAVX512x4x6(n int, y []float32, ldy int, x []float32, offs []int, out []float32, ldo int)

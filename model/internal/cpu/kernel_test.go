@@ -46,10 +46,13 @@ func TestMicroKernels(t *testing.T) {
 						for p := range k {
 							s += float64(a[p*mr+i]) * float64(b[offs[p]+j])
 						}
+						if acc {
+							s += float64(want[i*ldc+j])
+						}
 						want[i*ldc+j] = float32(s)
 					}
 				}
-				kern.ind(k, a, b, offs, c, ldc)
+				kern.ind(k, a, b, offs, c, ldc, acc)
 				compare(t, "indirectKernel", c, want, 1e-5*float64(k+1))
 			}
 		}

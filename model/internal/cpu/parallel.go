@@ -39,7 +39,7 @@ func ParallelFor(n, grain int, fn func(lo, hi int)) {
 	helpers := min(procs, chunks) - 1
 	thePool.grow(procs - 1)
 
-	j := jobPool.Get().(*job)
+	j := getJob()
 	j.fn, j.n, j.grain = fn, n, grain
 	j.next.Store(0)
 	for range helpers {
@@ -55,7 +55,7 @@ func ParallelFor(n, grain int, fn func(lo, hi int)) {
 	j.run()
 	j.wg.Wait()
 	j.fn = nil
-	jobPool.Put(j)
+	putJob(j)
 }
 
 // job is one ParallelFor call shared by the goroutines that work on it.
@@ -77,7 +77,25 @@ func (j *job) run() {
 	}
 }
 
-var jobPool = sync.Pool{New: func() any { return new(job) }}
+// freeJobs recycles jobs. A channel, unlike sync.Pool, never drops its
+// contents, so steady-state calls never allocate (also under -race).
+var freeJobs = make(chan *job, 64)
+
+func getJob() *job {
+	select {
+	case j := <-freeJobs:
+		return j
+	default:
+		return new(job)
+	}
+}
+
+func putJob(j *job) {
+	select {
+	case freeJobs <- j:
+	default:
+	}
+}
 
 // pool is the set of persistent worker goroutines. Jobs go over an
 // unbuffered channel, so a send succeeds only when a worker is idle.

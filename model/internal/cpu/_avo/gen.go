@@ -134,10 +134,9 @@ func zero(first, r reg.VecPhysical) {
 }
 
 // indirect emits the micro-kernel of the stride-1 convolution: like kernel,
-// but row k of B is read straight from the padded input at b[offs[k]:], and
-// the tile is always overwritten.
+// but row k of B is read straight from the padded input at b[offs[k]:].
 func indirect(name string, mr, nv, lanes int, first reg.VecPhysical) {
-	TEXT(name, NOSPLIT, "func(k int, a, b []float32, offs []int, c []float32, ldc int)")
+	TEXT(name, NOSPLIT, "func(k int, a, b []float32, offs []int, c []float32, ldc int, acc bool)")
 	Doc(fmt.Sprintf("%s computes one %d×%d tile; see indirectKernel.", name, mr, nv*lanes))
 	vec := func(i int) reg.VecPhysical { return vecReg(first, i) }
 	vbytes := 4 * lanes
@@ -192,6 +191,20 @@ func indirect(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	c := Load(Param("c").Base(), GP64())
 	ldc := Load(Param("ldc"), GP64())
 	SHLQ(Imm(2), ldc)
+	flag := Load(Param("acc"), GP8())
+	TESTB(flag, flag)
+	JZ(LabelRef(name + "_store"))
+	row := GP64()
+	MOVQ(c, row)
+	for i := range mr {
+		for j := range nv {
+			VADDPS(Mem{Base: row, Disp: j * vbytes}, acc[i][j], acc[i][j])
+		}
+		if i < mr-1 {
+			ADDQ(ldc, row)
+		}
+	}
+	Label(name + "_store")
 	for i := range mr {
 		for j := range nv {
 			VMOVUPS(acc[i][j], Mem{Base: c, Disp: j * vbytes})
