@@ -172,3 +172,35 @@ func TestOcclusionBand(t *testing.T) {
 		t.Fatal("no rows checked")
 	}
 }
+
+// TestScenesInRange renders many small pairs of each style: every ray must
+// hit a surface (the scenes are closed rooms), every depth must lie in the
+// rig's range of interest, the disparity must stay below 0.3 of the width
+// (a usual limit of disparity networks; common practice) and some, but not
+// most, pixels must be hidden from the other view.
+func TestScenesInRange(t *testing.T) {
+	for _, st := range Styles {
+		var hidden, total int
+		for i := 0; i < 12; i++ {
+			p, err := Generate(st, 3, i, &Options{Width: 64, Height: 32})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for j, z := range p.DepthLeft.Pix {
+				if !(float64(z) >= p.Rig.MinDepth && float64(z) <= p.Rig.MaxDepth) {
+					t.Fatalf("%s pair %d pixel %d: depth %v m outside [%v, %v]", st, i, j, z, p.Rig.MinDepth, p.Rig.MaxDepth)
+				}
+				if d := p.DispLeft.Pix[j]; !(d > 0 && d < 0.3) {
+					t.Fatalf("%s pair %d pixel %d: disparity %v of the width", st, i, j, d)
+				}
+				total++
+				if p.VisibleLeft.Pix[j] == 0 {
+					hidden++
+				}
+			}
+		}
+		if f := float64(hidden) / float64(total); f < 0.01 || f > 0.3 {
+			t.Errorf("%s: %.3f of left pixels hidden from the right view", st, f)
+		}
+	}
+}
