@@ -53,6 +53,11 @@ type ConvParams struct {
 //
 // The output has shape (N, OutC, Ho, Wo) with
 // Ho = (H + 2·Pad − Dilation·(Kernel−1) − 1)/Stride + 1, likewise Wo.
+//
+// A stride-1 plan holds padded copies of one batch of input and of output
+// gradient, and the input gradient on the padded grid: about
+// N·(InC+OutC)·(H+2·Pad+2·span)·(W+2·Pad+2·span) extra values, span =
+// Dilation·(Kernel−1).
 type Conv2D struct {
 	p     ConvParams
 	n     int

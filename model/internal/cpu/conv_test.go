@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -391,4 +392,72 @@ func TestConvPanicsOnShortSlice(t *testing.T) {
 		}
 	}()
 	c.Forward(make([]float32, 15), make([]float32, 16), make([]float32, 9), nil)
+}
+
+// TestConvGOMAXPROCS checks that results do not depend on the number of
+// goroutines, including a change after the plan was made.
+func TestConvGOMAXPROCS(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	for _, p := range []ConvParams{
+		{InC: 6, OutC: 10, Kernel: 3, Pad: 1, Padding: ReflectPad},
+		{InC: 6, OutC: 10, Kernel: 3, Stride: 2, Pad: 1},
+	} {
+		c, err := NewConv2D(p, 3, 13, 29)
+		if err != nil {
+			t.Fatal(err)
+		}
+		x := randSlice(rng, 3*6*13*29)
+		w := randSlice(rng, c.WeightLen())
+		n, oc, ho, wo := c.OutShape()
+		dy := randSlice(rng, n*oc*ho*wo)
+		run := func() (y, dx, dw []float32) {
+			y, dx, dw = make([]float32, len(dy)), make([]float32, len(x)), make([]float32, len(w))
+			c.Forward(y, x, w, nil)
+			c.Backward(dx, dw, nil, x, w, dy)
+			return
+		}
+		y0, dx0, dw0 := run()
+		for _, procs := range []int{1, 3, 5} {
+			old := runtime.GOMAXPROCS(procs)
+			y, dx, dw := run()
+			runtime.GOMAXPROCS(old)
+			name := fmt.Sprintf("%+v GOMAXPROCS=%d", p, procs)
+			compare(t, name+" y", y, y0, 1e-6)
+			compare(t, name+" dx", dx, dx0, 1e-6)
+			// The weight gradient sums per-goroutine partials, so its
+			// rounding depends on the split.
+			compare(t, name+" dw", dw, dw0, 1e-5)
+		}
+	}
+}
+
+// TestConvNaN checks that NaN and Inf inputs propagate without a panic.
+func TestConvNaN(t *testing.T) {
+	for _, p := range []ConvParams{
+		{InC: 2, OutC: 3, Kernel: 3, Pad: 1},
+		{InC: 2, OutC: 3, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad},
+	} {
+		c, err := NewConv2D(p, 1, 6, 6)
+		if err != nil {
+			t.Fatal(err)
+		}
+		x := make([]float32, 2*36)
+		x[0] = float32(math.NaN())
+		x[40] = float32(math.Inf(1))
+		w := make([]float32, c.WeightLen())
+		for i := range w {
+			w[i] = 1
+		}
+		n, oc, ho, wo := c.OutShape()
+		y := make([]float32, n*oc*ho*wo)
+		c.Forward(y, x, w, nil)
+		if !math.IsNaN(float64(y[0])) {
+			t.Errorf("%+v: y[0] = %v, want NaN from x[0]", p, y[0])
+		}
+		dx, dw := make([]float32, len(x)), make([]float32, len(w))
+		c.Backward(dx, dw, nil, x, w, y)
+		if !math.IsNaN(float64(dw[4])) {
+			t.Errorf("%+v: dw centre tap = %v, want NaN", p, dw[4])
+		}
+	}
 }
