@@ -3,7 +3,8 @@ package loss
 import "math"
 
 // SmoothnessMeanEpsilon is added to the per-image mean disparity before
-// dividing by it, so that a zero mean does not divide by zero.
+// dividing by it, so that a zero mean does not divide by zero (the value
+// is common practice).
 const SmoothnessMeanEpsilon = 1e-7
 
 // SmoothnessKernel computes the edge-aware smoothness of a disparity map

@@ -275,15 +275,24 @@ func TestConsistencyMatchingPair(t *testing.T) {
 			t.Errorf("border %v: matching pair gives %g, want 0", b, v)
 		}
 	}
-	// A shift of exactly 2 pixels (d = 2/8) where the right map holds the
-	// left one shifted: d_R(x) = d_L(x+2) for a left map varying by row.
+	// A shift of exactly 2 pixels (d = 2/8 of W = 8) with a disparity
+	// that differs from row to row (a plane tilted vertically, which keeps
+	// each row constant): every valid sample reads the same row of the
+	// other map, which holds the same value. By construction, 0.
 	dl, dr := make([]float32, 3*8), make([]float32, 3*8)
 	for i := range dl {
-		dl[i], dr[i] = 0.25, 0.25
+		row := i / 8
+		dl[i] = 0.25 + 0.125*float32(row) // shifts of 2, 3 and 4 pixels
+		dr[i] = dl[i]
 	}
 	var k ConsistencyKernel
 	if v := k.Eval(nil, nil, dl, dr, Shape{N: 1, C: 1, H: 3, W: 8}, warp.Zero); v != 0 {
-		t.Errorf("integer shift: %g, want 0", v)
+		t.Errorf("integer shifts varying by row: %g, want 0", v)
+	}
+	// Breaking the match in one valid pixel gives a non-zero value.
+	dr[5] += 0.1
+	if v := k.Eval(nil, nil, dl, dr, Shape{N: 1, C: 1, H: 3, W: 8}, warp.Zero); !(v > 0) {
+		t.Errorf("mismatched pair: %g, want > 0", v)
 	}
 }
 
