@@ -37,8 +37,8 @@
 // output shape and settings. The graph-free forward pass in this package
 // and the training graph in model/train both walk that list, so they cannot
 // disagree. Tensor names: "image" is the input; "encLa", "encLb" (L = 1 … 5),
-// "decL.reduce", "decL.up", "decL.cat", "decL" (L = 4 … 0), "headS",
-// "dispS" and "dispS.up" (S = 3 … 0) are layer outputs.
+// "decL.reduce", "decL.up", "decL.cat", "decL" (L = 4 … 0), "headS" and
+// "dispS" (S = 3 … 0), and "dispS.up" (S = 3 … 1) are layer outputs.
 //
 // # Conventions
 //
