@@ -3,6 +3,7 @@ package synth
 import (
 	"math"
 	"sort"
+	"sync"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/planar"
@@ -165,21 +166,33 @@ func leftRight(t *testing.T, p *Pair) lrStats {
 	return st
 }
 
-// truthPairs renders a few pairs of each style once for the ground-truth
-// tests.
+var (
+	truthOnce  sync.Once
+	truthCache map[Style][]*Pair
+	truthErr   error
+)
+
+// truthPairs renders a few pairs of each style, once, for the ground-truth
+// tests. The tests only read them.
 func truthPairs(t *testing.T) map[Style][]*Pair {
 	t.Helper()
-	out := map[Style][]*Pair{}
-	for _, st := range Styles {
-		for i := 0; i < 3; i++ {
-			p, err := Generate(st, 11, i, nil)
-			if err != nil {
-				t.Fatal(err)
+	truthOnce.Do(func() {
+		truthCache = map[Style][]*Pair{}
+		for _, st := range Styles {
+			for i := 0; i < 3; i++ {
+				p, err := Generate(st, 11, i, nil)
+				if err != nil {
+					truthErr = err
+					return
+				}
+				truthCache[st] = append(truthCache[st], p)
 			}
-			out[st] = append(out[st], p)
 		}
+	})
+	if truthErr != nil {
+		t.Fatal(truthErr)
 	}
-	return out
+	return truthCache
 }
 
 // TestWarpRebuildsLeft warps the right image by the left ground-truth
