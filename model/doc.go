@@ -30,7 +30,7 @@
 //
 // "reduce" is a stride-1 convolution at the coarser resolution that sets
 // the decoder width before the nearest-neighbour upsampling; "cat" joins
-// channels in the order listed.
+// the upsampled features first, then the inputs listed, in that order.
 //
 // The network exists once, as data: Build returns an Arch whose Layers list
 // every step in evaluation order with its operation, input tensor names,
@@ -54,7 +54,8 @@
 //     kernel columns) and named NAME.weight; biases have shape [out] and are
 //     named NAME.bias, where NAME is the convolution layer's name.
 //   - DMax, the largest disparity a head can output, comes from the rig and
-//     the nearest depth of interest: d_max = f·B / Z_min / W (see DMax).
+//     the nearest depth of interest: d_max = f·B / Z_min / W (see DMax;
+//     DMaxFromRig also subtracts the rig's Doffs).
 //
 // # Weights files
 //
