@@ -73,6 +73,7 @@ func (s *Session) Forward(left, right *planar.Image) (loss.Terms, error) {
 	}
 	defer s.vm.Reset()
 	if err := s.vm.RunAll(); err != nil {
+		s.ClearGradients() // a partial backward pass may have added some
 		return loss.Terms{}, fmt.Errorf("train: run: %w", err)
 	}
 	return s.Objective.Terms(), nil
