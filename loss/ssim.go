@@ -120,8 +120,9 @@ func (k *SSIMKernel) Forward(dst, x, y []float32, s Shape) {
 	k.mux, k.muy = grow(k.mux, n), grow(k.muy, n)
 	k.vx, k.vy, k.cxy = grow(k.vx, n), grow(k.vy, n), grow(k.cxy, n)
 	plane := s.H * s.W
-	k.h0, k.h1, k.h2 = grow(k.h0, plane), grow(k.h1, plane), grow(k.h2, plane)
-	k.h3, k.h4 = grow(k.h3, plane), grow(k.h4, plane)
+	ring := 3 * s.W
+	k.h0, k.h1, k.h2 = grow(k.h0, ring), grow(k.h1, ring), grow(k.h2, ring)
+	k.h3, k.h4 = grow(k.h3, ring), grow(k.h4, ring)
 	c1, c2 := k.constants()
 	for p := 0; p < s.N*s.C; p++ {
 		o := p * plane
@@ -130,15 +131,17 @@ func (k *SSIMKernel) Forward(dst, x, y []float32, s Shape) {
 }
 
 // forwardPlane computes the statistics and the SSIM map of one plane whose
-// statistics start at offset o.
+// statistics start at offset o. The horizontal sums live in a ring of three
+// rows (slot r%3 holds row r), so they stay in the first-level cache.
 func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float32) {
-	hx, hy, hxx, hyy, hxy := k.h0, k.h1, k.h2, k.h3, k.h4
-	// Horizontal 3-tap sums of x, y, x², y², xy with the edge repeated,
-	// sliding the window so each product is formed once.
-	for r := 0; r < h; r++ {
+	// hrow writes the horizontal 3-tap sums of x, y, x², y², xy of row r,
+	// with the edge repeated, into its ring slot, sliding the window so
+	// each product is formed once.
+	hrow := func(r int) {
+		sl := (r % 3) * w
 		xr, yr := x[r*w:(r+1)*w], y[r*w:(r+1)*w]
-		hxr, hyr := hx[r*w:(r+1)*w], hy[r*w:(r+1)*w]
-		hxxr, hyyr, hxyr := hxx[r*w:(r+1)*w], hyy[r*w:(r+1)*w], hxy[r*w:(r+1)*w]
+		hxr, hyr := k.h0[sl:sl+w], k.h1[sl:sl+w]
+		hxxr, hyyr, hxyr := k.h2[sl:sl+w], k.h3[sl:sl+w], k.h4[sl:sl+w]
 		xc, yc := xr[0], yr[0]
 		xl, yl := xc, yc
 		xxc, yyc, xyc := xc*xc, yc*yc, xc*yc
@@ -158,10 +161,15 @@ func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float
 			xxl, xxc, yyl, yyc, xyl, xyc = xxc, xxn, yyc, yyn, xyc, xyn
 		}
 	}
+	hx, hy, hxx, hyy, hxy := k.h0, k.h1, k.h2, k.h3, k.h4
 	const ninth = 1.0 / 9
 	mux, muy := k.mux[o:o+h*w], k.muy[o:o+h*w]
 	vx, vy, cxy := k.vx[o:o+h*w], k.vy[o:o+h*w], k.cxy[o:o+h*w]
+	hrow(0)
 	for r := 0; r < h; r++ {
+		if r+1 < h {
+			hrow(r + 1)
+		}
 		u, d := r-1, r+1
 		if u < 0 {
 			u = 0
@@ -169,14 +177,15 @@ func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float
 		if d >= h {
 			d = h - 1
 		}
-		u, c, d := u*w, r*w, d*w
+		u, c, d := (u%3)*w, (r%3)*w, (d%3)*w
+		out := r * w
 		for i := 0; i < w; i++ {
 			mx := (hx[u+i] + hx[c+i] + hx[d+i]) * ninth
 			my := (hy[u+i] + hy[c+i] + hy[d+i]) * ninth
 			sxx := (hxx[u+i]+hxx[c+i]+hxx[d+i])*ninth - mx*mx
 			syy := (hyy[u+i]+hyy[c+i]+hyy[d+i])*ninth - my*my
 			sxy := (hxy[u+i]+hxy[c+i]+hxy[d+i])*ninth - mx*my
-			j := c + i
+			j := out + i
 			mux[j], muy[j], vx[j], vy[j], cxy[j] = mx, my, sxx, syy, sxy
 			dst[j] = (2*mx*my + c1) * (2*sxy + c2) / ((mx*mx + my*my + c1) * (sxx + syy + c2))
 		}
@@ -229,14 +238,14 @@ func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c
 	np := h * w
 	mux, muy := k.mux[o:o+np], k.muy[o:o+np]
 	vx, vy, cxy := k.vx[o:o+np], k.vy[o:o+np], k.cxy[o:o+np]
-	// Per-pixel gradients with respect to the window moments μx, μy,
-	// E[x²] (= that of E[y²]) and E[xy], one row at a time, followed at
-	// once by their horizontal 3-tap sums (the first half of the box
-	// filter's transpose, which is the filter itself).
 	hmx, hmy, hsq, hxy := k.h0, k.h1, k.h2, k.h3
 	rmx, rmy, rsq, rxy := k.t0[:w], k.t0[w:2*w], k.t0[2*w:3*w], k.t0[3*w:4*w]
-	for r := 0; r < h; r++ {
-		off := r * w
+	// crow computes the per-pixel gradients of row r with respect to the
+	// window moments μx, μy, E[x²] (= that of E[y²]) and E[xy], then their
+	// horizontal 3-tap sums (the first half of the box filter's transpose,
+	// which is the filter itself) into ring slot r%3.
+	crow := func(r int) {
+		off, sl := r*w, (r%3)*w
 		for i := 0; i < w; i++ {
 			j := off + i
 			mx, my := mux[j], muy[j]
@@ -260,19 +269,23 @@ func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c
 			rsq[i] = dB2
 			rxy[i] = 2 * dA2
 		}
-		hsum3(hsq[off:off+w], rsq)
-		hsum3(hxy[off:off+w], rxy)
+		hsum3(hsq[sl:sl+w], rsq)
+		hsum3(hxy[sl:sl+w], rxy)
 		if gx != nil {
-			hsum3(hmx[off:off+w], rmx)
+			hsum3(hmx[sl:sl+w], rmx)
 		}
 		if gy != nil {
-			hsum3(hmy[off:off+w], rmy)
+			hsum3(hmy[sl:sl+w], rmy)
 		}
 	}
 	// Vertical 3-tap sums, the 1/9, and the chain rule to the pixels:
 	// dL/dx = B(gμx) + 2x·B(gE[x²]) + y·B(gE[xy]), and the same for y.
 	const ninth = 1.0 / 9
+	crow(0)
 	for r := 0; r < h; r++ {
+		if r+1 < h {
+			crow(r + 1)
+		}
 		u, d := r-1, r+1
 		if u < 0 {
 			u = 0
@@ -280,11 +293,12 @@ func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c
 		if d >= h {
 			d = h - 1
 		}
-		u, c, d := u*w, r*w, d*w
+		u, c, d := (u%3)*w, (r%3)*w, (d%3)*w
+		out := r * w
 		for i := 0; i < w; i++ {
 			sq := (hsq[u+i] + hsq[c+i] + hsq[d+i]) * ninth
 			xy := (hxy[u+i] + hxy[c+i] + hxy[d+i]) * ninth
-			j := c + i
+			j := out + i
 			if gx != nil {
 				v := (hmx[u+i]+hmx[c+i]+hmx[d+i])*ninth + 2*x[j]*sq + y[j]*xy
 				if acc {
