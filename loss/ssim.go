@@ -49,7 +49,7 @@ type SSIMKernel struct {
 	shape                  Shape
 	ready                  bool
 	mux, muy, vx, vy, cxy  []float32 // N*C*H*W local statistics
-	h0, h1, h2, h3, h4, t0 []float32 // one plane each
+	h0, h1, h2, h3, h4, t0 []float32 // rings of three rows; t0 four rows
 }
 
 func (k *SSIMKernel) constants() (c1, c2 float32) {
