@@ -1,9 +1,6 @@
 package cpu
 
-import (
-	"fmt"
-	"sync"
-)
+import "fmt"
 
 // opGrainBytes is the amount of memory one range of a memory-bound operator
 // touches (read plus written) before ParallelFor hands out the next range.
@@ -12,7 +9,7 @@ import (
 const opGrainBytes = 256 << 10
 
 // opTask carries the arguments of one operator call to the ranges that
-// ParallelFor hands out. Tasks are pooled and their run method value is
+// ParallelFor hands out. Tasks are recycled and their run method value is
 // bound once, at creation, so a call does not allocate in steady state
 // (a closure literal passed to ParallelFor would escape to the heap).
 type opTask struct {
@@ -29,15 +26,22 @@ type opTask struct {
 
 func (t *opTask) exec(lo, hi int) { t.body(t, lo, hi) }
 
-var opTasks = sync.Pool{New: func() any {
-	t := new(opTask)
-	t.run = t.exec
-	return t
-}}
+// opFree holds idle tasks. A buffered channel rather than a sync.Pool:
+// its tasks survive garbage collections, so steady state stays free of
+// allocations however often the collector runs. It holds more tasks than
+// calls can be in flight in practice; beyond that, tasks are made and
+// dropped.
+var opFree = make(chan *opTask, 64)
 
 // opStart returns a cleared task that will run body.
 func opStart(body func(t *opTask, lo, hi int)) *opTask {
-	t := opTasks.Get().(*opTask)
+	var t *opTask
+	select {
+	case t = <-opFree:
+	default:
+		t = new(opTask)
+		t.run = t.exec
+	}
 	t.body = body
 	return t
 }
@@ -58,7 +62,10 @@ func opRun(t *opTask, units, unitBytes int) {
 	}
 	run := t.run
 	*t = opTask{run: run} // drop the references to the caller's slices
-	opTasks.Put(t)
+	select {
+	case opFree <- t:
+	default:
+	}
 }
 
 // opCheckShape panics unless every dimension is positive.
