@@ -257,3 +257,41 @@ func TestNetworkGradients(t *testing.T) {
 		}
 	}
 }
+
+// Every node this package adds to a training graph is named, names are
+// unique, and the first layer (fed by the image) has no input gradient.
+func TestTrainingGraphNames(t *testing.T) {
+	w, err := model.NewWeights(tinyConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := NewSession(w, 1, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	seen := map[string]bool{}
+	ours := 0
+	for _, n := range s.Net.Graph.AllNodes() {
+		if _, ok := n.Op().(*kernelOp); !ok {
+			continue
+		}
+		ours++
+		if n.Name() == "" {
+			t.Errorf("unnamed node %v", n)
+		}
+		if seen[n.Name()] {
+			t.Errorf("name %q used twice", n.Name())
+		}
+		seen[n.Name()] = true
+	}
+	for _, want := range []string{"enc1a.pre", "enc1a.pre.dweight", "enc1a.pre.dbias", "enc1b.pre.dx", "head0.pre", "disp0", "disp0.dx", "objective"} {
+		if !seen[want] {
+			t.Errorf("no node %q", want)
+		}
+	}
+	if seen["enc1a.pre.dx"] {
+		t.Error("the first layer has an input-gradient node")
+	}
+	t.Logf("%d nodes of this package", ours)
+}
