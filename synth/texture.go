@@ -35,6 +35,24 @@ type material struct {
 // (metres per pixel on the surface); face varies the pattern per face.
 func (m *material) color(u, v, fp float64, face uint32) rgb {
 	seed := m.seed ^ face*0x27d4eb2f
+	if m.kind == texFlat {
+		return m.base
+	}
+	// Fine grain on every textured surface, a brightness change of up to
+	// ±grainAmp, so that near surfaces keep detail at the pixel scale.
+	g := fbm(u, v, grainScale, 3, fp, seed^0x2545f491)
+	g = 2*contrastCurve(g, 1) - 1 // stretch the narrow spread of summed noise
+	return m.pattern(u, v, fp, seed).mul(1 + grainAmp*g)
+}
+
+// Grain: lattice spacing in metres and relative amplitude.
+const (
+	grainScale = 0.06
+	grainAmp   = 0.12
+)
+
+// pattern evaluates the material's own pattern (without grain).
+func (m *material) pattern(u, v, fp float64, seed uint32) rgb {
 	switch m.kind {
 	case texFlat:
 		return m.base
