@@ -207,11 +207,12 @@ func truthPairs(t *testing.T) map[Style][]*Pair {
 // misses a few per cent of the contrast of the finest features; (3)
 // anti-aliasing: a pixel on a depth edge mixes two surfaces while the
 // disparity is that of the centre point, so its match in the other view is
-// a different mixture. Measured at 256×128, seed 11 (synth at this commit):
-// mean 0.003–0.007, mean away from depth edges 0.002–0.006, 95th percentile
-// 0.015–0.041. The bounds below leave about 1.7× margin. A disparity off by
-// one pixel must give at least twice the error (measured 3–3.6×), so the
-// check is sensitive to a wrong disparity.
+// a different mixture. Measured at 256×128, seed 11, pairs 0–2 of each
+// style (this commit, amd64): mean 0.0034–0.0072, mean away from depth
+// edges 0.0020–0.0057, 95th percentile 0.018–0.041. The bounds below leave
+// at least 1.6× margin. A disparity off by one pixel must give at least
+// twice the error (measured 3.1–4.0×), so the check is sensitive to a
+// wrong disparity.
 func TestWarpRebuildsLeft(t *testing.T) {
 	const (
 		maxMean         = 0.012 // about 3 8-bit steps
