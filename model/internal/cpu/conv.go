@@ -77,10 +77,12 @@ type Conv2D struct {
 	fwdStripe, dwStripe, dxBlock int
 	fwdFn, dwFn, dxFn            func(lo, hi int)
 
-	// The stride-1 path: fd computes the forward pass and holds the padded
-	// input for the weight gradient, gg the output gradient on fd's grid,
-	// bd the input gradient as a convolution of the padded output
-	// gradient with the flipped weights, into dxpad.
+	// The padded-grid path (all but 1×1 stride-1 unpadded layers): fd
+	// computes the forward pass and holds the padded input for the weight
+	// gradient, gg the output gradient on fd's grid; for stride 1, bd the
+	// input gradient as a convolution of the padded output gradient with
+	// the flipped weights, into dxpad. Other strides take the input
+	// gradient through im2col and the GEMM.
 	fd, bd *direct
 	gg     *gradGrid
 	dxpad  []float32
@@ -170,11 +172,13 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	c.dwFn = c.weightGradUnits
 	c.dxFn = c.inputGradUnits
 	c.taskFn = c.runTask
-	if p.Stride == 1 && !c.ident {
-		c.fd = newDirect(p.InC, p.OutC, h, w, p.Kernel, p.Dilation, p.Pad, p.Padding == ReflectPad, n)
-		span := (p.Kernel - 1) * p.Dilation
-		c.bd = newDirect(p.OutC, p.InC, ho, wo, p.Kernel, p.Dilation, span, false, n)
-		c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+	if !c.ident {
+		c.fd = newDirect(p.InC, p.OutC, h, w, p.Kernel, p.Stride, p.Dilation, p.Pad, p.Padding == ReflectPad, n)
+		if p.Stride == 1 {
+			span := (p.Kernel - 1) * p.Dilation
+			c.bd = newDirect(p.OutC, p.InC, ho, wo, p.Kernel, 1, p.Dilation, span, false, n)
+			c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+		}
 	}
 	c.makeWorkers()
 	return c, nil
@@ -202,10 +206,14 @@ func (c *Conv2D) makeWorkers() {
 	dwLen, dcolLen, cbufLen := c.p.OutC*c.kdim, c.dxBlock*kk2*blockN, 0
 	if c.fd != nil {
 		c.fd.size(procs)
-		c.bd.size(procs)
 		c.gg = newGradGrid(c.fd, procs)
-		dwLen, dcolLen = c.gg.mopad*c.gg.kpad, 0
-		cbufLen = max(c.fd.mpad*c.fd.ncb, c.bd.mpad*c.bd.ncb)
+		dwLen = c.gg.mopad * c.gg.kpad
+		cbufLen = c.fd.mpad * c.fd.ncb
+		if c.bd != nil {
+			c.bd.size(procs)
+			cbufLen = max(cbufLen, c.bd.mpad*c.bd.ncb)
+			dcolLen = 0
+		}
 	}
 	for i := range c.workers {
 		wk := &convWorker{

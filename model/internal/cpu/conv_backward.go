@@ -144,7 +144,7 @@ func (c *Conv2D) inputGradUnits(lo, hi int) {
 	c.free <- wk
 }
 
-// directBackward is Backward on the stride-1 path.
+// directBackward is Backward on the padded-grid path.
 func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 	inLen := c.n * c.p.InC * c.g.h * c.g.w
 	if dw != nil {
@@ -166,6 +166,12 @@ func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 				}
 			}
 		}
+	}
+	if dx != nil && c.bd == nil {
+		c.check("Backward", dx, inLen, "dx")
+		c.check("Backward", w, c.WeightLen(), "weight")
+		c.inputGrad(dx, w, dy)
+		return
 	}
 	if dx != nil {
 		c.check("Backward", dx, inLen, "dx")

@@ -16,8 +16,12 @@ var benchConvShapes = [][5]int{
 }
 
 func benchmarkConv(b *testing.B, s [5]int, backward bool) {
+	benchmarkConvStride(b, s, 1, backward)
+}
+
+func benchmarkConvStride(b *testing.B, s [5]int, stride int, backward bool) {
 	n, cin, h, w, cout := s[0], s[1], s[2], s[3], s[4]
-	c, err := NewConv2D(ConvParams{InC: cin, OutC: cout, Kernel: 3, Pad: 1}, n, h, w)
+	c, err := NewConv2D(ConvParams{InC: cin, OutC: cout, Kernel: 3, Stride: stride, Pad: 1}, n, h, w)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -68,6 +72,16 @@ func BenchmarkConv3x3Forward(b *testing.B) {
 func BenchmarkConv3x3ForwardBackward(b *testing.B) {
 	for _, s := range benchConvShapes {
 		b.Run(fmt.Sprintf("%dx%dx%dx%d-%d", s[0], s[1], s[2], s[3], s[4]), func(b *testing.B) { benchmarkConv(b, s, true) })
+	}
+}
+
+// BenchmarkConv3x3Stride2 times the encoder's down-sampling layers
+// (stride 2, zero padding 1); the input gradient goes through im2col.
+func BenchmarkConv3x3Stride2(b *testing.B) {
+	for _, s := range benchConvShapes[1:3] {
+		name := fmt.Sprintf("%dx%dx%dx%d-%d", s[0], s[1], s[2], s[3], s[4])
+		b.Run("Forward/"+name, func(b *testing.B) { benchmarkConvStride(b, s, 2, false) })
+		b.Run("ForwardBackward/"+name, func(b *testing.B) { benchmarkConvStride(b, s, 2, true) })
 	}
 }
 

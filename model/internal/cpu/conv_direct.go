@@ -5,21 +5,25 @@ package cpu
 // faster than one pass over all of a 3×3×64 kernel, so only longer k splits.
 const directK = 640
 
-// direct computes a stride-1 convolution on the padded grid. The input is
-// copied once into a padded buffer of wp columns; output pixel q = oy·wp+ox
-// of that grid reads padded input q + offs[kk] for kernel tap kk, so the
-// rows of the GEMM's B operand are plain slices of the padded input and no
+// direct computes a convolution on the padded grid. The input is copied
+// once into a padded buffer of gw columns; output pixel q = oy·gw+ox of
+// that grid reads padded input q + offs[kk] for kernel tap kk, so the rows
+// of the GEMM's B operand are plain slices of the padded input and no
 // im2col matrix is built. Columns ox >= wo of the grid are computed and
-// dropped.
+// dropped. For stride s > 1 each padded channel is stored as s² phase
+// planes (padded pixel (py, px) in plane (py mod s, px mod s) at
+// (py/s, px/s)); a tap then reads one phase plane with unit stride.
 type direct struct {
 	cin, cout int
 	h, w      int // input
 	pad       int
 	reflect   bool
-	k, d      int
+	k, s, d   int
 	hp, wp    int // padded input
+	hph, wph  int // one phase plane: ceil(hp/s)×ceil(wp/s)
+	gw        int // grid width, wph
 	ho, wo    int // output
-	plane     int // hp·wp
+	plane     int // s²·hph·wph values per channel
 	kdim      int // cin·k²
 	offs      []int
 
@@ -35,20 +39,24 @@ type direct struct {
 	nimg   int
 }
 
-func newDirect(cin, cout, h, w, k, d, pad int, reflect bool, n int) *direct {
+func newDirect(cin, cout, h, w, k, s, d, pad int, reflect bool, n int) *direct {
 	span := (k - 1) * d
 	dc := &direct{
-		cin: cin, cout: cout, h: h, w: w, pad: pad, reflect: reflect, k: k, d: d,
+		cin: cin, cout: cout, h: h, w: w, pad: pad, reflect: reflect, k: k, s: s, d: d,
 		hp: h + 2*pad, wp: w + 2*pad, nimg: n,
 	}
-	dc.ho, dc.wo = dc.hp-span, dc.wp-span
-	dc.plane = dc.hp * dc.wp
+	dc.ho, dc.wo = (dc.hp-span-1)/s+1, (dc.wp-span-1)/s+1
+	dc.hph, dc.wph = (dc.hp+s-1)/s, (dc.wp+s-1)/s
+	dc.gw = dc.wph
+	dc.plane = s * s * dc.hph * dc.wph
 	dc.kdim = cin * k * k
 	dc.offs = make([]int, 0, dc.kdim)
 	for c := range cin {
 		for ky := range k {
 			for kx := range k {
-				dc.offs = append(dc.offs, c*dc.plane+ky*d*dc.wp+kx*d)
+				ry, rx := ky*d%s, kx*d%s
+				phase := (ry*s + rx) * dc.hph * dc.wph
+				dc.offs = append(dc.offs, c*dc.plane+phase+ky*d/s*dc.wph+kx*d/s)
 			}
 		}
 	}
@@ -100,6 +108,53 @@ func (dc *direct) packWeights(w []float32, flip bool) {
 // padPlane copies channel plane src (h×w) into the padded plane dst.
 func (dc *direct) padPlane(dst, src []float32) {
 	p, w := dc.pad, dc.w
+	if dc.s > 1 {
+		s, ph := dc.s, dc.hph*dc.wph
+		for py := range dc.hp {
+			iy := py - p
+			zero := false
+			if iy < 0 || iy >= dc.h {
+				if dc.reflect {
+					iy = reflectIndex(iy, dc.h)
+				} else {
+					zero = true
+				}
+			}
+			var row []float32
+			if !zero {
+				row = src[iy*w : (iy+1)*w]
+			}
+			for rx := range s {
+				out := dst[(py%s*s+rx)*ph+py/s*dc.wph : (py%s*s+rx)*ph+(py/s+1)*dc.wph]
+				if zero {
+					clear(out)
+					continue
+				}
+				// Column j of this phase is padded column rx + j·s, input
+				// column rx + j·s − p: inside the row for j in [j0, j1).
+				j0 := max(0, (p-rx+s-1)/s)
+				j1 := min(len(out), (w+p-rx+s-1)/s)
+				j1 = max(j0, j1)
+				in := row[min(rx+j0*s-p, w):]
+				seg := out[j0:j1]
+				for t := range seg {
+					seg[t] = in[t*s]
+				}
+				for j := range out {
+					if j >= j0 && j < j1 {
+						continue
+					}
+					ix := rx + j*s - p
+					if dc.reflect {
+						out[j] = row[reflectIndex(ix, w)]
+					} else {
+						out[j] = 0
+					}
+				}
+			}
+		}
+		return
+	}
 	for py := range dc.hp {
 		row := dst[py*dc.wp : (py+1)*dc.wp]
 		iy := py - p
@@ -123,8 +178,8 @@ func (dc *direct) padPlane(dst, src []float32) {
 	}
 }
 
-// foldPlane adds the padded-plane gradient src onto the input-plane
-// gradient dst (overwritten): interior pixels map to themselves, padded
+// foldPlane adds the padded-plane gradient src (stride 1 only) onto the
+// input-plane gradient dst (overwritten): interior pixels map to themselves, padded
 // ones onto the pixels they mirror (reflect) or nowhere (zero).
 func (dc *direct) foldPlane(dst, src []float32) {
 	p, w := dc.pad, dc.w
@@ -164,7 +219,7 @@ func (dc *direct) forwardUnit(u int, cbuf []float32) {
 	mr, nr, ncb := dc.mr, dc.nr, dc.ncb
 	x := dc.xpad[img*dc.cin*dc.plane:]
 	out := dc.dst[img*dc.cout*dc.ho*dc.wo : (img+1)*dc.cout*dc.ho*dc.wo]
-	q0, q1 := oy0*dc.wp, (oy1-1)*dc.wp+dc.wo
+	q0, q1 := oy0*dc.gw, (oy1-1)*dc.gw+dc.wo
 	ind := kern.ind
 	// Passes over k short enough that a panel's rows of the padded input
 	// stay in L1 while the output channels run over them.
@@ -184,14 +239,14 @@ func (dc *direct) forwardUnit(u int, cbuf []float32) {
 			}
 		}
 		// Copy the valid grid columns out, adding the bias.
-		for oy := jc / dc.wp; oy*dc.wp < jc+nc; oy++ {
-			a := max(jc-oy*dc.wp, 0)
-			e := min(jc+nc-oy*dc.wp, dc.wo)
+		for oy := jc / dc.gw; oy*dc.gw < jc+nc; oy++ {
+			a := max(jc-oy*dc.gw, 0)
+			e := min(jc+nc-oy*dc.gw, dc.wo)
 			if a >= e {
 				continue
 			}
 			for o := range dc.cout {
-				src := cbuf[o*ncb+oy*dc.wp+a-jc : o*ncb+oy*dc.wp+e-jc]
+				src := cbuf[o*ncb+oy*dc.gw+a-jc : o*ncb+oy*dc.gw+e-jc]
 				d := out[(o*dc.ho+oy)*dc.wo+a : (o*dc.ho+oy)*dc.wo+e]
 				if dc.bias != nil {
 					b := dc.bias[o]
@@ -226,7 +281,7 @@ func newGradGrid(dc *direct, procs int) *gradGrid {
 	g := &gradGrid{mo: kern.mo, mk: kern.mk, lanes: kern.lanes}
 	g.mopad = (dc.cout + g.mo - 1) / g.mo * g.mo
 	g.kpad = (dc.kdim + g.mk - 1) / g.mk * g.mk
-	q := dc.ho * dc.wp
+	q := dc.ho * dc.gw
 	g.chunk = (dotChunk + g.lanes - 1) / g.lanes * g.lanes
 	g.ldq = (q + g.lanes - 1) / g.lanes * g.lanes
 	g.offs = make([]int, g.kpad)
@@ -246,7 +301,7 @@ func (g *gradGrid) fillRow(dc *direct, img, o int, dy []float32) {
 	clear(row)
 	src := dy[(img*dc.cout+o)*dc.ho*dc.wo:]
 	for oy := range dc.ho {
-		copy(row[oy*dc.wp:oy*dc.wp+dc.wo], src[oy*dc.wo:(oy+1)*dc.wo])
+		copy(row[oy*dc.gw:oy*dc.gw+dc.wo], src[oy*dc.wo:(oy+1)*dc.wo])
 	}
 }
 
