@@ -228,9 +228,8 @@ func float32Data(v G.Value) ([]float32, error) {
 	if d.RequiresIterator() {
 		return nil, errors.New("tensor is not contiguous")
 	}
-	s, ok := d.Data().([]float32)
-	if !ok {
+	if d.Dtype() != tensor.Float32 {
 		return nil, fmt.Errorf("tensor holds %v, want float32", d.Dtype())
 	}
-	return s, nil
+	return d.Float32s(), nil
 }

@@ -33,6 +33,7 @@ type kernelOp struct {
 	grad func(inputs G.Nodes, output, grad *G.Node) (G.Nodes, error)
 
 	out       *tensor.Dense
+	outData   []float32
 	scalar    G.F32
 	scalarOut [1]float32
 	ins       [][]float32
@@ -113,9 +114,10 @@ func (op *kernelOp) Do(vals ...G.Value) (G.Value, error) {
 		return &op.scalar, nil
 	}
 	if op.out == nil {
-		op.out = tensor.New(tensor.WithShape(op.outShape.Clone()...), tensor.WithBacking(make([]float32, op.outShape.TotalSize())))
+		op.outData = make([]float32, op.outShape.TotalSize())
+		op.out = tensor.New(tensor.WithShape(op.outShape.Clone()...), tensor.WithBacking(op.outData))
 	}
-	if err := op.run(op.out.Data().([]float32), op.ins); err != nil {
+	if err := op.run(op.outData, op.ins); err != nil {
 		return nil, err
 	}
 	clear(op.ins)
@@ -152,14 +154,9 @@ func (op *kernelOp) data(i int, v G.Value) ([]float32, error) {
 		if x.RequiresIterator() {
 			return nil, fmt.Errorf("train: %s %q: input %d is not contiguous", op.kind, op.name, i)
 		}
-		d, ok := x.Data().([]float32)
-		if !ok { // a one-element tensor may hold a bare float32
-			f, ok := x.Data().(float32)
-			if !ok {
-				return nil, fmt.Errorf("train: %s %q: input %d has no float32 data", op.kind, op.name, i)
-			}
-			op.one[i][0] = f
-			return op.one[i][:], nil
+		d := x.Float32s() // no interface boxing, unlike Data()
+		if n := want.TotalSize(); len(d) != n && !(want.IsScalar() && len(d) == 1) {
+			return nil, fmt.Errorf("train: %s %q: input %d has %d values, want %d", op.kind, op.name, i, len(d), n)
 		}
 		return d, nil
 	}

@@ -266,3 +266,53 @@ func TestIdenticalLayersStayDistinct(t *testing.T) {
 		t.Error("the two layers share an op (and its output buffer)")
 	}
 }
+
+// The operators do not allocate when they run: each owns its output buffer
+// and the cpu plans own their workspaces.
+func TestOperatorsDoNotAllocate(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 5))
+	g := G.NewGraph()
+	x := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 3, 8, 8), G.WithName("x"))
+	w := G.NewTensor(g, tensor.Float32, 4, G.WithShape(4, 3, 3, 3), G.WithName("w"))
+	b := G.NewVector(g, tensor.Float32, G.WithShape(4), G.WithName("b"))
+	y, err := Conv2D("c", x, w, b, ConvSpec{Pad: 1, Reflect: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	e, err := ELU("e", y)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cat, err := Concat("cat", e, x)
+	if err != nil {
+		t.Fatal(err)
+	}
+	vx := tensor.New(tensor.WithShape(2, 3, 8, 8), tensor.WithBacking(uniform(rng, 2*3*64, 0, 1)))
+	vw := tensor.New(tensor.WithShape(4, 3, 3, 3), tensor.WithBacking(uniform(rng, 4*27, -1, 1)))
+	vb := tensor.New(tensor.WithShape(4), tensor.WithBacking(uniform(rng, 4, -1, 1)))
+	conv, elu, concat := y.Op().(*kernelOp), e.Op().(*kernelOp), cat.Op().(*kernelOp)
+	var vy, ve G.Value
+	run := func() {
+		var err error
+		if vy, err = conv.Do(vx, vw, vb); err != nil {
+			t.Fatal(err)
+		}
+		if ve, err = elu.Do(vy); err != nil {
+			t.Fatal(err)
+		}
+		if _, err = concat.Do(ve, vx); err != nil {
+			t.Fatal(err)
+		}
+	}
+	run()
+	if n := testing.AllocsPerRun(20, run); n != 0 {
+		t.Errorf("%v allocations per run", n)
+	}
+	// A value of the wrong shape is an error, not a panic.
+	if _, err := conv.Do(vw, vw, vb); err == nil {
+		t.Error("a wrong input shape was accepted")
+	}
+	if _, err := elu.Do(G.NewF32(1)); err == nil {
+		t.Error("a scalar was accepted for a tensor input")
+	}
+}
