@@ -22,8 +22,10 @@ type Options struct {
 	// field of view is fixed per style).
 	Width, Height int
 
-	// Samples is the number of colour samples per pixel along each axis
-	// (Samples² per pixel, on a regular grid); 0 means DefaultSamples.
+	// Samples is the number of colour samples along each axis of a pixel
+	// near silhouettes and creases (Samples² rays on a regular sub-pixel
+	// grid; elsewhere one pre-filtered sample at the centre suffices, see
+	// the package documentation); 0 means DefaultSamples.
 	Samples int
 
 	// Workers is the number of pairs WriteDataset renders at once; 0 means
