@@ -28,13 +28,7 @@ func avgPoolRows(t *opTask, lo, hi int) {
 		p, y := r/oh, r%oh
 		r0 := t.a[(p*h+2*y)*w : (p*h+2*y+1)*w]
 		r1 := t.a[(p*h+2*y+1)*w : (p*h+2*y+2)*w]
-		o := t.dst[r*ow : (r+1)*ow]
-		// The sum in PyTorch's order (row by row), then the mean; both
-		// are exact scalings by a power of two apart.
-		for len(o) > 0 && len(r0) > 1 && len(r1) > 1 {
-			o[0] = (((r0[0] + r0[1]) + r1[0]) + r1[1]) * 0.25
-			o, r0, r1 = o[1:], r0[2:], r1[2:]
-		}
+		sumBlocks2x2(t.dst[r*ow:(r+1)*ow], r0, r1, 0.25)
 	}
 }
 
@@ -72,13 +66,39 @@ func avgPoolBackwardRows(t *opTask, lo, hi int) {
 		if w%2 == 1 {
 			r0[w-1], r1[w-1] = 0, 0
 		}
-		for len(g) > 0 && len(r0) > 1 && len(r1) > 1 {
-			v := 0.25 * g[0]
-			r0[0], r0[1], r1[0], r1[1] = v, v, v, v
-			g, r0, r1 = g[1:], r0[2:], r1[2:]
-		}
+		spreadBlocks2x2(r0, r1, g, 0.25)
 		if y == oh-1 && h%2 == 1 {
 			clear(t.dst[(p*h+h-1)*w : (p*h+h)*w])
 		}
+	}
+}
+
+// sumBlocks2x2 writes into g[j] the sum of the block r0[2j], r0[2j+1],
+// r1[2j], r1[2j+1], added in that order (PyTorch's, so the mean agrees to
+// the last bit), times scale. The rows need at least 2·len(g) values.
+func sumBlocks2x2(g, r0, r1 []float32, scale float32) {
+	if blocksAVX2 {
+		k := len(g) &^ 7
+		sumBlocks2x2AVX2(g[:k], r0[:2*k], r1[:2*k], scale)
+		g, r0, r1 = g[k:], r0[2*k:], r1[2*k:]
+	}
+	for len(g) > 0 && len(r0) > 1 && len(r1) > 1 {
+		g[0] = (((r0[0] + r0[1]) + r1[0]) + r1[1]) * scale
+		g, r0, r1 = g[1:], r0[2:], r1[2:]
+	}
+}
+
+// spreadBlocks2x2 writes scale·v[j] into the block r0[2j], r0[2j+1],
+// r1[2j], r1[2j+1] for every j. The rows need at least 2·len(v) values.
+func spreadBlocks2x2(r0, r1, v []float32, scale float32) {
+	if blocksAVX2 {
+		k := len(v) &^ 7
+		spreadBlocks2x2AVX2(r0[:2*k], r1[:2*k], v[:k], scale)
+		r0, r1, v = r0[2*k:], r1[2*k:], v[k:]
+	}
+	for len(v) > 0 && len(r0) > 1 && len(r1) > 1 {
+		x := scale * v[0]
+		r0[0], r0[1], r1[0], r1[1] = x, x, x, x
+		r0, r1, v = r0[2:], r1[2:], v[1:]
 	}
 }

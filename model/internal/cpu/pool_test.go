@@ -5,7 +5,22 @@ import (
 	"testing"
 )
 
-func TestAvgPool2x2AgainstTorch(t *testing.T) {
+// blocksPaths runs f with the Go loops and, where the CPU has them, with
+// the AVX2 loops for 2×2 blocks (average pooling, nearest upsampling).
+func blocksPaths(t *testing.T, f func(t *testing.T)) {
+	saved := blocksAVX2
+	defer func() { blocksAVX2 = saved }()
+	blocksAVX2 = false
+	t.Run("go", f)
+	if saved {
+		blocksAVX2 = true
+		t.Run("avx2", f)
+	}
+}
+
+func TestAvgPool2x2AgainstTorch(t *testing.T) { blocksPaths(t, testAvgPool2x2AgainstTorch) }
+
+func testAvgPool2x2AgainstTorch(t *testing.T) {
 	for _, c := range loadOpsFixture(t, "pool.json") {
 		n, ch, h, w := c.nchw()
 		name := fmt.Sprintf("avg pool %v", c.Shape)
@@ -24,8 +39,10 @@ func TestAvgPool2x2AgainstTorch(t *testing.T) {
 	}
 }
 
-func TestAvgPool2x2Large(t *testing.T) {
-	n, c, h, w := 2, 3, 131, 257 // odd sizes, split over cores
+func TestAvgPool2x2Large(t *testing.T) { blocksPaths(t, testAvgPool2x2Large) }
+
+func testAvgPool2x2Large(t *testing.T) {
+	n, c, h, w := 2, 3, 131, 277 // odd sizes, split over cores, a SIMD tail
 	x := opsRandom(n*c*h*w, 1, 31)
 	oh, ow := h/2, w/2
 	g := opsRandom(n*c*oh*ow, 1, 32)
@@ -74,8 +91,10 @@ func TestAvgPool2x2Degenerate(t *testing.T) {
 	}
 }
 
-func TestAvgPool2x2FiniteDifferences(t *testing.T) {
-	n, c, h, w := 2, 1, 5, 4
+func TestAvgPool2x2FiniteDifferences(t *testing.T) { blocksPaths(t, testAvgPool2x2FiniteDifferences) }
+
+func testAvgPool2x2FiniteDifferences(t *testing.T) {
+	n, c, h, w := 2, 1, 5, 37
 	x := opsRandom(n*c*h*w, 1, 33)
 	gy := opsRandom(n*c*(h/2)*(w/2), 1, 34)
 	gx := make([]float32, len(x))

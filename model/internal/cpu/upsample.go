@@ -183,17 +183,7 @@ func UpsampleNearest2x(dst, src []float32, n, c, h, w int) {
 func upNearestRows(t *opTask, lo, hi int) {
 	w := t.w
 	for r := lo; r < hi; r++ {
-		in := t.a[r*w : (r+1)*w]
-		out := t.dst[2*r*2*w : (2*r+1)*2*w]
-		o := out
-		for _, v := range in {
-			if len(o) < 2 {
-				break
-			}
-			o[0], o[1] = v, v
-			o = o[2:]
-		}
-		copy(t.dst[(2*r+1)*2*w:(2*r+2)*2*w], out)
+		spreadBlocks2x2(t.dst[2*r*2*w:(2*r+1)*2*w], t.dst[(2*r+1)*2*w:(2*r+2)*2*w], t.a[r*w:(r+1)*w], 1)
 	}
 }
 
@@ -215,17 +205,6 @@ func UpsampleNearest2xBackward(dsrc, ddst []float32, n, c, h, w int) {
 func upNearestBackwardRows(t *opTask, lo, hi int) {
 	w := t.w
 	for r := lo; r < hi; r++ {
-		g := t.dst[r*w : (r+1)*w]
-		r0 := t.a[2*r*2*w : (2*r+1)*2*w]
-		r1 := t.a[(2*r+1)*2*w : (2*r+2)*2*w]
-		sumBlocks2x2(g, r0, r1)
-	}
-}
-
-// sumBlocks2x2 writes into g[j] the sum r0[2j] + r0[2j+1] + r1[2j] + r1[2j+1].
-func sumBlocks2x2(g, r0, r1 []float32) {
-	for len(g) > 0 && len(r0) > 1 && len(r1) > 1 {
-		g[0] = (r0[0] + r0[1]) + (r1[0] + r1[1])
-		g, r0, r1 = g[1:], r0[2:], r1[2:]
+		sumBlocks2x2(t.dst[r*w:(r+1)*w], t.a[2*r*2*w:(2*r+1)*2*w], t.a[(2*r+1)*2*w:(2*r+2)*2*w], 1)
 	}
 }

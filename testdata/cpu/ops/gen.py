@@ -118,7 +118,7 @@ def bias():
 
 def pool():
     cases = []
-    for shape in [(2, 3, 4, 6), (1, 2, 5, 7), (1, 1, 3, 3), (1, 1, 2, 2), (2, 1, 7, 4)]:
+    for shape in [(2, 3, 4, 6), (1, 2, 5, 7), (1, 1, 3, 3), (1, 1, 2, 2), (2, 1, 7, 4), (1, 2, 6, 37)]:
         x = randn(*shape)
         y, gy, (gx,) = run(lambda t: F.avg_pool2d(t, kernel_size=2, stride=2), [x])
         cases.append({"op": "avg_pool2d_k2_s2", "shape": list(shape), "x": flat(x),
