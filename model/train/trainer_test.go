@@ -1,0 +1,340 @@
+package train
+
+import (
+	"context"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/data"
+)
+
+// trainerConfig is a small instance of the architecture at half the size
+// of the committed synthetic pairs (256×128), so the trainer tests stay
+// fast.
+var trainerConfig = model.Config{Width: 128, Height: 64, Encoder: []int{8, 8, 12, 12, 16}, Decoder: []int{8, 8, 8, 12, 12}}
+
+// openSynth opens a style of testdata/synth (3 pairs with exact ground
+// truth, made by package synth).
+func openSynth(t testing.TB, style string) *data.Dataset {
+	t.Helper()
+	ds, err := data.Open(filepath.Join("..", "..", "testdata", "synth", style))
+	if err != nil {
+		t.Skipf("synthetic pairs not available: %v", err)
+	}
+	return ds
+}
+
+func newTestTrainer(t testing.TB, w *model.Weights, src Source, opt Options) *Trainer {
+	t.Helper()
+	tr, err := NewTrainer(w, src, &opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { tr.Close() })
+	return tr
+}
+
+func freshWeights(t testing.TB, seed uint64) *model.Weights {
+	t.Helper()
+	w, err := model.NewWeights(trainerConfig, seed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return w
+}
+
+// Training on the synthetic greenhouse pairs lowers the objective and the
+// disparity error against the renderer's exact ground truth (package
+// synth; EPE and δ < 1.25 computed by package depth).
+func TestTrainerLowersLossAndError(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	w := freshWeights(t, 3)
+	src, err := NewDatasetSource(ds, trainerConfig, 1, 1, &data.DefaultAugment)
+	if err != nil {
+		t.Fatal(err)
+	}
+	before, err := Evaluate(context.Background(), w, ds, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !before.HasDisparity || !before.HasDepth || before.Pairs != 3 {
+		t.Fatalf("evaluation before: %+v, want disparity and depth over 3 pairs", before)
+	}
+	var reports int
+	tr := newTestTrainer(t, w, src, Options{Steps: 90, Batch: 1, Seed: 1, Schedule: Schedule{Rate: 1e-3},
+		Progress: func(p Progress) {
+			reports++
+			if p.StepsPerSec <= 0 || p.PairsPerSec != p.StepsPerSec {
+				t.Errorf("step %d: rate %v steps/s, %v pairs/s", p.Step, p.StepsPerSec, p.PairsPerSec)
+			}
+		}})
+	res, err := tr.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Step != 90 || res.Skips != 0 || res.Interrupted || reports != 90 {
+		t.Fatalf("result %+v after %d reports", res, reports)
+	}
+	after, err := Evaluate(context.Background(), tr.Weights(), ds, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("objective %.4f → %.4f; EPE %.2f → %.2f px; abs rel %.3f → %.3f; δ1 %.3f → %.3f",
+		res.First.Total, res.Last.Total, before.Disparity.EPE, after.Disparity.EPE,
+		before.Depth.AbsRel, after.Depth.AbsRel, before.Depth.Delta1, after.Depth.Delta1)
+	if !(res.Last.Total < 0.8*res.First.Total) {
+		t.Errorf("objective fell from %.4f only to %.4f", res.First.Total, res.Last.Total)
+	}
+	if !(after.Disparity.EPE < 0.8*before.Disparity.EPE) {
+		t.Errorf("EPE fell from %.3f only to %.3f px", before.Disparity.EPE, after.Disparity.EPE)
+	}
+	if !(after.Depth.AbsRel < before.Depth.AbsRel) {
+		t.Errorf("abs rel rose from %.3f to %.3f", before.Depth.AbsRel, after.Depth.AbsRel)
+	}
+}
+
+// A run cancelled part-way writes a checkpoint; a new Trainer resumed from
+// it ends with weights and solver state bit for bit those of the
+// uninterrupted run. The interruption falls inside an epoch (3 batches per
+// epoch), with augmentation on, so the data position and the random state
+// are both exercised.
+func TestResumeEqualsUninterrupted(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	const steps, stop = 7, 4
+	dir := t.TempDir()
+	opts := func(path string) Options {
+		return Options{Steps: steps, Batch: 1, Seed: 5, Schedule: Schedule{Warmup: 2}, CheckpointPath: path, CheckpointEvery: 3}
+	}
+	source := func() Source {
+		src, err := NewDatasetSource(ds, trainerConfig, 1, 5, &data.DefaultAugment)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return src
+	}
+
+	full := newTestTrainer(t, freshWeights(t, 9), source(), opts(filepath.Join(dir, "full.ckpt")))
+	if _, err := full.Run(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+
+	path := filepath.Join(dir, "part.ckpt")
+	ctx, cancel := context.WithCancel(context.Background())
+	o := opts(path)
+	o.Progress = func(p Progress) {
+		if p.Step == stop {
+			cancel()
+		}
+	}
+	part := newTestTrainer(t, freshWeights(t, 9), source(), o)
+	res, err := part.Run(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !res.Interrupted || res.Step != stop || res.Checkpoint != path {
+		t.Fatalf("cancelled run: %+v, want interrupted at step %d with checkpoint %s", res, stop, path)
+	}
+	c, err := LoadCheckpoint(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Step != stop || c.Solver.Step != stop {
+		t.Fatalf("checkpoint at step %d (%d updates), want %d", c.Step, c.Solver.Step, stop)
+	}
+
+	// A fresh process: other initial weights, which Resume replaces.
+	resumed := newTestTrainer(t, freshWeights(t, 77), source(), opts(path))
+	if err := resumed.Resume(c); err != nil {
+		t.Fatal(err)
+	}
+	rres, err := resumed.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rres.Step != steps {
+		t.Fatalf("resumed run ended at step %d", rres.Step)
+	}
+	a, b := full.Checkpoint(), resumed.Checkpoint()
+	for name, v := range a.Weights.Params {
+		for i := range v {
+			if math.Float32bits(v[i]) != math.Float32bits(b.Weights.Params[name][i]) {
+				t.Fatalf("parameter %s[%d]: uninterrupted %v, resumed %v", name, i, v[i], b.Weights.Params[name][i])
+			}
+		}
+	}
+	for name, m := range a.Solver.M {
+		for i := range m {
+			if math.Float32bits(m[i]) != math.Float32bits(b.Solver.M[name][i]) || math.Float32bits(a.Solver.V[name][i]) != math.Float32bits(b.Solver.V[name][i]) {
+				t.Fatalf("moments of %s differ at %d", name, i)
+			}
+		}
+	}
+	if a.Solver.Step != b.Solver.Step || a.Step != b.Step {
+		t.Errorf("steps: uninterrupted %d/%d, resumed %d/%d", a.Step, a.Solver.Step, b.Step, b.Solver.Step)
+	}
+	if full.first != resumed.first {
+		t.Errorf("first terms: uninterrupted %+v, resumed %+v", full.first, resumed.first)
+	}
+	// The two final checkpoint files are the same bytes.
+	fa, _ := os.ReadFile(filepath.Join(dir, "full.ckpt"))
+	fb, _ := os.ReadFile(path)
+	if string(fa) != string(fb) {
+		t.Errorf("final checkpoints differ (%d and %d bytes)", len(fa), len(fb))
+	}
+}
+
+// poisoned wraps a Source and fills one batch with NaN pixels.
+type poisoned struct {
+	Source
+	at int // global batch index
+}
+
+type poisonedBatches struct {
+	Batches
+	k, at int
+}
+
+func (p poisoned) Epoch(ctx context.Context, e int) Batches {
+	return &poisonedBatches{Batches: p.Source.Epoch(ctx, e), k: e * p.BatchesPerEpoch(), at: p.at}
+}
+
+func (p *poisonedBatches) Next() (*data.Batch, error) {
+	b, err := p.Batches.Next()
+	if err == nil && p.k == p.at {
+		b.Right.Pix[17] = float32(math.NaN())
+	}
+	p.k++
+	return b, err
+}
+
+// A batch with a NaN pixel is skipped and reported; the checkpoint written
+// after it holds the same weights and moments as the one before.
+func TestPoisonedBatchSkipped(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	src, err := NewDatasetSource(ds, trainerConfig, 1, 2, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "run.ckpt")
+	var ckpts []*Checkpoint
+	var skipped []Progress
+	tr := newTestTrainer(t, freshWeights(t, 4), poisoned{src, 2}, Options{Steps: 4, Batch: 1, Seed: 2,
+		CheckpointPath: path, CheckpointEvery: 1,
+		Progress: func(p Progress) {
+			if p.Skipped {
+				skipped = append(skipped, p)
+			}
+			if p.Checkpoint != "" {
+				c, err := LoadCheckpoint(p.Checkpoint)
+				if err != nil {
+					t.Fatal(err)
+				}
+				ckpts = append(ckpts, c)
+			}
+		}})
+	res, err := tr.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(skipped) != 1 || skipped[0].Step != 3 || !strings.Contains(skipped[0].SkipReason, "NaN") {
+		t.Fatalf("skipped steps %+v, want step 3 reported with a NaN reason", skipped)
+	}
+	t.Logf("skip reason: %s", skipped[0].SkipReason)
+	if res.Skips != 1 || res.Step != 4 {
+		t.Errorf("result %+v, want 4 steps with 1 skip", res)
+	}
+	if len(ckpts) != 3 { // after steps 1, 2 and 3; the end writes the last
+		t.Fatalf("%d checkpoints during the run, want 3", len(ckpts))
+	}
+	before, after := ckpts[1], ckpts[2]
+	if after.Solver.Step != before.Solver.Step || after.Skips != 1 || after.Step != 3 {
+		t.Errorf("after the poisoned step: %d updates, %d skips, step %d", after.Solver.Step, after.Skips, after.Step)
+	}
+	for name, v := range before.Weights.Params {
+		for i := range v {
+			if math.Float32bits(v[i]) != math.Float32bits(after.Weights.Params[name][i]) ||
+				math.Float32bits(before.Solver.M[name][i]) != math.Float32bits(after.Solver.M[name][i]) ||
+				math.Float32bits(before.Solver.V[name][i]) != math.Float32bits(after.Solver.V[name][i]) {
+				t.Fatalf("%s[%d] changed across the poisoned step", name, i)
+			}
+		}
+	}
+	// The step after the poisoned one trains again.
+	final, err := LoadCheckpoint(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if final.Solver.Step != 3 || final.Step != 4 {
+		t.Errorf("final checkpoint: %d updates at step %d, want 3 at 4", final.Solver.Step, final.Step)
+	}
+}
+
+// A network whose heads output a constant map (zero head weights) with a
+// negligible learning rate is reported as collapsed after
+// CollapseOptions.Steps steps.
+func TestCollapseReported(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	src, err := NewDatasetSource(ds, trainerConfig, 1, 1, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := freshWeights(t, 1)
+	for name, v := range w.Params {
+		if strings.HasPrefix(name, "head") && strings.HasSuffix(name, ".weight") {
+			clear(v)
+		}
+	}
+	var at []int
+	tr := newTestTrainer(t, w, src, Options{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
+		Collapse: CollapseOptions{Steps: 4},
+		Progress: func(p Progress) {
+			if p.Spread > 1e-3 {
+				t.Errorf("step %d: spread %v of a constant map", p.Step, p.Spread)
+			}
+			if p.Collapsed {
+				at = append(at, p.Step)
+			}
+		}})
+	res, err := tr.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(at) != 1 || at[0] != 4 || res.Collapses != 1 {
+		t.Errorf("collapse reported at steps %v (%d episodes), want once at step 4", at, res.Collapses)
+	}
+	// A trained-looking map is not flagged.
+	if s := spread([]float32{0.1, 0.2, 0.3, 0.4}, 1); !(s > 0.4 && s < 0.5) {
+		t.Errorf("spread of 0.1…0.4 is %v, want √0.0125/0.25 ≈ 0.447", s)
+	}
+}
+
+// The default schedule: linear warm-up, then ×0.5 at 60% and 80% of the
+// steps (our own defaults, see Schedule).
+func TestScheduleDefaults(t *testing.T) {
+	var s Schedule
+	const steps = 1000 // warm-up 20 steps
+	cases := []struct {
+		step int
+		want float64
+	}{
+		{0, 3e-4 / 21}, {9, 3e-4 * 10 / 21}, {19, 3e-4 * 20 / 21}, {20, 3e-4}, {599, 3e-4},
+		{600, 1.5e-4}, {799, 1.5e-4}, {800, 0.75e-4}, {999, 0.75e-4},
+	}
+	for _, c := range cases {
+		if got := s.At(c.step, steps); math.Abs(got-c.want) > 1e-15 {
+			t.Errorf("rate at step %d: %v, want %v", c.step, got, c.want)
+		}
+	}
+	if got := (Schedule{Warmup: -1, Milestones: []float64{}}).At(0, 10); got != 3e-4 {
+		t.Errorf("no warm-up, no decay: %v", got)
+	}
+	for _, bad := range []Schedule{{Rate: -1}, {Milestones: []float64{1.5}}, {Decay: math.NaN()}, {Rate: math.Inf(1)}} {
+		if _, err := bad.withDefaults(10); err == nil || !strings.HasPrefix(err.Error(), "train: ") {
+			t.Errorf("schedule %+v: error %v", bad, err)
+		}
+	}
+}
