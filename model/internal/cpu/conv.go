@@ -86,6 +86,11 @@ type Conv2D struct {
 	fd, bd *direct
 	gg     *gradGrid
 	dxpad  []float32
+	// For strides above 1, phases compute the phase planes of dxpad from
+	// dq, the output gradient zero-padded by pq into hq×wq planes.
+	phases     []*direct
+	dq         []float32
+	pq, hq, wq int
 	task   convTask
 	taskFn func(lo, hi int)
 	// state of the current call on the stride-1 path
@@ -103,6 +108,9 @@ const (
 	taskFold
 	taskFillGrid
 	taskWeightGrad
+	taskPadDq
+	taskPhaseGrad
+	taskFoldPhases
 )
 
 // convWorker is what one goroutine needs for a unit of convolution work.
@@ -117,6 +125,11 @@ type convWorker struct {
 	dcol []float32 // a block of the im2col gradient
 	cbuf []float32 // an output block of the stride-1 path
 }
+
+// im2colOnly makes new plans take the im2col path for every layer, so that
+// tests can check it; otherwise only 1×1, stride-1, unpadded layers (where
+// im2col is the input itself) do.
+var im2colOnly bool
 
 // maxElems bounds every tensor a plan handles so that index arithmetic
 // stays far from overflow.
@@ -172,13 +185,23 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	c.dwFn = c.weightGradUnits
 	c.dxFn = c.inputGradUnits
 	c.taskFn = c.runTask
-	if !c.ident {
+	if !c.ident && !im2colOnly {
 		c.fd = newDirect(p.InC, p.OutC, h, w, p.Kernel, p.Stride, p.Dilation, p.Pad, p.Padding == ReflectPad, n)
+		span := (p.Kernel - 1) * p.Dilation
 		if p.Stride == 1 {
-			span := (p.Kernel - 1) * p.Dilation
 			c.bd = newDirect(p.OutC, p.InC, ho, wo, p.Kernel, 1, p.Dilation, span, false, n)
-			c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+		} else {
+			fd, s := c.fd, p.Stride
+			c.pq = span / s
+			c.hq, c.wq = max(ho+2*c.pq, fd.hph+c.pq), max(wo+2*c.pq, fd.wph+c.pq)
+			c.dq = make([]float32, n*p.OutC*c.hq*c.wq+c.wq+128)
+			for ry := range s {
+				for rx := range s {
+					c.phases = append(c.phases, newPhaseGrad(fd, ry, rx, c.pq, c.hq, c.wq, c.dq))
+				}
+			}
 		}
+		c.dxpad = make([]float32, n*p.InC*c.fd.plane)
 	}
 	c.makeWorkers()
 	return c, nil
@@ -212,8 +235,12 @@ func (c *Conv2D) makeWorkers() {
 		if c.bd != nil {
 			c.bd.size(procs)
 			cbufLen = max(cbufLen, c.bd.mpad*c.bd.ncb)
-			dcolLen = 0
 		}
+		for _, ph := range c.phases {
+			ph.size(procs)
+			cbufLen = max(cbufLen, ph.mpad*ph.ncb)
+		}
+		dcolLen = 0
 	}
 	for i := range c.workers {
 		wk := &convWorker{
@@ -323,7 +350,7 @@ func (c *Conv2D) runTasks(t convTask, n int, src, dst []float32) {
 	c.task, c.src, c.dst = t, src, dst
 	grain := 1
 	switch t {
-	case taskPadX, taskPadDy, taskFold, taskFillGrid:
+	case taskPadX, taskPadDy, taskFold, taskFillGrid, taskPadDq, taskFoldPhases:
 		grain = max(1, n/(4*runtime.GOMAXPROCS(0)))
 	}
 	ParallelFor(n, grain, c.taskFn)
@@ -352,6 +379,23 @@ func (c *Conv2D) runTask(lo, hi int) {
 		for i := lo; i < hi; i++ {
 			c.gg.fillRow(fd, i/c.p.OutC, i%c.p.OutC, c.src)
 		}
+	case taskPadDq: // unit: one output-gradient plane
+		plane := c.g.ho * c.g.wo
+		for i := lo; i < hi; i++ {
+			padZero(c.dq[i*c.hq*c.wq:(i+1)*c.hq*c.wq], c.src[i*plane:(i+1)*plane], c.g.ho, c.g.wo, c.pq, c.hq, c.wq)
+		}
+	case taskFoldPhases: // unit: one input-gradient plane
+		inPlane := fd.h * fd.w
+		for i := lo; i < hi; i++ {
+			fd.foldPhases(c.dst[i*inPlane:(i+1)*inPlane], c.dxpad[i*fd.plane:(i+1)*fd.plane])
+		}
+	case taskPhaseGrad:
+		wk := <-c.free
+		per := c.phases[0].units()
+		for u := lo; u < hi; u++ {
+			c.phases[u/per].forwardUnit(u%per, wk.cbuf)
+		}
+		c.free <- wk
 	case taskForward, taskInputGrad, taskWeightGrad:
 		wk := <-c.free
 		for u := lo; u < hi; u++ {

@@ -170,7 +170,16 @@ func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 	if dx != nil && c.bd == nil {
 		c.check("Backward", dx, inLen, "dx")
 		c.check("Backward", w, c.WeightLen(), "weight")
-		c.inputGrad(dx, w, dy)
+		c.runTasks(taskPadDq, c.n*c.p.OutC, dy, nil)
+		for _, ph := range c.phases {
+			ph.packWeights(w, false)
+			ph.dst = c.dxpad
+		}
+		c.runTasks(taskPhaseGrad, len(c.phases)*c.phases[0].units(), nil, nil)
+		for _, ph := range c.phases {
+			ph.dst = nil
+		}
+		c.runTasks(taskFoldPhases, c.n*c.p.InC, nil, dx)
 		return
 	}
 	if dx != nil {

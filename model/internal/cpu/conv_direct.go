@@ -34,9 +34,16 @@ type direct struct {
 	xpad   []float32 // n images of cin·plane, then slack
 	ncb    int       // grid columns per output block
 	rows   int       // output rows per unit of work
-	dst    []float32 // output of the current call, n×cout×ho×wo
+	dst    []float32 // output of the current call
 	bias   []float32
 	nimg   int
+
+	// widx, if not nil, maps packed weight (o, kk) to w[widx[o·kdim+kk]]
+	// instead of w[o·kdim+kk].
+	widx []int
+	// Output pixel (o, oy, ox) of image img goes to
+	// dst[dstOff + img·dstImg + o·dstChan + oy·wo + ox].
+	dstOff, dstImg, dstChan int
 }
 
 func newDirect(cin, cout, h, w, k, s, d, pad int, reflect bool, n int) *direct {
@@ -61,7 +68,113 @@ func newDirect(cin, cout, h, w, k, s, d, pad int, reflect bool, n int) *direct {
 		}
 	}
 	dc.xpad = make([]float32, n*cin*dc.plane+dc.slack())
+	dc.dstChan = dc.ho * dc.wo
+	dc.dstImg = cout * dc.dstChan
 	return dc
+}
+
+// newPhaseGrad returns the convolution that computes phase (ry, rx) of the
+// padded-input gradient of the strided layer fd (fd.cout output channels,
+// fd.ho×fd.wo output) from dq, the output gradient zero-padded by pq on
+// the top and left into planes of hq×wq. Padded input pixel
+// (a·s+ry, b·s+rx) receives W[o][c][ky][kx]·dY[o][a−qy][b−qx] from the taps
+// with ky·d = qy·s+ry and kx·d = qx·s+rx, a stride-1 correlation with
+// those taps. The result goes to phase plane (ry, rx) of a buffer laid out
+// like fd.xpad.
+func newPhaseGrad(fd *direct, ry, rx, pq, hq, wq int, dq []float32) *direct {
+	s, d, k := fd.s, fd.d, fd.k
+	dc := &direct{
+		cin: fd.cout, cout: fd.cin, k: k, s: 1, d: d,
+		hp: hq, wp: wq, gw: wq, plane: hq * wq,
+		ho: fd.hph, wo: fd.wph, nimg: fd.nimg, xpad: dq,
+	}
+	var tys, txs []int
+	for t := range k {
+		if t*d%s == ry {
+			tys = append(tys, t)
+		}
+		if t*d%s == rx {
+			txs = append(txs, t)
+		}
+	}
+	taps := len(tys) * len(txs)
+	dc.kdim = fd.cout * taps
+	for o := range fd.cout {
+		for _, ky := range tys {
+			for _, kx := range txs {
+				dc.offs = append(dc.offs, o*dc.plane+(pq-ky*d/s)*wq+pq-kx*d/s)
+			}
+		}
+	}
+	dc.widx = make([]int, 0, fd.cin*dc.kdim)
+	for c := range fd.cin {
+		for o := range fd.cout {
+			for _, ky := range tys {
+				for _, kx := range txs {
+					dc.widx = append(dc.widx, ((o*fd.cin+c)*k+ky)*k+kx)
+				}
+			}
+		}
+	}
+	dc.dstOff = (ry*s + rx) * fd.hph * fd.wph
+	dc.dstChan = fd.plane
+	dc.dstImg = fd.cin * fd.plane
+	return dc
+}
+
+// padZero writes plane src (h×w) into dst (hq×wq) at row and column pq,
+// zero elsewhere.
+func padZero(dst, src []float32, h, w, pq, hq, wq int) {
+	for u := range hq {
+		row := dst[u*wq : (u+1)*wq]
+		iy := u - pq
+		if iy < 0 || iy >= h {
+			clear(row)
+			continue
+		}
+		clear(row[:pq])
+		copy(row[pq:pq+w], src[iy*w:(iy+1)*w])
+		clear(row[pq+w:])
+	}
+}
+
+// foldPhases is foldPlane for s > 1: src is a padded-input gradient in
+// phase planes, as fd.xpad holds the input.
+func (dc *direct) foldPhases(dst, src []float32) {
+	p, w, s, ph := dc.pad, dc.w, dc.s, dc.hph*dc.wph
+	clear(dst)
+	for py := range dc.hp {
+		iy := py - p
+		if iy < 0 || iy >= dc.h {
+			if !dc.reflect {
+				continue
+			}
+			iy = reflectIndex(iy, dc.h)
+		}
+		d := dst[iy*w : (iy+1)*w]
+		for rx := range s {
+			row := src[(py%s*s+rx)*ph+py/s*dc.wph : (py%s*s+rx)*ph+(py/s+1)*dc.wph]
+			j0 := max(0, (p-rx+s-1)/s)
+			j1 := max(j0, min(len(row), (w+p-rx+s-1)/s))
+			if j1 > j0 {
+				out := d[rx+j0*s-p:]
+				for t, v := range row[j0:j1] {
+					out[t*s] += v
+				}
+			}
+			if !dc.reflect {
+				continue
+			}
+			for j, v := range row {
+				if j >= j0 && j < j1 {
+					continue
+				}
+				if ix := rx + j*s - p; ix < dc.wp-p { // skip phase cells past the padded row
+					d[reflectIndex(ix, w)] += v
+				}
+			}
+		}
+	}
 }
 
 // slack is how far past the last image the kernels may read: a panel that
@@ -94,7 +207,9 @@ func (dc *direct) packWeights(w []float32, flip bool) {
 		i := o % mr
 		for kk := range dc.kdim {
 			var v float32
-			if flip {
+			if dc.widx != nil {
+				v = w[dc.widx[o*dc.kdim+kk]]
+			} else if flip {
 				c, t := kk/k2, kk%k2
 				v = w[(c*dc.cout+o)*k2+k2-1-t]
 			} else {
@@ -218,18 +333,20 @@ func (dc *direct) forwardUnit(u int, cbuf []float32) {
 	oy1 := min(oy0+dc.rows, dc.ho)
 	mr, nr, ncb := dc.mr, dc.nr, dc.ncb
 	x := dc.xpad[img*dc.cin*dc.plane:]
-	out := dc.dst[img*dc.cout*dc.ho*dc.wo : (img+1)*dc.cout*dc.ho*dc.wo]
+	out := dc.dst[dc.dstOff+img*dc.dstImg:]
 	q0, q1 := oy0*dc.gw, (oy1-1)*dc.gw+dc.wo
 	ind := kern.ind
 	// Passes over k short enough that a panel's rows of the padded input
 	// stay in L1 while the output channels run over them.
-	passes := (dc.kdim + directK - 1) / directK
-	step := (dc.kdim + passes - 1) / passes
+	// A phase without taps (kdim 0) still runs one empty pass, which
+	// writes zeros.
+	passes := max(1, (dc.kdim+directK-1)/directK)
+	step := max(1, (dc.kdim+passes-1)/passes)
 	for jc := q0; jc < q1; jc += ncb {
 		nc := min(ncb, q1-jc)
 		for jr := 0; jr < nc; jr += nr {
 			b := x[jc+jr:]
-			for k0 := 0; k0 < dc.kdim; k0 += step {
+			for k0 := 0; k0 < max(dc.kdim, 1); k0 += step {
 				kc := min(step, dc.kdim-k0)
 				offs := dc.offs[k0 : k0+kc]
 				for ir := 0; ir < dc.mpad; ir += mr {
@@ -247,7 +364,7 @@ func (dc *direct) forwardUnit(u int, cbuf []float32) {
 			}
 			for o := range dc.cout {
 				src := cbuf[o*ncb+oy*dc.gw+a-jc : o*ncb+oy*dc.gw+e-jc]
-				d := out[(o*dc.ho+oy)*dc.wo+a : (o*dc.ho+oy)*dc.wo+e]
+				d := out[o*dc.dstChan+oy*dc.wo+a : o*dc.dstChan+oy*dc.wo+e]
 				if dc.bias != nil {
 					b := dc.bias[o]
 					for i, v := range src {

@@ -15,6 +15,20 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 )
 
+// forEachPath runs f for every micro-kernel on the padded-grid path, and
+// for the portable kernel on the im2col path.
+func forEachPath(t *testing.T, f func(t *testing.T)) {
+	t.Run("grid", func(t *testing.T) { forEachKernel(t, f) })
+	t.Run("im2col", func(t *testing.T) {
+		saved := kern
+		im2colOnly = true
+		defer func() { im2colOnly, kern = false, saved }()
+		t.Run("best", f)
+		kern = genericKernel
+		t.Run("generic", f)
+	})
+}
+
 // refConv is the obviously-correct direct convolution, in float64.
 type refConv struct {
 	p          ConvParams
@@ -172,7 +186,7 @@ func TestConvAgainstTorch(t *testing.T) {
 	if len(cases) < 10 {
 		t.Fatalf("only %d fixture cases", len(cases))
 	}
-	forEachKernel(t, func(t *testing.T) {
+	forEachPath(t, func(t *testing.T) {
 		for _, cc := range cases {
 			t.Run(cc.Name, func(t *testing.T) {
 				c, err := NewConv2D(cc.params(), cc.N, cc.H, cc.W)
@@ -233,7 +247,7 @@ func TestConvAgainstReference(t *testing.T) {
 		{ConvParams{InC: 2, OutC: 3, Kernel: 5, Stride: 3, Pad: 2}, 2, 11, 12},
 		{ConvParams{InC: 1, OutC: 1, Kernel: 3}, 1, 3, 3},
 	}
-	forEachKernel(t, func(t *testing.T) {
+	forEachPath(t, func(t *testing.T) {
 		for _, k := range cases {
 			name := fmt.Sprintf("%+v/%dx%dx%d", k.p, k.n, k.h, k.w)
 			c, err := NewConv2D(k.p, k.n, k.h, k.w)
