@@ -91,8 +91,8 @@ type Conv2D struct {
 	phases     []*direct
 	dq         []float32
 	pq, hq, wq int
-	task   convTask
-	taskFn func(lo, hi int)
+	task       convTask
+	taskFn     func(lo, hi int)
 	// state of the current call on the stride-1 path
 	src, dst []float32
 }
