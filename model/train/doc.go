@@ -53,4 +53,47 @@
 //
 // gorgonia's Conv2d, Upsample2D, pooling and axis reductions are not used:
 // they are slow or give wrong values in v0.9.18 (see DEVELOPERS.md).
+//
+// # Trainer
+//
+// Trainer runs a whole training or fine-tuning run over a Source of
+// batches (NewDatasetSource serves a data.Dataset): the learning rate of
+// a Schedule at every step (default 3e-4 after a linear warm-up over 2%
+// of the steps, ×0.5 at 60% and 80%), Adam, a Progress report after every
+// step (step, weighted terms, rate, steps/s and pairs/s), and checkpoints
+// (SaveCheckpoint, LoadCheckpoint; safetensors with the weights, Adam's
+// moments and the data position) every Options.CheckpointEvery steps, at
+// the end, and when the context is cancelled. Trainer.Resume continues a
+// checkpointed run; with the same options and data the result is the
+// uninterrupted run's, bit for bit on one thread (see below).
+//
+// Safety: a step whose batch, loss or gradient holds NaN or Inf is skipped
+// before any weight or moment changes, counted, and reported through
+// Progress; it never reaches a checkpoint. A disparity map whose spatial
+// coefficient of variation stays below CollapseOptions.Spread for
+// CollapseOptions.Steps consecutive steps is reported as a collapse
+// (Progress.Collapsed): the network has settled on a near-constant
+// disparity, which too large a learning rate causes.
+//
+// Scales: the coarse disparities are not upsampled to full resolution
+// before the loss. Each scale is compared at its own resolution with the
+// images of a 2×2 area-averaging pyramid (loss.Downsample2), so the loss
+// of the four scales costs about 1 + 1/4 + 1/16 + 1/64 ≈ 1.33 times the
+// finest one, against 4 times with upsampling; on a CPU the loss is a
+// sizeable part of a step. Upsampling is known to reduce texture-copy
+// artefacts at the coarse scales (common practice in recent
+// self-supervised depth work); we keep the pyramid for its cost, and the
+// finest scale, which inference uses, is compared at full resolution
+// either way.
+//
+// Determinism: the data order and augmentation depend only on the seed,
+// the epoch and the position (package data), and the Trainer draws no
+// random numbers. The convolution weight gradient of model/internal/cpu
+// adds per-goroutine partial sums in a scheduling-dependent grouping, so
+// with more than one thread two runs may differ in the last bits after a
+// few steps; with GOMAXPROCS=1 they are identical.
+//
+// Evaluate scores weights on a data set with ground truth (disparity EPE
+// and bad-N, and the depth metrics of package depth), for before/after
+// figures of a fine-tuning run.
 package train
