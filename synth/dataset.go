@@ -130,6 +130,9 @@ func occlusionImage(m *planar.Image) *image.Gray {
 
 // WriteDataset renders pairs 0 … n−1 of the style for the seed and writes
 // them, with the rig, into dir in the layout of the package documentation.
+// If dir already holds a rig.json for another rig (another style or size),
+// WriteDataset refuses to mix the two and returns an error; with the same
+// rig it replaces the pairs it writes and leaves others in place.
 // Pairs are rendered by opt.Workers goroutines; each pair's files depend
 // only on (style, seed, index, size, samples), so the output is the same
 // for any number of workers. It returns the first error met.
@@ -145,10 +148,21 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	if err != nil {
 		return err
 	}
+	rigPath := filepath.Join(dir, RigFile)
+	if _, err := os.Stat(rigPath); err == nil {
+		old, err := depth.LoadRig(rigPath)
+		if err != nil {
+			return fmt.Errorf("synth: %s already holds a dataset whose rig cannot be read: %w", dir, err)
+		}
+		if *old != *rig {
+			return fmt.Errorf("synth: %s already holds a dataset of another rig (%dx%d, focal %.4g px, baseline %.4g m); write %s at %dx%d into an empty folder",
+				dir, old.Width, old.Height, old.Focal, old.Baseline, style, rig.Width, rig.Height)
+		}
+	}
 	if err := makeDirs(dir); err != nil {
 		return err
 	}
-	if err := depth.SaveRig(filepath.Join(dir, RigFile), rig); err != nil {
+	if err := depth.SaveRig(rigPath, rig); err != nil {
 		return fmt.Errorf("synth: %w", err)
 	}
 	jobs := make(chan int)

@@ -299,6 +299,19 @@ func TestErrors(t *testing.T) {
 	errCount := WriteDataset(t.TempDir(), Storage, 1, -2, nil)
 	errWorkers := WriteDataset(t.TempDir(), Storage, 1, 1, &Options{Workers: -1})
 	errDir := WriteDataset(filepath.Join(file, "sub"), Storage, 1, 1, &Options{Width: 16, Height: 8})
+	mixed := t.TempDir()
+	if err := WriteDataset(mixed, Storage, 1, 1, &Options{Width: 16, Height: 8}); err != nil {
+		t.Fatal(err)
+	}
+	errMixStyle := WriteDataset(mixed, Greenhouse, 1, 1, &Options{Width: 16, Height: 8})
+	errMixSize := WriteDataset(mixed, Storage, 1, 1, &Options{Width: 32, Height: 8})
+	if err := WriteDataset(mixed, Storage, 2, 2, &Options{Width: 16, Height: 8}); err != nil {
+		t.Errorf("rewriting a dataset of the same rig: %v", err)
+	}
+	if err := os.WriteFile(filepath.Join(mixed, RigFile), []byte("{"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	errBadRig := WriteDataset(mixed, Storage, 1, 1, &Options{Width: 16, Height: 8})
 	errNil := (*Pair)(nil).Save(t.TempDir(), "a")
 	p, _ := Generate(Storage, 1, 0, &Options{Width: 16, Height: 8})
 	errName := p.Save(t.TempDir(), "../escape")
@@ -308,7 +321,8 @@ func TestErrors(t *testing.T) {
 	for name, err := range map[string]error{
 		"style": errStyle, "index": errIndex, "samples": errSamples, "size": errSize, "huge": errHuge,
 		"unknown style": errUnknown, "rig of unknown style": errRig, "count": errCount, "workers": errWorkers,
-		"dir is a file": errDir, "nil pair": errNil, "name": errName, "missing map": errShape,
+		"dir is a file": errDir, "nil pair": errNil,
+		"other style in dir": errMixStyle, "other size in dir": errMixSize, "corrupt rig in dir": errBadRig, "name": errName, "missing map": errShape,
 	} {
 		if err == nil {
 			t.Errorf("%s: no error", name)

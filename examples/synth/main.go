@@ -21,7 +21,7 @@ func main() {
 	style := flag.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle) or storage (a storage room with shelving)")
 	n := flag.Int("n", 8, "number of stereo pairs to write")
 	seed := flag.Uint64("seed", 1, "random seed; the same seed, style, size and samples give byte-identical files")
-	out := flag.String("out", "", "output folder (created if missing; existing pairs with the same names are replaced)")
+	out := flag.String("out", "", "output folder, created if missing; pairs with the same names are replaced, and a folder holding a dataset of another rig is refused")
 	width := flag.Int("width", synth.DefaultWidth, "image width in pixels; the focal length scales with it")
 	height := flag.Int("height", synth.DefaultHeight, "image height in pixels")
 	samples := flag.Int("samples", synth.DefaultSamples, fmt.Sprintf("anti-aliasing samples per pixel along each axis near edges (1 to %d)", synth.MaxSamples))
