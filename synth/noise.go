@@ -17,8 +17,8 @@ func hash2(x, y int32, seed uint32) uint32 {
 // unit maps a hash to [0, 1).
 func unit(h uint32) float64 { return float64(h>>8) * (1.0 / (1 << 24)) }
 
-// cellHash returns a value in [0, 1) for the cell of (u, v) on a grid of the
-// given spacing, and the cell's indices.
+// cellIndex returns the index of the cell holding u on a grid of the given
+// spacing (cell k covers [k·spacing, (k+1)·spacing)).
 func cellIndex(u, spacing float64) int32 { return int32(math.Floor(u / spacing)) }
 
 // quintic is the C2 interpolation weight 6t⁵ − 15t⁴ + 10t³.

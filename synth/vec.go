@@ -12,16 +12,6 @@ func (a vec3) scale(s float64) vec3 { return vec3{a.x * s, a.y * s, a.z * s} }
 func (a vec3) dot(b vec3) float64   { return a.x*b.x + a.y*b.y + a.z*b.z }
 func (a vec3) length() float64      { return math.Sqrt(a.dot(a)) }
 func (a vec3) normalized() vec3     { return a.scale(1 / a.length()) }
-func (a vec3) component(i int) float64 {
-	switch i {
-	case 0:
-		return a.x
-	case 1:
-		return a.y
-	}
-	return a.z
-}
-
 func (a vec3) cross(b vec3) vec3 {
 	return vec3{a.y*b.z - a.z*b.y, a.z*b.x - a.x*b.z, a.x*b.y - a.y*b.x}
 }
