@@ -28,4 +28,3 @@ func (sc *scene) setPose(origin vec3, yaw, pitch float64) {
 	sc.right = vec3{cy, 0, -sy}
 	sc.down = sc.right.cross(sc.fwd)
 }
-

@@ -210,4 +210,3 @@ func (v *view) shade(h *hit, px, py float64, mid vec3) rgb {
 	light := sc.ambient*(0.85+0.15*n.y) + sc.diffuse*math.Max(0, n.dot(sc.light))
 	return c.mul(light)
 }
-
