@@ -1,0 +1,113 @@
+// Package demo bundles a small synthetic input so that the example commands
+// run with no set-up: the left image of a greenhouse aisle (256×128, made by
+// package synth, pair 000000 of testdata/synth/greenhouse, seed 1) and the
+// rig it was rendered with (72° field of view, 0.12 m baseline). The data
+// is invented by our renderer; it is for demonstrations, not evaluation.
+//
+// Frames also reads a folder of images in name order, for frame loops.
+//
+// Errors start with "demo: ".
+package demo
+
+import (
+	"bytes"
+	_ "embed"
+	"fmt"
+	"image"
+	_ "image/jpeg" // register the JPEG decoder for Frames
+	"image/png"
+	"iter"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+
+	"github.com/parallaxdepth/parallax/depth"
+)
+
+var (
+	//go:embed greenhouse_left.png
+	leftPNG []byte
+	//go:embed greenhouse_rig.json
+	rigJSON []byte
+)
+
+// Name is the demo image's name, for output file names.
+const Name = "greenhouse_000000"
+
+// Left decodes and returns the demo left image.
+func Left() (image.Image, error) {
+	img, err := png.Decode(bytes.NewReader(leftPNG))
+	if err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
+	return img, nil
+}
+
+// Rig returns the demo image's rig (a fresh copy).
+func Rig() (*depth.Rig, error) {
+	r, err := depth.ReadRig(bytes.NewReader(rigJSON))
+	if err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
+	return r, nil
+}
+
+// Frame is one image of Frames.
+type Frame struct {
+	// Name is the file name without its extension (Name for the demo).
+	Name  string
+	Image image.Image
+}
+
+// Frames yields the PNG and JPEG images of dir (extensions .png, .jpg,
+// .jpeg in any case; other files and names starting with "." are skipped),
+// decoded one at a time in name order. If dir is "" it yields the demo
+// image once. A folder that cannot be read, holds no image, or a file that
+// does not decode yields an error naming it; the loop may go on after an
+// error of one file.
+func Frames(dir string) iter.Seq2[Frame, error] {
+	return func(yield func(Frame, error) bool) {
+		if dir == "" {
+			img, err := Left()
+			yield(Frame{Name: Name, Image: img}, err)
+			return
+		}
+		ents, err := os.ReadDir(dir)
+		if err != nil {
+			yield(Frame{}, fmt.Errorf("demo: %w", err))
+			return
+		}
+		var names []string
+		for _, e := range ents {
+			ext := strings.ToLower(filepath.Ext(e.Name()))
+			if !e.IsDir() && !strings.HasPrefix(e.Name(), ".") && (ext == ".png" || ext == ".jpg" || ext == ".jpeg") {
+				names = append(names, e.Name())
+			}
+		}
+		if len(names) == 0 {
+			yield(Frame{}, fmt.Errorf("demo: %s holds no PNG or JPEG image", dir))
+			return
+		}
+		slices.Sort(names)
+		for _, n := range names {
+			img, err := decodeFile(filepath.Join(dir, n))
+			if !yield(Frame{Name: strings.TrimSuffix(n, filepath.Ext(n)), Image: img}, err) {
+				return
+			}
+		}
+	}
+}
+
+func decodeFile(path string) (image.Image, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
+	defer f.Close()
+	img, _, err := image.Decode(f)
+	if err != nil {
+		return nil, fmt.Errorf("demo: %s: %w", path, err)
+	}
+	return img, nil
+}
