@@ -295,3 +295,43 @@ func TestTrainingGraphNames(t *testing.T) {
 	}
 	t.Logf("%d nodes of this package", ours)
 }
+
+func TestNetworkErrors(t *testing.T) {
+	a, err := model.Build(tinyConfig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := BuildNetwork(G.NewGraph(), a, 0); err == nil {
+		t.Error("batch 0 accepted")
+	}
+	if _, err := BuildNetwork(G.NewGraph(), nil, 1); err == nil {
+		t.Error("nil architecture accepted")
+	}
+	net, err := BuildNetwork(G.NewGraph(), a, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := net.SetInput(planar.New(2, 3, 64, 64)); err == nil {
+		t.Error("a batch of the wrong size accepted")
+	}
+	img := planar.New(1, 3, 64, 64)
+	img.Pix[7] = float32(math.Inf(1))
+	if err := net.SetInput(img); err == nil {
+		t.Error("an infinite pixel accepted")
+	}
+	other := tinyConfig
+	other.DMax = 0.2
+	w, _ := model.NewWeights(other, 1)
+	if err := net.SetWeights(w); err == nil {
+		t.Error("weights with another d_max accepted (the heads bake d_max in)")
+	}
+	wide := tinyConfig
+	wide.Encoder = []int{5, 4, 6, 6, 8}
+	w, _ = model.NewWeights(wide, 1)
+	if err := net.SetWeights(w); err == nil {
+		t.Error("weights of another architecture accepted")
+	}
+	if err := net.SetWeights(nil); err == nil {
+		t.Error("nil weights accepted")
+	}
+}
