@@ -325,53 +325,67 @@ func (dc *direct) foldPlane(dst, src []float32) {
 func (dc *direct) units() int { return dc.nimg * ((dc.ho + dc.rows - 1) / dc.rows) }
 
 // forwardUnit computes output rows of one unit into dc.dst, with cbuf a
-// worker's mpad×ncb block buffer.
+// worker's buffer of at least mpad×nr values. A tile whose nr grid
+// columns are all valid pixels of one output row is written straight into
+// the output; others go through cbuf and only their valid columns are
+// copied out.
 func (dc *direct) forwardUnit(u int, cbuf []float32) {
 	blocks := (dc.ho + dc.rows - 1) / dc.rows
 	img, blk := u/blocks, u%blocks
 	oy0 := blk * dc.rows
 	oy1 := min(oy0+dc.rows, dc.ho)
-	mr, nr, ncb := dc.mr, dc.nr, dc.ncb
+	mr, nr := dc.mr, dc.nr
 	x := dc.xpad[img*dc.cin*dc.plane:]
 	out := dc.dst[dc.dstOff+img*dc.dstImg:]
 	q0, q1 := oy0*dc.gw, (oy1-1)*dc.gw+dc.wo
 	ind := kern.ind
-	// Passes over k short enough that a panel's rows of the padded input
-	// stay in L1 while the output channels run over them.
-	// A phase without taps (kdim 0) still runs one empty pass, which
-	// writes zeros.
+	// A tap-less phase (kdim 0) still runs one empty pass, which writes
+	// zeros.
 	passes := max(1, (dc.kdim+directK-1)/directK)
 	step := max(1, (dc.kdim+passes-1)/passes)
-	for jc := q0; jc < q1; jc += ncb {
-		nc := min(ncb, q1-jc)
-		for jr := 0; jr < nc; jr += nr {
-			b := x[jc+jr:]
+	for q := q0; q < q1; q += nr {
+		oy, ox := q/dc.gw, q%dc.gw
+		fast := ox+nr <= dc.wo
+		b := x[q:]
+		for ir := 0; ir < dc.mpad; ir += mr {
+			rows := min(mr, dc.cout-ir)
+			c, ldc := cbuf[ir*nr:], nr
+			direct := fast && rows == mr
+			if direct {
+				c, ldc = out[ir*dc.dstChan+oy*dc.wo+ox:], dc.dstChan
+			}
 			for k0 := 0; k0 < max(dc.kdim, 1); k0 += step {
 				kc := min(step, dc.kdim-k0)
-				offs := dc.offs[k0 : k0+kc]
-				for ir := 0; ir < dc.mpad; ir += mr {
-					a := dc.wpack[ir*dc.kdim+k0*mr : ir*dc.kdim+(k0+kc)*mr]
-					ind(kc, a, b, offs, cbuf[ir*ncb+jr:], ncb, k0 > 0)
-				}
+				a := dc.wpack[ir*dc.kdim+k0*mr : ir*dc.kdim+(k0+kc)*mr]
+				ind(kc, a, b, dc.offs[k0:k0+kc], c, ldc, k0 > 0)
 			}
-		}
-		// Copy the valid grid columns out, adding the bias.
-		for oy := jc / dc.gw; oy*dc.gw < jc+nc; oy++ {
-			a := max(jc-oy*dc.gw, 0)
-			e := min(jc+nc-oy*dc.gw, dc.wo)
-			if a >= e {
+			if direct {
+				if dc.bias != nil {
+					for i := range mr {
+						addScalar(c[i*ldc:i*ldc+nr], dc.bias[ir+i])
+					}
+				}
 				continue
 			}
-			for o := range dc.cout {
-				src := cbuf[o*ncb+oy*dc.gw+a-jc : o*ncb+oy*dc.gw+e-jc]
-				d := out[o*dc.dstChan+oy*dc.wo+a : o*dc.dstChan+oy*dc.wo+e]
-				if dc.bias != nil {
-					b := dc.bias[o]
-					for i, v := range src {
-						d[i] = v + b
+			// Copy the valid columns of the tile out, adding the bias.
+			qe := min(q+nr, q1)
+			for y := oy; y*dc.gw < qe; y++ {
+				a := max(q-y*dc.gw, 0)
+				e := min(qe-y*dc.gw, dc.wo)
+				if a >= e {
+					continue
+				}
+				for i := range rows {
+					src := c[i*nr+y*dc.gw+a-q : i*nr+y*dc.gw+e-q]
+					d := out[(ir+i)*dc.dstChan+y*dc.wo+a : (ir+i)*dc.dstChan+y*dc.wo+e]
+					if dc.bias != nil {
+						bv := dc.bias[ir+i]
+						for t, v := range src {
+							d[t] = v + bv
+						}
+					} else {
+						copy(d, src)
 					}
-				} else {
-					copy(d, src)
 				}
 			}
 		}

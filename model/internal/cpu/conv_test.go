@@ -246,6 +246,10 @@ func TestConvAgainstReference(t *testing.T) {
 		{ConvParams{InC: 9, OutC: 5, Kernel: 3, Dilation: 3, Pad: 3, Padding: ReflectPad}, 1, 8, 9},
 		{ConvParams{InC: 2, OutC: 3, Kernel: 5, Stride: 3, Pad: 2}, 2, 11, 12},
 		{ConvParams{InC: 1, OutC: 1, Kernel: 3}, 1, 3, 3},
+		// Rows wider than a 48-wide tile, and output channels that do not
+		// fill the last register block.
+		{ConvParams{InC: 5, OutC: 13, Kernel: 3, Pad: 1}, 2, 9, 100},
+		{ConvParams{InC: 4, OutC: 11, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad}, 1, 10, 203},
 	}
 	forEachPath(t, func(t *testing.T) {
 		for _, k := range cases {
