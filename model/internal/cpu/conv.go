@@ -111,6 +111,7 @@ const (
 	taskPadDq
 	taskPhaseGrad
 	taskFoldPhases
+	taskBiasGrad
 )
 
 // convWorker is what one goroutine needs for a unit of convolution work.
@@ -350,7 +351,7 @@ func (c *Conv2D) runTasks(t convTask, n int, src, dst []float32) {
 	c.task, c.src, c.dst = t, src, dst
 	grain := 1
 	switch t {
-	case taskPadX, taskPadDy, taskFold, taskFillGrid, taskPadDq, taskFoldPhases:
+	case taskPadX, taskPadDy, taskFold, taskFillGrid, taskPadDq, taskFoldPhases, taskBiasGrad:
 		grain = max(1, n/(4*runtime.GOMAXPROCS(0)))
 	}
 	ParallelFor(n, grain, c.taskFn)
@@ -378,6 +379,15 @@ func (c *Conv2D) runTask(lo, hi int) {
 	case taskFillGrid: // unit: one output-gradient plane
 		for i := lo; i < hi; i++ {
 			c.gg.fillRow(fd, i/c.p.OutC, i%c.p.OutC, c.src)
+		}
+	case taskBiasGrad: // unit: one output channel
+		for o := lo; o < hi; o++ {
+			var s float32
+			for img := range c.n {
+				off := (img*c.p.OutC + o) * c.pix
+				s += sum8(c.src[off : off+c.pix])
+			}
+			c.dst[o] = s
 		}
 	case taskPadDq: // unit: one output-gradient plane
 		plane := c.g.ho * c.g.wo

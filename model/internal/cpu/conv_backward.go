@@ -35,17 +35,29 @@ func (c *Conv2D) Backward(dx, dweight, dbias, x, weight, dy []float32) {
 }
 
 func (c *Conv2D) biasGrad(db, dy []float32) {
-	clear(db)
-	for img := range c.n {
-		for o := range c.p.OutC {
-			off := (img*c.p.OutC + o) * c.pix
-			var s float32
-			for _, v := range dy[off : off+c.pix] {
-				s += v
-			}
-			db[o] += s
-		}
+	c.runTasks(taskBiasGrad, c.p.OutC, dy, db)
+}
+
+// sum8 returns the sum of x with eight partial sums, so that the adds do
+// not wait on one another.
+func sum8(x []float32) float32 {
+	var s0, s1, s2, s3, s4, s5, s6, s7 float32
+	i := 0
+	for ; i+8 <= len(x); i += 8 {
+		v := x[i : i+8 : i+8]
+		s0 += v[0]
+		s1 += v[1]
+		s2 += v[2]
+		s3 += v[3]
+		s4 += v[4]
+		s5 += v[5]
+		s6 += v[6]
+		s7 += v[7]
 	}
+	for ; i < len(x); i++ {
+		s0 += x[i]
+	}
+	return ((s0 + s1) + (s2 + s3)) + ((s4 + s5) + (s6 + s7))
 }
 
 // weightGrad computes dW = Σ_n dY_n · col(X_n)ᵀ; goroutines sum stripes of
