@@ -23,7 +23,7 @@ type EstimatorOptions struct {
 	// depth.
 	Rig *depth.Rig
 	// Flip enables flip post-processing: the mirrored image is predicted
-	// as well and the two are blended (see the package documentation).
+	// as well and the two are blended (see FlipBlend).
 	// It costs a second forward pass. Default false.
 	Flip bool
 	// ConfidenceScale is τ in the confidence formula, in pixels at the
@@ -45,8 +45,8 @@ type Estimate struct {
 	// Disparity is the left view's disparity in pixels at the input's
 	// width.
 	Disparity *depth.Disparity
-	// Confidence is the left-right agreement in [0, 1] (see the package
-	// documentation).
+	// Confidence is the left-right agreement in [0, 1] (see LRConfidence),
+	// computed at the network's size and resampled.
 	Confidence *depth.Confidence
 	// Depth is the metric depth in metres, or nil if the Estimator has no
 	// rig.
@@ -56,7 +56,19 @@ type Estimate struct {
 }
 
 // Estimator turns single left images of any size into disparity,
-// confidence and metric depth with one set of weights. It is safe for
+// confidence and metric depth with one set of weights.
+//
+// Each image is resampled to the network's input size (EstimatorOptions.
+// Resample), run through the network, and its full-resolution disparities
+// d_L and d_R (fractions of the width) are post-processed at that size:
+// with Flip, d_L is blended with the mirrored image's prediction
+// (FlipBlend); the confidence compares d_L with d_R warped into the left
+// view (LRConfidence). Disparity and confidence are then resampled
+// linearly to the input's size (pixel centres as in depth.Rig.Scaled),
+// disparity becomes pixels at the input's width, and depth follows from
+// the rig rescaled to the input's size.
+//
+// Concurrency: an Estimator is safe for
 // concurrent use by many goroutines: each call borrows a worker (a Net and
 // its scratch buffers) from a pool of at most MaxWorkers and returns it, so
 // calls beyond MaxWorkers wait (or give up when their context ends).

@@ -1,0 +1,85 @@
+package main
+
+import (
+	"bytes"
+	"image"
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/depth"
+)
+
+// TestDemoRun runs the command's default path (the demo image) into a
+// temporary folder and checks the files against each other: the 16-bit PNG,
+// decoded by the standard library's image/png, holds round(1000·z) of the
+// PFM depth; the PLY has one point per valid pixel; the summary carries the
+// caution and the placeholder mark.
+func TestDemoRun(t *testing.T) {
+	dir := t.TempDir()
+	var stdout, stderr bytes.Buffer
+	if err := run(options{out: dir, pfm: true, ply: true}, nil, &stdout, &stderr); err != nil {
+		t.Fatal(err)
+	}
+	base := filepath.Join(dir, "greenhouse_000000")
+	f, err := os.Open(base + ".depth-mm.png")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, ok := img.(*image.Gray16)
+	if !ok {
+		t.Fatalf("depth PNG decodes as %T, want *image.Gray16", img)
+	}
+	z, w, h, _, err := depth.LoadPFM(base + ".depth.pfm")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w != g.Rect.Dx() || h != g.Rect.Dy() {
+		t.Fatalf("PFM %dx%d, PNG %v", w, h, g.Rect)
+	}
+	valid := 0
+	for y := range h {
+		for x := range w {
+			mm := g.Gray16At(x, y).Y
+			if want := math.Round(float64(z[y*w+x]) * 1000); z[y*w+x] > 0 && float64(mm) != want {
+				t.Fatalf("(%d, %d): PNG %d mm, PFM %v m", x, y, mm, z[y*w+x])
+			}
+			if z[y*w+x] > 0 {
+				valid++
+			}
+		}
+	}
+	pc, err := depth.LoadPLY(base + ".points.ply")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(pc.Points) != valid || valid == 0 {
+		t.Errorf("PLY has %d points, %d valid pixels", len(pc.Points), valid)
+	}
+	sum, err := os.ReadFile(base + ".summary.txt")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"not a safety-rated sensor", "median depth", "256 x 128"} {
+		if !strings.Contains(string(sum), want) {
+			t.Errorf("summary lacks %q:\n%s", want, sum)
+		}
+	}
+	if strings.Contains(stderr.String(), "PLACEHOLDER") != strings.Contains(string(sum), "PLACEHOLDER") {
+		t.Errorf("placeholder warning on stderr and in the summary disagree:\n%s\n%s", stderr.String(), sum)
+	}
+	if _, err := os.Stat(base + ".depth-colour.png"); err != nil {
+		t.Error(err)
+	}
+	if err := run(options{out: dir}, []string{filepath.Join(dir, "missing.png")}, &stdout, &stderr); err == nil || !strings.HasPrefix(err.Error(), "estimate: ") {
+		t.Errorf("missing input: %v", err)
+	}
+}
