@@ -1,0 +1,212 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"image/color"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+
+	"github.com/parallaxdepth/parallax/loss"
+	"github.com/parallaxdepth/parallax/model/train"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+)
+
+// logHeader names the CSV columns; the terms are the weighted loss terms
+// of the objective (see loss.Terms).
+var logHeader = []string{"step", "epoch", "batch", "learning_rate", "appearance", "smoothness", "consistency", "total",
+	"skipped", "disparity_spread", "steps_per_s", "pairs_per_s", "elapsed_s"}
+
+type logRow struct {
+	step         int
+	epoch, batch int
+	rate         float64
+	terms        loss.Terms
+	skipped      bool
+	spread       float64
+	sps, pps     float64
+	elapsed      float64
+}
+
+// stepLog keeps one row per step and writes them as CSV, atomically, at
+// every checkpoint and at the end.
+type stepLog struct {
+	path string
+	rows []logRow
+}
+
+func (l *stepLog) add(p train.Progress) {
+	l.rows = append(l.rows, logRow{p.Step, p.Epoch, p.Batch, p.Rate, p.Terms, p.Skipped, p.Spread,
+		p.StepsPerSec, p.PairsPerSec, p.Elapsed.Seconds()})
+}
+
+// load reads the log of an interrupted run, keeping the rows up to step.
+func (l *stepLog) load(step int) error {
+	b, err := os.ReadFile(l.path)
+	if os.IsNotExist(err) {
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("finetune: log: %w", err)
+	}
+	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
+	if err != nil {
+		return fmt.Errorf("finetune: log %s: %w", l.path, err)
+	}
+	for i, r := range recs {
+		if i == 0 {
+			continue
+		}
+		if len(r) != len(logHeader) {
+			return fmt.Errorf("finetune: log %s line %d: %d fields, want %d", l.path, i+1, len(r), len(logHeader))
+		}
+		var v [13]float64
+		for k, s := range r {
+			if k == 8 {
+				continue
+			}
+			if v[k], err = strconv.ParseFloat(s, 64); err != nil {
+				return fmt.Errorf("finetune: log %s line %d: %v", l.path, i+1, err)
+			}
+		}
+		if int(v[0]) > step {
+			break
+		}
+		l.rows = append(l.rows, logRow{int(v[0]), int(v[1]), int(v[2]), v[3],
+			loss.Terms{Appearance: v[4], Smoothness: v[5], Consistency: v[6], Total: v[7]},
+			r[8] == "1", v[9], v[10], v[11], v[12]})
+	}
+	return nil
+}
+
+func (l *stepLog) save() error {
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write(logHeader)
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', 8, 64) }
+	for _, r := range l.rows {
+		skip := "0"
+		if r.skipped {
+			skip = "1"
+		}
+		w.Write([]string{strconv.Itoa(r.step), strconv.Itoa(r.epoch), strconv.Itoa(r.batch), g(r.rate),
+			g(r.terms.Appearance), g(r.terms.Smoothness), g(r.terms.Consistency), g(r.terms.Total),
+			skip, g(r.spread), g(r.sps), g(r.pps), g(r.elapsed)})
+	}
+	w.Flush()
+	if err := writeAtomic(l.path, buf.Bytes()); err != nil {
+		return fmt.Errorf("finetune: log: %w", err)
+	}
+	return nil
+}
+
+// window returns the mean terms of the first and of the last n steps that
+// were not skipped.
+func (l *stepLog) window(n int) (first, last loss.Terms) {
+	var ok []loss.Terms
+	for _, r := range l.rows {
+		if !r.skipped {
+			ok = append(ok, r.terms)
+		}
+	}
+	mean := func(ts []loss.Terms) loss.Terms {
+		var m loss.Terms
+		for _, t := range ts {
+			m.Appearance += t.Appearance / float64(len(ts))
+			m.Smoothness += t.Smoothness / float64(len(ts))
+			m.Consistency += t.Consistency / float64(len(ts))
+			m.Total += t.Total / float64(len(ts))
+		}
+		return m
+	}
+	n = min(n, len(ok))
+	if n == 0 {
+		return
+	}
+	return mean(ok[:n]), mean(ok[len(ok)-n:])
+}
+
+// savePlot draws the weighted loss terms against the step, one line per
+// term, and writes the PNG atomically.
+func savePlot(path string, rows []logRow) error {
+	p := plot.New()
+	p.Title.Text = "training loss"
+	p.X.Label.Text = "step"
+	p.Y.Label.Text = "weighted loss term"
+	p.Add(plotter.NewGrid())
+	series := []struct {
+		name string
+		get  func(loss.Terms) float64
+		col  color.RGBA
+	}{
+		{"total", func(t loss.Terms) float64 { return t.Total }, color.RGBA{20, 20, 20, 255}},
+		{"appearance", func(t loss.Terms) float64 { return t.Appearance }, color.RGBA{200, 70, 40, 255}},
+		{"consistency", func(t loss.Terms) float64 { return t.Consistency }, color.RGBA{40, 120, 200, 255}},
+		{"smoothness", func(t loss.Terms) float64 { return t.Smoothness }, color.RGBA{60, 160, 70, 255}},
+	}
+	for _, s := range series {
+		var xy plotter.XYs
+		for _, r := range rows {
+			if v := s.get(r.terms); !r.skipped && !math.IsNaN(v) && !math.IsInf(v, 0) {
+				xy = append(xy, plotter.XY{X: float64(r.step), Y: v})
+			}
+		}
+		if len(xy) == 0 {
+			continue
+		}
+		line, err := plotter.NewLine(xy)
+		if err != nil {
+			return fmt.Errorf("finetune: plot: %w", err)
+		}
+		line.Color = s.col
+		line.Width = vg.Points(1)
+		p.Add(line)
+		p.Legend.Add(s.name, line)
+	}
+	p.Legend.Top = true
+	wt, err := p.WriterTo(8*vg.Inch, 4.5*vg.Inch, "png")
+	if err != nil {
+		return fmt.Errorf("finetune: plot: %w", err)
+	}
+	var buf bytes.Buffer
+	if _, err := wt.WriteTo(&buf); err != nil {
+		return fmt.Errorf("finetune: plot: %w", err)
+	}
+	if err := writeAtomic(path, buf.Bytes()); err != nil {
+		return fmt.Errorf("finetune: plot: %w", err)
+	}
+	return nil
+}
+
+// writeAtomic writes data to path through a synced temporary file in the
+// same folder, renamed over path.
+func writeAtomic(path string, data []byte) (err error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	if _, err = f.Write(data); err != nil {
+		return err
+	}
+	if err = f.Sync(); err != nil {
+		return err
+	}
+	if err = f.Close(); err != nil {
+		return err
+	}
+	if err = os.Chmod(f.Name(), 0o644); err != nil {
+		return err
+	}
+	return os.Rename(f.Name(), path)
+}

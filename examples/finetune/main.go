@@ -1,0 +1,331 @@
+// Command finetune trains the disparity network on a folder of rectified
+// stereo pairs, without ground truth, and writes the weights:
+//
+//	go run ./examples/finetune -data DIR -out W.safetensors
+//
+// It starts from the weights embedded in package model unless -from names
+// a weights file (or a checkpoint) or -from-scratch asks for a fresh
+// initialisation; -resume continues an interrupted run from its checkpoint
+// exactly. DIR has the layout of package model/data: left/NAME.png and
+// right/NAME.png (PNG or JPEG), optionally rig.json and truth/. When the
+// pairs have ground truth, a held-out part (-val) is scored before and
+// after with the depth package's metrics.
+//
+// While it runs it draws a progress bar on stderr (rate and ETA); it
+// writes a CSV log (-log) and a loss-curve PNG (-plot) beside the weights,
+// and ends with a summary. Ctrl-C saves a checkpoint and exits cleanly.
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"syscall"
+	"time"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/data"
+	"github.com/parallaxdepth/parallax/model/train"
+)
+
+type config struct {
+	data, out, from, checkpoint, logPath, plotPath string
+	scratch, resume, noAugment, quiet, f16         bool
+	steps, batch, warmup, every, evalBatch         int
+	lr, val                                        float64
+	seed                                           uint64
+}
+
+func main() {
+	var c config
+	flag.StringVar(&c.data, "data", "", "folder of rectified stereo pairs: left/NAME.png and right/NAME.png (PNG or JPEG), optionally rig.json and truth/ (required)")
+	flag.StringVar(&c.out, "out", "", "file the trained weights are written to, safetensors (required)")
+	flag.StringVar(&c.from, "from", "", "weights file or training checkpoint to start from (default: the weights embedded in the program)")
+	flag.BoolVar(&c.scratch, "from-scratch", false, "start from a fresh random initialisation (seeded by -seed) at the default input size, with d_max from DIR/rig.json; used to train the default weights")
+	flag.IntVar(&c.steps, "steps", 1000, "number of training steps (one batch each)")
+	flag.IntVar(&c.batch, "batch", 4, "stereo pairs per step")
+	flag.Float64Var(&c.lr, "lr", train.DefaultRate, "base learning rate of Adam; it warms up linearly, then halves at 60% and 80% of the steps")
+	flag.IntVar(&c.warmup, "warmup", 0, "warm-up steps (0: 2% of the steps, at most 200; -1: none)")
+	flag.StringVar(&c.checkpoint, "checkpoint", "", "checkpoint file (default: the -out path with .ckpt added)")
+	flag.IntVar(&c.every, "every", 100, "write the checkpoint every this many steps (0: only at the end and on Ctrl-C)")
+	flag.BoolVar(&c.resume, "resume", false, "continue the run saved in the checkpoint file; give the same -data, -batch, -seed, -val and -steps as the interrupted run")
+	flag.Uint64Var(&c.seed, "seed", 1, "seed of the validation split, the shuffling and the augmentation (and of -from-scratch)")
+	flag.Float64Var(&c.val, "val", 0.2, "fraction of the pairs held out for validation, scored before and after when they have ground truth (0: none)")
+	flag.BoolVar(&c.noAugment, "no-augment", false, "train without flips and colour changes")
+	flag.IntVar(&c.evalBatch, "eval-batch", 4, "pairs per forward pass when scoring the validation pairs")
+	flag.StringVar(&c.logPath, "log", "", "CSV log of every step (default: the -out path with .csv instead of its extension)")
+	flag.StringVar(&c.plotPath, "plot", "", "loss-curve PNG (default: the -out path with .png instead of its extension)")
+	flag.BoolVar(&c.f16, "f16", false, "store the weights as 16-bit floats (half the size)")
+	flag.BoolVar(&c.quiet, "quiet", false, "no progress bar")
+	flag.Usage = func() {
+		fmt.Fprintf(flag.CommandLine.Output(), `usage: finetune -data DIR -out W.safetensors [flags]
+
+Fine-tunes the disparity network on rectified stereo pairs from your own rig,
+self-supervised (no ground truth needed), on the CPU. Flags:
+
+`)
+		flag.PrintDefaults()
+	}
+	flag.Parse()
+	if err := run(c); err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+}
+
+func run(c config) error {
+	if flag.NArg() > 0 {
+		return fmt.Errorf("finetune: unexpected argument %q (flags only; see -help)", flag.Arg(0))
+	}
+	if c.data == "" || c.out == "" {
+		return errors.New("finetune: -data DIR and -out FILE are required (see -help)")
+	}
+	if c.steps < 1 || c.batch < 1 || c.every < 0 || c.evalBatch < 1 {
+		return fmt.Errorf("finetune: -steps %d and -batch %d must be positive, -every %d not negative", c.steps, c.batch, c.every)
+	}
+	if c.scratch && c.from != "" {
+		return errors.New("finetune: -from and -from-scratch exclude each other")
+	}
+	if c.checkpoint == "" {
+		c.checkpoint = c.out + ".ckpt"
+	}
+	base := strings.TrimSuffix(c.out, filepath.Ext(c.out))
+	if c.logPath == "" {
+		c.logPath = base + ".csv"
+	}
+	if c.plotPath == "" {
+		c.plotPath = base + ".png"
+	}
+	if st, err := os.Stat(c.data); err != nil || !st.IsDir() {
+		return fmt.Errorf("finetune: -data %s is not a folder", c.data)
+	}
+	ds, err := data.Open(c.data)
+	if err != nil {
+		return fmt.Errorf("finetune: %w", err)
+	}
+	trainSet, valSet := ds, (*data.Dataset)(nil)
+	if c.val > 0 {
+		if trainSet, valSet, err = ds.Split(c.val, c.seed); err != nil {
+			return fmt.Errorf("finetune: %w", err)
+		}
+	}
+	if len(trainSet.Pairs) < c.batch {
+		return fmt.Errorf("finetune: %d training pairs in %s make no batch of %d (lower -batch or -val)", len(trainSet.Pairs), c.data, c.batch)
+	}
+
+	var ck *train.Checkpoint
+	var w *model.Weights
+	var origin string
+	switch {
+	case c.resume:
+		if ck, err = train.LoadCheckpoint(c.checkpoint); err != nil {
+			return fmt.Errorf("finetune: -resume: %w", err)
+		}
+		w, origin = ck.Weights, fmt.Sprintf("checkpoint %s at step %d", c.checkpoint, ck.Step)
+	case c.from != "":
+		if w, err = model.Load(c.from); err != nil {
+			if cw, cerr := train.LoadCheckpoint(c.from); cerr == nil {
+				w, err = cw.Weights, nil
+			}
+		}
+		if err != nil {
+			return fmt.Errorf("finetune: -from: %w", err)
+		}
+		origin = "weights " + c.from
+	case c.scratch:
+		cfg := model.Config{}
+		if ds.Rig != nil {
+			if cfg.DMax, err = model.DMaxFromRig(ds.Rig); err != nil {
+				return fmt.Errorf("finetune: d_max from %s: %w", filepath.Join(c.data, "rig.json"), err)
+			}
+		}
+		if w, err = model.NewWeights(cfg, c.seed); err != nil {
+			return fmt.Errorf("finetune: %w", err)
+		}
+		origin = fmt.Sprintf("a fresh initialisation (seed %d, d_max %.4g of the width)", c.seed, w.Config.DMax)
+	default:
+		if w, err = model.Default(); err != nil {
+			return fmt.Errorf("finetune: %w", err)
+		}
+		origin = "the embedded default weights"
+		if w.IsPlaceholder() {
+			origin += " (an untrained placeholder: this is the same as a fresh initialisation)"
+		}
+	}
+	fmt.Fprintf(os.Stderr, "finetune: %d training pairs", len(trainSet.Pairs))
+	if valSet != nil {
+		fmt.Fprintf(os.Stderr, ", %d held out", len(valSet.Pairs))
+	}
+	fmt.Fprintf(os.Stderr, " from %s, resized to %dx%d; starting from %s\n", c.data, w.Config.Width, w.Config.Height, origin)
+
+	canScore := valSet != nil && hasTruth(valSet)
+	var before *train.Evaluation
+	if canScore && !c.resume {
+		if before, err = train.Evaluate(context.Background(), w, valSet, c.evalBatch); err != nil {
+			return fmt.Errorf("finetune: scoring before training: %w", err)
+		}
+	}
+
+	var aug *data.Augment
+	if !c.noAugment {
+		aug = &data.DefaultAugment
+	}
+	src, err := train.NewDatasetSource(trainSet, w.Config, c.batch, c.seed, aug)
+	if err != nil {
+		return fmt.Errorf("finetune: %w", err)
+	}
+	log := &stepLog{path: c.logPath}
+	if c.resume {
+		if err := log.load(ck.Step); err != nil {
+			return err
+		}
+	}
+	bar := newProgressBar(os.Stderr, c.quiet)
+	opt := &train.Options{
+		Steps: c.steps, Batch: c.batch, Seed: c.seed,
+		Schedule:       train.Schedule{Rate: c.lr, Warmup: c.warmup},
+		CheckpointPath: c.checkpoint, CheckpointEvery: c.every,
+	}
+	opt.Progress = func(p train.Progress) {
+		log.add(p)
+		if p.Skipped {
+			bar.note(fmt.Sprintf("step %d skipped: %s", p.Step, p.SkipReason))
+		}
+		if p.Collapsed {
+			bar.note(fmt.Sprintf("step %d: the disparity map is nearly constant (spread %.4f, several steps in a row): training has collapsed; try a lower -lr", p.Step, p.Spread))
+		}
+		if p.Checkpoint != "" {
+			if err := log.save(); err != nil {
+				bar.note(err.Error())
+			}
+		}
+		bar.draw(p)
+	}
+	tr, err := train.NewTrainer(w, src, opt)
+	if err != nil {
+		return fmt.Errorf("finetune: %w", err)
+	}
+	defer tr.Close()
+	if ck != nil {
+		if err := tr.Resume(ck); err != nil {
+			return fmt.Errorf("finetune: %w", err)
+		}
+	}
+
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	start, startStep := time.Now(), tr.Step()
+	res, err := tr.Run(ctx)
+	bar.done()
+	stop()
+	if err != nil {
+		log.save()
+		return fmt.Errorf("finetune: %w", err)
+	}
+	if err := log.save(); err != nil {
+		return err
+	}
+	if err := savePlot(c.plotPath, log.rows); err != nil {
+		return err
+	}
+	if res.Interrupted {
+		fmt.Fprintf(os.Stderr, "finetune: interrupted at step %d of %d; checkpoint %s (continue with -resume)\n", res.Step, c.steps, res.Checkpoint)
+		return nil
+	}
+
+	out := tr.Weights()
+	out.Provenance["train.data"] = c.data
+	out.Provenance["train.start"] = origin
+	out.Provenance["train.date"] = time.Now().UTC().Format(time.RFC3339)
+	out.Provenance["train.lr"] = fmt.Sprint(c.lr)
+	out.Provenance["train.command"] = "finetune " + strings.Join(os.Args[1:], " ")
+	delete(out.Provenance, model.ProvenanceStatus)
+	dtype := model.F32
+	if c.f16 {
+		dtype = model.F16
+	}
+	if err := out.Save(c.out, dtype); err != nil {
+		return fmt.Errorf("finetune: %w", err)
+	}
+
+	fmt.Printf("trained to step %d (%d steps of %d pairs in this run, %s, %.2f steps/s on %d threads), %d skipped\n",
+		res.Step, res.Step-startStep, c.batch, time.Since(start).Round(time.Second), float64(res.Step-startStep)/time.Since(start).Seconds(), runtime.GOMAXPROCS(0), res.Skips)
+	fmt.Printf("weights %s, checkpoint %s, log %s, curve %s\n", c.out, res.Checkpoint, c.logPath, c.plotPath)
+	first, last := log.window(10)
+	fmt.Printf("\nloss (mean of the first and last %d steps)   start      end\n", min(10, len(log.rows)))
+	for _, t := range []struct {
+		name string
+		a, b float64
+	}{
+		{"appearance", first.Appearance, last.Appearance},
+		{"smoothness", first.Smoothness, last.Smoothness},
+		{"consistency", first.Consistency, last.Consistency},
+		{"total", first.Total, last.Total},
+	} {
+		fmt.Printf("  %-42s %9.5f %9.5f\n", t.name, t.a, t.b)
+	}
+	if res.Collapses > 0 {
+		fmt.Printf("\nwarning: the disparity collapsed to a near-constant map %d time(s); the weights may be useless\n", res.Collapses)
+	}
+	if canScore {
+		after, err := train.Evaluate(context.Background(), out, valSet, c.evalBatch)
+		if err != nil {
+			return fmt.Errorf("finetune: scoring after training: %w", err)
+		}
+		printEval(os.Stdout, len(valSet.Pairs), before, after)
+	} else if valSet != nil {
+		fmt.Printf("\n(the held-out pairs have no ground truth: no metrics)\n")
+	}
+	return nil
+}
+
+func hasTruth(ds *data.Dataset) bool {
+	for _, k := range ds.Truth {
+		if k == data.DispLeft || (k == data.DepthLeft && ds.Rig != nil) {
+			return true
+		}
+	}
+	return false
+}
+
+func printEval(w io.Writer, n int, before, after *train.Evaluation) {
+	fmt.Fprintf(w, "\nheld-out pairs: %d, at the network's input size\n", n)
+	col := func(e *train.Evaluation, f func(*train.Evaluation) float64) string {
+		if e == nil {
+			return "        -"
+		}
+		return fmt.Sprintf("%9.4f", f(e))
+	}
+	type row struct {
+		name string
+		f    func(*train.Evaluation) float64
+	}
+	var rows []row
+	if after.HasDisparity {
+		rows = append(rows,
+			row{"disparity EPE (px)", func(e *train.Evaluation) float64 { return e.Disparity.EPE }},
+			row{"bad-1 (> 1 px)", func(e *train.Evaluation) float64 { return e.Disparity.Bad1 }},
+			row{"bad-3 (> 3 px)", func(e *train.Evaluation) float64 { return e.Disparity.Bad3 }})
+	}
+	if after.HasDepth {
+		rows = append(rows,
+			row{"abs rel", func(e *train.Evaluation) float64 { return e.Depth.AbsRel }},
+			row{"sq rel (m)", func(e *train.Evaluation) float64 { return e.Depth.SqRel }},
+			row{"RMSE (m)", func(e *train.Evaluation) float64 { return e.Depth.RMSE }},
+			row{"RMSE log", func(e *train.Evaluation) float64 { return e.Depth.RMSELog }},
+			row{"δ < 1.25", func(e *train.Evaluation) float64 { return e.Depth.Delta1 }},
+			row{"δ < 1.25²", func(e *train.Evaluation) float64 { return e.Depth.Delta2 }},
+			row{"δ < 1.25³", func(e *train.Evaluation) float64 { return e.Depth.Delta3 }})
+	}
+	fmt.Fprintf(w, "  %-20s %9s %9s\n", "", "before", "after")
+	for _, r := range rows {
+		fmt.Fprintf(w, "  %-20s %s %s\n", r.name, col(before, r.f), col(after, r.f))
+	}
+}
