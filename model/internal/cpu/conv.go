@@ -54,10 +54,15 @@ type ConvParams struct {
 // The output has shape (N, OutC, Ho, Wo) with
 // Ho = (H + 2·Pad − Dilation·(Kernel−1) − 1)/Stride + 1, likewise Wo.
 //
-// A stride-1 plan holds padded copies of one batch of input and of output
-// gradient, and the input gradient on the padded grid: about
-// N·(InC+OutC)·(H+2·Pad+2·span)·(W+2·Pad+2·span) extra values, span =
-// Dilation·(Kernel−1).
+// Apart from 1×1 stride-1 unpadded layers, a plan holds a padded copy of a
+// batch of input, the input gradient on the same padded grid, and a padded
+// copy of the output gradient (twice for the weight gradient's grid):
+// about N·(2·InC·Hp·Wp + 2·OutC·(Ho+2·span)·(Wo+2·span)) values, with
+// Hp = H+2·Pad, Wp = W+2·Pad and span = Dilation·(Kernel−1).
+//
+// The weight gradient also multiplies the padded input at the dropped grid
+// columns by exact zeros, so an Inf in the input can turn into NaN in
+// weights whose true gradient does not see that pixel.
 type Conv2D struct {
 	p     ConvParams
 	n     int

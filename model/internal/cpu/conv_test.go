@@ -354,6 +354,7 @@ func TestConvNoAlloc(t *testing.T) {
 		for _, p := range []ConvParams{
 			{InC: 8, OutC: 16, Kernel: 3, Pad: 1},
 			{InC: 8, OutC: 16, Kernel: 1},
+			{InC: 8, OutC: 16, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad},
 		} {
 			c, err := NewConv2D(p, 2, 16, 40)
 			if err != nil {

@@ -29,15 +29,18 @@
 //     micro-kernel over them (the packed-panel scheme of Goto and van de
 //     Geijn, "Anatomy of high-performance matrix multiplication", ACM TOMS
 //     34(3), 2008). Goroutines take column stripes of C.
-//   - Conv2D with stride 1 copies the input once into a padded buffer and
-//     computes the output on the padded grid: output pixel q reads padded
-//     input q + offset(tap), so the micro-kernel reads B rows straight from
-//     that buffer (an implicit GEMM; no im2col matrix). The input gradient
-//     is the same computation on the zero-padded output gradient with the
-//     weights transposed and rotated by 180°, folded back through the
-//     padding; the weight gradient is a blocked set of dot products over
-//     the same grid. Other strides pack im2col panels straight from the
-//     input into the GEMM and scatter the input gradient back (col2im).
+//   - Conv2D copies the input once into a padded buffer and computes the
+//     output on the padded grid: output pixel q reads padded input
+//     q + offset(tap), so the micro-kernel reads B rows straight from that
+//     buffer (an implicit GEMM; no im2col matrix). For stride s > 1 the
+//     padded input is stored as s² phase planes, which makes every tap a
+//     unit-stride read again. The weight gradient is a blocked set of dot
+//     products over the same grid. The input gradient is, for stride 1, the
+//     same forward computation on the zero-padded output gradient with the
+//     weights transposed and rotated by 180°, and for stride s, s² such
+//     stride-1 correlations, one per phase plane; either is then folded back
+//     through the padding (reflected taps add onto the pixels they mirror).
+//     1×1 stride-1 unpadded layers are a plain GEMM on the input.
 //
 // On amd64 the inner loops run in assembly micro-kernels (AVX-512 or AVX2
 // with FMA, chosen at run time from the CPU's features; KernelName says
