@@ -188,7 +188,9 @@ func (dc *direct) size(procs int) {
 	if cap(dc.wpack) < dc.mpad*dc.kdim {
 		dc.wpack = make([]float32, dc.mpad*dc.kdim)
 	}
+	// Rows past cout stay zero: packWeights writes only rows below it.
 	dc.wpack = dc.wpack[:dc.mpad*dc.kdim]
+	clear(dc.wpack)
 	dc.ncb = (256 + dc.nr - 1) / dc.nr * dc.nr
 	// At least two units per goroutine over the batch.
 	units := max(1, (2*procs+dc.nimg-1)/dc.nimg)
@@ -201,7 +203,6 @@ func (dc *direct) size(procs int) {
 // w[c][o][k-1-ky][k-1-kx] of a layer with dc.cin outputs.
 func (dc *direct) packWeights(w []float32, flip bool) {
 	mr, k2 := dc.mr, dc.k*dc.k
-	clear(dc.wpack)
 	for o := range dc.cout {
 		panel := dc.wpack[(o/mr)*mr*dc.kdim:]
 		i := o % mr

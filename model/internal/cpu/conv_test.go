@@ -250,6 +250,10 @@ func TestConvAgainstReference(t *testing.T) {
 		// fill the last register block.
 		{ConvParams{InC: 5, OutC: 13, Kernel: 3, Pad: 1}, 2, 9, 100},
 		{ConvParams{InC: 4, OutC: 11, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad}, 1, 10, 203},
+		// Degenerate images.
+		{ConvParams{InC: 2, OutC: 3, Kernel: 3, Pad: 1}, 2, 1, 1},
+		{ConvParams{InC: 2, OutC: 3, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad}, 1, 2, 3},
+		{ConvParams{InC: 3, OutC: 2, Kernel: 3, Stride: 4, Dilation: 2, Pad: 1}, 2, 5, 9},
 	}
 	forEachPath(t, func(t *testing.T) {
 		for _, k := range cases {
