@@ -1,0 +1,117 @@
+package main
+
+import (
+	"image"
+	"image/png"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/train"
+)
+
+func defaults(dataDir, out string) config {
+	return config{data: dataDir, out: out, steps: 2, batch: 1, lr: train.DefaultRate, every: 1, seed: 1, val: 0.34, evalBatch: 3, quiet: true}
+}
+
+// A short run on the committed synthetic pairs writes loadable weights, a
+// checkpoint, a CSV log with one row per step and a PNG, and -resume after
+// the end of the run refuses nothing but trains no further.
+func TestRunWritesOutputs(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "w.safetensors")
+	c := defaults(filepath.Join("..", "..", "testdata", "synth", "greenhouse"), out)
+	if err := run(c); err != nil {
+		t.Fatal(err)
+	}
+	w, err := model.Load(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w.Provenance["train.steps"] != "2" || w.IsPlaceholder() {
+		t.Errorf("provenance %v", w.Provenance)
+	}
+	ck, err := train.LoadCheckpoint(out + ".ckpt")
+	if err != nil || ck.Step != 2 {
+		t.Fatalf("checkpoint: %v, %+v", err, ck)
+	}
+	log, err := os.ReadFile(filepath.Join(dir, "w.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(log)), "\n")
+	if len(lines) != 3 || !strings.HasPrefix(lines[0], "step,epoch,batch,learning_rate,appearance") || !strings.HasPrefix(lines[2], "2,") {
+		t.Errorf("log:\n%s", log)
+	}
+	png, err := os.ReadFile(filepath.Join(dir, "w.png"))
+	if err != nil || len(png) < 8 || string(png[1:4]) != "PNG" {
+		t.Errorf("plot: %v, %d bytes", err, len(png))
+	}
+	// Resume a finished run with more steps: it continues from step 2.
+	c.resume, c.steps = true, 3
+	if err := run(c); err != nil {
+		t.Fatal(err)
+	}
+	if ck, err = train.LoadCheckpoint(out + ".ckpt"); err != nil || ck.Step != 3 {
+		t.Fatalf("resumed checkpoint: %v, %+v", err, ck)
+	}
+	log, _ = os.ReadFile(filepath.Join(dir, "w.csv"))
+	if n := len(strings.Split(strings.TrimSpace(string(log)), "\n")); n != 4 {
+		t.Errorf("resumed log has %d lines, want 4", n)
+	}
+}
+
+// Bad input gets clear errors that start with the command's name.
+func TestRunErrors(t *testing.T) {
+	dir := t.TempDir()
+	empty := filepath.Join(dir, "empty")
+	os.MkdirAll(filepath.Join(empty, "left"), 0o755)
+	os.MkdirAll(filepath.Join(empty, "right"), 0o755)
+	lonely := filepath.Join(dir, "lonely")
+	os.MkdirAll(filepath.Join(lonely, "left"), 0o755)
+	os.MkdirAll(filepath.Join(lonely, "right"), 0o755)
+	src, _ := os.ReadFile(filepath.Join("..", "..", "testdata", "synth", "greenhouse", "left", "000000.png"))
+	os.WriteFile(filepath.Join(lonely, "left", "a.png"), src, 0o644)
+	mismatch := filepath.Join(dir, "mismatch")
+	os.MkdirAll(filepath.Join(mismatch, "left"), 0o755)
+	os.MkdirAll(filepath.Join(mismatch, "right"), 0o755)
+	os.WriteFile(filepath.Join(mismatch, "left", "b.png"), src, 0o644)
+	small, _ := os.Create(filepath.Join(mismatch, "right", "b.png"))
+	png.Encode(small, image.NewGray(image.Rect(0, 0, 64, 32)))
+	small.Close()
+	bad := filepath.Join(dir, "bad.safetensors")
+	os.WriteFile(bad, []byte("not weights"), 0o644)
+	synthDir := filepath.Join("..", "..", "testdata", "synth", "greenhouse")
+	out := filepath.Join(dir, "w.safetensors")
+	cases := []struct {
+		name string
+		edit func(*config)
+		want string
+	}{
+		{"no data", func(c *config) { c.data = "" }, "-data DIR and -out FILE are required"},
+		{"missing dir", func(c *config) { c.data = filepath.Join(dir, "nowhere") }, "is not a folder"},
+		{"no pairs", func(c *config) { c.data = empty }, "no"},
+		{"missing partner", func(c *config) { c.data = lonely }, "a.png"},
+		{"mismatched sizes", func(c *config) { c.data = mismatch }, "b.png"},
+		{"bad weights", func(c *config) { c.from = bad }, "-from"},
+		{"both starts", func(c *config) { c.from, c.scratch = bad, true }, "exclude each other"},
+		{"resume without checkpoint", func(c *config) { c.resume = true; c.checkpoint = filepath.Join(dir, "none.ckpt") }, "-resume"},
+		{"batch too large", func(c *config) { c.batch = 5 }, "make no batch of 5"},
+		{"zero steps", func(c *config) { c.steps = 0 }, "must be positive"},
+	}
+	for _, tc := range cases {
+		c := defaults(synthDir, out)
+		tc.edit(&c)
+		err := run(c)
+		if err == nil || !strings.HasPrefix(err.Error(), "finetune: ") || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: %v, want an error containing %q", tc.name, err, tc.want)
+		} else {
+			t.Logf("%s: %v", tc.name, err)
+		}
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Errorf("a failed run wrote %s", out)
+	}
+}
