@@ -38,15 +38,3 @@ var genericKernel = kernelInfo{
 // KernelName returns the name of the GEMM micro-kernel in use
 // ("avx512", "avx2" or "generic").
 func KernelName() string { return kern.name }
-
-// useKernel switches the micro-kernel, for tests; it reports whether the
-// named kernel is available on this machine.
-func useKernel(name string) bool {
-	for _, k := range availableKernels() {
-		if k.name == name {
-			kern = k
-			return true
-		}
-	}
-	return false
-}
