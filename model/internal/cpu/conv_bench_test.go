@@ -19,6 +19,32 @@ func benchmarkConv(b *testing.B, s [5]int, backward bool) {
 	benchmarkConvStride(b, s, 1, backward)
 }
 
+// BenchmarkConv3x3WeightGrad times Backward with only the weight and bias
+// gradients (as for a network's first layer); it counts the forward FLOPs.
+func BenchmarkConv3x3WeightGrad(b *testing.B) {
+	for _, s := range benchConvShapes {
+		b.Run(fmt.Sprintf("%dx%dx%dx%d-%d", s[0], s[1], s[2], s[3], s[4]), func(b *testing.B) {
+			n, cin, h, w, cout := s[0], s[1], s[2], s[3], s[4]
+			c, err := NewConv2D(ConvParams{InC: cin, OutC: cout, Kernel: 3, Pad: 1}, n, h, w)
+			if err != nil {
+				b.Fatal(err)
+			}
+			rng := rand.New(rand.NewPCG(1, 1))
+			x := randSlice(rng, n*cin*h*w)
+			dy := randSlice(rng, n*cout*h*w)
+			dw, db := make([]float32, c.WeightLen()), make([]float32, cout)
+			c.Backward(nil, dw, db, x, nil, dy)
+			b.ReportAllocs()
+			b.ResetTimer()
+			cpu0 := processCPUSeconds()
+			for range b.N {
+				c.Backward(nil, dw, db, x, nil, dy)
+			}
+			reportFLOPs(b, c.FLOPs()*float64(b.N), cpu0)
+		})
+	}
+}
+
 func benchmarkConvStride(b *testing.B, s [5]int, stride int, backward bool) {
 	n, cin, h, w, cout := s[0], s[1], s[2], s[3], s[4]
 	c, err := NewConv2D(ConvParams{InC: cin, OutC: cout, Kernel: 3, Stride: stride, Pad: 1}, n, h, w)
