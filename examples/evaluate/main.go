@@ -1,0 +1,331 @@
+// Command evaluate scores the depth network on a folder of stereo pairs with
+// ground truth (the layout of package model/data, as package synth writes
+// it): it estimates the left view's disparity of every pair at the pair's
+// own resolution with model.Estimator, prints the disparity and depth error
+// tables of package depth, and can write error-map images. With -adapt N it
+// first fine-tunes the weights for N steps on the evaluated pairs themselves
+// with the self-supervised objective (left and right images only; the
+// ground truth is never used for training) and reports both.
+//
+//	go run ./examples/evaluate                         # testdata/synth/greenhouse
+//	go run ./examples/evaluate -flip -errors errs DIR
+//	go run ./examples/evaluate -adapt 200 DIR
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"image"
+	"io"
+	"math"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"time"
+
+	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/data"
+	"github.com/parallaxdepth/parallax/model/train"
+)
+
+const defaultData = "testdata/synth/greenhouse"
+
+type options struct {
+	weights, errors  string
+	flip, csv, quiet bool
+	adapt, batch     int
+	seed             uint64
+}
+
+func main() {
+	var o options
+	flag.StringVar(&o.weights, "weights", "", "weights file (safetensors); default: the embedded weights")
+	flag.BoolVar(&o.flip, "flip", false, "flip post-processing (see model.FlipBlend)")
+	flag.StringVar(&o.errors, "errors", "", "folder for error maps: NAME.disp-error.png (|d̂ − d|, 0 … 3 px) and\nNAME.depth-error.png (|ẑ − z|/z, 0 … 0.25), colour-mapped, bright = large")
+	flag.IntVar(&o.adapt, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
+	flag.IntVar(&o.batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
+	flag.Uint64Var(&o.seed, "seed", 1, "seed of the adaptation's batch order")
+	flag.BoolVar(&o.csv, "csv", false, "print the tables as CSV")
+	flag.BoolVar(&o.quiet, "quiet", false, "no progress output")
+	flag.Usage = func() {
+		fmt.Fprintf(flag.CommandLine.Output(), `usage: evaluate [flags] [dataset folder]
+
+Scores the network on pairs with ground truth (DIR/left, DIR/right, DIR/rig.json,
+DIR/truth/disp_left and/or DIR/truth/depth_left; see package model/data).
+Default folder: %s. Disparity errors are in pixels at each pair's
+resolution; depth errors use the folder's rig and count pixels inside its depth
+range. Each table has one row per pair and their mean (per-pair average).
+
+Flags:
+`, defaultData)
+		flag.PrintDefaults()
+	}
+	flag.Parse()
+	dir := defaultData
+	if flag.NArg() > 1 {
+		fmt.Fprintln(os.Stderr, "evaluate: give one dataset folder (see -help)")
+		os.Exit(2)
+	} else if flag.NArg() == 1 {
+		dir = flag.Arg(0)
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	if err := run(ctx, o, dir, os.Stdout, os.Stderr); err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+}
+
+func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) error {
+	ds, err := data.Open(dir)
+	if err != nil {
+		return fmt.Errorf("evaluate: %w", err)
+	}
+	if len(ds.Pairs) == 0 {
+		return fmt.Errorf("evaluate: %s holds no pairs", dir)
+	}
+	hasDisp, hasDepth := false, false
+	for _, k := range ds.Truth {
+		hasDisp = hasDisp || k == data.DispLeft
+		hasDepth = hasDepth || k == data.DepthLeft
+	}
+	if hasDepth && ds.Rig == nil {
+		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig.json: depth is not scored\n", dir)
+		hasDepth = false
+	}
+	if !hasDisp && !hasDepth {
+		return fmt.Errorf("evaluate: %s has no truth/disp_left or truth/depth_left to score against", dir)
+	}
+	if o.adapt < 0 || o.batch < 1 {
+		return fmt.Errorf("evaluate: -adapt %d and -adapt-batch %d must be non-negative and positive", o.adapt, o.batch)
+	}
+	var w *model.Weights
+	if o.weights != "" {
+		w, err = model.Load(o.weights)
+	} else {
+		w, err = model.Default()
+	}
+	if err != nil {
+		return err
+	}
+	if w.IsPlaceholder() {
+		fmt.Fprintln(stderr, "evaluate: WARNING: the weights are the UNTRAINED PLACEHOLDER; the errors below say nothing about the method")
+	}
+	label := "weights"
+	if o.adapt > 0 {
+		label = "before adaptation"
+	}
+	if err := evaluate(ctx, o, ds, w, label, hasDisp, hasDepth, stdout, stderr); err != nil {
+		return err
+	}
+	if o.adapt == 0 {
+		return nil
+	}
+	start := time.Now()
+	adapted, res, err := adapt(ctx, o, ds, w, stderr)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "\nadaptation: %d steps (%d skipped) of batch %d in %.1f s; loss %.4f → %.4f\n", res.Step, res.Skips, min(o.batch, len(ds.Pairs)),
+		time.Since(start).Seconds(), res.First.Total, res.Last.Total)
+	if res.Interrupted {
+		fmt.Fprintln(stdout, "adaptation interrupted: the tables below use the weights reached so far")
+	}
+	if o.errors != "" {
+		o.errors = filepath.Join(o.errors, "adapted")
+	}
+	return evaluate(ctx, o, ds, adapted, "after adaptation", hasDisp, hasDepth, stdout, stderr)
+}
+
+// adapt fine-tunes w on the pairs of ds (left and right images only).
+func adapt(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, stderr io.Writer) (*model.Weights, *train.Result, error) {
+	batch := min(o.batch, len(ds.Pairs))
+	src, err := train.NewDatasetSource(ds, w.Config, batch, o.seed, nil)
+	if err != nil {
+		return nil, nil, fmt.Errorf("evaluate: %w", err)
+	}
+	opt := &train.Options{Steps: o.adapt, Batch: batch, Seed: o.seed}
+	if !o.quiet {
+		opt.Progress = func(p train.Progress) {
+			if p.Step%10 == 0 || p.Step == o.adapt {
+				fmt.Fprintf(stderr, "\radapting: step %d/%d", p.Step, o.adapt)
+			}
+		}
+	}
+	tr, err := train.NewTrainer(w, src, opt)
+	if err != nil {
+		return nil, nil, fmt.Errorf("evaluate: %w", err)
+	}
+	defer tr.Close()
+	res, err := tr.Run(ctx)
+	if !o.quiet {
+		fmt.Fprintln(stderr)
+	}
+	if err != nil {
+		return nil, nil, fmt.Errorf("evaluate: %w", err)
+	}
+	return tr.Weights(), res, nil
+}
+
+// evaluate scores w on every pair of ds and prints the tables.
+func evaluate(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, label string, hasDisp, hasDepth bool, stdout, stderr io.Writer) error {
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: ds.Rig, Flip: o.flip})
+	if err != nil {
+		return err
+	}
+	if o.errors != "" {
+		if err := os.MkdirAll(o.errors, 0o755); err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+	}
+	var dispRows, depthRows []row
+	start := time.Now()
+	for i, p := range ds.Pairs {
+		if !o.quiet {
+			fmt.Fprintf(stderr, "\r%s: pair %d/%d", label, i+1, len(ds.Pairs))
+		}
+		s, err := ds.Load(i, p.Width, p.Height)
+		if err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+		e, err := est.Estimate(ctx, s.Left.ToNRGBA(0))
+		if err != nil {
+			return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+		}
+		if hasDisp {
+			gt, err := depth.DisparityFromFraction(s.DispLeft, 0)
+			if err != nil {
+				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+			}
+			m, err := depth.DisparityErrors(e.Disparity, gt)
+			if err != nil {
+				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+			}
+			dispRows = append(dispRows, row{p.Name, m.N, []float64{m.EPE, m.Bad1, m.Bad2, m.Bad3}})
+			if o.errors != "" {
+				if err := saveError(filepath.Join(o.errors, p.Name+".disp-error.png"), &e.Disparity.Map, &gt.Map, false, 3); err != nil {
+					return err
+				}
+			}
+		}
+		if hasDepth {
+			gt, err := depthTruth(s)
+			if err != nil {
+				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+			}
+			m, err := depth.DepthErrors(e.Depth, gt, &depth.DepthOptions{MinDepth: ds.Rig.MinDepth, MaxDepth: ds.Rig.MaxDepth})
+			if err != nil {
+				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+			}
+			depthRows = append(depthRows, row{p.Name, m.N, []float64{m.AbsRel, m.SqRel, m.RMSE, m.RMSELog, m.Delta1, m.Delta2, m.Delta3}})
+			if o.errors != "" {
+				if err := saveError(filepath.Join(o.errors, p.Name+".depth-error.png"), &e.Depth.Map, &gt.Map, true, 0.25); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	if !o.quiet {
+		fmt.Fprintf(stderr, "\r%s: %d pairs in %.1f s\n", label, len(ds.Pairs), time.Since(start).Seconds())
+	}
+	fmt.Fprintf(stdout, "\n%s — %s, %d pairs, flip %v\n", label, ds.Dir, len(ds.Pairs), o.flip)
+	if hasDisp {
+		var s depth.Summary
+		for _, r := range withMean(dispRows) {
+			s.AddDisparity(r.name, depth.DisparityMetrics{N: r.n, EPE: r.v[0], Bad1: r.v[1], Bad2: r.v[2], Bad3: r.v[3]})
+		}
+		if err := print(stdout, "disparity (pixels at each pair's resolution; bad-K = fraction off by more than K px)", &s, o.csv); err != nil {
+			return err
+		}
+	}
+	if hasDepth {
+		var s depth.Summary
+		for _, r := range withMean(depthRows) {
+			s.AddDepth(r.name, depth.DepthMetrics{N: r.n, Scale: 1, AbsRel: r.v[0], SqRel: r.v[1], RMSE: r.v[2], RMSELog: r.v[3], Delta1: r.v[4], Delta2: r.v[5], Delta3: r.v[6]})
+		}
+		if err := print(stdout, fmt.Sprintf("depth (metres, no median scaling, ground truth within %.2f … %.2f m)", ds.Rig.MinDepth, ds.Rig.MaxDepth), &s, o.csv); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+type row struct {
+	name string
+	n    int
+	v    []float64
+}
+
+// withMean appends the row of per-pair means (pixels: the total).
+func withMean(rows []row) []row {
+	if len(rows) < 2 {
+		return rows
+	}
+	m := row{name: "mean", v: make([]float64, len(rows[0].v))}
+	for _, r := range rows {
+		m.n += r.n
+		for k, v := range r.v {
+			m.v[k] += v / float64(len(rows))
+		}
+	}
+	return append(rows, m)
+}
+
+func print(w io.Writer, title string, s *depth.Summary, csv bool) error {
+	fmt.Fprintf(w, "\n%s\n", title)
+	if csv {
+		return s.WriteCSV(w)
+	}
+	return s.WriteTable(w)
+}
+
+// depthTruth turns the sample's depth truth (metres, 0 = none) into a map.
+func depthTruth(s *data.Sample) (*depth.Depth, error) {
+	if s.DepthLeft == nil {
+		return nil, errors.New("no depth truth")
+	}
+	im := s.DepthLeft
+	z, err := depth.NewDepth(image.Rect(0, 0, im.W, im.H))
+	if err != nil {
+		return nil, err
+	}
+	for y := range im.H {
+		for x := range im.W {
+			z.Set(x, y, im.Pix[y*im.W+x])
+		}
+	}
+	return z, nil
+}
+
+// saveError writes |est − gt| (relative to gt if rel) of the pixels valid
+// in both, colour-mapped over [0, top]; other pixels are transparent.
+func saveError(path string, est, gt *depth.Map, rel bool, top float64) error {
+	em, err := depth.NewDisparity(est.Rect)
+	if err != nil {
+		return err
+	}
+	for y := est.Rect.Min.Y; y < est.Rect.Max.Y; y++ {
+		for x := est.Rect.Min.X; x < est.Rect.Max.X; x++ {
+			a, ok1 := est.At(x, y)
+			b, ok2 := gt.At(x, y)
+			if !ok1 || !ok2 {
+				continue
+			}
+			e := math.Abs(float64(a - b))
+			if rel {
+				e /= float64(b)
+			}
+			// The map type keeps positive values only; an exact match
+			// gets the smallest positive value instead of 0.
+			em.Set(x, y, float32(max(e, 1e-30)))
+		}
+	}
+	img, err := depth.ColorDisparity(em, &depth.ColorOptions{Min: 0, Max: top})
+	if err != nil {
+		return err
+	}
+	return depth.SavePNG(path, img)
+}

@@ -1,0 +1,52 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"image/png"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func TestWithMean(t *testing.T) {
+	rows := withMean([]row{{"a", 10, []float64{1, 0.5}}, {"b", 30, []float64{3, 0.1}}})
+	m := rows[2]
+	// Per-pair average (common practice in depth benchmarks), total pixels.
+	if m.name != "mean" || m.n != 40 || m.v[0] != 2 || m.v[1] != 0.3 {
+		t.Errorf("mean row %+v", m)
+	}
+}
+
+// TestRunSynthetic evaluates the committed synthetic greenhouse pairs, with
+// one adaptation step, and checks the output's structure and files.
+func TestRunSynthetic(t *testing.T) {
+	dir := filepath.Join("..", "..", "testdata", "synth", "greenhouse")
+	errs := t.TempDir()
+	var out, log bytes.Buffer
+	o := options{errors: errs, adapt: 1, batch: 2, seed: 1, quiet: true}
+	if err := run(context.Background(), o, dir, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	s := out.String()
+	for _, want := range []string{"before adaptation", "after adaptation", "epe_px", "abs_rel", "000002", "mean", "adaptation: 1 steps"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("output lacks %q:\n%s", want, s)
+		}
+	}
+	for _, p := range []string{"000000.disp-error.png", "000001.depth-error.png", filepath.Join("adapted", "000002.disp-error.png")} {
+		f, err := os.Open(filepath.Join(errs, p))
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(f)
+		f.Close()
+		if err != nil || img.Bounds().Dx() != 256 {
+			t.Errorf("%s: %v", p, err)
+		}
+	}
+	if err := run(context.Background(), options{batch: 1}, t.TempDir(), &out, &log); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+		t.Errorf("empty folder: %v", err)
+	}
+}
