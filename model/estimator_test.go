@@ -14,6 +14,7 @@ import (
 	"strings"
 	"sync"
 	"testing"
+	"time"
 
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model/demo"
@@ -512,3 +513,27 @@ func benchmarkEstimate(b *testing.B, flip bool) {
 // depth maps.
 func BenchmarkEstimate256x128(b *testing.B)     { benchmarkEstimate(b, false) }
 func BenchmarkEstimate256x128Flip(b *testing.B) { benchmarkEstimate(b, true) }
+
+// TestEstimateWaitsAndCancels holds the only worker and checks that a call
+// gives up when its context ends while it waits, and proceeds once the
+// worker is back.
+func TestEstimateWaitsAndCancels(t *testing.T) {
+	est, err := NewEstimator(tinyWeights(t), &EstimatorOptions{MaxWorkers: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wk, err := est.acquire(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithTimeout(context.Background(), 20*time.Millisecond)
+	defer cancel()
+	img := image.NewGray(image.Rect(0, 0, 40, 30))
+	if _, err := est.Estimate(ctx, img); !errors.Is(err, context.DeadlineExceeded) {
+		t.Fatalf("waiting for the worker past the deadline: %v", err)
+	}
+	est.release(wk)
+	if _, err := est.Estimate(context.Background(), img); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -29,6 +29,15 @@ const (
 // support (its pixels map outside the right view), and so does the right
 // border of mirrored, hence the ramps. dst may be orig or mirrored. It panics
 // if a slice does not have h·w values.
+//
+// Why channel 0 of the mirrored prediction: mirroring a stereo pair swaps
+// the roles of the views, so the mirrored left image is the RIGHT view of
+// the mirrored pair, and the disparity of its own pixels, mirrored back, is
+// d_L (TestFlipRolesOnSyntheticPair checks this with exact ground truth).
+// The network, which takes every input for a left view, predicts the
+// disparity of its input's pixels in channel 0. Its channel 1 on the
+// mirrored image describes a camera to the left of the original left one,
+// so the Estimator keeps d_R from the unmirrored prediction only.
 func FlipBlend(dst, orig, mirrored []float32, h, w int) {
 	if h <= 0 || w <= 0 || len(dst) != h*w || len(orig) != h*w || len(mirrored) != h*w {
 		panic(fmt.Sprintf("model.FlipBlend: slices of %d, %d, %d values for %dx%d", len(dst), len(orig), len(mirrored), w, h))
