@@ -10,6 +10,7 @@
 //	go run ./examples/evaluate                         # testdata/synth/greenhouse
 //	go run ./examples/evaluate -flip -errors errs DIR
 //	go run ./examples/evaluate -adapt 200 DIR
+//	go run ./examples/evaluate -pair left.png,right.png,disp.pfm -rig rig.json
 package main
 
 import (
@@ -18,11 +19,13 @@ import (
 	"flag"
 	"fmt"
 	"image"
+	_ "image/jpeg"
 	"io"
 	"math"
 	"os"
 	"os/signal"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/parallaxdepth/parallax/depth"
@@ -35,6 +38,7 @@ const defaultData = "testdata/synth/greenhouse"
 
 type options struct {
 	weights, errors  string
+	pair, rig        string
 	flip, csv, quiet bool
 	adapt, batch     int
 	seed             uint64
@@ -48,6 +52,8 @@ func main() {
 	flag.IntVar(&o.adapt, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
 	flag.IntVar(&o.batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
 	flag.Uint64Var(&o.seed, "seed", 1, "seed of the adaptation's batch order")
+	flag.StringVar(&o.pair, "pair", "", "evaluate one pair given as files LEFT,RIGHT,DISP (images and the left disparity PFM in\npixels, non-finite = unknown) instead of a dataset folder")
+	flag.StringVar(&o.rig, "rig", "", "with -pair: the rig JSON file, rescaled to the images' size (depth is scored only with a rig)")
 	flag.BoolVar(&o.csv, "csv", false, "print the tables as CSV")
 	flag.BoolVar(&o.quiet, "quiet", false, "no progress output")
 	flag.Usage = func() {
@@ -73,10 +79,78 @@ Flags:
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
-	if err := run(ctx, o, dir, os.Stdout, os.Stderr); err != nil {
+	if err := main1(ctx, o, dir, flag.NArg() == 1); err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)
 	}
+}
+
+func main1(ctx context.Context, o options, dir string, dirGiven bool) error {
+	if o.pair != "" {
+		if dirGiven {
+			return errors.New("evaluate: give either -pair or a dataset folder")
+		}
+		tmp, err := os.MkdirTemp("", "parallax-evaluate-")
+		if err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+		defer os.RemoveAll(tmp)
+		if err := pairFolder(tmp, o.pair, o.rig); err != nil {
+			return err
+		}
+		dir = tmp
+	} else if o.rig != "" {
+		return errors.New("evaluate: -rig goes with -pair; a dataset folder has its own rig.json")
+	}
+	return run(ctx, o, dir, os.Stdout, os.Stderr)
+}
+
+// pairFolder lays out one pair of files as a dataset folder in dir, so that
+// package model/data reads it like any other: the images and the disparity
+// are copied, and the rig is rescaled to the images' size.
+func pairFolder(dir, pair, rigPath string) error {
+	files := strings.Split(pair, ",")
+	if len(files) != 3 {
+		return fmt.Errorf("evaluate: -pair %q: want LEFT,RIGHT,DISP", pair)
+	}
+	name := strings.TrimSuffix(filepath.Base(files[0]), filepath.Ext(files[0]))
+	dst := []string{
+		filepath.Join(dir, "left", name+strings.ToLower(filepath.Ext(files[0]))),
+		filepath.Join(dir, "right", name+strings.ToLower(filepath.Ext(files[1]))),
+		filepath.Join(dir, "truth", data.DispLeft, name+".pfm"),
+	}
+	for i, f := range files {
+		b, err := os.ReadFile(f)
+		if err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+		if err := os.MkdirAll(filepath.Dir(dst[i]), 0o755); err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+		if err := os.WriteFile(dst[i], b, 0o644); err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
+	}
+	if rigPath == "" {
+		return nil
+	}
+	rig, err := depth.LoadRig(rigPath)
+	if err != nil {
+		return err
+	}
+	f, err := os.Open(files[0])
+	if err != nil {
+		return fmt.Errorf("evaluate: %w", err)
+	}
+	defer f.Close()
+	cfg, _, err := image.DecodeConfig(f)
+	if err != nil {
+		return fmt.Errorf("evaluate: %s: %w", files[0], err)
+	}
+	if rig, err = rig.Scaled(cfg.Width, cfg.Height); err != nil {
+		return err
+	}
+	return depth.SaveRig(filepath.Join(dir, "rig.json"), rig)
 }
 
 func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) error {

@@ -50,3 +50,25 @@ func TestRunSynthetic(t *testing.T) {
 		t.Errorf("empty folder: %v", err)
 	}
 }
+
+// TestPairFolder lays out the committed Motorcycle pair (Middlebury 2014,
+// shipped by Debian python3-skimage 0.19.3; see testdata/motorcycle) as a
+// dataset and checks that model/data reads it with the rescaled rig.
+func TestPairFolder(t *testing.T) {
+	m := filepath.Join("..", "..", "testdata", "motorcycle")
+	dir := t.TempDir()
+	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
+	if err := pairFolder(dir, pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")); err != nil {
+		t.Fatal(err)
+	}
+	var out, log bytes.Buffer
+	if err := run(context.Background(), options{quiet: true, batch: 1}, dir, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(out.String(), "epe_px") || !strings.Contains(out.String(), "left ") {
+		t.Errorf("output:\n%s", out.String())
+	}
+	if err := pairFolder(t.TempDir(), "a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+		t.Errorf("two files: %v", err)
+	}
+}
