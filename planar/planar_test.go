@@ -1,0 +1,160 @@
+package planar
+
+import (
+	"image"
+	"image/color"
+	"math"
+	"strings"
+	"testing"
+)
+
+// The conversions below are checked against the standard library's own
+// colour models (image/color), the reference for what each concrete type
+// means: every fast path must agree with the generic color.NRGBA64Model path.
+
+func fill(img interface {
+	Set(x, y int, c color.Color)
+	Bounds() image.Rectangle
+}) {
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			v := uint8((x*37 + y*91) % 256)
+			img.Set(x, y, color.NRGBA{R: v, G: 255 - v, B: uint8((x * y) % 256), A: 255})
+		}
+	}
+}
+
+// generic hides the concrete type so FromImage takes its fallback path.
+type generic struct{ image.Image }
+
+func TestFromImageFastPathsMatchGeneric(t *testing.T) {
+	// Bounds that do not start at (0, 0), as image types allow.
+	r := image.Rect(-3, 5, 9, 12)
+	nrgba := image.NewNRGBA(r)
+	fill(nrgba)
+	rgba := image.NewRGBA(r)
+	fill(rgba)
+	gray := image.NewGray(r)
+	fill(gray)
+	ycc := image.NewYCbCr(r, image.YCbCrSubsampleRatio420)
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		for x := r.Min.X; x < r.Max.X; x++ {
+			ycc.Y[ycc.YOffset(x, y)] = uint8(x*11 + y*7)
+			ycc.Cb[ycc.COffset(x, y)] = uint8(x * 5)
+			ycc.Cr[ycc.COffset(x, y)] = uint8(200 - y*3)
+		}
+	}
+	// A sub-image exercises a Rect that differs from the parent's.
+	sub := nrgba.SubImage(image.Rect(0, 6, 7, 11)).(*image.NRGBA)
+	for _, tc := range []struct {
+		name string
+		img  image.Image
+	}{{"NRGBA", nrgba}, {"RGBA", rgba}, {"Gray", gray}, {"YCbCr", ycc}, {"NRGBA sub-image", sub}} {
+		fast, err := FromImage(tc.img)
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		slow, err := FromImage(generic{tc.img})
+		if err != nil {
+			t.Fatalf("%s generic: %v", tc.name, err)
+		}
+		b := tc.img.Bounds()
+		if fast.N != 1 || fast.C != 3 || fast.H != b.Dy() || fast.W != b.Dx() {
+			t.Fatalf("%s: shape %s, want 1x3x%dx%d", tc.name, fast.Shape(), b.Dy(), b.Dx())
+		}
+		for i := range fast.Pix {
+			// 8-bit values through /255 and 16-bit values through /65535 agree
+			// to float32 rounding; YCbCr's conversion rounds to 8 bits first
+			// in the fast path, hence one grey level of slack there.
+			tol := 1e-6
+			if tc.name == "YCbCr" {
+				tol = 1.0/255 + 1e-6
+			}
+			if d := math.Abs(float64(fast.Pix[i] - slow.Pix[i])); d > tol {
+				t.Fatalf("%s: element %d fast %v generic %v", tc.name, i, fast.Pix[i], slow.Pix[i])
+			}
+		}
+		// Spot-check one pixel against color.NRGBAModel directly.
+		c := color.NRGBAModel.Convert(tc.img.At(b.Min.X+1, b.Min.Y+2)).(color.NRGBA)
+		got := fast.At(0, 0, 2, 1)
+		if tc.name != "YCbCr" && math.Abs(float64(got)-float64(c.R)/255) > 1e-6 {
+			t.Errorf("%s: R at (1,2) = %v, want %v", tc.name, got, float64(c.R)/255)
+		}
+	}
+}
+
+func TestFromImagePremultipliedAlpha(t *testing.T) {
+	// image.RGBA stores premultiplied colour: (100, 50, 0, 128) is the
+	// un-premultiplied colour (100/128, 50/128, 0) (image/color docs).
+	img := image.NewRGBA(image.Rect(0, 0, 1, 1))
+	img.Pix = []uint8{100, 50, 0, 128}
+	p, err := FromImage(img)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(float64(p.Pix[0])-100.0/128) > 1e-6 || math.Abs(float64(p.Pix[1])-50.0/128) > 1e-6 || p.Pix[2] != 0 {
+		t.Fatalf("got %v, want [%v %v 0]", p.Pix, 100.0/128, 50.0/128)
+	}
+}
+
+func TestFromImageErrors(t *testing.T) {
+	if _, err := FromImage(nil); err == nil || !strings.HasPrefix(err.Error(), "planar: ") {
+		t.Errorf("nil image: err = %v", err)
+	}
+	if _, err := FromImage(image.NewNRGBA(image.Rect(4, 4, 4, 9))); err != ErrEmpty {
+		t.Errorf("empty image: err = %v, want ErrEmpty", err)
+	}
+}
+
+func TestNewCheckedAndCheck(t *testing.T) {
+	for _, s := range [][4]int{{0, 1, 1, 1}, {1, -1, 1, 1}, {1, 1, 1 << 15, 1 << 15}} {
+		if _, err := NewChecked(s[0], s[1], s[2], s[3]); err == nil {
+			t.Errorf("NewChecked%v: no error", s)
+		}
+	}
+	m := New(2, 3, 4, 5)
+	if err := m.Check("x"); err != nil {
+		t.Fatal(err)
+	}
+	m.Pix = m.Pix[:10]
+	if err := m.Check("x"); err == nil || !strings.Contains(err.Error(), "10 values") {
+		t.Errorf("short Pix: err = %v", err)
+	}
+	var nilImg *Image
+	if err := nilImg.Check("x"); err == nil {
+		t.Error("nil image passed Check")
+	}
+}
+
+func TestIndexLayoutAndCheckFinite(t *testing.T) {
+	m := New(2, 3, 4, 5)
+	// NCHW: ((n*C+c)*H+y)*W+x (the layout stated in doc.go).
+	if got, want := m.Index(1, 2, 3, 4), ((1*3+2)*4+3)*5+4; got != want {
+		t.Fatalf("Index = %d, want %d", got, want)
+	}
+	m.Set(1, 2, 3, 1, float32(math.NaN()))
+	err := m.CheckFinite("disparity")
+	if err == nil || !strings.Contains(err.Error(), "n=1, c=2, y=3, x=1") {
+		t.Fatalf("CheckFinite: %v", err)
+	}
+	it := m.Item(1)
+	if it.N != 1 || &it.Pix[0] != &m.Pix[m.Index(1, 0, 0, 0)] {
+		t.Fatal("Item does not share the batch's storage")
+	}
+}
+
+func TestToNRGBARoundTrip(t *testing.T) {
+	src := image.NewNRGBA(image.Rect(0, 0, 7, 3))
+	fill(src)
+	p, err := FromImage(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	back := p.ToNRGBA(0)
+	for i := range src.Pix {
+		if src.Pix[i] != back.Pix[i] {
+			t.Fatalf("byte %d: %d became %d", i, src.Pix[i], back.Pix[i])
+		}
+	}
+}
