@@ -20,7 +20,7 @@ import (
 // logHeader names the CSV columns; the terms are the weighted loss terms
 // of the objective (see loss.Terms).
 var logHeader = []string{"step", "epoch", "batch", "learning_rate", "appearance", "smoothness", "consistency", "total",
-	"skipped", "disparity_spread", "steps_per_s", "pairs_per_s", "elapsed_s"}
+	"skipped", "disparity_spread", "mean_disparity_px", "steps_per_s", "pairs_per_s", "elapsed_s"}
 
 type logRow struct {
 	step         int
@@ -28,7 +28,7 @@ type logRow struct {
 	rate         float64
 	terms        loss.Terms
 	skipped      bool
-	spread       float64
+	spread, mpx  float64
 	sps, pps     float64
 	elapsed      float64
 }
@@ -41,7 +41,7 @@ type stepLog struct {
 }
 
 func (l *stepLog) add(p train.Progress) {
-	l.rows = append(l.rows, logRow{p.Step, p.Epoch, p.Batch, p.Rate, p.Terms, p.Skipped, p.Spread,
+	l.rows = append(l.rows, logRow{p.Step, p.Epoch, p.Batch, p.Rate, p.Terms, p.Skipped, p.Spread, p.MeanDisparity,
 		p.StepsPerSec, p.PairsPerSec, p.Elapsed.Seconds()})
 }
 
@@ -65,7 +65,7 @@ func (l *stepLog) load(step int) error {
 		if len(r) != len(logHeader) {
 			return fmt.Errorf("finetune: log %s line %d: %d fields, want %d", l.path, i+1, len(r), len(logHeader))
 		}
-		var v [13]float64
+		var v [14]float64
 		for k, s := range r {
 			if k == 8 {
 				continue
@@ -79,7 +79,7 @@ func (l *stepLog) load(step int) error {
 		}
 		l.rows = append(l.rows, logRow{int(v[0]), int(v[1]), int(v[2]), v[3],
 			loss.Terms{Appearance: v[4], Smoothness: v[5], Consistency: v[6], Total: v[7]},
-			r[8] == "1", v[9], v[10], v[11], v[12]})
+			r[8] == "1", v[9], v[10], v[11], v[12], v[13]})
 	}
 	return nil
 }
@@ -96,7 +96,7 @@ func (l *stepLog) save() error {
 		}
 		w.Write([]string{strconv.Itoa(r.step), strconv.Itoa(r.epoch), strconv.Itoa(r.batch), g(r.rate),
 			g(r.terms.Appearance), g(r.terms.Smoothness), g(r.terms.Consistency), g(r.terms.Total),
-			skip, g(r.spread), g(r.sps), g(r.pps), g(r.elapsed)})
+			skip, g(r.spread), g(r.mpx), g(r.sps), g(r.pps), g(r.elapsed)})
 	}
 	w.Flush()
 	if err := writeAtomic(l.path, buf.Bytes()); err != nil {

@@ -149,14 +149,16 @@ func run(c config) error {
 		if w, err = model.NewWeights(cfg, c.seed); err != nil {
 			return fmt.Errorf("finetune: %w", err)
 		}
-		origin = fmt.Sprintf("a fresh initialisation (seed %d, d_max %.4g of the width)", c.seed, w.Config.DMax)
+		train.PrepareHeads(w) // small start disparities; see its doc
+		origin = fmt.Sprintf("a fresh initialisation (seed %d, d_max %.4g of the width, heads prepared)", c.seed, w.Config.DMax)
 	default:
 		if w, err = model.Default(); err != nil {
 			return fmt.Errorf("finetune: %w", err)
 		}
 		origin = "the embedded default weights"
 		if w.IsPlaceholder() {
-			origin += " (an untrained placeholder: this is the same as a fresh initialisation)"
+			train.PrepareHeads(w)
+			origin += " (an untrained placeholder: this is a fresh initialisation; heads prepared as with -from-scratch)"
 		}
 	}
 	fmt.Fprintf(os.Stderr, "finetune: %d training pairs", len(trainSet.Pairs))
@@ -199,7 +201,7 @@ func run(c config) error {
 			bar.note(fmt.Sprintf("step %d skipped: %s", p.Step, p.SkipReason))
 		}
 		if p.Collapsed {
-			bar.note(fmt.Sprintf("step %d: the disparity map is nearly constant (spread %.4f, several steps in a row): training has collapsed; try a lower -lr", p.Step, p.Spread))
+			bar.note(fmt.Sprintf("step %d: the disparity map is nearly constant or vanishing (spread %.4f, mean %.3f px, several steps in a row): training has collapsed; try a lower -lr", p.Step, p.Spread, p.MeanDisparity))
 		}
 		if p.Checkpoint != "" {
 			if err := log.save(); err != nil {

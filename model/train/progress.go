@@ -38,10 +38,15 @@ type Progress struct {
 	// over mean) of the finest left disparity d_L, averaged over the
 	// batch; 0 for a skipped step.
 	Spread float64
+	// MeanDisparity is the mean of the finest d_L over the batch, in
+	// pixels at the network's input width; 0 for a skipped step.
+	MeanDisparity float64
 	// Collapsed is set on the step at which Spread has stayed below
-	// CollapseOptions.Spread for CollapseOptions.Steps consecutive steps
-	// (once per such episode): the network predicts a near-constant
-	// disparity map, the failure mode of too large a learning rate.
+	// CollapseOptions.Spread, or MeanDisparity below
+	// CollapseOptions.MinPixels, for CollapseOptions.Steps consecutive
+	// steps (once per such episode): the network predicts a near-constant
+	// or vanishing disparity map, the failure modes of too large a
+	// learning rate and of saturated heads.
 	Collapsed bool
 
 	// Checkpoint is the path of the checkpoint written after this step, or
@@ -57,7 +62,13 @@ type CollapseOptions struct {
 	// and the synthetic ones vary by far more than 2% across the image (our
 	// own choice).
 	Spread float64
-	// Steps is the number of consecutive steps below the threshold that
+	// MinPixels is the threshold of the mean disparity in pixels at the
+	// network's width: below it the map has vanished (every point beyond
+	// f·B/MinPixels; the sigmoid heads saturate at 0 and stop learning).
+	// The coefficient of variation does not see this case, since it is
+	// scale-free. If it is 0 it is defaulted to 0.25 px (our own choice).
+	MinPixels float64
+	// Steps is the number of consecutive steps below a threshold that
 	// count as a collapse. If it is 0 it is defaulted to 10.
 	Steps int
 }
@@ -66,10 +77,22 @@ func (c CollapseOptions) withDefaults() CollapseOptions {
 	if c.Spread == 0 {
 		c.Spread = 0.02
 	}
+	if c.MinPixels == 0 {
+		c.MinPixels = 0.25
+	}
 	if c.Steps == 0 {
 		c.Steps = 10
 	}
 	return c
+}
+
+// mean returns the mean of d.
+func mean(d []float32) float64 {
+	var sum float64
+	for _, v := range d {
+		sum += float64(v)
+	}
+	return sum / float64(max(len(d), 1))
 }
 
 // spread returns the coefficient of variation of each of the n planes of

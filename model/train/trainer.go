@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 	"time"
 
 	"github.com/parallaxdepth/parallax/loss"
@@ -153,8 +154,8 @@ func NewTrainer(w *model.Weights, src Source, opt *Options) (*Trainer, error) {
 		return nil, errors.New("train: trainer: the data source has no full batch")
 	}
 	o.Collapse = o.Collapse.withDefaults()
-	if !(o.Collapse.Spread > 0) || o.Collapse.Steps < 1 {
-		return nil, fmt.Errorf("train: trainer: collapse threshold %v and steps %d must be positive", o.Collapse.Spread, o.Collapse.Steps)
+	if !(o.Collapse.Spread > 0) || !(o.Collapse.MinPixels > 0) || o.Collapse.Steps < 1 {
+		return nil, fmt.Errorf("train: trainer: collapse thresholds %v, %v px and steps %d must be positive", o.Collapse.Spread, o.Collapse.MinPixels, o.Collapse.Steps)
 	}
 	sched, err := o.Schedule.withDefaults(o.Steps)
 	if err != nil {
@@ -170,6 +171,46 @@ func NewTrainer(w *model.Weights, src Source, opt *Options) (*Trainer, error) {
 		return nil, err
 	}
 	return &Trainer{opt: o, sched: sched, src: src, sess: sess}, nil
+}
+
+// Head initialisation of PrepareHeads.
+const (
+	headWeightScale = 0.1
+	headBias        = -3
+)
+
+// PrepareHeads readies freshly initialised weights (model.NewWeights) for
+// training from scratch: it multiplies the weights of the disparity heads
+// (the layers named headS) by 0.1 and sets their biases to −3, so that
+// every head starts near σ(−3)·d_max ≈ 0.047·d_max everywhere: small,
+// nearly uniform disparities whose sigmoid still passes gradients (σ′(−3)
+// ≈ 0.045). Our own choice, after a probe on 32 generated greenhouse
+// pairs at 256×128: with the He-initialised heads the network went to zero
+// disparity within about 20 steps, at learning rates 3e-4 and 1e-4 alike
+// (the sigmoids saturated and learning stopped), while with these heads it
+// kept a mean disparity of about 3.6 px and its error fell. It returns the
+// number of head tensors changed.
+func PrepareHeads(w *model.Weights) int {
+	n := 0
+	for name, v := range w.Params {
+		if !strings.HasPrefix(name, "head") {
+			continue
+		}
+		switch {
+		case strings.HasSuffix(name, ".weight"):
+			for i := range v {
+				v[i] *= headWeightScale
+			}
+		case strings.HasSuffix(name, ".bias"):
+			for i := range v {
+				v[i] = headBias
+			}
+		default:
+			continue
+		}
+		n++
+	}
+	return n
 }
 
 // Close releases the training graph.
@@ -373,7 +414,8 @@ func (t *Trainer) train(b *data.Batch, epoch, pos int) (Progress, error) {
 		t.last = p.Terms
 		dl, _ := t.sess.Objective.Disparity(0)
 		p.Spread = spread(dl, t.opt.Batch)
-		if p.Spread < t.opt.Collapse.Spread {
+		p.MeanDisparity = mean(dl) * float64(t.sess.Net.Arch.Input.W)
+		if p.Spread < t.opt.Collapse.Spread || p.MeanDisparity < t.opt.Collapse.MinPixels {
 			t.low++
 			p.Collapsed = t.low == t.opt.Collapse.Steps
 		} else {

@@ -316,6 +316,33 @@ func TestCollapseReported(t *testing.T) {
 	if len(at) != 1 || at[0] != 4 || res.Collapses != 1 {
 		t.Errorf("collapse reported at steps %v (%d episodes), want once at step 4", at, res.Collapses)
 	}
+	// A vanishing map (mean far below 0.25 px) is flagged too, though its
+	// coefficient of variation is large.
+	w2 := freshWeights(t, 1)
+	for name, v := range w2.Params {
+		if strings.HasPrefix(name, "head") && strings.HasSuffix(name, ".bias") {
+			for i := range v {
+				v[i] = -30
+			}
+		}
+	}
+	var at2 []int
+	tr2 := newTestTrainer(t, w2, src, Options{Steps: 5, Batch: 1, Schedule: Schedule{Rate: 1e-12},
+		Collapse: CollapseOptions{Steps: 3},
+		Progress: func(p Progress) {
+			if p.Collapsed {
+				at2 = append(at2, p.Step)
+			}
+			if p.MeanDisparity > 1e-6 {
+				t.Errorf("step %d: mean disparity %v px", p.Step, p.MeanDisparity)
+			}
+		}})
+	if _, err := tr2.Run(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	if len(at2) != 1 || at2[0] != 3 {
+		t.Errorf("vanishing map reported at steps %v, want once at step 3", at2)
+	}
 	// A trained-looking map is not flagged.
 	if s := spread([]float32{0.1, 0.2, 0.3, 0.4}, 1); !(s > 0.4 && s < 0.5) {
 		t.Errorf("spread of 0.1…0.4 is %v, want √0.0125/0.25 ≈ 0.447", s)
@@ -324,6 +351,60 @@ func TestCollapseReported(t *testing.T) {
 
 // The default schedule: linear warm-up, then ×0.5 at 60% and 80% of the
 // steps (our own defaults, see Schedule).
+// PrepareHeads changes exactly the head tensors, and the heads then start
+// at σ(−3)·d_max with little spread.
+func TestPrepareHeads(t *testing.T) {
+	w := freshWeights(t, 2)
+	orig := map[string][]float32{}
+	for k, v := range w.Params {
+		orig[k] = append([]float32(nil), v...)
+	}
+	if n := PrepareHeads(w); n != 2*model.Scales {
+		t.Errorf("%d head tensors changed, want %d", n, 2*model.Scales)
+	}
+	for k, v := range w.Params {
+		head := strings.HasPrefix(k, "head")
+		for i := range v {
+			switch {
+			case !head && v[i] != orig[k][i]:
+				t.Fatalf("%s changed", k)
+			case head && strings.HasSuffix(k, ".bias") && v[i] != -3:
+				t.Fatalf("%s[%d] = %v", k, i, v[i])
+			case head && strings.HasSuffix(k, ".weight") && v[i] != orig[k][i]*0.1:
+				t.Fatalf("%s[%d] = %v, want %v", k, i, v[i], orig[k][i]*0.1)
+			}
+		}
+	}
+	ds := openSynth(t, "greenhouse")
+	ev, err := Evaluate(context.Background(), w, ds, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	net, err := model.NewNet(w, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	src, _ := NewDatasetSource(ds, trainerConfig, 1, 1, nil)
+	it := src.Epoch(context.Background(), 0)
+	b, err := it.Next()
+	it.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := net.Forward(b.Left)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := 0.3 / (1 + math.Exp(3)) // d_max·σ(−3), d_max = model.DefaultDMax
+	m := mean(out[0].Pix)
+	// The head inputs still vary, and σ is convex below 0, so the mean
+	// lies below σ(−3)·d_max (by about 22% here).
+	if !(m > 0.6*want && m < 1.05*want) {
+		t.Errorf("mean start disparity %v, want about %v", m, want)
+	}
+	t.Logf("start: mean d %.4f of the width, EPE %.2f px", m, ev.Disparity.EPE)
+}
+
 func TestScheduleDefaults(t *testing.T) {
 	var s Schedule
 	const steps = 1000 // warm-up 20 steps
