@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -52,26 +53,24 @@ const (
 // uninterrupted one. model.Load refuses a checkpoint (it has tensors that
 // are not parameters); use LoadCheckpoint and its Weights.
 type Checkpoint struct {
-	Weights         *model.Weights
-	Solver          AdamState
-	Step            int
-	Steps           int
-	Skips           int
-	Seed            uint64
-	Batch           int
-	BatchesPerEpoch int
-	Schedule        Schedule
+	// Weights are the network's parameters and configuration.
+	Weights *model.Weights
+	// Solver is Adam's state: updates applied and moments per parameter.
+	Solver AdamState
+	// Step is the number of steps done (batches consumed), skipped ones
+	// included; Steps is the run's total.
+	Step, Steps int
+	// Skips counts the steps skipped for NaN or Inf.
+	Skips int
+	// Seed is the data seed of the run.
+	Seed uint64
+	// Batch is the batch size; BatchesPerEpoch the length of an epoch.
+	Batch, BatchesPerEpoch int
+	// Schedule is the learning-rate schedule, defaults filled in.
+	Schedule Schedule
 	// FirstTerms are the loss terms of the run's first step, kept so that a
 	// resumed run can report start versus end.
-	FirstTerms termsJSON
-}
-
-// termsJSON is loss.Terms with JSON names.
-type termsJSON struct {
-	Appearance  float64 `json:"appearance"`
-	Smoothness  float64 `json:"smoothness"`
-	Consistency float64 `json:"consistency"`
-	Total       float64 `json:"total"`
+	FirstTerms loss.Terms
 }
 
 const (

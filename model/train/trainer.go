@@ -240,7 +240,7 @@ func (t *Trainer) Checkpoint() *Checkpoint {
 		Weights: t.Weights(), Solver: t.sess.Solver.State(),
 		Step: t.step, Steps: t.opt.Steps, Skips: t.skips, Seed: t.opt.Seed,
 		Batch: t.opt.Batch, BatchesPerEpoch: t.src.BatchesPerEpoch(), Schedule: t.sched,
-		FirstTerms: termsJSON(t.first),
+		FirstTerms: t.first,
 	}
 }
 
@@ -271,7 +271,7 @@ func (t *Trainer) Resume(c *Checkpoint) error {
 		return fmt.Errorf("train: resume: %w", err)
 	}
 	t.step, t.skips = c.Step, c.Skips
-	t.first = loss.Terms(c.FirstTerms)
+	t.first = c.FirstTerms
 	t.haveFirst = c.Step > c.Skips
 	t.low = 0
 	return nil
