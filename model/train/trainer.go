@@ -415,7 +415,7 @@ func (t *Trainer) train(b *data.Batch, epoch, pos int) (Progress, error) {
 		dl, _ := t.sess.Objective.Disparity(0)
 		p.Spread = spread(dl, t.opt.Batch)
 		p.MeanDisparity = mean(dl) * float64(t.sess.Net.Arch.Input.W)
-		if p.Spread < t.opt.Collapse.Spread || p.MeanDisparity < t.opt.Collapse.MinPixels {
+		if t.step > t.opt.Collapse.After && (p.Spread < t.opt.Collapse.Spread || p.MeanDisparity < t.opt.Collapse.MinPixels) {
 			t.low++
 			p.Collapsed = t.low == t.opt.Collapse.Steps
 		} else {

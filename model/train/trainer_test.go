@@ -300,7 +300,7 @@ func TestCollapseReported(t *testing.T) {
 	}
 	var at []int
 	tr := newTestTrainer(t, w, src, Options{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
-		Collapse: CollapseOptions{Steps: 4},
+		Collapse: CollapseOptions{Steps: 4, After: -1},
 		Progress: func(p Progress) {
 			if p.Spread > 1e-3 {
 				t.Errorf("step %d: spread %v of a constant map", p.Step, p.Spread)
@@ -327,8 +327,8 @@ func TestCollapseReported(t *testing.T) {
 		}
 	}
 	var at2 []int
-	tr2 := newTestTrainer(t, w2, src, Options{Steps: 5, Batch: 1, Schedule: Schedule{Rate: 1e-12},
-		Collapse: CollapseOptions{Steps: 3},
+	tr2 := newTestTrainer(t, w2, src, Options{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
+		Collapse: CollapseOptions{Steps: 3, After: 1},
 		Progress: func(p Progress) {
 			if p.Collapsed {
 				at2 = append(at2, p.Step)
@@ -340,8 +340,8 @@ func TestCollapseReported(t *testing.T) {
 	if _, err := tr2.Run(context.Background()); err != nil {
 		t.Fatal(err)
 	}
-	if len(at2) != 1 || at2[0] != 3 {
-		t.Errorf("vanishing map reported at steps %v, want once at step 3", at2)
+	if len(at2) != 1 || at2[0] != 4 {
+		t.Errorf("vanishing map reported at steps %v, want once at step 4 (steps 2-4 after a grace of 1)", at2)
 	}
 	// A trained-looking map is not flagged.
 	if s := spread([]float32{0.1, 0.2, 0.3, 0.4}, 1); !(s > 0.4 && s < 0.5) {
