@@ -39,6 +39,7 @@ const defaultData = "testdata/synth/greenhouse"
 type options struct {
 	weights, errors  string
 	pair, rig        string
+	source           string // what the tables name as the data; "" means the folder
 	flip, csv, quiet bool
 	adapt, batch     int
 	seed             uint64
@@ -98,7 +99,7 @@ func main1(ctx context.Context, o options, dir string, dirGiven bool) error {
 		if err := pairFolder(tmp, o.pair, o.rig); err != nil {
 			return err
 		}
-		dir = tmp
+		dir, o.source = tmp, o.pair
 	} else if o.rig != "" {
 		return errors.New("evaluate: -rig goes with -pair; a dataset folder has its own rig.json")
 	}
@@ -305,7 +306,11 @@ func evaluate(ctx context.Context, o options, ds *data.Dataset, w *model.Weights
 	if !o.quiet {
 		fmt.Fprintf(stderr, "\r%s: %d pairs in %.1f s\n", label, len(ds.Pairs), time.Since(start).Seconds())
 	}
-	fmt.Fprintf(stdout, "\n%s — %s, %d pairs, flip %v\n", label, ds.Dir, len(ds.Pairs), o.flip)
+	src := ds.Dir
+	if o.source != "" {
+		src = o.source
+	}
+	fmt.Fprintf(stdout, "\n%s — %s, %d pairs, flip %v\n", label, src, len(ds.Pairs), o.flip)
 	if hasDisp {
 		var s depth.Summary
 		for _, r := range withMean(dispRows) {
