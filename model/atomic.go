@@ -4,7 +4,8 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
+
+	"github.com/parallaxdepth/parallax/internal/atomicfile"
 )
 
 // MaxFileSize bounds the size of a file that Load and LoadSafetensors read
@@ -12,44 +13,10 @@ import (
 const MaxFileSize = 1 << 31
 
 // writeFileAtomic writes data to path so that a reader never sees a half
-// written file: a temporary file in the same directory, synced, renamed
-// over path, then the directory synced where the platform allows.
-func writeFileAtomic(path string, data []byte) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	if _, err = f.Write(data); err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	if err = os.Chmod(tmp, 0o644); err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return fmt.Errorf("model: saving %s: %w", path, err)
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync() // makes the rename durable; not every platform supports it
-		d.Close()
-	}
-	return nil
+// written file (see package internal/atomicfile); errors read
+// "model: writing PATH: ...".
+func writeFileAtomic(path string, data []byte) error {
+	return atomicfile.WriteBytes(path, "model", data)
 }
 
 // readFileLimited reads the file at path, refusing one larger than

@@ -1,7 +1,6 @@
 package synth
 
 import (
-	"bufio"
 	"errors"
 	"fmt"
 	"image"
@@ -12,6 +11,7 @@ import (
 	"sync"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/planar"
 )
 
@@ -218,42 +218,5 @@ var pngEncoder = png.Encoder{CompressionLevel: png.BestSpeed}
 
 // savePNG encodes img as PNG into path atomically.
 func savePNG(path string, img image.Image) error {
-	return writeFileAtomic(path, func(w io.Writer) error { return pngEncoder.Encode(w, img) })
-}
-
-// writeFileAtomic writes a file so that a reader never sees it half
-// written: a temporary file in the same directory, synced, then renamed.
-func writeFileAtomic(path string, write func(w io.Writer) error) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	bw := bufio.NewWriterSize(f, 1<<16)
-	if err = write(bw); err != nil {
-		return err
-	}
-	if err = bw.Flush(); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	if err = os.Chmod(tmp, 0o644); err != nil {
-		return err
-	}
-	return os.Rename(tmp, path)
+	return atomicfile.Write(path, "synth", func(w io.Writer) error { return pngEncoder.Encode(w, img) })
 }
