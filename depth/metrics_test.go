@@ -67,6 +67,14 @@ func TestDepthErrorsHand(t *testing.T) {
 	near(t, "Delta1", m.Delta1, 1.0/3, tol)
 	near(t, "Delta2", m.Delta2, 2.0/3, tol)
 	near(t, "Delta3", m.Delta3, 2.0/3, tol) // 2 > 1.25³ = 1.953125
+	// The same at the other thresholds: ratios of exactly 1.25² = 1.5625 and
+	// 1.25³ = 1.953125 (both exact in binary) fail δ2 and δ3.
+	m, err = DepthErrors(depthRow(1.5625, 1.953125), depthRow(1, 1), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	near(t, "Delta2 at 1.25²", m.Delta2, 0, tol)
+	near(t, "Delta3 at 1.25³", m.Delta3, 0.5, tol)
 
 	// Median scaling, odd count: an estimate at twice the scale becomes exact.
 	m, err = DepthErrors(depthRow(2, 4, 8), depthRow(1, 2, 4), &DepthOptions{MedianScale: true})

@@ -61,6 +61,22 @@ func TestFloat16KnownBits(t *testing.T) {
 	if h := Float16Bits(float32(math.NaN())); h&0x7C00 != 0x7C00 || h&0x3FF == 0 {
 		t.Errorf("Float16Bits(NaN) = %#04x, not a NaN", h)
 	}
+	// NaN payloads (IEEE 754-2008 layout, by hand): the top 10 of the 23
+	// fraction bits are kept and the quiet bit 0x0200 is set, so a
+	// signalling NaN whose payload lies in the low bits stays a NaN.
+	for _, tc := range []struct {
+		f uint32
+		h uint16
+	}{
+		{0x7FC02000, 0x7E01}, // quiet, payload bit 13 → half bit 0
+		{0xFFC00000, 0xFE00}, // negative quiet NaN
+		{0x7F800001, 0x7E00}, // signalling, payload only below bit 13
+		{0x7FA00000, 0x7F00}, // signalling, payload bit 21 → half bit 8
+	} {
+		if got := Float16Bits(math.Float32frombits(tc.f)); got != tc.h {
+			t.Errorf("Float16Bits(NaN %#08x) = %#04x, want %#04x", tc.f, got, tc.h)
+		}
+	}
 	if !math.IsNaN(float64(Float16From(0x7E00))) {
 		t.Error("Float16From(0x7E00) is not NaN")
 	}
