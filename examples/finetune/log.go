@@ -7,9 +7,9 @@ import (
 	"image/color"
 	"math"
 	"os"
-	"path/filepath"
-	"strconv"
+		"strconv"
 
+	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model/train"
 	"gonum.org/v1/plot"
@@ -99,10 +99,7 @@ func (l *stepLog) save() error {
 			skip, g(r.spread), g(r.mpx), g(r.sps), g(r.pps), g(r.elapsed)})
 	}
 	w.Flush()
-	if err := writeAtomic(l.path, buf.Bytes()); err != nil {
-		return fmt.Errorf("finetune: log: %w", err)
-	}
-	return nil
+	return atomicfile.WriteBytes(l.path, "finetune: log", buf.Bytes())
 }
 
 // window returns the mean terms of the first and of the last n steps that
@@ -177,36 +174,5 @@ func savePlot(path string, rows []logRow) error {
 	if _, err := wt.WriteTo(&buf); err != nil {
 		return fmt.Errorf("finetune: plot: %w", err)
 	}
-	if err := writeAtomic(path, buf.Bytes()); err != nil {
-		return fmt.Errorf("finetune: plot: %w", err)
-	}
-	return nil
-}
-
-// writeAtomic writes data to path through a synced temporary file in the
-// same folder, renamed over path.
-func writeAtomic(path string, data []byte) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if _, err = f.Write(data); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	if err = os.Chmod(f.Name(), 0o644); err != nil {
-		return err
-	}
-	return os.Rename(f.Name(), path)
+	return atomicfile.WriteBytes(path, "finetune: plot", buf.Bytes())
 }
