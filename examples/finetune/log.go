@@ -7,7 +7,7 @@ import (
 	"image/color"
 	"math"
 	"os"
-		"strconv"
+	"strconv"
 
 	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/loss"
