@@ -3,6 +3,7 @@ package data
 import (
 	"fmt"
 	"image"
+	"io"
 	"math"
 	"os"
 
@@ -37,8 +38,8 @@ func (d *Dataset) Load(i, width, height int) (*Sample, error) {
 	if i < 0 || i >= len(d.Pairs) {
 		return nil, fmt.Errorf("data: pair index %d out of range [0, %d)", i, len(d.Pairs))
 	}
-	if width <= 0 || height <= 0 || width > depth.MaxSide || height > depth.MaxSide {
-		return nil, fmt.Errorf("data: invalid output size %d×%d", width, height)
+	if width <= 0 || height <= 0 || width > depth.MaxSide || height > depth.MaxSide || width*height > depth.MaxPixels {
+		return nil, fmt.Errorf("data: invalid output size %d×%d (sides in [1, %d], at most %d pixels)", width, height, depth.MaxSide, depth.MaxPixels)
 	}
 	p := d.Pairs[i]
 	s := &Sample{Name: p.Name}
@@ -84,6 +85,18 @@ func (d *Dataset) decode(p Pair, path string) (image.Image, error) {
 		return nil, fmt.Errorf("data: %w", err)
 	}
 	defer f.Close()
+	// Check the size in the header first: the file may have changed since
+	// Open, and decoding a hostile size would allocate without bound.
+	c, _, err := image.DecodeConfig(f)
+	if err != nil {
+		return nil, fmt.Errorf("data: %s: %v", rel(d.Dir, path), err)
+	}
+	if c.Width != p.Width || c.Height != p.Height {
+		return nil, fmt.Errorf("data: %s is %d×%d, expected %d×%d", rel(d.Dir, path), c.Width, c.Height, p.Width, p.Height)
+	}
+	if _, err := f.Seek(0, io.SeekStart); err != nil {
+		return nil, fmt.Errorf("data: %w", err)
+	}
 	img, _, err := image.Decode(f)
 	if err != nil {
 		return nil, fmt.Errorf("data: %s: %v", rel(d.Dir, path), err)

@@ -1,0 +1,59 @@
+package data
+
+import (
+	"bytes"
+	"encoding/binary"
+	"hash/crc32"
+	"image"
+	"image/png"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"testing"
+)
+
+// TestLoadHostileSizes checks that sizes which would need an absurd
+// allocation are errors, not panics: an output size within MaxSide on each
+// side but beyond MaxPixels in area, and an image file replaced after Open
+// by one whose header claims a huge size.
+func TestLoadHostileSizes(t *testing.T) {
+	dir := writeDataset(t, fixture{w: 32, h: 16, d: 2}, "a")
+	ds, err := Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, sz := range [][2]int{{1 << 15, 1 << 15}, {1 << 15, 1 << 11}, {0, 16}, {32, -1}} {
+		_, err := ds.Load(0, sz[0], sz[1])
+		if err == nil || !strings.HasPrefix(err.Error(), "data: ") {
+			t.Errorf("Load(%d×%d): error %v, want one starting with data:", sz[0], sz[1], err)
+		}
+	}
+	// A valid PNG header for 30000×30000 pixels, written after Open: Load
+	// must refuse it from the header, before decoding any pixel.
+	var b bytes.Buffer
+	if err := png.Encode(&b, image.NewGray(image.Rect(0, 0, 1, 1))); err != nil {
+		t.Fatal(err)
+	}
+	hdr := b.Bytes()
+	// IHDR is the first chunk: length at 8, type at 12, width and height at
+	// 16 and 20, CRC over type and data at 29 (PNG specification, 5.3, 11.2.2).
+	binary.BigEndian.PutUint32(hdr[16:], 30000)
+	binary.BigEndian.PutUint32(hdr[20:], 30000)
+	binary.BigEndian.PutUint32(hdr[29:], crc32.ChecksumIEEE(hdr[12:29]))
+	if c, err := png.DecodeConfig(bytes.NewReader(hdr)); err != nil || c.Width != 30000 {
+		t.Fatalf("patched header: %+v %v", c, err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "left", "a.png"), hdr, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	_, err = ds.Load(0, 32, 16)
+	runtime.ReadMemStats(&after)
+	wantErr(t, err, "left/a.png")
+	// Decoding the pixels would allocate 900 MB before failing.
+	if a := after.TotalAlloc - before.TotalAlloc; a > 16<<20 {
+		t.Errorf("Load of a hostile header allocated %d bytes", a)
+	}
+}
