@@ -48,7 +48,7 @@ type options struct {
 func main() {
 	var o options
 	flag.StringVar(&o.weights, "weights", "", "weights file (safetensors); default: the embedded weights")
-	flag.BoolVar(&o.flip, "flip", false, "flip post-processing (see model.FlipBlend)")
+	flag.BoolVar(&o.flip, "flip", false, "flip post-processing (see model.FlipBlend); with -adapt, half of the adaptation\nsamples are mirrored too")
 	flag.StringVar(&o.errors, "errors", "", "folder for error maps: NAME.disp-error.png (|d̂ − d|, 0 … 3 px) and\nNAME.depth-error.png (|ẑ − z|/z, 0 … 0.25), colour-mapped, bright = large")
 	flag.IntVar(&o.adapt, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
 	flag.IntVar(&o.batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
@@ -218,7 +218,14 @@ func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) e
 // adapt fine-tunes w on the pairs of ds (left and right images only).
 func adapt(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, stderr io.Writer) (*model.Weights, *train.Result, error) {
 	batch := min(o.batch, len(ds.Pairs))
-	src, err := train.NewDatasetSource(ds, w.Config, batch, o.seed, nil)
+	// With -flip the estimate also runs on mirrored images: mirror half of
+	// the adaptation samples (and swap their views, see data.FlipSwap) so
+	// that those stay inside what the network is fitted to.
+	var aug *data.Augment
+	if o.flip {
+		aug = &data.Augment{Flip: 0.5}
+	}
+	src, err := train.NewDatasetSource(ds, w.Config, batch, o.seed, aug)
 	if err != nil {
 		return nil, nil, fmt.Errorf("evaluate: %w", err)
 	}
