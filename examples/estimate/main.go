@@ -24,6 +24,7 @@ import (
 	"time"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/demo"
 )
@@ -324,7 +325,7 @@ func write(o options, in input, img image.Image, e *model.Estimate, elapsed, fir
 		fmt.Fprintf(&sum, ", %s.points.ply", in.name)
 	}
 	fmt.Fprintf(&sum, ", %s.summary.txt\n%s\n", in.name, caution)
-	if err := writeFileAtomic(base+".summary.txt", []byte(sum.String())); err != nil {
+	if err := atomicfile.WriteBytes(base+".summary.txt", "estimate", []byte(sum.String())); err != nil {
 		return "", err
 	}
 	return sum.String(), nil
@@ -342,37 +343,6 @@ func validValues(m *depth.Map) []float32 {
 		}
 	}
 	return v
-}
-
-// writeFileAtomic writes data to a temporary file in path's folder, syncs
-// it and renames it over path.
-func writeFileAtomic(path string, data []byte) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if _, err = f.Write(data); err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	if err = f.Chmod(0o644); err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	if err = os.Rename(f.Name(), path); err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	return nil
 }
 
 // progress draws a one-line bar on a terminal-like writer.
