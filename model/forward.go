@@ -37,7 +37,10 @@ type step struct {
 // NewNet returns a Net for batches of batch images with the weights w. It
 // keeps references to w's parameter slices (changing them changes the
 // network). It returns an error if w does not fit its architecture or the
-// batch size is not positive or too large.
+// batch size is not positive or so large that a tensor would exceed
+// planar.MaxPixels values. Sizes are checked before anything is allocated:
+// the input size comes from the Config in a weights file and does not change
+// the file's size.
 func NewNet(w *Weights, batch int) (*Net, error) {
 	if w == nil {
 		return nil, errors.New("model: weights are nil")
@@ -52,8 +55,16 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 	if batch <= 0 {
 		return nil, fmt.Errorf("model: batch size %d must be positive", batch)
 	}
-	if _, err := planar.NewChecked(batch, 3, a.Input.H, a.Input.W); err != nil {
-		return nil, fmt.Errorf("model: %w", err)
+	// Every tensor must be a valid planar.Image (at most planar.MaxPixels
+	// values); check them all by arithmetic before allocating any.
+	if batch > planar.MaxPixels/a.Input.Len() {
+		return nil, fmt.Errorf("model: input of %d×%v values exceeds %d values", batch, a.Input, planar.MaxPixels)
+	}
+	for i := range a.Layers {
+		l := &a.Layers[i]
+		if batch > planar.MaxPixels/l.Out.Len() {
+			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, batch, l.Out, planar.MaxPixels)
+		}
 	}
 	m := &Net{arch: a, n: batch, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}}
 	for i := range a.Layers {
@@ -67,9 +78,6 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 			s.in = append(s.in, k)
 		}
 		s.in0, _ = a.Shape(l.Inputs[0])
-		if _, err := planar.NewChecked(batch, l.Out.C, l.Out.H, l.Out.W); err != nil {
-			return nil, fmt.Errorf("model: tensor %q: %w", l.Name, err)
-		}
 		m.index[l.Name] = len(m.bufs)
 		m.bufs = append(m.bufs, make([]float32, batch*l.Out.Len()))
 		switch l.Op {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -110,6 +111,9 @@ func TestForwardNoAllocAndErrors(t *testing.T) {
 	if _, err := NewNet(w, 0); err == nil {
 		t.Error("batch 0 accepted")
 	}
+	if _, err := NewNet(w, 1<<40); err == nil || !strings.HasPrefix(err.Error(), "model: ") {
+		t.Errorf("batch 2^40: %v", err)
+	}
 	delete(w.Params, "head1.weight")
 	if _, err := NewNet(w, 1); err == nil || !strings.Contains(err.Error(), "head1.weight") {
 		t.Errorf("NewNet with a missing parameter: %v", err)
@@ -143,3 +147,34 @@ func benchmarkForward(b *testing.B, c Config, batch int) {
 func BenchmarkForward256x128(b *testing.B)   { benchmarkForward(b, Config{}, 1) }
 func BenchmarkForward512x256(b *testing.B)   { benchmarkForward(b, Config{Width: 512, Height: 256}, 1) }
 func BenchmarkForward256x128N4(b *testing.B) { benchmarkForward(b, Config{}, 4) }
+
+// TestNewNetHostileSize checks that a tiny weights file claiming a huge
+// input is refused before any tensor is allocated: with 415 parameters at
+// 8192×8192 the tensors would take 5.9 GB, and a tensor of the full-size
+// decoder exceeds planar.MaxPixels (before, NewNet allocated the earlier
+// tensors, gigabytes, before it noticed).
+func TestNewNetHostileSize(t *testing.T) {
+	one := []int{1, 1, 1, 1, 1}
+	w, err := NewWeights(Config{Width: 8192, Height: 8192, Encoder: one, Decoder: one}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	_, err = NewNet(w, 1)
+	runtime.ReadMemStats(&after)
+	if err == nil || !strings.HasPrefix(err.Error(), "model: ") || !strings.Contains(err.Error(), "exceeds") {
+		t.Errorf("NewNet at 8192×8192: %v, want a size error", err)
+	}
+	if a := after.TotalAlloc - before.TotalAlloc; a > 64<<20 {
+		t.Errorf("NewNet allocated %d bytes before refusing", a)
+	}
+	// At the default size the same channels fit.
+	w, err = NewWeights(Config{Encoder: one, Decoder: one}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := NewNet(w, 4); err != nil {
+		t.Errorf("NewNet at the default size: %v", err)
+	}
+}
