@@ -94,9 +94,12 @@ func rgb8(img image.Image, x, y int) (r, g, b uint8) {
 // little-endian.
 type PLYFormat int
 
+// The PLY encodings WritePLY and SavePLY can write; ReadPLY reads both.
 const (
-	PLYBinary PLYFormat = iota // binary_little_endian 1.0
-	PLYASCII                   // ascii 1.0
+	// PLYBinary writes "format binary_little_endian 1.0".
+	PLYBinary PLYFormat = iota
+	// PLYASCII writes "format ascii 1.0".
+	PLYASCII
 )
 
 // WritePLY writes pc as a PLY file with one element "vertex" of float

@@ -99,6 +99,7 @@ type Shape struct {
 // Len returns C·H·W.
 func (s Shape) Len() int { return s.C * s.H * s.W }
 
+// String formats the shape as "CxHxW".
 func (s Shape) String() string { return fmt.Sprintf("%dx%dx%d", s.C, s.H, s.W) }
 
 // Layer is one step of the network. Its output is the tensor named Name;

@@ -107,11 +107,9 @@ func (m *Image) Item(n int) *Image {
 // ErrEmpty is returned by FromImage for an image with no pixels.
 var ErrEmpty = errors.New("planar: image has no pixels")
 
-// FromImage converts img to a 1×3×H×W Image with values in [0, 1]. Bounds that
-// do not start at (0, 0) are handled; fast paths cover *image.RGBA,
-// *image.NRGBA, *image.YCbCr and *image.Gray, and every other type goes
-// through color.RGBAModel. Alpha is ignored (colours are un-premultiplied
-// where the type stores premultiplied values).
+// FromImage converts img to a 1×3×H×W Image with values in [0, 1] (see
+// FromImageInto). It returns ErrEmpty for an image with no pixels and an
+// error for a nil image or one larger than MaxPixels.
 func FromImage(img image.Image) (*Image, error) {
 	if img == nil {
 		return nil, errors.New("planar: image is nil")
@@ -125,7 +123,36 @@ func FromImage(img image.Image) (*Image, error) {
 	if err != nil {
 		return nil, err
 	}
-	r, g, bl := out.Pix[:h*w], out.Pix[h*w:2*h*w], out.Pix[2*h*w:]
+	if err := FromImageInto(out, img); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// FromImageInto converts img into dst, which must have shape 1×3×H×W for
+// img's size, overwriting every value: R, G and B in [0, 1]. Bounds that do
+// not start at (0, 0) are handled; fast paths cover *image.RGBA,
+// *image.RGBA64, *image.NRGBA, *image.YCbCr and *image.Gray and do not
+// allocate, and every other type goes through color.NRGBA64Model. Alpha is
+// otherwise ignored: colours stored premultiplied are divided by alpha
+// (clamped to 1), and a fully transparent pixel gives 0. It returns an error
+// if img is nil or empty or dst is invalid or of another shape.
+func FromImageInto(dst *Image, img image.Image) error {
+	if img == nil {
+		return errors.New("planar: image is nil")
+	}
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	if w <= 0 || h <= 0 {
+		return ErrEmpty
+	}
+	if err := dst.Check("destination"); err != nil {
+		return fmt.Errorf("planar: %w", err)
+	}
+	if dst.N != 1 || dst.C != 3 || dst.H != h || dst.W != w {
+		return fmt.Errorf("planar: destination has shape %s, the image needs 1x3x%dx%d", dst.Shape(), h, w)
+	}
+	r, g, bl := dst.Pix[:h*w], dst.Pix[h*w:2*h*w], dst.Pix[2*h*w:]
 	const s8 = 1.0 / 255
 	switch src := img.(type) {
 	case *image.NRGBA:
@@ -142,16 +169,35 @@ func FromImage(img image.Image) (*Image, error) {
 			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X)*4:]
 			for x := 0; x < w; x++ {
 				a := row[4*x+3]
-				if a == 255 {
+				switch a {
+				case 255:
 					r[y*w+x] = float32(row[4*x]) * s8
 					g[y*w+x] = float32(row[4*x+1]) * s8
 					bl[y*w+x] = float32(row[4*x+2]) * s8
-				} else if a != 0 {
+				case 0:
+					r[y*w+x], g[y*w+x], bl[y*w+x] = 0, 0, 0
+				default:
 					inv := 1 / float32(a)
-					r[y*w+x] = float32(row[4*x]) * inv
-					g[y*w+x] = float32(row[4*x+1]) * inv
-					bl[y*w+x] = float32(row[4*x+2]) * inv
+					r[y*w+x] = min(float32(row[4*x])*inv, 1)
+					g[y*w+x] = min(float32(row[4*x+1])*inv, 1)
+					bl[y*w+x] = min(float32(row[4*x+2])*inv, 1)
 				}
+			}
+		}
+	case *image.RGBA64:
+		for y := 0; y < h; y++ {
+			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X)*8:]
+			for x := 0; x < w; x++ {
+				px := row[8*x : 8*x+8 : 8*x+8]
+				a := float32(uint16(px[6])<<8 | uint16(px[7]))
+				if a == 0 {
+					r[y*w+x], g[y*w+x], bl[y*w+x] = 0, 0, 0
+					continue
+				}
+				inv := 1 / a
+				r[y*w+x] = min(float32(uint16(px[0])<<8|uint16(px[1]))*inv, 1)
+				g[y*w+x] = min(float32(uint16(px[2])<<8|uint16(px[3]))*inv, 1)
+				bl[y*w+x] = min(float32(uint16(px[4])<<8|uint16(px[5]))*inv, 1)
 			}
 		}
 	case *image.Gray:
@@ -183,7 +229,7 @@ func FromImage(img image.Image) (*Image, error) {
 			}
 		}
 	}
-	return out, nil
+	return nil
 }
 
 // ToNRGBA converts image n of a batch with 1 or 3 channels to an 8-bit image,

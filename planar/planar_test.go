@@ -37,6 +37,17 @@ func TestFromImageFastPathsMatchGeneric(t *testing.T) {
 	fill(rgba)
 	gray := image.NewGray(r)
 	fill(gray)
+	rgba64 := image.NewRGBA64(r)
+	fill(rgba64)
+	// Premultiplied 16-bit colours with partial and zero alpha, as
+	// x/image/draw's scalers write them.
+	translucent := image.NewRGBA64(r)
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		for x := r.Min.X; x < r.Max.X; x++ {
+			a := uint16((x + 3) * 5461 % 65536)
+			translucent.SetRGBA64(x, y, color.RGBA64{R: a / 3, G: a / 2, B: a, A: a})
+		}
+	}
 	ycc := image.NewYCbCr(r, image.YCbCrSubsampleRatio420)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
 		for x := r.Min.X; x < r.Max.X; x++ {
@@ -50,7 +61,8 @@ func TestFromImageFastPathsMatchGeneric(t *testing.T) {
 	for _, tc := range []struct {
 		name string
 		img  image.Image
-	}{{"NRGBA", nrgba}, {"RGBA", rgba}, {"Gray", gray}, {"YCbCr", ycc}, {"NRGBA sub-image", sub}} {
+	}{{"NRGBA", nrgba}, {"RGBA", rgba}, {"Gray", gray}, {"YCbCr", ycc}, {"NRGBA sub-image", sub},
+		{"RGBA64", rgba64}, {"RGBA64 translucent", translucent}} {
 		fast, err := FromImage(tc.img)
 		if err != nil {
 			t.Fatalf("%s: %v", tc.name, err)
@@ -71,6 +83,12 @@ func TestFromImageFastPathsMatchGeneric(t *testing.T) {
 			if tc.name == "YCbCr" {
 				tol = 1.0/255 + 1e-6
 			}
+			// color.NRGBA64Model un-premultiplies with an integer division
+			// (r·0xffff/a, truncated), the fast path in float32: up to one
+			// 16-bit level apart.
+			if tc.name == "RGBA64 translucent" {
+				tol = 1.0/65535 + 1e-6
+			}
 			if d := math.Abs(float64(fast.Pix[i] - slow.Pix[i])); d > tol {
 				t.Fatalf("%s: element %d fast %v generic %v", tc.name, i, fast.Pix[i], slow.Pix[i])
 			}
@@ -78,7 +96,7 @@ func TestFromImageFastPathsMatchGeneric(t *testing.T) {
 		// Spot-check one pixel against color.NRGBAModel directly.
 		c := color.NRGBAModel.Convert(tc.img.At(b.Min.X+1, b.Min.Y+2)).(color.NRGBA)
 		got := fast.At(0, 0, 2, 1)
-		if tc.name != "YCbCr" && math.Abs(float64(got)-float64(c.R)/255) > 1e-6 {
+		if tc.name != "YCbCr" && tc.name != "RGBA64 translucent" && math.Abs(float64(got)-float64(c.R)/255) > 1e-6 {
 			t.Errorf("%s: R at (1,2) = %v, want %v", tc.name, got, float64(c.R)/255)
 		}
 	}
@@ -156,5 +174,44 @@ func TestToNRGBARoundTrip(t *testing.T) {
 		if src.Pix[i] != back.Pix[i] {
 			t.Fatalf("byte %d: %d became %d", i, src.Pix[i], back.Pix[i])
 		}
+	}
+}
+
+func TestFromImageInto(t *testing.T) {
+	src := image.NewRGBA64(image.Rect(2, 3, 6, 5))
+	for y := 3; y < 5; y++ {
+		for x := 2; x < 6; x++ {
+			a := uint16(9000*x + 7000*y)
+			src.SetRGBA64(x, y, color.RGBA64{R: a / 5, G: a - 1, B: a / 2, A: a})
+		}
+	}
+	src.SetRGBA64(3, 4, color.RGBA64{}) // fully transparent
+	want, err := FromImage(generic{src})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dst := New(1, 3, 2, 4)
+	for i := range dst.Pix {
+		dst.Pix[i] = 7 // stale values must all be overwritten
+	}
+	if err := FromImageInto(dst, src); err != nil {
+		t.Fatal(err)
+	}
+	for i := range dst.Pix {
+		// One 16-bit level: the generic path truncates when it divides by alpha.
+		if d := math.Abs(float64(dst.Pix[i] - want.Pix[i])); d > 1.0/65535+1e-6 {
+			t.Fatalf("element %d = %v, generic path %v", i, dst.Pix[i], want.Pix[i])
+		}
+	}
+	if n := testing.AllocsPerRun(10, func() { FromImageInto(dst, src) }); n != 0 {
+		t.Errorf("FromImageInto allocates %v times on a fast path", n)
+	}
+	for _, bad := range []*Image{nil, New(1, 3, 4, 2), New(2, 3, 2, 4), New(1, 1, 2, 4), {N: 1, C: 3, H: 2, W: 4}} {
+		if err := FromImageInto(bad, src); err == nil || !strings.HasPrefix(err.Error(), "planar: ") {
+			t.Errorf("destination %+v: error %v", bad, err)
+		}
+	}
+	if err := FromImageInto(dst, nil); err == nil {
+		t.Error("nil image accepted")
 	}
 }

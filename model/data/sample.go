@@ -123,27 +123,13 @@ func (d *Dataset) loadImage(p Pair, path string, width, height int) (*planar.Ima
 }
 
 // resizeImage scales img to width × height with Catmull-Rom and returns it
-// as a 1×3×H×W image; alpha is divided out.
+// as a 1×3×H×W image; alpha is divided out (planar.FromImageInto).
 func resizeImage(img image.Image, width, height int) *planar.Image {
 	dst := image.NewRGBA64(image.Rect(0, 0, width, height))
 	draw.CatmullRom.Scale(dst, dst.Rect, img, img.Bounds(), draw.Src, nil)
 	out := planar.New(1, 3, height, width)
-	plane := width * height
-	for y := 0; y < height; y++ {
-		for x := 0; x < width; x++ {
-			o := dst.PixOffset(x, y)
-			px := dst.Pix[o : o+8 : o+8]
-			r := float32(uint16(px[0])<<8 | uint16(px[1]))
-			g := float32(uint16(px[2])<<8 | uint16(px[3]))
-			b := float32(uint16(px[4])<<8 | uint16(px[5]))
-			a := float32(uint16(px[6])<<8 | uint16(px[7]))
-			i := y*width + x
-			if a > 0 {
-				out.Pix[i] = min(r/a, 1)
-				out.Pix[plane+i] = min(g/a, 1)
-				out.Pix[2*plane+i] = min(b/a, 1)
-			}
-		}
+	if err := planar.FromImageInto(out, dst); err != nil {
+		panic(err) // unreachable: out has dst's size
 	}
 	return out
 }

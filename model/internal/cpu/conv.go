@@ -16,6 +16,7 @@ const (
 	ReflectPad
 )
 
+// String returns the constant's name, or "Padding(N)" for an undefined value.
 func (p Padding) String() string {
 	switch p {
 	case ZeroPad:
