@@ -135,8 +135,11 @@ func (r *Rig) DepthToDisparity(z *Depth) (*Disparity, error) {
 }
 
 // MaskRange marks invalid every pixel of z outside the rig's depth range of
-// interest [MinDepth, MaxDepth].
+// interest [MinDepth, MaxDepth]. A nil z is left alone; r must not be nil.
 func (r *Rig) MaskRange(z *Depth) {
+	if z == nil {
+		return
+	}
 	w := z.Rect.Dx()
 	lo, hi := float32(r.MinDepth), float32(r.MaxDepth)
 	for y := 0; y < z.Rect.Dy(); y++ {
@@ -228,6 +231,9 @@ func (r *Rig) FractionFromDepth(z float64) (frac float64, ok bool) {
 // Pixels whose disparity is not positive and finite, or whose depth is not,
 // are invalid.
 func (r *Rig) DepthMapFromFraction(im *planar.Image, n int) (*Depth, error) {
+	if err := r.Validate(); err != nil {
+		return nil, err
+	}
 	d, err := DisparityFromFraction(im, n)
 	if err != nil {
 		return nil, err

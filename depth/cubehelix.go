@@ -1,6 +1,7 @@
 package depth
 
 import (
+	"errors"
 	"fmt"
 	"image"
 	"image/color"
@@ -158,6 +159,9 @@ func ColorDepth(z *Depth, opt *ColorOptions) (*image.NRGBA, error) {
 // SavePNG encodes img as PNG to path, atomically; use it for the images of
 // ColorDisparity and ColorDepth.
 func SavePNG(path string, img image.Image) error {
+	if img == nil {
+		return errors.New("depth: SavePNG: image is nil")
+	}
 	return writeFileAtomic(path, func(w io.Writer) error {
 		if err := png.Encode(w, img); err != nil {
 			return fmt.Errorf("depth: writing PNG: %w", err)

@@ -1,6 +1,7 @@
 package depth
 
 import (
+	"errors"
 	"fmt"
 	"image"
 	"image/color"
@@ -203,8 +204,12 @@ func (c *Confidence) Set(x, y int, v float32) {
 func (c *Confidence) SubMap(r image.Rectangle) *Confidence { return &Confidence{c.sub(r)} }
 
 // Threshold marks invalid every pixel of m (a Disparity's or Depth's Map)
-// whose confidence is below min; pixels outside c's bounds are left alone.
+// whose confidence is below min; pixels outside c's bounds are left alone,
+// and so is a nil m.
 func (c *Confidence) Threshold(m *Map, min float32) {
+	if m == nil {
+		return
+	}
 	r := m.Rect.Intersect(c.Rect)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
 		for x := r.Min.X; x < r.Max.X; x++ {
@@ -252,6 +257,9 @@ func grayLevels(img image.Image, f func(x, y int, level uint16)) {
 // finite; for example 1/256.0 for 16-bit files that store 256 × disparity
 // (common practice in driving benchmarks). The map keeps img's bounds.
 func DisparityFromImage(img image.Image, scale float64) (*Disparity, error) {
+	if img == nil {
+		return nil, errors.New("depth: DisparityFromImage: image is nil")
+	}
 	if !(scale > 0) || math.IsInf(scale, 0) {
 		return nil, fmt.Errorf("depth: DisparityFromImage: scale %v must be positive and finite", scale)
 	}
@@ -272,6 +280,9 @@ func DisparityFromImage(img image.Image, scale float64) (*Disparity, error) {
 // scale = 0.001 for millimetre files (see ReadPNG16). The map keeps img's
 // bounds.
 func DepthFromImage(img image.Image, scale float64) (*Depth, error) {
+	if img == nil {
+		return nil, errors.New("depth: DepthFromImage: image is nil")
+	}
 	if !(scale > 0) || math.IsInf(scale, 0) {
 		return nil, fmt.Errorf("depth: DepthFromImage: scale %v must be positive and finite", scale)
 	}

@@ -104,7 +104,12 @@ const (
 
 // WritePLY writes pc as a PLY file with one element "vertex" of float
 // properties x, y, z and, if pc.Color, uchar properties red, green, blue.
+// It returns an error if pc is nil, format is unknown, a coordinate is not
+// finite, or w fails.
 func (pc *PointCloud) WritePLY(w io.Writer, format PLYFormat) error {
+	if pc == nil {
+		return errors.New("depth: WritePLY: point cloud is nil")
+	}
 	if format != PLYBinary && format != PLYASCII {
 		return fmt.Errorf("depth: unknown PLY format %d", format)
 	}
