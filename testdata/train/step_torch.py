@@ -10,6 +10,11 @@ allocator kept from returning memory to the system between steps:
     MALLOC_MMAP_THRESHOLD_=4000000000 MALLOC_TRIM_THRESHOLD_=4000000000 \
         /usr/bin/time -v /usr/bin/python3 testdata/train/step_torch.py
 
+On a shared machine add OMP_WAIT_POLICY=PASSIVE: torch's OpenMP threads
+otherwise spin while they wait and lose their cores to other processes (seen
+here: median 3.6 s per step with the default policy, 0.52 s with PASSIVE,
+minutes apart under a load average of 4 to 6 on 2 cores).
+
 The network is built by walking testdata/train/default_arch.json (the
 default architecture's layer list, written by `go test ./model/train -run
 TestDefaultArchFile -update-arch`) with the same forward walk as
