@@ -2,10 +2,12 @@ package data
 
 import (
 	"bytes"
+	"context"
 	"encoding/binary"
 	"hash/crc32"
 	"image"
 	"image/png"
+	"io"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -55,5 +57,37 @@ func TestLoadHostileSizes(t *testing.T) {
 	// Decoding the pixels would allocate 900 MB before failing.
 	if a := after.TotalAlloc - before.TotalAlloc; a > 16<<20 {
 		t.Errorf("Load of a hostile header allocated %d bytes", a)
+	}
+}
+
+// TestLoaderHostileOptions checks options that would ask for absurd
+// allocations: a batch beyond planar.MaxPixels is an error (found without
+// allocating it), and a huge Prefetch is lowered to the number of pairs
+// (make(chan) panicked on it).
+func TestLoaderHostileOptions(t *testing.T) {
+	dir := writeDataset(t, fixture{w: 32, h: 16, d: 2}, "a", "b")
+	ds, err := Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, o := range []Options{{Width: 32, Height: 16, BatchSize: 1 << 40}, {Width: 1 << 15, Height: 1 << 15}, {Width: 1 << 20, Height: 1}} {
+		if _, err := NewLoader(ds, &o); err == nil || !strings.HasPrefix(err.Error(), "data: ") {
+			t.Errorf("%+v: error %v", o, err)
+		}
+	}
+	l, err := NewLoader(ds, &Options{Width: 32, Height: 16, BatchSize: 1, Prefetch: 1 << 40})
+	if err != nil {
+		t.Fatal(err)
+	}
+	it := l.Epoch(context.Background(), 0)
+	defer it.Close()
+	for i := 0; i < 2; i++ {
+		b, err := it.Next()
+		if err != nil || b == nil || len(b.Names) != 1 {
+			t.Fatalf("batch %d: %+v %v", i, b, err)
+		}
+	}
+	if b, err := it.Next(); b != nil || err != io.EOF {
+		t.Errorf("after the epoch: %+v %v, want nil and io.EOF", b, err)
 	}
 }

@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"sync"
 
+	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/planar"
 )
@@ -27,8 +28,9 @@ type Options struct {
 	// Augment, if not nil, is applied to every sample.
 	Augment *Augment
 	// Prefetch is the number of batches prepared ahead in goroutines; 0
-	// means 2. At most Prefetch+1 batches exist at once besides those the
-	// caller holds.
+	// means 2, and a value above the number of pairs is lowered to it.
+	// At most Prefetch+1 batches exist at once besides those the caller
+	// holds.
 	Prefetch int
 	// DropPartial drops the last batch of an epoch if it is smaller than
 	// BatchSize.
@@ -84,9 +86,11 @@ func NewLoader(ds *Dataset, opt *Options) (*Loader, error) {
 	if o.Width < 1 || o.Height < 1 || o.BatchSize < 1 || o.Prefetch < 1 {
 		return nil, fmt.Errorf("data: invalid options: size %d×%d, batch size %d, prefetch %d", o.Width, o.Height, o.BatchSize, o.Prefetch)
 	}
-	if _, err := planar.NewChecked(o.BatchSize, 3, o.Height, o.Width); err != nil {
-		return nil, fmt.Errorf("data: %w", err)
+	if o.Width > depth.MaxSide || o.Height > depth.MaxSide || o.BatchSize > planar.MaxPixels/3/o.Height/o.Width {
+		return nil, fmt.Errorf("data: a batch of %d images of %d×%d exceeds %d values", o.BatchSize, o.Width, o.Height, planar.MaxPixels)
 	}
+	// More batches ahead than pairs would only size the channels.
+	o.Prefetch = min(o.Prefetch, len(ds.Pairs))
 	if o.Augment != nil {
 		a := *o.Augment
 		if err := a.Validate(); err != nil {
