@@ -10,6 +10,7 @@ import (
 	"math/bits"
 	"sort"
 	"strconv"
+	"unicode/utf8"
 )
 
 // This file reads and writes the safetensors container: an 8-byte
@@ -205,18 +206,30 @@ func checkEntry(name string, e stEntry, dataLen uint64) (Tensor, error) {
 	if len(e.Shape) > maxDims {
 		return t, fmt.Errorf("model: tensor %q has %d dimensions, more than %d", name, len(e.Shape), maxDims)
 	}
-	count := uint64(1)
+	zero := false
 	for _, s := range e.Shape {
 		d, err := strconv.ParseUint(string(s), 10, 63)
 		if err != nil {
 			return t, fmt.Errorf("model: tensor %q has an invalid dimension %s", name, s)
 		}
-		hi, lo := bits.Mul64(count, d)
+		zero = zero || d == 0
+		t.Shape = append(t.Shape, int(d))
+	}
+	// The product is bounded by the data section step by step, so it
+	// cannot overflow; a zero dimension anywhere makes the tensor empty.
+	count := uint64(1)
+	if zero {
+		count = 0
+	}
+	for _, d := range t.Shape {
+		if zero {
+			break
+		}
+		hi, lo := bits.Mul64(count, uint64(d))
 		if hi != 0 || lo > dataLen {
 			return t, fmt.Errorf("model: tensor %q has shape %v, larger than the data section (%d bytes)", name, e.Shape, dataLen)
 		}
 		count = lo
-		t.Shape = append(t.Shape, int(d))
 	}
 	if len(e.DataOffsets) != 2 {
 		return t, fmt.Errorf("model: tensor %q: data_offsets must hold 2 numbers, has %d", name, len(e.DataOffsets))
@@ -243,8 +256,9 @@ func checkEntry(name string, e stEntry, dataLen uint64) (Tensor, error) {
 // to w as a safetensors file, storing every value as dtype (F16 rounds to
 // nearest, ties to even). The header is padded with spaces to a multiple of
 // 8 bytes so that the data is aligned. It returns an error for an unknown
-// dtype, a repeated or reserved name, or a Data length that does not match
-// its Shape.
+// dtype, a repeated or reserved name, a name or metadata string that is not
+// valid UTF-8 (JSON would replace its bytes), or a Data length that does not
+// match its Shape.
 func WriteSafetensors(w io.Writer, meta map[string]string, ts []Tensor, dtype DType) error {
 	size := dtype.size()
 	if size == 0 {
@@ -252,6 +266,11 @@ func WriteSafetensors(w io.Writer, meta map[string]string, ts []Tensor, dtype DT
 	}
 	header := map[string]any{}
 	if len(meta) > 0 {
+		for k, v := range meta {
+			if !utf8.ValidString(k) || !utf8.ValidString(v) {
+				return fmt.Errorf("model: metadata %q: %q is not valid UTF-8", k, v)
+			}
+		}
 		header[metadataKey] = meta
 	}
 	var off uint64
@@ -259,12 +278,27 @@ func WriteSafetensors(w io.Writer, meta map[string]string, ts []Tensor, dtype DT
 		if _, dup := header[t.Name]; dup || t.Name == metadataKey {
 			return fmt.Errorf("model: tensor name %q used twice or reserved", t.Name)
 		}
+		if !utf8.ValidString(t.Name) {
+			return fmt.Errorf("model: tensor name %q is not valid UTF-8", t.Name)
+		}
 		count := 1
 		for _, d := range t.Shape {
 			if d < 0 {
 				return fmt.Errorf("model: tensor %q has a negative dimension in %v", t.Name, t.Shape)
 			}
-			count *= d
+			if d == 0 {
+				count = 0 // empty, whatever the other dimensions (as the reader)
+			}
+		}
+		for _, d := range t.Shape {
+			if count == 0 {
+				break
+			}
+			hi, lo := bits.Mul64(uint64(count), uint64(d))
+			if hi != 0 || lo > math.MaxInt {
+				return fmt.Errorf("model: tensor %q: shape %v overflows", t.Name, t.Shape)
+			}
+			count = int(lo)
 		}
 		if count != len(t.Data) {
 			return fmt.Errorf("model: tensor %q has %d values, shape %v needs %d", t.Name, len(t.Data), t.Shape, count)

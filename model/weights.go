@@ -3,6 +3,7 @@ package model
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -70,8 +71,14 @@ func NewWeights(c Config, seed uint64) (*Weights, error) {
 	return w, nil
 }
 
-// Arch returns the architecture of w.Config.
-func (w *Weights) Arch() (*Arch, error) { return Build(w.Config) }
+// Arch returns the architecture of w.Config. It returns an error if w is nil
+// or its Config is invalid.
+func (w *Weights) Arch() (*Arch, error) {
+	if w == nil {
+		return nil, errors.New("model: weights are nil")
+	}
+	return Build(w.Config)
+}
 
 // Check returns an error if w does not fit its architecture: a missing or
 // unexpected parameter, a wrong length, or a non-finite value.

@@ -509,3 +509,46 @@ func TestSafetensorsGeneric(t *testing.T) {
 		t.Fatalf("F16 fixture: %v", err)
 	}
 }
+
+// TestWriteSafetensorsRefuses checks inputs the writer used to accept: a
+// shape whose product overflows (to 0, matching empty Data, so the file
+// claimed a 2^124-value tensor) and names or metadata that are not valid
+// UTF-8 (encoding/json replaces such bytes with U+FFFD, so a name changed
+// on the way through a file). A nil *Weights is an error too.
+func TestWriteSafetensorsRefuses(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		meta map[string]string
+		ts   []Tensor
+		want string
+	}{
+		{"overflow", nil, []Tensor{{Name: "a", Shape: []int{1 << 62, 1 << 62}}}, "overflows"},
+		{"name", nil, []Tensor{{Name: "a\xff", Shape: []int{1}, Data: []float32{1}}}, "UTF-8"},
+		{"metadata key", map[string]string{"\xfe": "v"}, nil, "UTF-8"},
+		{"metadata value", map[string]string{"k": "v\xfe"}, nil, "UTF-8"},
+	} {
+		err := WriteSafetensors(&bytes.Buffer{}, tc.meta, tc.ts, F32)
+		if err == nil || !strings.HasPrefix(err.Error(), "model: ") || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: error %v, want one containing %q", tc.name, err, tc.want)
+		}
+	}
+	// A zero dimension after a large one is a valid empty tensor, which
+	// the reader accepts too (it refused it before).
+	var b bytes.Buffer
+	if err := WriteSafetensors(&b, nil, []Tensor{{Name: "e", Shape: []int{1 << 40, 0}}, {Name: "f", Shape: []int{1 << 62, 1 << 62, 0}}}, F32); err != nil {
+		t.Fatalf("empty tensor: %v", err)
+	}
+	if _, ts, err := ReadSafetensors(b.Bytes()); err != nil || len(ts) != 2 || ts[0].Shape[0] != 1<<40 || len(ts[0].Data) != 0 || len(ts[1].Data) != 0 {
+		t.Errorf("empty tensor read back: %+v %v", ts, err)
+	}
+	var w *Weights
+	for name, err := range map[string]error{
+		"Check":  w.Check(),
+		"Encode": w.Encode(&bytes.Buffer{}, F32),
+		"Save":   w.Save(filepath.Join(t.TempDir(), "w.safetensors"), F32),
+	} {
+		if err == nil || !strings.HasPrefix(err.Error(), "model: ") {
+			t.Errorf("nil weights %s: %v", name, err)
+		}
+	}
+}
