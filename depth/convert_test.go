@@ -12,8 +12,10 @@ import (
 
 // TestMiddleburyWorkedExample checks Z = f·B/(d + doffs) on the Middlebury
 // 2014 Motorcycle calibration (see motorcycleRig for the source):
-// d = 48.9999 px gives Z ≈ 2397.82 mm, the figure stated in the issue and
-// recomputed by hand: 994.978 × 193.001 / (48.9999 + 31.086) = 2397.82 mm.
+// d = 48.9999 px gives Z ≈ 2397.82 mm, computed by hand:
+// 994.978 × 193.001 / (48.9999 + 31.086) = 2397.82 mm. (That Middlebury 2014
+// adds doffs to the disparity is from memory of its calibration notes; the
+// numpy fixture below checks the same formula on the whole map.)
 func TestMiddleburyWorkedExample(t *testing.T) {
 	rig := motorcycleRig()
 	z, ok := rig.DepthFromPixels(48.9999)
