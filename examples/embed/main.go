@@ -14,7 +14,10 @@ import (
 )
 
 func main() {
-	rig, _ := demo.Rig()                                                   // your cameras: depth.LoadRig("rig.json")
+	rig, err := demo.Rig() // your cameras: depth.LoadRig("rig.json")
+	if err != nil {
+		log.Fatal(err)
+	}
 	est, err := model.NewEstimator(nil, &model.EstimatorOptions{Rig: rig}) // nil: the embedded weights
 	if err != nil {
 		log.Fatal(err)
