@@ -15,21 +15,13 @@ import (
 
 func main() {
 	rig, err := demo.Rig() // your cameras: depth.LoadRig("rig.json")
-	if err != nil {
-		log.Fatal(err)
-	}
+	must(err)
 	est, err := model.NewEstimator(nil, &model.EstimatorOptions{Rig: rig}) // nil: the embedded weights
-	if err != nil {
-		log.Fatal(err)
-	}
+	must(err)
 	for f, err := range demo.Frames(append(os.Args[1:], "")[0]) { // no folder: the demo image
-		if err != nil {
-			log.Fatal(err)
-		}
+		must(err)
 		e, err := est.Estimate(context.Background(), f.Image)
-		if err != nil {
-			log.Fatal(err)
-		}
+		must(err)
 		b, near := e.Depth.Rect, float32(math.Inf(1)) // nearest valid depth in the central third
 		for y := b.Dy() / 3; y < 2*b.Dy()/3; y++ {
 			for x := b.Dx() / 3; x < 2*b.Dx()/3; x++ {
@@ -39,5 +31,11 @@ func main() {
 			}
 		}
 		fmt.Printf("%s: nearest point ahead %.2f m (estimated depth is not a safety-rated sensor)\n", f.Name, near)
+	}
+}
+
+func must(err error) {
+	if err != nil {
+		log.Fatal(err)
 	}
 }
