@@ -1,5 +1,4 @@
-// Command embed is the frame loop to copy: estimate depth on each image of a
-// folder (default: the bundled demo) and report the nearest point ahead.
+// Command embed is the frame loop to copy: depth per image, nearest point ahead.
 package main
 
 import (
