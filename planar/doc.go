@@ -12,7 +12,8 @@
 //     FromImageInto divide premultiplied colours by it.
 //   - Errors start with "planar: ". New panics on an invalid shape (a
 //     programmer's misuse; NewChecked returns an error instead), and Index,
-//     At, Set and Item panic on indices outside the shape, like a slice.
+//     At, Set, Item and ToNRGBA panic on indices outside the shape, like a
+//     slice.
 //   - Disparity is positive and expressed as a fraction of the image width;
 //     see package warp for its sign.
 //   - Masks hold 1 for a valid pixel and 0 for an invalid one.
