@@ -259,7 +259,9 @@ func (e *Estimator) Estimate(ctx context.Context, img image.Image) (*Estimate, e
 
 // predict fills wk.dl, wk.dr and wk.conf at the network's size.
 func (e *Estimator) predict(ctx context.Context, wk *worker, img image.Image) error {
-	e.toInput(wk, img)
+	if err := e.toInput(wk, img); err != nil {
+		return err
+	}
 	if err := e.forward(wk, wk.in, wk.dl, wk.dr); err != nil {
 		return err
 	}
@@ -299,7 +301,7 @@ func (e *Estimator) forward(wk *worker, in *planar.Image, left, right []float32)
 
 // toInput resamples img to the network's size into wk.in, RGB in [0, 1]
 // with alpha divided out, as model/data does for training.
-func (e *Estimator) toInput(wk *worker, img image.Image) {
+func (e *Estimator) toInput(wk *worker, img image.Image) error {
 	dst := wk.scaled
 	b := img.Bounds()
 	if b.Dx() == dst.Rect.Dx() && b.Dy() == dst.Rect.Dy() {
@@ -307,25 +309,10 @@ func (e *Estimator) toInput(wk *worker, img image.Image) {
 	} else {
 		e.resize.Scale(dst, dst.Rect, img, b, xdraw.Src, nil)
 	}
-	w, h := dst.Rect.Dx(), dst.Rect.Dy()
-	plane := w * h
-	out := wk.in.Pix
-	for y := 0; y < h; y++ {
-		row := dst.Pix[y*dst.Stride : y*dst.Stride+8*w]
-		for x := 0; x < w; x++ {
-			px := row[8*x : 8*x+8 : 8*x+8]
-			r := float32(uint16(px[0])<<8 | uint16(px[1]))
-			g := float32(uint16(px[2])<<8 | uint16(px[3]))
-			bl := float32(uint16(px[4])<<8 | uint16(px[5]))
-			a := float32(uint16(px[6])<<8 | uint16(px[7]))
-			i := y*w + x
-			if a > 0 {
-				out[i], out[plane+i], out[2*plane+i] = min(r/a, 1), min(g/a, 1), min(bl/a, 1)
-			} else {
-				out[i], out[plane+i], out[2*plane+i] = 0, 0, 0
-			}
-		}
+	if err := planar.FromImageInto(wk.in, dst); err != nil {
+		return fmt.Errorf("model: %w", err)
 	}
+	return nil
 }
 
 // finish resamples the network-size results to width × height and builds

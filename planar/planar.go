@@ -194,10 +194,11 @@ func FromImageInto(dst *Image, img image.Image) error {
 					r[y*w+x], g[y*w+x], bl[y*w+x] = 0, 0, 0
 					continue
 				}
-				inv := 1 / a
-				r[y*w+x] = min(float32(uint16(px[0])<<8|uint16(px[1]))*inv, 1)
-				g[y*w+x] = min(float32(uint16(px[2])<<8|uint16(px[3]))*inv, 1)
-				bl[y*w+x] = min(float32(uint16(px[4])<<8|uint16(px[5]))*inv, 1)
+				// Divide (correctly rounded) rather than multiply by 1/a, so
+				// an opaque 16-bit value v maps to exactly v/65535.
+				r[y*w+x] = min(float32(uint16(px[0])<<8|uint16(px[1]))/a, 1)
+				g[y*w+x] = min(float32(uint16(px[2])<<8|uint16(px[3]))/a, 1)
+				bl[y*w+x] = min(float32(uint16(px[4])<<8|uint16(px[5]))/a, 1)
 			}
 		}
 	case *image.Gray:
