@@ -83,6 +83,12 @@ type Conv2D struct {
 	fwdStripe, dwStripe, dxBlock int
 	fwdFn, dwFn, dxFn            func(lo, hi int)
 
+	// The im2col weight gradient (see weightGrad): pieces of dwStripe
+	// pixels of one image, dealt into dwParts partial sums held in dwPart,
+	// and the output cut into dwMG×dwNG blocks of blockM×blockN.
+	dwPieces, dwParts, dwMG, dwNG int
+	dwPart                        []float32
+
 	// The padded-grid path (all but 1×1 stride-1 unpadded layers): fd
 	// computes the forward pass and holds the padded input for the weight
 	// gradient, gg the output gradient on fd's grid; for stride 1, bd the
@@ -128,7 +134,6 @@ type convWorker struct {
 	colT colTPacker
 	mat  matrixPacker // an image as a plain matrix (1×1 fast path, dY)
 	mat2 matrixPacker
-	dw   []float32 // private weight-gradient partial sum
 	dcol []float32 // a block of the im2col gradient
 	cbuf []float32 // an output block of the stride-1 path
 }
@@ -214,30 +219,50 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	return c, nil
 }
 
+// splitUnits is how many units of work the kernels that add partial sums
+// (the weight gradients) and the input gradient's channel blocks aim for.
+// It is a constant, not GOMAXPROCS: the way a sum is grouped then depends
+// only on the shapes, so results are bit for bit the same on any number of
+// threads. 16 keeps 2 units per goroutine up to 8 cores.
+const splitUnits = 16
+
 // makeWorkers sizes one worker per goroutine for the current micro-kernel.
 func (c *Conv2D) makeWorkers() {
 	procs := runtime.GOMAXPROCS(0)
 	c.mr, c.nr = kern.mr, kern.nr
 	kk2 := c.p.Kernel * c.p.Kernel
 
+	// Forward stripes may follow GOMAXPROCS: every output value is one
+	// sum in a fixed order whatever the stripes are (they start on
+	// multiples of nr, so the tiles do not move).
 	panels := (c.pix + c.nr - 1) / c.nr
 	units := max(1, 2*procs/c.n) // image stripes wanted per image
 	c.fwdStripe = max(1, min(blockN/c.nr, (panels+units-1)/units)) * c.nr
 
-	// Weight gradient: split the pixels (the reduction) into stripes.
-	c.dwStripe = max(blockK, (c.pix+units-1)/units)
+	fixed := max(1, splitUnits/c.n) // per image, independent of GOMAXPROCS
 
 	// Input gradient: blocks of whole input channels, so that blocks never
 	// write the same pixels of dx.
-	c.dxBlock = max(1, min((c.p.InC+units-1)/units, max(1, 2*blockM/kk2)))
+	c.dxBlock = max(1, min((c.p.InC+fixed-1)/fixed, max(1, 2*blockM/kk2)))
 
 	c.workers = make([]*convWorker, procs)
 	c.free = make(chan *convWorker, procs)
-	dwLen, dcolLen, cbufLen := c.p.OutC*c.kdim, c.dxBlock*kk2*blockN, 0
+	dcolLen, cbufLen := c.dxBlock*kk2*blockN, 0
+	c.dwPart = nil
+	if c.fd == nil {
+		// Weight gradient: split the pixels (the reduction) into stripes.
+		c.dwStripe = max(blockK, (c.pix+fixed-1)/fixed)
+		c.dwPieces = c.n * ((c.pix + c.dwStripe - 1) / c.dwStripe)
+		c.dwMG = (c.p.OutC + blockM - 1) / blockM
+		c.dwNG = (c.kdim + blockN - 1) / blockN
+		c.dwParts = max(1, min(c.dwPieces, (splitUnits+c.dwMG*c.dwNG-1)/(c.dwMG*c.dwNG), maxPartial/(c.p.OutC*c.kdim)+1))
+		c.dwPart = make([]float32, c.dwParts*c.p.OutC*c.kdim)
+	}
 	if c.fd != nil {
 		c.fd.size(procs)
-		c.gg = newGradGrid(c.fd, procs)
-		dwLen = c.gg.mopad * c.gg.kpad
+		if c.gg == nil || c.gg.mo != kern.mo || c.gg.mk != kern.mk || c.gg.lanes != kern.lanes {
+			c.gg = newGradGrid(c.fd)
+		}
 		cbufLen = c.fd.mpad * c.fd.ncb
 		if c.bd != nil {
 			c.bd.size(procs)
@@ -252,7 +277,6 @@ func (c *Conv2D) makeWorkers() {
 	for i := range c.workers {
 		wk := &convWorker{
 			ws:   newWorkspace(),
-			dw:   make([]float32, dwLen),
 			dcol: make([]float32, dcolLen),
 			cbuf: make([]float32, cbufLen),
 		}
@@ -412,16 +436,17 @@ func (c *Conv2D) runTask(lo, hi int) {
 			c.phases[u/per].forwardUnit(u%per, wk.cbuf)
 		}
 		c.free <- wk
-	case taskForward, taskInputGrad, taskWeightGrad:
+	case taskWeightGrad: // unit: one (partial sum, column group)
+		for u := lo; u < hi; u++ {
+			c.gg.weightUnit(fd, u)
+		}
+	case taskForward, taskInputGrad:
 		wk := <-c.free
 		for u := lo; u < hi; u++ {
-			switch c.task {
-			case taskForward:
+			if c.task == taskForward {
 				fd.forwardUnit(u, wk.cbuf)
-			case taskInputGrad:
+			} else {
 				bd.forwardUnit(u, wk.cbuf)
-			case taskWeightGrad:
-				c.gg.weightUnit(fd, u, wk.dw)
 			}
 		}
 		c.free <- wk

@@ -60,19 +60,23 @@ func sum8(x []float32) float32 {
 	return ((s0 + s1) + (s2 + s3)) + ((s4 + s5) + (s6 + s7))
 }
 
-// weightGrad computes dW = Σ_n dY_n · col(X_n)ᵀ; goroutines sum stripes of
-// pixels into private partial sums that are added at the end.
+// weightGrad computes dW = Σ_n dY_n · col(X_n)ᵀ. The sum runs over
+// pieces of dwStripe pixels of one image, taken in image-major order and
+// dealt into dwParts contiguous runs; each run is summed in order into its
+// own partial sum, and the partial sums are added in order at the end. The
+// output is also cut into blocks of blockM×blockN, so a unit of work is
+// one (run, output block): units write disjoint values and the grouping of
+// every sum depends on the shapes alone, not on GOMAXPROCS or on which
+// goroutine ran which unit.
 func (c *Conv2D) weightGrad(dw, x, dy []float32) {
-	for _, wk := range c.workers {
-		clear(wk.dw)
-	}
+	clear(c.dwPart)
 	c.x, c.dy = x, dy
-	stripes := (c.pix + c.dwStripe - 1) / c.dwStripe
-	ParallelFor(c.n*stripes, 1, c.dwFn)
+	ParallelFor(c.dwParts*c.dwMG*c.dwNG, 1, c.dwFn)
 	c.x, c.dy = nil, nil
-	copy(dw, c.workers[0].dw)
-	for _, wk := range c.workers[1:] {
-		for i, v := range wk.dw {
+	n := c.p.OutC * c.kdim
+	copy(dw, c.dwPart[:n])
+	for p := 1; p < c.dwParts; p++ {
+		for i, v := range c.dwPart[p*n : (p+1)*n] {
 			dw[i] += v
 		}
 	}
@@ -82,24 +86,31 @@ func (c *Conv2D) weightGradUnits(lo, hi int) {
 	wk := <-c.free
 	stripes := (c.pix + c.dwStripe - 1) / c.dwStripe
 	inLen, outLen := c.p.InC*c.g.h*c.g.w, c.p.OutC*c.pix
+	blocks := c.dwMG * c.dwNG
 	op := &wk.op
 	for u := lo; u < hi; u++ {
-		img, s := u/stripes, u%stripes
-		x := c.x[img*inLen : (img+1)*inLen]
-		wk.mat = matrixPacker{data: c.dy[img*outLen : (img+1)*outLen], ld: c.pix, rows: c.p.OutC, cols: c.pix}
-		op.a = &wk.mat
-		if c.ident {
-			wk.mat2 = matrixPacker{data: x, ld: c.pix, rows: c.p.InC, cols: c.pix}
-			op.b = &wk.mat2
-		} else {
-			wk.colT.x = x
-			op.b = &wk.colT
+		part, blk := u/blocks, u%blocks
+		m0, n0 := blk/c.dwNG*blockM, blk%c.dwNG*blockN
+		m1, n1 := min(m0+blockM, c.p.OutC), min(n0+blockN, c.kdim)
+		dst := c.dwPart[part*c.p.OutC*c.kdim : (part+1)*c.p.OutC*c.kdim]
+		for pc := part * c.dwPieces / c.dwParts; pc < (part+1)*c.dwPieces/c.dwParts; pc++ {
+			img, s := pc/stripes, pc%stripes
+			x := c.x[img*inLen : (img+1)*inLen]
+			wk.mat = matrixPacker{data: c.dy[img*outLen : (img+1)*outLen], ld: c.pix, rows: c.p.OutC, cols: c.pix}
+			op.a = &wk.mat
+			if c.ident {
+				wk.mat2 = matrixPacker{data: x, ld: c.pix, rows: c.p.InC, cols: c.pix}
+				op.b = &wk.mat2
+			} else {
+				wk.colT.x = x
+				op.b = &wk.colT
+			}
+			op.m, op.n, op.k = c.p.OutC, c.kdim, c.pix
+			op.c, op.ldc, op.ci0, op.cj0 = dst, c.kdim, 0, 0
+			op.accumulate, op.rowBias = true, nil
+			p0 := s * c.dwStripe
+			wk.ws.gemm(op, m0, m1, n0, n1, p0, min(p0+c.dwStripe, c.pix))
 		}
-		op.m, op.n, op.k = c.p.OutC, c.kdim, c.pix
-		op.c, op.ldc, op.ci0, op.cj0 = wk.dw, c.kdim, 0, 0
-		op.accumulate, op.rowBias = true, nil
-		p0 := s * c.dwStripe
-		wk.ws.gemm(op, 0, c.p.OutC, 0, c.kdim, p0, min(p0+c.dwStripe, c.pix))
 	}
 	op.a, op.b, op.c = nil, nil, nil
 	wk.colT.x, wk.mat.data, wk.mat2.data = nil, nil, nil
@@ -162,22 +173,11 @@ func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 	if dw != nil {
 		c.check("Backward", dw, c.WeightLen(), "dweight")
 		c.check("Backward", x, inLen, "x")
-		for _, wk := range c.workers {
-			clear(wk.dw)
-		}
+		clear(c.gg.part)
 		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
 		c.runTasks(taskFillGrid, c.n*c.p.OutC, dy, nil)
-		c.runTasks(taskWeightGrad, c.gg.units(c.n), nil, nil)
-		kp := c.gg.kpad
-		for o := range c.p.OutC {
-			row := dw[o*c.kdim : (o+1)*c.kdim]
-			copy(row, c.workers[0].dw[o*kp:o*kp+c.kdim])
-			for _, wk := range c.workers[1:] {
-				for i, v := range wk.dw[o*kp : o*kp+c.kdim] {
-					row[i] += v
-				}
-			}
-		}
+		c.runTasks(taskWeightGrad, c.gg.units(), nil, nil)
+		c.gg.sum(dw, c.p.OutC, c.kdim)
 	}
 	if dx != nil && c.bd == nil {
 		c.check("Backward", dx, inLen, "dx")

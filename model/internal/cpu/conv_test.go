@@ -417,41 +417,85 @@ func TestConvPanicsOnShortSlice(t *testing.T) {
 	c.Forward(make([]float32, 15), make([]float32, 16), make([]float32, 9), nil)
 }
 
-// TestConvGOMAXPROCS checks that results do not depend on the number of
-// goroutines, including a change after the plan was made.
+// TestConvGOMAXPROCS checks that Forward and Backward give the same bits
+// for every number of threads and every run: a plan made under
+// GOMAXPROCS 1, 2, 3 and 5, and the GOMAXPROCS=1 plan reused after the
+// change, each run three times, must match the single-threaded result
+// exactly in y, dx, dweight and dbias. The shapes reach the partial sums
+// of the weight gradients (small layers: several partial sums; layers too
+// large for them: column groups; im2col: output blocks) and, with 300 output
+// channels, the two-pass reduction of the 1×1 input gradient.
 func TestConvGOMAXPROCS(t *testing.T) {
-	rng := rand.New(rand.NewPCG(9, 9))
-	for _, p := range []ConvParams{
-		{InC: 6, OutC: 10, Kernel: 3, Pad: 1, Padding: ReflectPad},
-		{InC: 6, OutC: 10, Kernel: 3, Stride: 2, Pad: 1},
-	} {
-		c, err := NewConv2D(p, 3, 13, 29)
-		if err != nil {
-			t.Fatal(err)
-		}
-		x := randSlice(rng, 3*6*13*29)
-		w := randSlice(rng, c.WeightLen())
-		n, oc, ho, wo := c.OutShape()
-		dy := randSlice(rng, n*oc*ho*wo)
-		run := func() (y, dx, dw []float32) {
-			y, dx, dw = make([]float32, len(dy)), make([]float32, len(x)), make([]float32, len(w))
-			c.Forward(y, x, w, nil)
-			c.Backward(dx, dw, nil, x, w, dy)
-			return
-		}
-		y0, dx0, dw0 := run()
-		for _, procs := range []int{1, 3, 5} {
-			old := runtime.GOMAXPROCS(procs)
-			y, dx, dw := run()
+	type tc struct {
+		p         ConvParams
+		n, h, w   int
+		grid, i2c bool // run on the padded-grid path, on the im2col path
+	}
+	cases := []tc{
+		{ConvParams{InC: 3, OutC: 8, Kernel: 3, Pad: 1, Padding: ReflectPad}, 2, 19, 77, true, true},
+		{ConvParams{InC: 6, OutC: 10, Kernel: 3, Stride: 2, Pad: 1}, 3, 13, 29, true, true},
+		{ConvParams{InC: 20, OutC: 24, Kernel: 3, Pad: 2, Dilation: 2}, 1, 24, 40, true, false},
+		{ConvParams{InC: 60, OutC: 140, Kernel: 3, Pad: 1}, 1, 6, 9, false, true},
+		{ConvParams{InC: 9, OutC: 300, Kernel: 1}, 2, 5, 70, true, false},
+		{ConvParams{InC: 256, OutC: 128, Kernel: 3, Pad: 1}, 2, 4, 6, true, false},
+	}
+	forEachPath(t, func(t *testing.T) {
+		rng := rand.New(rand.NewPCG(9, 9))
+		for _, c := range cases {
+			if im2colOnly && !c.i2c || !im2colOnly && !c.grid {
+				continue
+			}
+			p := c.p
+			old := runtime.GOMAXPROCS(1)
+			plan1, err := NewConv2D(p, c.n, c.h, c.w)
+			if err != nil {
+				runtime.GOMAXPROCS(old)
+				t.Fatal(err)
+			}
+			x := randSlice(rng, c.n*p.InC*c.h*c.w)
+			w := randSlice(rng, plan1.WeightLen())
+			b := randSlice(rng, p.OutC)
+			n, oc, ho, wo := plan1.OutShape()
+			dy := randSlice(rng, n*oc*ho*wo)
+			run := func(plan *Conv2D) [4][]float32 {
+				r := [4][]float32{make([]float32, len(dy)), make([]float32, len(x)), make([]float32, len(w)), make([]float32, p.OutC)}
+				plan.Forward(r[0], x, w, b)
+				plan.Backward(r[1], r[2], r[3], x, w, dy)
+				return r
+			}
+			want := run(plan1)
+			for _, procs := range []int{2, 3, 5} {
+				runtime.GOMAXPROCS(procs)
+				plan, err := NewConv2D(p, c.n, c.h, c.w)
+				if err != nil {
+					t.Fatal(err)
+				}
+				for rep := range 3 {
+					for which, pl := range []*Conv2D{plan, plan1} {
+						got := run(pl)
+						for i, what := range []string{"y", "dx", "dweight", "dbias"} {
+							if k := firstDiff(got[i], want[i]); k >= 0 {
+								t.Errorf("%+v n=%d GOMAXPROCS=%d plan %d run %d: %s[%d] = %x, single-threaded %x",
+									p, c.n, procs, which, rep, what, k, math.Float32bits(got[i][k]), math.Float32bits(want[i][k]))
+							}
+						}
+					}
+				}
+			}
 			runtime.GOMAXPROCS(old)
-			name := fmt.Sprintf("%+v GOMAXPROCS=%d", p, procs)
-			compare(t, name+" y", y, y0, 1e-6)
-			compare(t, name+" dx", dx, dx0, 1e-6)
-			// The weight gradient sums per-goroutine partials, so its
-			// rounding depends on the split.
-			compare(t, name+" dw", dw, dw0, 1e-5)
+		}
+	})
+}
+
+// firstDiff returns the first index where a and b differ in their bits,
+// or -1.
+func firstDiff(a, b []float32) int {
+	for i := range a {
+		if math.Float32bits(a[i]) != math.Float32bits(b[i]) {
+			return i
 		}
 	}
+	return -1
 }
 
 // TestConvNaN checks that NaN and Inf inputs propagate without a panic.

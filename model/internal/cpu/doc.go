@@ -22,6 +22,12 @@
 //     propagate as IEEE arithmetic dictates.
 //   - Work is split over goroutines with ParallelFor, which uses up to
 //     runtime.GOMAXPROCS(0) goroutines from a persistent pool.
+//   - Results are the same bits for any GOMAXPROCS and any scheduling:
+//     every output value is one sum in an order fixed by the shapes and
+//     the micro-kernel. Where a sum is split (the convolution weight
+//     gradients), the pieces are grouped into partial sums by the
+//     problem's size alone and the partial sums are added in a fixed
+//     order. Results may differ between micro-kernels (KernelName).
 //
 // Methods:
 //

@@ -12,7 +12,12 @@ import (
 // persistent worker pool. It returns when every call has returned. A grain
 // of 0 or less means ceil(n / GOMAXPROCS). Ranges are handed out in
 // increasing order of lo but may run concurrently and finish in any order,
-// so fn must only write data owned by its range.
+// so fn must only write data owned by its range. Which goroutine runs a
+// range changes from call to call: a kernel that adds partial sums must
+// keep one per range (or per fixed group of ranges) and add them in range
+// order, never one per goroutine, and must derive its ranges from the
+// problem's size rather than from GOMAXPROCS, so that its float results
+// are the same bits on any number of threads.
 //
 // ParallelFor may be called from inside fn: when no worker is idle the
 // caller runs the ranges itself, so nesting never deadlocks.
