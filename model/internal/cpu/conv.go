@@ -219,8 +219,8 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	return c, nil
 }
 
-// splitUnits is how many units of work the kernels that add partial sums
-// (the weight gradients) and the input gradient's channel blocks aim for.
+// splitUnits is how many units of work the im2col weight gradient (which
+// adds partial sums) and the input gradient's channel blocks aim for.
 // It is a constant, not GOMAXPROCS: the way a sum is grouped then depends
 // only on the shapes, so results are bit for bit the same on any number of
 // threads. 16 keeps 2 units per goroutine up to 8 cores.
