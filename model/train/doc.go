@@ -88,10 +88,11 @@
 //
 // Determinism: the data order and augmentation depend only on the seed,
 // the epoch and the position (package data), and the Trainer draws no
-// random numbers. The convolution weight gradient of model/internal/cpu
-// adds per-goroutine partial sums in a scheduling-dependent grouping, so
-// with more than one thread two runs may differ in the last bits after a
-// few steps; with GOMAXPROCS=1 they are identical.
+// random numbers. The kernels of model/internal/cpu give the same bits for
+// any GOMAXPROCS, so two runs with the same inputs, and a resumed run, are
+// bit for bit identical on one machine. Different CPU micro-kernels
+// (AVX-512, AVX2, purego) round differently, so a run resumed on a machine
+// that selects another kernel continues, but not bit for bit.
 //
 // Evaluate scores weights on a data set with ground truth (disparity EPE
 // and bad-N, and the depth metrics of package depth), for before/after
