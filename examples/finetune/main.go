@@ -41,6 +41,7 @@ type config struct {
 	steps, batch, warmup, every, evalBatch         int
 	lr, val                                        float64
 	seed                                           uint64
+	ctx                                            context.Context // nil: Ctrl-C and SIGTERM stop the run
 }
 
 func main() {
@@ -221,7 +222,11 @@ func run(c config) error {
 		}
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	parent := c.ctx
+	if parent == nil {
+		parent = context.Background()
+	}
+	ctx, stop := signal.NotifyContext(parent, os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	start, startStep := time.Now(), tr.Step()
 	res, err := tr.Run(ctx)
@@ -237,11 +242,6 @@ func run(c config) error {
 	if err := savePlot(c.plotPath, log.rows); err != nil {
 		return err
 	}
-	if res.Interrupted {
-		fmt.Fprintf(os.Stderr, "finetune: interrupted at step %d of %d; checkpoint %s (continue with -resume)\n", res.Step, c.steps, res.Checkpoint)
-		return nil
-	}
-
 	out := tr.Weights()
 	out.Provenance["train.data"] = c.data
 	out.Provenance["train.start"] = origin
@@ -252,6 +252,16 @@ func run(c config) error {
 	dtype := model.F32
 	if c.f16 {
 		dtype = model.F16
+	}
+	if res.Interrupted {
+		// The weights so far are written too, so an interrupted run leaves
+		// something usable; -resume continues from the checkpoint.
+		out.Provenance["train.interrupted"] = fmt.Sprintf("at step %d of %d", res.Step, c.steps)
+		if err := out.Save(c.out, dtype); err != nil {
+			return fmt.Errorf("finetune: %w", err)
+		}
+		fmt.Fprintf(os.Stderr, "finetune: interrupted at step %d of %d; weights so far %s, checkpoint %s (continue with -resume)\n", res.Step, c.steps, c.out, res.Checkpoint)
+		return nil
 	}
 	if err := out.Save(c.out, dtype); err != nil {
 		return fmt.Errorf("finetune: %w", err)

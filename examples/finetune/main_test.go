@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"image"
 	"image/png"
 	"os"
@@ -60,6 +61,38 @@ func TestRunWritesOutputs(t *testing.T) {
 	log, _ = os.ReadFile(filepath.Join(dir, "w.csv"))
 	if n := len(strings.Split(strings.TrimSpace(string(log)), "\n")); n != 4 {
 		t.Errorf("resumed log has %d lines, want 4", n)
+	}
+}
+
+// An interrupted run (here, a context cancelled before the first step)
+// still writes the weights so far, marked as interrupted, and a checkpoint
+// that -resume continues from.
+func TestRunInterruptedWritesWeights(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "w.safetensors")
+	c := defaults(filepath.Join("..", "..", "testdata", "synth", "greenhouse"), out)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	c.ctx = ctx
+	if err := run(c); err != nil {
+		t.Fatal(err)
+	}
+	w, err := model.Load(out)
+	if err != nil {
+		t.Fatalf("no weights after an interrupted run: %v", err)
+	}
+	if got := w.Provenance["train.interrupted"]; got != "at step 0 of 2" {
+		t.Errorf("train.interrupted = %q, want %q", got, "at step 0 of 2")
+	}
+	if _, err := train.LoadCheckpoint(out + ".ckpt"); err != nil {
+		t.Fatalf("checkpoint: %v", err)
+	}
+	c.ctx, c.resume = nil, true
+	if err := run(c); err != nil {
+		t.Fatal(err)
+	}
+	if w, err = model.Load(out); err != nil || w.Provenance["train.interrupted"] != "" {
+		t.Fatalf("resumed run: %v, provenance %v", err, w.Provenance)
 	}
 }
 
