@@ -270,6 +270,8 @@ func write(o options, in input, img image.Image, e *model.Estimate, elapsed, fir
 	}
 	if w.IsPlaceholder() {
 		weights += " (UNTRAINED PLACEHOLDER: depth is meaningless)"
+	} else if st := w.Provenance[model.ProvenanceStatus]; st != "" {
+		weights += " (" + st + ")"
 	}
 	fmt.Fprintf(&sum, "weights      %s\n", weights)
 	zs := validValues(&e.Depth.Map)
