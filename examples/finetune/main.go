@@ -54,7 +54,7 @@ func main() {
 	flag.IntVar(&c.batch, "batch", 4, "stereo pairs per step")
 	flag.Float64Var(&c.lr, "lr", train.DefaultRate, "base learning rate of Adam; it warms up linearly, then halves at 60% and 80% of the steps")
 	flag.IntVar(&c.warmup, "warmup", 0, "warm-up steps (0: 2% of the steps, at most 200; -1: none)")
-	flag.StringVar(&c.checkpoint, "checkpoint", "", "checkpoint file (default: the -out path with .ckpt added)")
+	flag.StringVar(&c.checkpoint, "checkpoint", "", "checkpoint file (default: the -out path with .ckpt added); without -resume it must not exist yet")
 	flag.IntVar(&c.every, "every", 100, "write the checkpoint every this many steps (0: only at the end and on Ctrl-C)")
 	flag.BoolVar(&c.resume, "resume", false, "continue the run saved in the checkpoint file; give the same -data, -batch, -seed, -val and -steps as the interrupted run")
 	flag.Uint64Var(&c.seed, "seed", 1, "seed of the validation split, the shuffling and the augmentation (and of -from-scratch)")
@@ -96,6 +96,13 @@ func run(c config) error {
 	}
 	if c.checkpoint == "" {
 		c.checkpoint = c.out + ".ckpt"
+	}
+	if !c.resume {
+		// A fresh run would replace an earlier run's checkpoint at its first
+		// save: refuse rather than lose that state without a word.
+		if _, err := os.Stat(c.checkpoint); err == nil {
+			return fmt.Errorf("finetune: checkpoint %s exists from an earlier run; continue it with -resume, or remove it (or give another -checkpoint) to start over", c.checkpoint)
+		}
 	}
 	base := strings.TrimSuffix(c.out, filepath.Ext(c.out))
 	if c.logPath == "" {

@@ -118,6 +118,8 @@ func TestRunErrors(t *testing.T) {
 	os.WriteFile(bad, []byte("not weights"), 0o644)
 	synthDir := filepath.Join("..", "..", "testdata", "synth", "greenhouse")
 	out := filepath.Join(dir, "w.safetensors")
+	earlier := filepath.Join(dir, "earlier.ckpt")
+	os.WriteFile(earlier, []byte("an earlier run's state"), 0o644)
 	cases := []struct {
 		name string
 		edit func(*config)
@@ -125,7 +127,7 @@ func TestRunErrors(t *testing.T) {
 	}{
 		{"no data", func(c *config) { c.data = "" }, "-data DIR and -out FILE are required"},
 		{"missing dir", func(c *config) { c.data = filepath.Join(dir, "nowhere") }, "is not a folder"},
-		{"no pairs", func(c *config) { c.data = empty }, "no"},
+		{"no pairs", func(c *config) { c.data = empty }, "holds no images"},
 		{"missing partner", func(c *config) { c.data = lonely }, "a.png"},
 		{"mismatched sizes", func(c *config) { c.data = mismatch }, "b.png"},
 		{"bad weights", func(c *config) { c.from = bad }, "-from"},
@@ -133,6 +135,7 @@ func TestRunErrors(t *testing.T) {
 		{"resume without checkpoint", func(c *config) { c.resume = true; c.checkpoint = filepath.Join(dir, "none.ckpt") }, "-resume"},
 		{"batch too large", func(c *config) { c.batch = 5 }, "make no batch of 5"},
 		{"zero steps", func(c *config) { c.steps = 0 }, "must be positive"},
+		{"earlier checkpoint", func(c *config) { c.checkpoint = earlier }, "exists from an earlier run"},
 	}
 	for _, tc := range cases {
 		c := defaults(synthDir, out)
@@ -146,5 +149,8 @@ func TestRunErrors(t *testing.T) {
 	}
 	if _, err := os.Stat(out); err == nil {
 		t.Errorf("a failed run wrote %s", out)
+	}
+	if b, _ := os.ReadFile(earlier); string(b) != "an earlier run's state" {
+		t.Errorf("a fresh run changed the earlier checkpoint: %q", b)
 	}
 }
