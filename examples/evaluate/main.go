@@ -96,10 +96,16 @@ func main1(ctx context.Context, o options, dir string, dirGiven bool) error {
 			return fmt.Errorf("evaluate: %w", err)
 		}
 		defer os.RemoveAll(tmp)
-		if err := pairFolder(tmp, o.pair, o.rig); err != nil {
+		names, err := pairFolder(tmp, o.pair, o.rig)
+		if err != nil {
 			return err
 		}
 		dir, o.source = tmp, o.pair
+		if err := run(ctx, o, dir, os.Stdout, os.Stderr); err != nil {
+			// Name the user's files, not the staging copies.
+			return errors.New(names.Replace(err.Error()))
+		}
+		return nil
 	} else if o.rig != "" {
 		return errors.New("evaluate: -rig goes with -pair; a dataset folder has its own rig.json")
 	}
@@ -108,50 +114,59 @@ func main1(ctx context.Context, o options, dir string, dirGiven bool) error {
 
 // pairFolder lays out one pair of files as a dataset folder in dir, so that
 // package model/data reads it like any other: the images and the disparity
-// are copied, and the rig is rescaled to the images' size.
-func pairFolder(dir, pair, rigPath string) error {
+// are copied, and the rig is rescaled to the images' size. The replacer it
+// returns turns the copies' paths in an error message back into the user's.
+func pairFolder(dir, pair, rigPath string) (*strings.Replacer, error) {
 	files := strings.Split(pair, ",")
 	if len(files) != 3 {
-		return fmt.Errorf("evaluate: -pair %q: want LEFT,RIGHT,DISP", pair)
+		return nil, fmt.Errorf("evaluate: -pair %q: want LEFT,RIGHT,DISP", pair)
 	}
 	name := strings.TrimSuffix(filepath.Base(files[0]), filepath.Ext(files[0]))
-	dst := []string{
-		filepath.Join(dir, "left", name+strings.ToLower(filepath.Ext(files[0]))),
-		filepath.Join(dir, "right", name+strings.ToLower(filepath.Ext(files[1]))),
-		filepath.Join(dir, "truth", data.DispLeft, name+".pfm"),
+	rel := []string{
+		filepath.Join("left", name+strings.ToLower(filepath.Ext(files[0]))),
+		filepath.Join("right", name+strings.ToLower(filepath.Ext(files[1]))),
+		filepath.Join("truth", data.DispLeft, name+".pfm"),
 	}
+	var names []string
 	for i, f := range files {
+		dst := filepath.Join(dir, rel[i])
+		names = append(names, dst, f) // full paths first: the replacer tries them in order
 		b, err := os.ReadFile(f)
 		if err != nil {
-			return fmt.Errorf("evaluate: %w", err)
+			return nil, fmt.Errorf("evaluate: %w", err)
 		}
-		if err := os.MkdirAll(filepath.Dir(dst[i]), 0o755); err != nil {
-			return fmt.Errorf("evaluate: %w", err)
+		if err := os.MkdirAll(filepath.Dir(dst), 0o755); err != nil {
+			return nil, fmt.Errorf("evaluate: %w", err)
 		}
-		if err := os.WriteFile(dst[i], b, 0o644); err != nil {
-			return fmt.Errorf("evaluate: %w", err)
+		if err := os.WriteFile(dst, b, 0o644); err != nil {
+			return nil, fmt.Errorf("evaluate: %w", err)
 		}
 	}
+	for i, f := range files {
+		names = append(names, rel[i], f)
+	}
+	names = append(names, dir, "-pair")
+	replacer := strings.NewReplacer(names...)
 	if rigPath == "" {
-		return nil
+		return replacer, nil
 	}
 	rig, err := depth.LoadRig(rigPath)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	f, err := os.Open(files[0])
 	if err != nil {
-		return fmt.Errorf("evaluate: %w", err)
+		return nil, fmt.Errorf("evaluate: %w", err)
 	}
 	defer f.Close()
 	cfg, _, err := image.DecodeConfig(f)
 	if err != nil {
-		return fmt.Errorf("evaluate: %s: %w", files[0], err)
+		return nil, fmt.Errorf("evaluate: %s: %w", files[0], err)
 	}
 	if rig, err = rig.Scaled(cfg.Width, cfg.Height); err != nil {
-		return err
+		return nil, err
 	}
-	return depth.SaveRig(filepath.Join(dir, "rig.json"), rig)
+	return replacer, depth.SaveRig(filepath.Join(dir, "rig.json"), rig)
 }
 
 func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) error {

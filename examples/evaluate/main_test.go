@@ -58,7 +58,7 @@ func TestPairFolder(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
 	dir := t.TempDir()
 	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
-	if err := pairFolder(dir, pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")); err != nil {
+	if _, err := pairFolder(dir, pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")); err != nil {
 		t.Fatal(err)
 	}
 	var out, log bytes.Buffer
@@ -68,7 +68,26 @@ func TestPairFolder(t *testing.T) {
 	if !strings.Contains(out.String(), "epe_px") || !strings.Contains(out.String(), "left ") {
 		t.Errorf("output:\n%s", out.String())
 	}
-	if err := pairFolder(t.TempDir(), "a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+	if _, err := pairFolder(t.TempDir(), "a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
 		t.Errorf("two files: %v", err)
+	}
+}
+
+// TestPairErrorsNameUserFiles checks that an error about a -pair file names
+// the file the user gave, not its copy in the staging folder.
+func TestPairErrorsNameUserFiles(t *testing.T) {
+	m := filepath.Join("..", "..", "testdata", "motorcycle")
+	small := filepath.Join("..", "..", "model", "demo", "greenhouse_left.png") // 256×128, the pair is 370×250
+	notPFM := filepath.Join(m, "left.png")
+	for _, tc := range []struct{ pair, want string }{
+		{filepath.Join(m, "left.png") + "," + small + "," + filepath.Join(m, "disp_left.pfm"), small},
+		{filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + notPFM, notPFM},
+	} {
+		err := main1(context.Background(), options{quiet: true, batch: 1, pair: tc.pair}, "", false)
+		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), tc.want) || strings.Contains(err.Error(), "parallax-evaluate-") {
+			t.Errorf("-pair %s: %v, want an error naming %s", tc.pair, err, tc.want)
+		} else {
+			t.Logf("%v", err)
+		}
 	}
 }
