@@ -65,7 +65,8 @@
 // moments and the data position) every Options.CheckpointEvery steps, at
 // the end, and when the context is cancelled. Trainer.Resume continues a
 // checkpointed run; with the same options and data the result is the
-// uninterrupted run's, bit for bit on one thread (see below).
+// uninterrupted run's, bit for bit on any number of threads (see
+// Determinism below).
 //
 // Safety: a step whose batch, loss or gradient holds NaN or Inf is skipped
 // before any weight or moment changes, counted, and reported through
