@@ -284,7 +284,9 @@ func (t *Trainer) Resume(c *Checkpoint) error {
 // advances, and Progress reports it. On cancellation Run writes a
 // checkpoint (if Options.CheckpointPath is set) and returns the result with
 // Interrupted set and a nil error. Errors of the data source (a corrupt
-// file, say) or of the graph end the run and are returned.
+// file, say) or of the graph end the run and are returned; after a data
+// source error past step 0 Run first writes a checkpoint of the completed
+// steps (if Options.CheckpointPath is set) and names it in the error.
 func (t *Trainer) Run(ctx context.Context) (*Result, error) {
 	res := &Result{}
 	defer func() {
@@ -331,9 +333,11 @@ func (t *Trainer) Run(ctx context.Context) (*Result, error) {
 				break
 			}
 			if err == io.EOF {
-				return res, fmt.Errorf("train: epoch %d ended after %d batches, the source promised %d", e, pos, nb)
+				err = fmt.Errorf("train: epoch %d ended after %d batches, the source promised %d", e, pos, nb)
+			} else {
+				err = fmt.Errorf("train: epoch %d, batch %d: %w", e, pos, err)
 			}
-			return res, fmt.Errorf("train: epoch %d, batch %d: %w", e, pos, err)
+			return res, t.saveOnDataError(res, err)
 		}
 		p, err := t.train(b, e, pos)
 		if err != nil {
@@ -360,6 +364,23 @@ func (t *Trainer) Run(ctx context.Context) (*Result, error) {
 		res.Checkpoint = t.opt.CheckpointPath
 	}
 	return res, nil
+}
+
+// saveOnDataError writes a checkpoint of the steps done so far when the
+// data source fails (a corrupt file, say), so that the user can fix the data
+// and resume instead of losing the steps since the last checkpoint. The
+// state is the one after the last completed step: no step has begun on the
+// failed batch. It returns err, with the checkpoint named or its own
+// failure added.
+func (t *Trainer) saveOnDataError(res *Result, err error) error {
+	if t.opt.CheckpointPath == "" || t.step == 0 {
+		return err
+	}
+	if serr := SaveCheckpoint(t.opt.CheckpointPath, t.Checkpoint()); serr != nil {
+		return fmt.Errorf("%w (and the checkpoint could not be written: %v)", err, serr)
+	}
+	res.Checkpoint = t.opt.CheckpointPath
+	return fmt.Errorf("%w (checkpoint of step %d written to %s)", err, t.step, t.opt.CheckpointPath)
 }
 
 // train runs one step on b and advances the step count.

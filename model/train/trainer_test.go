@@ -2,6 +2,7 @@ package train
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -468,6 +469,64 @@ func TestScheduleDefaults(t *testing.T) {
 	for _, bad := range []Schedule{{Rate: -1}, {Milestones: []float64{1.5}}, {Decay: math.NaN()}, {Rate: math.Inf(1)}} {
 		if _, err := bad.withDefaults(10); err == nil || !strings.HasPrefix(err.Error(), "train: ") {
 			t.Errorf("schedule %+v: error %v", bad, err)
+		}
+	}
+}
+
+// failing serves the batches of its Source but fails at global batch at, as
+// a corrupt file would.
+type failing struct {
+	Source
+	at int
+}
+
+type failingBatches struct {
+	Batches
+	k, at int
+}
+
+func (f failing) Epoch(ctx context.Context, e int) Batches {
+	return &failingBatches{Batches: f.Source.Epoch(ctx, e), k: e * f.BatchesPerEpoch(), at: f.at}
+}
+
+func (f *failingBatches) Next() (*data.Batch, error) {
+	if f.k == f.at {
+		return nil, errors.New("data: left/x.png: png: invalid format")
+	}
+	f.k++
+	return f.Batches.Next()
+}
+
+// A data error ends the run with an error that names the bad file and a
+// checkpoint of the completed steps, which resumes.
+func TestDataErrorWritesCheckpoint(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	src, err := NewDatasetSource(ds, trainerConfig, 1, 2, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "run.ckpt")
+	tr := newTestTrainer(t, freshWeights(t, 4), failing{src, 4}, Options{Steps: 6, Batch: 1, Seed: 2, CheckpointPath: path})
+	res, err := tr.Run(context.Background())
+	if err == nil || !strings.HasPrefix(err.Error(), "train: ") || !strings.Contains(err.Error(), "x.png") || !strings.Contains(err.Error(), path) {
+		t.Fatalf("error %v, want one naming the file and the checkpoint", err)
+	}
+	t.Log(err)
+	if res.Step != 4 || res.Checkpoint != path {
+		t.Errorf("result %+v, want step 4 with the checkpoint", res)
+	}
+	c, err := LoadCheckpoint(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Step != 4 || c.Solver.Step != 4 {
+		t.Errorf("checkpoint at step %d after %d updates, want 4 and 4", c.Step, c.Solver.Step)
+	}
+	for name, v := range tr.Weights().Params {
+		for i := range v {
+			if math.Float32bits(v[i]) != math.Float32bits(c.Weights.Params[name][i]) {
+				t.Fatalf("%s[%d]: checkpoint %v, trainer %v", name, i, c.Weights.Params[name][i], v[i])
+			}
 		}
 	}
 }
