@@ -203,21 +203,13 @@ func listInputs(args []string) ([]input, error) {
 			}
 			continue
 		}
-		ents, err := os.ReadDir(a)
+		names, err := demo.ImageFiles(a)
 		if err != nil {
 			return nil, fmt.Errorf("estimate: %w", err)
-		}
-		var names []string
-		for _, e := range ents {
-			ext := strings.ToLower(filepath.Ext(e.Name()))
-			if !e.IsDir() && !strings.HasPrefix(e.Name(), ".") && (ext == ".png" || ext == ".jpg" || ext == ".jpeg") {
-				names = append(names, e.Name())
-			}
 		}
 		if len(names) == 0 {
 			return nil, fmt.Errorf("estimate: folder %s holds no PNG or JPEG image", a)
 		}
-		slices.Sort(names)
 		for _, n := range names {
 			if err := add(filepath.Join(a, n)); err != nil {
 				return nil, err

@@ -4,7 +4,8 @@
 // rig it was rendered with (72° field of view, 0.12 m baseline). The data
 // is invented by our renderer; it is for demonstrations, not evaluation.
 //
-// Frames also reads a folder of images in name order, for frame loops.
+// Frames also reads a folder of images in name order, for frame loops;
+// ImageFiles lists them.
 //
 // Errors start with "demo: ".
 package demo
@@ -73,23 +74,15 @@ func Frames(dir string) iter.Seq2[Frame, error] {
 			yield(Frame{Name: Name, Image: img}, err)
 			return
 		}
-		ents, err := os.ReadDir(dir)
+		names, err := ImageFiles(dir)
 		if err != nil {
-			yield(Frame{}, fmt.Errorf("demo: %w", err))
+			yield(Frame{}, err)
 			return
-		}
-		var names []string
-		for _, e := range ents {
-			ext := strings.ToLower(filepath.Ext(e.Name()))
-			if !e.IsDir() && !strings.HasPrefix(e.Name(), ".") && (ext == ".png" || ext == ".jpg" || ext == ".jpeg") {
-				names = append(names, e.Name())
-			}
 		}
 		if len(names) == 0 {
 			yield(Frame{}, fmt.Errorf("demo: %s holds no PNG or JPEG image", dir))
 			return
 		}
-		slices.Sort(names)
 		for _, n := range names {
 			img, err := decodeFile(filepath.Join(dir, n))
 			if !yield(Frame{Name: strings.TrimSuffix(n, filepath.Ext(n)), Image: img}, err) {
@@ -97,6 +90,27 @@ func Frames(dir string) iter.Seq2[Frame, error] {
 			}
 		}
 	}
+}
+
+// ImageFiles returns the names (not paths) of the PNG and JPEG files in
+// dir, in name order, with the rules of Frames: extensions .png, .jpg and
+// .jpeg in any case; folders and names starting with "." are skipped. A
+// folder without images gives an empty list and no error; an unreadable
+// folder gives an error.
+func ImageFiles(dir string) ([]string, error) {
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
+	var names []string
+	for _, e := range ents {
+		ext := strings.ToLower(filepath.Ext(e.Name()))
+		if !e.IsDir() && !strings.HasPrefix(e.Name(), ".") && (ext == ".png" || ext == ".jpg" || ext == ".jpeg") {
+			names = append(names, e.Name())
+		}
+	}
+	slices.Sort(names)
+	return names, nil
 }
 
 func decodeFile(path string) (image.Image, error) {

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -69,5 +70,28 @@ func TestFrames(t *testing.T) {
 	}
 	if n != 1 {
 		t.Errorf("demo yields %d frames", n)
+	}
+}
+
+// ImageFiles keeps .png, .jpg and .jpeg in any case, in name order, and
+// skips hidden files, folders and other extensions.
+func TestImageFiles(t *testing.T) {
+	dir := t.TempDir()
+	for _, n := range []string{"b.PNG", "a.jpeg", "c.Jpg", ".hidden.png", "notes.txt", "d.png.bak"} {
+		os.WriteFile(filepath.Join(dir, n), nil, 0o644)
+	}
+	os.Mkdir(filepath.Join(dir, "e.png"), 0o755)
+	got, err := ImageFiles(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{"a.jpeg", "b.PNG", "c.Jpg"}; !slices.Equal(got, want) {
+		t.Errorf("ImageFiles: %q, want %q", got, want)
+	}
+	if names, err := ImageFiles(t.TempDir()); err != nil || len(names) != 0 {
+		t.Errorf("empty folder: %q, %v", names, err)
+	}
+	if _, err := ImageFiles(filepath.Join(dir, "missing")); err == nil || !strings.HasPrefix(err.Error(), "demo: ") {
+		t.Errorf("missing folder: %v", err)
 	}
 }
