@@ -17,6 +17,7 @@ import (
 	_ "image/jpeg"
 	_ "image/png"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -54,7 +55,7 @@ type options struct {
 func main() {
 	var o options
 	flag.StringVar(&o.weights, "weights", "", "weights file (safetensors, see package model); default: the embedded weights")
-	flag.StringVar(&o.rig, "rig", "", "rig JSON file of the camera (see depth.ReadRig); default: the rig of the bundled demo,\nwhich the embedded weights were made for")
+	flag.StringVar(&o.rig, "rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error. Default: the rig of the bundled demo, which the\nembedded weights were made for")
 	flag.StringVar(&o.out, "out", defaultOut, "output folder, created if missing; files of the same names are replaced")
 	flag.BoolVar(&o.flip, "flip", false, "flip post-processing: also predict the mirrored image and blend (twice the time)")
 	flag.BoolVar(&o.pfm, "pfm", false, "also write NAME.disparity.pfm (pixels), NAME.depth.pfm (metres) and NAME.confidence.pfm")
@@ -137,6 +138,10 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 			bar.clear()
 			return err
 		}
+		if err := sameAspect(img.Bounds(), rig, o.rig); o.rig != "" && err != nil {
+			bar.clear()
+			return fmt.Errorf("estimate: %s: %w", in.name, err)
+		}
 		start := time.Now()
 		e, err := est.Estimate(ctx, img)
 		elapsed := time.Since(start)
@@ -173,6 +178,18 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, "output folder: %s\n", o.out)
 	}
 	return nil
+}
+
+// sameAspect returns an error if the image b and the rig's image differ in
+// aspect ratio by more than 1%: Rig.Scaled would stretch the rig to fit,
+// which for a cropped image or another camera gives wrong depth silently.
+func sameAspect(b image.Rectangle, rig *depth.Rig, rigPath string) error {
+	a, r := float64(b.Dx())/float64(b.Dy()), float64(rig.Width)/float64(rig.Height)
+	if math.Abs(a/r-1) <= 0.01 {
+		return nil
+	}
+	return fmt.Errorf("the image is %dx%d but %s is for %dx%d images, another aspect ratio (a cropped image or another camera?)",
+		b.Dx(), b.Dy(), rigPath, rig.Width, rig.Height)
 }
 
 // listInputs expands the arguments: files as given, folders into their PNG

@@ -83,3 +83,19 @@ func TestDemoRun(t *testing.T) {
 		t.Errorf("missing input: %v", err)
 	}
 }
+
+// A rig is rescaled to an image of its aspect ratio (the Motorcycle pair of
+// testdata/motorcycle, 370×250, with its 741×500 rig) and refused, naming
+// the rig file, for another one (the 256×128 demo image).
+func TestRigAspect(t *testing.T) {
+	rig := filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")
+	var stdout, stderr bytes.Buffer
+	err := run(options{out: t.TempDir(), rig: rig, quiet: true}, nil, &stdout, &stderr)
+	if err == nil || !strings.HasPrefix(err.Error(), "estimate: ") || !strings.Contains(err.Error(), rig) || !strings.Contains(err.Error(), "aspect ratio") {
+		t.Errorf("demo image with a 741x500 rig: %v, want an aspect-ratio error naming %s", err, rig)
+	}
+	left := filepath.Join("..", "..", "testdata", "motorcycle", "left.png")
+	if err := run(options{out: t.TempDir(), rig: rig, quiet: true}, []string{left}, &stdout, &stderr); err != nil {
+		t.Errorf("Motorcycle image with its rig: %v", err)
+	}
+}
