@@ -56,7 +56,7 @@ func main() {
 	flag.IntVar(&c.warmup, "warmup", 0, "warm-up steps (0: 2% of the steps, at most 200; -1: none)")
 	flag.StringVar(&c.checkpoint, "checkpoint", "", "checkpoint file (default: the -out path with .ckpt added); without -resume it must not exist yet")
 	flag.IntVar(&c.every, "every", 100, "write the checkpoint every this many steps (0: only at the end and on Ctrl-C)")
-	flag.BoolVar(&c.resume, "resume", false, "continue the run saved in the checkpoint file; give the same -data, -batch, -seed, -val and -steps as the interrupted run")
+	flag.BoolVar(&c.resume, "resume", false, "continue the run saved in the checkpoint file; give the same -data, -batch, -seed, -val and -steps as the interrupted run\n(another -batch, -seed or data is refused; another -steps or -lr continues with a changed schedule, with a note)")
 	flag.Uint64Var(&c.seed, "seed", 1, "seed of the validation split, the shuffling and the augmentation (and of -from-scratch)")
 	flag.Float64Var(&c.val, "val", 0.2, "fraction of the pairs held out for validation, scored before and after when they have ground truth (0: none)")
 	flag.BoolVar(&c.noAugment, "no-augment", false, "train without flips and colour changes")
@@ -137,6 +137,9 @@ func run(c config) error {
 			return fmt.Errorf("finetune: -resume: %w", err)
 		}
 		w, origin = ck.Weights, fmt.Sprintf("checkpoint %s at step %d", c.checkpoint, ck.Step)
+		if note := scheduleNote(ck, c); note != "" {
+			fmt.Fprintln(os.Stderr, note)
+		}
 	case c.from != "":
 		if w, err = model.Load(c.from); err != nil {
 			if cw, cerr := train.LoadCheckpoint(c.from); cerr == nil {
@@ -303,6 +306,17 @@ func run(c config) error {
 		fmt.Printf("\n(the held-out pairs have no ground truth: no metrics)\n")
 	}
 	return nil
+}
+
+// scheduleNote returns a warning if c resumes ck with another number of
+// steps or base rate: the run continues, but its learning-rate schedule
+// changes from the checkpoint on, so it is not the uninterrupted run.
+func scheduleNote(ck *train.Checkpoint, c config) string {
+	if ck.Steps == c.steps && ck.Schedule.Rate == c.lr {
+		return ""
+	}
+	return fmt.Sprintf("finetune: note: the checkpoint's run had -steps %d -lr %v, this one -steps %d -lr %v: the learning-rate schedule changes from step %d on, so the result differs from the uninterrupted run",
+		ck.Steps, ck.Schedule.Rate, c.steps, c.lr, ck.Step)
 }
 
 func hasTruth(ds *data.Dataset) bool {

@@ -154,3 +154,19 @@ func TestRunErrors(t *testing.T) {
 		t.Errorf("a fresh run changed the earlier checkpoint: %q", b)
 	}
 }
+
+// Resuming with another -steps or -lr is allowed but noted.
+func TestScheduleNote(t *testing.T) {
+	ck := &train.Checkpoint{Step: 40, Steps: 100, Schedule: train.Schedule{Rate: train.DefaultRate}}
+	c := config{steps: 100, lr: train.DefaultRate}
+	if n := scheduleNote(ck, c); n != "" {
+		t.Errorf("same schedule: %q", n)
+	}
+	for _, edit := range []func(*config){func(c *config) { c.steps = 200 }, func(c *config) { c.lr = 1e-4 }} {
+		d := c
+		edit(&d)
+		if n := scheduleNote(ck, d); !strings.HasPrefix(n, "finetune: note: ") || !strings.Contains(n, "from step 40") {
+			t.Errorf("config %+v: note %q", d, n)
+		}
+	}
+}
