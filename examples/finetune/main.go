@@ -69,7 +69,9 @@ func main() {
 		fmt.Fprintf(flag.CommandLine.Output(), `usage: finetune -data DIR -out W.safetensors [flags]
 
 Fine-tunes the disparity network on rectified stereo pairs from your own rig,
-self-supervised (no ground truth needed), on the CPU. Flags:
+self-supervised (no ground truth needed), on the CPU. Ctrl-C (or SIGTERM)
+writes the checkpoint and the weights so far, and so does an unreadable pair
+(the checkpoint only); continue with -resume. Flags:
 
 `)
 		flag.PrintDefaults()
