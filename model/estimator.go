@@ -51,7 +51,8 @@ type Estimate struct {
 	// Depth is the metric depth in metres, or nil if the Estimator has no
 	// rig.
 	Depth *depth.Depth
-	// Rig is the Estimator's rig scaled to the input's size, or nil.
+	// Rig is the Estimator's rig scaled to the input's size, or nil; each
+	// Estimate has its own copy.
 	Rig *depth.Rig
 }
 
@@ -236,11 +237,13 @@ func (e *Estimator) Estimate(ctx context.Context, img image.Image) (*Estimate, e
 	}
 	var rig *depth.Rig
 	if e.rig != nil {
-		rig = e.rig
-		if rig.Width != b.Dx() || rig.Height != b.Dy() {
-			if rig, err = e.rig.Scaled(b.Dx(), b.Dy()); err != nil {
-				return nil, fmt.Errorf("model: %w", err)
-			}
+		// Estimate.Rig belongs to the caller: never hand out e.rig itself,
+		// which every call reads.
+		if e.rig.Width == b.Dx() && e.rig.Height == b.Dy() {
+			r := *e.rig
+			rig = &r
+		} else if rig, err = e.rig.Scaled(b.Dx(), b.Dy()); err != nil {
+			return nil, fmt.Errorf("model: %w", err)
 		}
 	}
 	wk, err := e.acquire(ctx)

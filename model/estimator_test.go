@@ -537,3 +537,37 @@ func TestEstimateWaitsAndCancels(t *testing.T) {
 		t.Fatal(err)
 	}
 }
+
+// Estimate.Rig is the caller's copy: changing it leaves the Estimator's rig,
+// and so the next estimate, alone (with the input at the rig's size, where
+// no rescaling makes a new rig anyway).
+func TestEstimateRigIsACopy(t *testing.T) {
+	w := tinyWeights(t)
+	rig := &depth.Rig{Width: 128, Height: 64, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 64, Cy: 32, MaxDepth: 50}
+	est, err := NewEstimator(w, &EstimatorOptions{Rig: rig})
+	if err != nil {
+		t.Fatal(err)
+	}
+	img := image.NewRGBA(image.Rect(0, 0, 128, 64))
+	for k := range img.Pix {
+		img.Pix[k] = uint8(k * 7 % 251)
+	}
+	first, err := est.Estimate(context.Background(), img)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if *first.Rig != *rig {
+		t.Fatalf("rig at the rig's own size: %+v, want %+v", *first.Rig, *rig)
+	}
+	first.Rig.Baseline *= 2
+	second, err := est.Estimate(context.Background(), img)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if second.Rig.Baseline != rig.Baseline {
+		t.Errorf("changing one Estimate's rig changed the Estimator's: baseline %v, want %v", second.Rig.Baseline, rig.Baseline)
+	}
+	if err := sameEstimate(first, second); err != nil {
+		t.Errorf("second estimate: %v", err)
+	}
+}
