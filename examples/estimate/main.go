@@ -245,6 +245,18 @@ func decode(in input) (image.Image, error) {
 		return nil, fmt.Errorf("estimate: %w", err)
 	}
 	defer f.Close()
+	// Check the header's size first: a few bytes may claim 60000×60000
+	// pixels, which image.Decode would try to allocate.
+	c, _, err := image.DecodeConfig(f)
+	if err != nil {
+		return nil, fmt.Errorf("estimate: %s: %w", in.path, err)
+	}
+	if c.Width > depth.MaxSide || c.Height > depth.MaxSide || c.Width*c.Height > model.MaxInputPixels {
+		return nil, fmt.Errorf("estimate: %s: image size %dx%d is too large (sides up to %d, at most %d pixels)", in.path, c.Width, c.Height, depth.MaxSide, model.MaxInputPixels)
+	}
+	if _, err := f.Seek(0, io.SeekStart); err != nil {
+		return nil, fmt.Errorf("estimate: %w", err)
+	}
 	img, _, err := image.Decode(f)
 	if err != nil {
 		return nil, fmt.Errorf("estimate: %s: %w", in.path, err)

@@ -2,6 +2,8 @@ package main
 
 import (
 	"bytes"
+	"encoding/binary"
+	"hash/crc32"
 	"image"
 	"image/png"
 	"math"
@@ -97,5 +99,24 @@ func TestRigAspect(t *testing.T) {
 	left := filepath.Join("..", "..", "testdata", "motorcycle", "left.png")
 	if err := run(options{out: t.TempDir(), rig: rig, quiet: true}, []string{left}, &stdout, &stderr); err != nil {
 		t.Errorf("Motorcycle image with its rig: %v", err)
+	}
+}
+
+// A PNG whose header claims 60000×60000 pixels is refused from its header,
+// before image.Decode would try to allocate 14 GB.
+func TestHugeImageHeader(t *testing.T) {
+	var buf bytes.Buffer
+	png.Encode(&buf, image.NewGray(image.Rect(0, 0, 1, 1)))
+	b := buf.Bytes()
+	// IHDR: width and height at bytes 16–23, its CRC (over type and data) at 29–32.
+	binary.BigEndian.PutUint32(b[16:], 60000)
+	binary.BigEndian.PutUint32(b[20:], 60000)
+	binary.BigEndian.PutUint32(b[29:], crc32.ChecksumIEEE(b[12:29]))
+	path := filepath.Join(t.TempDir(), "huge.png")
+	os.WriteFile(path, b, 0o644)
+	var stdout, stderr bytes.Buffer
+	err := run(options{out: t.TempDir(), quiet: true}, []string{path}, &stdout, &stderr)
+	if err == nil || !strings.HasPrefix(err.Error(), "estimate: ") || !strings.Contains(err.Error(), "60000x60000 is too large") || !strings.Contains(err.Error(), path) {
+		t.Errorf("huge header: %v", err)
 	}
 }

@@ -17,6 +17,7 @@ import (
 	"image"
 	_ "image/jpeg" // register the JPEG decoder for Frames
 	"image/png"
+	"io"
 	"iter"
 	"os"
 	"path/filepath"
@@ -119,6 +120,18 @@ func decodeFile(path string) (image.Image, error) {
 		return nil, fmt.Errorf("demo: %w", err)
 	}
 	defer f.Close()
+	// Check the header's size first: a few bytes may claim 60000×60000
+	// pixels, which image.Decode would try to allocate.
+	c, _, err := image.DecodeConfig(f)
+	if err != nil {
+		return nil, fmt.Errorf("demo: %s: %w", path, err)
+	}
+	if c.Width > depth.MaxSide || c.Height > depth.MaxSide || c.Width*c.Height > depth.MaxPixels {
+		return nil, fmt.Errorf("demo: %s: image size %dx%d is too large (sides up to %d, at most %d pixels)", path, c.Width, c.Height, depth.MaxSide, depth.MaxPixels)
+	}
+	if _, err := f.Seek(0, io.SeekStart); err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
 	img, _, err := image.Decode(f)
 	if err != nil {
 		return nil, fmt.Errorf("demo: %s: %w", path, err)

@@ -2,6 +2,10 @@ package demo
 
 import (
 	"bytes"
+	"encoding/binary"
+	"hash/crc32"
+	"image"
+	"image/png"
 	"os"
 	"path/filepath"
 	"slices"
@@ -93,5 +97,29 @@ func TestImageFiles(t *testing.T) {
 	}
 	if _, err := ImageFiles(filepath.Join(dir, "missing")); err == nil || !strings.HasPrefix(err.Error(), "demo: ") {
 		t.Errorf("missing folder: %v", err)
+	}
+}
+
+// Frames refuses an image whose header claims 60000×60000 pixels before
+// decoding it.
+func TestFramesHugeHeader(t *testing.T) {
+	var buf bytes.Buffer
+	png.Encode(&buf, image.NewGray(image.Rect(0, 0, 1, 1)))
+	b := buf.Bytes()
+	// IHDR: width and height at bytes 16–23, its CRC (over type and data) at 29–32.
+	binary.BigEndian.PutUint32(b[16:], 60000)
+	binary.BigEndian.PutUint32(b[20:], 60000)
+	binary.BigEndian.PutUint32(b[29:], crc32.ChecksumIEEE(b[12:29]))
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "huge.png"), b, 0o644)
+	n := 0
+	for _, err := range Frames(dir) {
+		n++
+		if err == nil || !strings.HasPrefix(err.Error(), "demo: ") || !strings.Contains(err.Error(), "too large") {
+			t.Errorf("huge header: %v", err)
+		}
+	}
+	if n != 1 {
+		t.Errorf("%d frames, want 1 error", n)
 	}
 }
