@@ -54,7 +54,7 @@ func main() {
 	flag.IntVar(&o.batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
 	flag.Uint64Var(&o.seed, "seed", 1, "seed of the adaptation's batch order")
 	flag.StringVar(&o.pair, "pair", "", "evaluate one pair given as files LEFT,RIGHT,DISP (images and the left disparity PFM in\npixels, non-finite = unknown) instead of a dataset folder")
-	flag.StringVar(&o.rig, "rig", "", "with -pair: the rig JSON file, rescaled to the images' size (depth is scored only with a rig)")
+	flag.StringVar(&o.rig, "rig", "", "with -pair: the rig JSON file, rescaled to the images' size (their aspect ratio must match\nwithin 1%); depth is scored only with a rig")
 	flag.BoolVar(&o.csv, "csv", false, "print the tables as CSV")
 	flag.BoolVar(&o.quiet, "quiet", false, "no progress output")
 	flag.Usage = func() {
@@ -162,6 +162,10 @@ func pairFolder(dir, pair, rigPath string) (*strings.Replacer, error) {
 	cfg, _, err := image.DecodeConfig(f)
 	if err != nil {
 		return nil, fmt.Errorf("evaluate: %s: %w", files[0], err)
+	}
+	if a, r := float64(cfg.Width)/float64(cfg.Height), float64(rig.Width)/float64(rig.Height); math.Abs(a/r-1) > 0.01 {
+		return nil, fmt.Errorf("evaluate: %s is %dx%d but the rig %s is for %dx%d images, another aspect ratio (a cropped image or another camera?)",
+			files[0], cfg.Width, cfg.Height, rigPath, rig.Width, rig.Height)
 	}
 	if rig, err = rig.Scaled(cfg.Width, cfg.Height); err != nil {
 		return nil, err

@@ -71,6 +71,11 @@ func TestPairFolder(t *testing.T) {
 	if _, err := pairFolder(t.TempDir(), "a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
 		t.Errorf("two files: %v", err)
 	}
+	// The greenhouse rig (256×128) is for another aspect ratio than 370×250.
+	other := filepath.Join("..", "..", "testdata", "synth", "greenhouse", "rig.json")
+	if _, err := pairFolder(t.TempDir(), pair, other); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), "aspect ratio") || !strings.Contains(err.Error(), other) {
+		t.Errorf("rig of another aspect ratio: %v", err)
+	}
 }
 
 // TestPairErrorsNameUserFiles checks that an error about a -pair file names
