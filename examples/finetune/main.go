@@ -113,6 +113,13 @@ func run(c config) error {
 	if c.plotPath == "" {
 		c.plotPath = base + ".png"
 	}
+	// Hours of training must not end in a write to a folder that is not
+	// there: check the output folders first.
+	for _, f := range []struct{ flag, path string }{{"-out", c.out}, {"-checkpoint", c.checkpoint}, {"-log", c.logPath}, {"-plot", c.plotPath}} {
+		if st, err := os.Stat(filepath.Dir(f.path)); err != nil || !st.IsDir() {
+			return fmt.Errorf("finetune: %s %s: the folder %s does not exist", f.flag, f.path, filepath.Dir(f.path))
+		}
+	}
 	if st, err := os.Stat(c.data); err != nil || !st.IsDir() {
 		return fmt.Errorf("finetune: -data %s is not a folder", c.data)
 	}

@@ -136,6 +136,8 @@ func TestRunErrors(t *testing.T) {
 		{"batch too large", func(c *config) { c.batch = 5 }, "make no batch of 5"},
 		{"zero steps", func(c *config) { c.steps = 0 }, "must be positive"},
 		{"earlier checkpoint", func(c *config) { c.checkpoint = earlier }, "exists from an earlier run"},
+		{"no output folder", func(c *config) { c.out = filepath.Join(dir, "nowhere", "w.safetensors") }, "nowhere does not exist"},
+		{"no log folder", func(c *config) { c.logPath = filepath.Join(dir, "nowhere", "log.csv") }, "-log"},
 	}
 	for _, tc := range cases {
 		c := defaults(synthDir, out)
