@@ -49,7 +49,7 @@ func main() {
 	var o options
 	flag.StringVar(&o.weights, "weights", "", "weights file (safetensors); default: the embedded weights")
 	flag.BoolVar(&o.flip, "flip", false, "flip post-processing (see model.FlipBlend); with -adapt, half of the adaptation\nsamples are mirrored too")
-	flag.StringVar(&o.errors, "errors", "", "folder for error maps: NAME.disp-error.png (|d̂ − d|, 0 … 3 px) and\nNAME.depth-error.png (|ẑ − z|/z, 0 … 0.25), colour-mapped, bright = large")
+	flag.StringVar(&o.errors, "errors", "", "folder for error maps: NAME.disp-error.png (|d̂ − d|, 0 … 3 px) and\nNAME.depth-error.png (|ẑ − z|/z, 0 … 0.25), colour-mapped, bright = large;\nwith -adapt, the maps after adaptation go into its subfolder adapted/")
 	flag.IntVar(&o.adapt, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
 	flag.IntVar(&o.batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
 	flag.Uint64Var(&o.seed, "seed", 1, "seed of the adaptation's batch order")
