@@ -242,27 +242,48 @@ func TestRunsSameOnAnyThreadCount(t *testing.T) {
 }
 
 // poisoned wraps a Source and fills one batch with NaN pixels.
-type poisoned struct {
+// tampered serves the batches of its Source, but global batch at goes
+// through edit first (a NaN pixel, a read error).
+type tampered struct {
 	Source
-	at int // global batch index
+	at   int
+	edit func(*data.Batch, error) (*data.Batch, error)
 }
 
-type poisonedBatches struct {
+type tamperedBatches struct {
 	Batches
-	k, at int
+	k int
+	t tampered
 }
 
-func (p poisoned) Epoch(ctx context.Context, e int) Batches {
-	return &poisonedBatches{Batches: p.Source.Epoch(ctx, e), k: e * p.BatchesPerEpoch(), at: p.at}
+func (p tampered) Epoch(ctx context.Context, e int) Batches {
+	return &tamperedBatches{Batches: p.Source.Epoch(ctx, e), k: e * p.BatchesPerEpoch(), t: p}
 }
 
-func (p *poisonedBatches) Next() (*data.Batch, error) {
+func (p *tamperedBatches) Next() (*data.Batch, error) {
 	b, err := p.Batches.Next()
-	if err == nil && p.k == p.at {
-		b.Right.Pix[17] = float32(math.NaN())
+	if p.k == p.t.at {
+		b, err = p.t.edit(b, err)
 	}
 	p.k++
 	return b, err
+}
+
+// poisoned puts a NaN into the right image of global batch at.
+func poisoned(src Source, at int) Source {
+	return tampered{src, at, func(b *data.Batch, err error) (*data.Batch, error) {
+		if err == nil {
+			b.Right.Pix[17] = float32(math.NaN())
+		}
+		return b, err
+	}}
+}
+
+// failing fails at global batch at, as a corrupt file would.
+func failing(src Source, at int) Source {
+	return tampered{src, at, func(*data.Batch, error) (*data.Batch, error) {
+		return nil, errors.New("data: left/x.png: png: invalid format")
+	}}
 }
 
 // A batch with a NaN pixel is skipped and reported; the checkpoint written
@@ -276,7 +297,7 @@ func TestPoisonedBatchSkipped(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "run.ckpt")
 	var ckpts []*Checkpoint
 	var skipped []Progress
-	tr := newTestTrainer(t, freshWeights(t, 4), poisoned{src, 2}, Options{Steps: 4, Batch: 1, Seed: 2,
+	tr := newTestTrainer(t, freshWeights(t, 4), poisoned(src, 2), Options{Steps: 4, Batch: 1, Seed: 2,
 		CheckpointPath: path, CheckpointEvery: 1,
 		Progress: func(p Progress) {
 			if p.Skipped {
@@ -474,30 +495,6 @@ func TestScheduleDefaults(t *testing.T) {
 	}
 }
 
-// failing serves the batches of its Source but fails at global batch at, as
-// a corrupt file would.
-type failing struct {
-	Source
-	at int
-}
-
-type failingBatches struct {
-	Batches
-	k, at int
-}
-
-func (f failing) Epoch(ctx context.Context, e int) Batches {
-	return &failingBatches{Batches: f.Source.Epoch(ctx, e), k: e * f.BatchesPerEpoch(), at: f.at}
-}
-
-func (f *failingBatches) Next() (*data.Batch, error) {
-	if f.k == f.at {
-		return nil, errors.New("data: left/x.png: png: invalid format")
-	}
-	f.k++
-	return f.Batches.Next()
-}
-
 // A data error ends the run with an error that names the bad file and a
 // checkpoint of the completed steps, which resumes.
 func TestDataErrorWritesCheckpoint(t *testing.T) {
@@ -507,7 +504,7 @@ func TestDataErrorWritesCheckpoint(t *testing.T) {
 		t.Fatal(err)
 	}
 	path := filepath.Join(t.TempDir(), "run.ckpt")
-	tr := newTestTrainer(t, freshWeights(t, 4), failing{src, 4}, Options{Steps: 6, Batch: 1, Seed: 2, CheckpointPath: path})
+	tr := newTestTrainer(t, freshWeights(t, 4), failing(src, 4), Options{Steps: 6, Batch: 1, Seed: 2, CheckpointPath: path})
 	res, err := tr.Run(context.Background())
 	if err == nil || !strings.HasPrefix(err.Error(), "train: ") || !strings.Contains(err.Error(), "x.png") || !strings.Contains(err.Error(), path) {
 		t.Fatalf("error %v, want one naming the file and the checkpoint", err)
