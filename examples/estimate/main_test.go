@@ -49,7 +49,13 @@ func TestDemoRun(t *testing.T) {
 	for y := range h {
 		for x := range w {
 			mm := g.Gray16At(x, y).Y
-			if want := math.Round(float64(z[y*w+x]) * 1000); z[y*w+x] > 0 && float64(mm) != want {
+			// PNG16 holds 1 mm … 65.535 m; a valid depth outside that range
+			// is stored as 0 (depth.WritePNG16's documented rule).
+			want := math.Round(float64(z[y*w+x]) * 1000)
+			if want < 1 || want > 65535 {
+				want = 0
+			}
+			if z[y*w+x] > 0 && float64(mm) != want {
 				t.Fatalf("(%d, %d): PNG %d mm, PFM %v m", x, y, mm, z[y*w+x])
 			}
 			if z[y*w+x] > 0 {
