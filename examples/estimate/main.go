@@ -70,7 +70,7 @@ order). Without arguments it runs on the bundled demo image. For each image NAME
 it writes into the output folder (default %s):
 
   NAME.depth-mm.png      16-bit grey depth in millimetres, 0 = no estimate
-  NAME.depth-colour.png  depth colour-mapped (cubehelix, near is bright)
+  NAME.depth-colour.png  depth colour-mapped by inverse depth (cubehelix, near is bright)
   NAME.summary.txt       size, time, depth range and median
 
 %s
@@ -306,7 +306,10 @@ func write(o options, in input, img image.Image, e *model.Estimate, elapsed, fir
 		}
 		fmt.Fprintf(&sum, "depth range  %.3f … %.3f m over %d of %d pixels\n", zs[0], zs[len(zs)-1], len(zs), b.Dx()*b.Dy())
 		fmt.Fprintf(&sum, "median depth %.3f m\n", med)
-		colour, err := depth.ColorDepth(e.Depth, nil)
+		// Coloured linearly in disparity (inverse depth): near detail stays
+		// visible, and a few far outliers cannot wash the image out as they
+		// do on a linear depth scale.
+		colour, err := depth.ColorDisparity(e.Disparity, nil)
 		if err != nil {
 			return "", err
 		}
