@@ -42,12 +42,17 @@ var (
 // file cannot ask for an absurd allocation.
 const MaxChannels = 1024
 
-// Input sizes: width and height are multiples of SizeStep = 2^Levels in
-// [MinSide, MaxSide].
+// Input sizes: width and height are multiples of SizeStep = 2^Levels, at
+// least MinSide, and their product is at most MaxNetPixels.
 const (
 	SizeStep = 1 << Levels
 	MinSide  = 2 * SizeStep
-	MaxSide  = 8192
+	// MaxNetPixels bounds Width·Height of a Config (524,288 pixels, e.g.
+	// 1024×512; the default is 256×128). A Net's buffers grow with it, so
+	// this bound is what keeps a weights file from choosing how much memory
+	// loading and running it takes (a file that claimed 4096×2048 made one
+	// Estimate allocate 12.6 GB).
+	MaxNetPixels = 1 << 19
 )
 
 // Config describes one instance of the architecture. It travels with the
@@ -61,8 +66,8 @@ type Config struct {
 	Version int `json:"version"`
 	// Width and Height are the input size in pixels, multiples of 32 and
 	// at least 64 (the coarsest level, 1/32, must be at least 2 pixels for
-	// reflect padding). If 0 they are defaulted to DefaultWidth and
-	// DefaultHeight.
+	// reflect padding), with Width·Height at most MaxNetPixels. If 0 they
+	// are defaulted to DefaultWidth and DefaultHeight.
 	Width  int `json:"width"`
 	Height int `json:"height"`
 	// Encoder holds the output channels of the five encoder levels, from
@@ -119,11 +124,17 @@ func (c Config) Validate() error {
 	if c.Version != ArchVersion {
 		return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
 	}
-	if c.Width < MinSide || c.Width > MaxSide || c.Width%SizeStep != 0 {
-		return fmt.Errorf("model: config: width %d must be a multiple of %d in [%d, %d]", c.Width, SizeStep, MinSide, MaxSide)
+	if c.Width < MinSide || c.Width%SizeStep != 0 {
+		return fmt.Errorf("model: config: width %d must be a multiple of %d, at least %d", c.Width, SizeStep, MinSide)
 	}
-	if c.Height < MinSide || c.Height > MaxSide || c.Height%SizeStep != 0 {
-		return fmt.Errorf("model: config: height %d must be a multiple of %d in [%d, %d]", c.Height, SizeStep, MinSide, MaxSide)
+	if c.Height < MinSide || c.Height%SizeStep != 0 {
+		return fmt.Errorf("model: config: height %d must be a multiple of %d, at least %d", c.Height, SizeStep, MinSide)
+	}
+	// Both sides are at least MinSide, so neither may exceed
+	// MaxNetPixels/MinSide; checking that first keeps the product from
+	// overflowing.
+	if c.Width > MaxNetPixels/MinSide || c.Height > MaxNetPixels/MinSide || c.Width*c.Height > MaxNetPixels {
+		return fmt.Errorf("model: config: input %d×%d exceeds the maximum of %d pixels (MaxNetPixels)", c.Width, c.Height, MaxNetPixels)
 	}
 	if len(c.Encoder) != Levels {
 		return fmt.Errorf("model: config: encoder has %d widths, want %d", len(c.Encoder), Levels)

@@ -3,6 +3,7 @@ package model
 import (
 	"bytes"
 	"flag"
+	"github.com/parallaxdepth/parallax/safetensors"
 	"math"
 	"path/filepath"
 	"testing"
@@ -12,7 +13,7 @@ import (
 
 var (
 	writePlaceholder = flag.Bool("write-placeholder", false, "rewrite model/weights/default.safetensors with the untrained placeholder")
-	fp32Weights      = flag.String("fp32-weights", "", "an F32 weights file whose F16 copy is the embedded default; checked by TestDefaultF16")
+	fp32Weights      = flag.String("fp32-weights", "", "an safetensors.F32 weights file whose safetensors.F16 copy is the embedded default; checked by TestDefaultF16")
 )
 
 // placeholder returns the untrained placeholder in F32.
@@ -23,7 +24,7 @@ func placeholder(t testing.TB) *Weights {
 	}
 	w.Provenance = map[string]string{
 		ProvenanceStatus: StatusPlaceholder,
-		"made_by":        "model.NewWeights(model.Config{}, 1) stored as F16 by: go test ./model -run TestDefaultPlaceholder -write-placeholder",
+		"made_by":        "model.NewWeights(model.Config{}, 1) stored as safetensors.F16 by: go test ./model -run TestDefaultPlaceholder -write-placeholder",
 		"note":           "never trained: its depth is meaningless; replace with trained weights",
 	}
 	return w
@@ -34,7 +35,7 @@ func placeholder(t testing.TB) *Weights {
 // deterministic initialisation, so anyone can rebuild them.
 func TestDefaultPlaceholder(t *testing.T) {
 	if *writePlaceholder {
-		if err := placeholder(t).Save(filepath.Join("weights", "default.safetensors"), F16); err != nil {
+		if err := placeholder(t).Save(filepath.Join("weights", "default.safetensors"), safetensors.F16); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -50,11 +51,11 @@ func TestDefaultPlaceholder(t *testing.T) {
 		return
 	}
 	var buf bytes.Buffer
-	if err := placeholder(t).Encode(&buf, F16); err != nil {
+	if err := placeholder(t).Encode(&buf, safetensors.F16); err != nil {
 		t.Fatal(err)
 	}
 	if !bytes.Equal(buf.Bytes(), defaultWeights) {
-		t.Error("the embedded placeholder differs from NewWeights(Config{}, PlaceholderSeed) in F16: rerun with -write-placeholder")
+		t.Error("the embedded placeholder differs from NewWeights(Config{}, PlaceholderSeed) in safetensors.F16: rerun with -write-placeholder")
 	}
 	// Default returns a copy: changing it leaves the next one alone.
 	w.Params["head0.bias"][0] = 42
@@ -80,13 +81,13 @@ func TestDefaultF16(t *testing.T) {
 			t.Fatal(err)
 		}
 	} else if !def.IsPlaceholder() {
-		t.Skip("the embedded weights are trained; pass -fp32-weights FILE with their F32 original")
+		t.Skip("the embedded weights are trained; pass -fp32-weights FILE with their safetensors.F32 original")
 	}
 	for name, v := range f32.Params {
 		h := def.Params[name]
 		for i := range v {
-			if want := Float16From(Float16Bits(v[i])); h[i] != want {
-				t.Fatalf("%s[%d]: embedded %v, F16 of the F32 weights %v", name, i, h[i], want)
+			if want := safetensors.Float16From(safetensors.Float16Bits(v[i])); h[i] != want {
+				t.Fatalf("%s[%d]: embedded %v, safetensors.F16 of the safetensors.F32 weights %v", name, i, h[i], want)
 			}
 		}
 	}
@@ -108,7 +109,7 @@ func TestDefaultF16(t *testing.T) {
 		worst = max(worst, math.Abs(float64(outs[0][i]-outs[1][i])))
 		lo, hi = min(lo, float64(outs[0][i])), max(hi, float64(outs[0][i]))
 	}
-	t.Logf("disp0 in [%.4f, %.4f]; largest F16 - F32 difference %.3g", lo, hi, worst)
+	t.Logf("disp0 in [%.4f, %.4f]; largest safetensors.F16 - safetensors.F32 difference %.3g", lo, hi, worst)
 	if worst > 1e-3 {
 		t.Errorf("F16 storage moves disp0 by %g > 1e-3", worst)
 	}

@@ -5,6 +5,7 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"flag"
+	"github.com/parallaxdepth/parallax/safetensors"
 	"math"
 	"os"
 	"path/filepath"
@@ -57,7 +58,7 @@ func TestTorchInterchange(t *testing.T) {
 		t.Fatal(err)
 	}
 	if *updateInterchange {
-		if err := w.Save(filepath.Join(dir, "weights_f16.safetensors"), F16); err != nil {
+		if err := w.Save(filepath.Join(dir, "weights_f16.safetensors"), safetensors.F16); err != nil {
 			t.Fatal(err)
 		}
 		for name, data := range map[string][]byte{"default_arch.json": append(archJSON, '\n'), "input_u8.bin": u8} {
@@ -84,8 +85,8 @@ func TestTorchInterchange(t *testing.T) {
 	}
 	for name, v := range w.Params {
 		for i, x := range v {
-			if fw.Params[name][i] != Float16From(Float16Bits(x)) {
-				t.Fatalf("weights_f16.safetensors %s[%d] is not the F16 of seed %d", name, i, interchangeSeed)
+			if fw.Params[name][i] != safetensors.Float16From(safetensors.Float16Bits(x)) {
+				t.Fatalf("weights_f16.safetensors %s[%d] is not the safetensors.F16 of seed %d", name, i, interchangeSeed)
 			}
 		}
 	}

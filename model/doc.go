@@ -59,14 +59,8 @@
 //
 // # Weights files
 //
-// Weights are stored in the safetensors format: an 8-byte little-endian
-// header length N, N bytes of JSON that map each tensor name to its dtype,
-// shape and data_offsets [begin, end) within the data section, then the
-// data, little-endian and row-major. Tensors are stored as F32 or F16
-// (binary16, rounded to nearest, ties to even). The tensors must tile the
-// data section exactly: no gaps, no overlaps, nothing after the last.
-//
-// The JSON key "__metadata__" holds string fields:
+// Weights are stored as safetensors files (package safetensors), F32 or
+// F16. The JSON key "__metadata__" holds string fields:
 //
 //	format          "parallax-weights"
 //	format_version  "1" (FormatVersion; other versions are rejected)
@@ -79,19 +73,19 @@
 //	                they must agree with it
 //	provenance.KEY  free text about how the weights were made
 //
-// ReadSafetensors, WriteSafetensors, LoadSafetensors and SaveSafetensors
-// handle any safetensors file of F32 and F16 tensors, for programs that
-// store more than weights in one file (a training checkpoint adds solver
-// tensors and metadata keys): Weights.Tensors gives the weights' part and
-// WeightsFromTensors reads it back.
+// A program that stores more than weights in one file (a training
+// checkpoint adds solver tensors and metadata keys) writes Weights.Tensors
+// and its own tensors with package safetensors and reads the weights back
+// with WeightsFromTensors.
 //
-// Loading rejects, with an error naming the tensor or field, files that are
-// truncated, whose header length runs past the file, whose offsets overlap,
-// leave gaps or fall outside the data, whose dtypes are not F32 or F16,
-// whose tensors are missing, unexpected or of the wrong shape for the
-// architecture in the config, or whose format version is unknown. Save
-// writes atomically: a temporary file in the same directory, synced, then
-// renamed over the target.
+// Loading parses the file once and rejects, with an error naming the
+// tensor or field, what package safetensors refuses (truncation, hostile
+// headers, overlaps, gaps, dtypes other than F32 and F16), an unknown
+// format or architecture version, a config out of range (an input larger
+// than MaxNetPixels, checked before anything is allocated for it), and
+// tensors that are missing, unexpected or of the wrong shape for the
+// architecture in the config. Save writes atomically: a temporary file in
+// the same directory, synced, then renamed over the target.
 //
 // # Inference
 //

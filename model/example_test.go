@@ -37,14 +37,3 @@ func ExampleDMax() {
 	// Output:
 	// d_max = 0.2625 of the width (168 pixels)
 }
-
-func ExampleFloat16Bits() {
-	for _, f := range []float32{1, 65504, 1.0 / 3} {
-		h := model.Float16Bits(f)
-		fmt.Printf("%v -> %#04x -> %v\n", f, h, model.Float16From(h))
-	}
-	// Output:
-	// 1 -> 0x3c00 -> 1
-	// 65504 -> 0x7bff -> 65504
-	// 0.33333334 -> 0x3555 -> 0.33325195
-}

@@ -148,23 +148,23 @@ func BenchmarkForward256x128(b *testing.B)   { benchmarkForward(b, Config{}, 1) 
 func BenchmarkForward512x256(b *testing.B)   { benchmarkForward(b, Config{Width: 512, Height: 256}, 1) }
 func BenchmarkForward256x128N4(b *testing.B) { benchmarkForward(b, Config{}, 4) }
 
-// TestNewNetHostileSize checks that a tiny weights file claiming a huge
-// input is refused before any tensor is allocated: with 415 parameters at
-// 8192×8192 the tensors would take 5.9 GB, and a tensor of the full-size
-// decoder exceeds planar.MaxPixels (before, NewNet allocated the earlier
-// tensors, gigabytes, before it noticed).
+// TestNewNetHostileSize checks that a batch too large for planar.MaxPixels
+// values is refused before any tensor is allocated: with 415 parameters at
+// the largest input (MaxNetPixels) a batch of 1024 would take gigabytes,
+// and the input tensor alone exceeds planar.MaxPixels. (A file cannot claim
+// a larger input: Config.Validate refuses it.)
 func TestNewNetHostileSize(t *testing.T) {
 	one := []int{1, 1, 1, 1, 1}
-	w, err := NewWeights(Config{Width: 8192, Height: 8192, Encoder: one, Decoder: one}, 1)
+	w, err := NewWeights(Config{Width: 1024, Height: 512, Encoder: one, Decoder: one}, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
 	var before, after runtime.MemStats
 	runtime.ReadMemStats(&before)
-	_, err = NewNet(w, 1)
+	_, err = NewNet(w, 1024)
 	runtime.ReadMemStats(&after)
 	if err == nil || !strings.HasPrefix(err.Error(), "model: ") || !strings.Contains(err.Error(), "exceeds") {
-		t.Errorf("NewNet at 8192×8192: %v, want a size error", err)
+		t.Errorf("NewNet of 1024 at 1024×512: %v, want a size error", err)
 	}
 	if a := after.TotalAlloc - before.TotalAlloc; a > 64<<20 {
 		t.Errorf("NewNet allocated %d bytes before refusing", a)

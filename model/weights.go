@@ -1,16 +1,18 @@
 package model
 
 import (
-	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
+
+	"github.com/parallaxdepth/parallax/safetensors"
 )
 
 // FormatName and FormatVersion identify the metadata layout of a weights
@@ -125,40 +127,53 @@ func sortedKeys[V any](m map[string]V) []string {
 }
 
 // Encode writes w to out in the safetensors format, storing values as dtype
-// (F32 or F16; "" means F32). It returns an error if w does not pass Check.
-// F16 rounds each value to nearest, ties to even; magnitudes above 65504
-// become infinite and are rejected.
-func (w *Weights) Encode(out io.Writer, dtype DType) error {
-	if dtype == "" {
-		dtype = F32
-	}
-	if dtype.size() == 0 {
-		return fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
-	}
-	ts, meta, err := w.Tensors()
+// (safetensors.F32 or safetensors.F16; "" means F32). It returns an error
+// if w does not pass Check. F16 rounds each value to nearest, ties to even;
+// magnitudes above 65504 become infinite and are rejected.
+func (w *Weights) Encode(out io.Writer, dtype safetensors.DType) error {
+	ts, meta, dtype, err := w.encodable(dtype)
 	if err != nil {
 		return err
 	}
-	if dtype == F16 {
+	if err := safetensors.Write(out, ts, meta, dtype); err != nil {
+		return fmt.Errorf("model: %w", err)
+	}
+	return nil
+}
+
+// encodable returns the tensors and metadata of w and the dtype to store
+// them as, or an error if w does not pass Check or a value overflows dtype.
+func (w *Weights) encodable(dtype safetensors.DType) ([]safetensors.Tensor, map[string]string, safetensors.DType, error) {
+	if dtype == "" {
+		dtype = safetensors.F32
+	}
+	if dtype != safetensors.F32 && dtype != safetensors.F16 {
+		return nil, nil, "", fmt.Errorf("model: cannot store dtype %q; use F32 or F16", dtype)
+	}
+	ts, meta, err := w.Tensors()
+	if err != nil {
+		return nil, nil, "", err
+	}
+	if dtype == safetensors.F16 {
 		for _, t := range ts {
 			for k, v := range t.Data {
-				if math.Abs(float64(v)) > 65504 && math.IsInf(float64(Float16From(Float16Bits(v))), 0) {
-					return fmt.Errorf("model: parameter %q value %v at index %d overflows F16", t.Name, v, k)
+				if math.Abs(float64(v)) > 65504 && math.IsInf(float64(safetensors.Float16From(safetensors.Float16Bits(v))), 0) {
+					return nil, nil, "", fmt.Errorf("model: parameter %q value %v at index %d overflows F16", t.Name, v, k)
 				}
 			}
 		}
 	}
-	return WriteSafetensors(out, meta, ts, dtype)
+	return ts, meta, dtype, nil
 }
 
 // Tensors returns the parameters of w as tensors in the order of
 // Arch.Params (sharing w's slices) and the metadata that describes them
 // (format, architecture, config, provenance; see the package
-// documentation), ready for WriteSafetensors. A program that stores more
+// documentation), ready for safetensors.Write. A program that stores more
 // than the weights in one file (a training checkpoint, say) adds its own
 // tensors and metadata keys and reads the weights back with
 // WeightsFromTensors. It returns an error if w does not pass Check.
-func (w *Weights) Tensors() ([]Tensor, map[string]string, error) {
+func (w *Weights) Tensors() ([]safetensors.Tensor, map[string]string, error) {
 	a, err := w.Arch()
 	if err != nil {
 		return nil, nil, err
@@ -166,9 +181,9 @@ func (w *Weights) Tensors() ([]Tensor, map[string]string, error) {
 	if err := w.check(a); err != nil {
 		return nil, nil, err
 	}
-	ts := make([]Tensor, len(a.Params))
+	ts := make([]safetensors.Tensor, len(a.Params))
 	for i, p := range a.Params {
-		ts[i] = Tensor{Name: p.Name, Shape: p.Shape, Data: w.Params[p.Name]}
+		ts[i] = safetensors.Tensor{Name: p.Name, Shape: p.Shape, Data: w.Params[p.Name]}
 	}
 	meta, err := w.metadata(a.Config)
 	if err != nil {
@@ -201,29 +216,33 @@ func (w *Weights) metadata(c Config) (map[string]string, error) {
 	return m, nil
 }
 
-// Save writes w to the file path atomically (a temporary file in the same
-// directory, synced, then renamed over path), storing values as dtype (see
-// Encode).
-func (w *Weights) Save(path string, dtype DType) error {
-	// Encode first so that a bad w leaves no temporary file behind.
-	var buf bytes.Buffer
-	if err := w.Encode(&buf, dtype); err != nil {
+// Save writes w to the file path atomically (see safetensors.WriteFile),
+// storing values as dtype (see Encode). A w that Encode refuses leaves no
+// file behind and the old one, if any, unchanged.
+func (w *Weights) Save(path string, dtype safetensors.DType) error {
+	ts, meta, dtype, err := w.encodable(dtype)
+	if err != nil {
 		return err
 	}
-	return writeFileAtomic(path, buf.Bytes())
+	if err := safetensors.WriteFile(path, ts, meta, dtype); err != nil {
+		return fmt.Errorf("model: %w", err)
+	}
+	return nil
 }
 
 // Load reads weights saved by Save (or written by any tool that follows the
-// format described in the package documentation). It returns an error
-// naming the field or tensor if the file is truncated or malformed, the
-// format or architecture version is unknown, or the tensors do not match
-// the architecture in the file's config.
+// format described in the package documentation), parsing the file once.
+// It returns an error naming the field or tensor if the file is not a
+// valid safetensors file (see safetensors.Parse), the format or
+// architecture version is unknown, the config is out of range (an input
+// larger than MaxNetPixels among others), or the tensors do not match the
+// architecture in the file's config.
 func Load(path string) (*Weights, error) {
-	b, err := readFileLimited(path)
+	ts, meta, err := safetensors.ReadFile(path)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("model: %w", err)
 	}
-	w, err := Decode(b)
+	w, err := WeightsFromTensors(ts, meta)
 	if err != nil {
 		return nil, fmt.Errorf("%w (file %s)", err, path)
 	}
@@ -232,20 +251,22 @@ func Load(path string) (*Weights, error) {
 
 // Decode parses weights from the bytes of a weights file; see Load.
 func Decode(b []byte) (*Weights, error) {
-	meta, ts, err := ReadSafetensors(b)
+	ts, meta, err := safetensors.Parse(b)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("model: %w", err)
 	}
-	return WeightsFromTensors(meta, ts)
+	return WeightsFromTensors(ts, meta)
 }
 
-// WeightsFromTensors builds weights from the metadata and tensors of a
-// weights file (see Tensors). It keeps the tensors' Data slices. It returns
+// WeightsFromTensors builds weights from the tensors and metadata of a
+// weights file (see Tensors). It keeps the tensors' Data slices. The config
+// is read and validated before anything else, so a file that claims an
+// input larger than MaxNetPixels is refused before any allocation. It returns
 // an error naming the field or tensor if the metadata is missing, of an
 // unknown format version or inconsistent, or if a tensor is missing,
 // unexpected, of the wrong shape or holds NaN or Inf. Extra metadata keys
 // are ignored.
-func WeightsFromTensors(meta map[string]string, ts []Tensor) (*Weights, error) {
+func WeightsFromTensors(ts []safetensors.Tensor, meta map[string]string) (*Weights, error) {
 	c, err := configFromMetadata(meta)
 	if err != nil {
 		return nil, err
@@ -265,7 +286,7 @@ func WeightsFromTensors(meta map[string]string, ts []Tensor) (*Weights, error) {
 		if !ok {
 			return nil, fmt.Errorf("model: unexpected tensor %q: the architecture has no such parameter", t.Name)
 		}
-		if !equalInts(p.Shape, t.Shape) {
+		if !slices.Equal(p.Shape, t.Shape) {
 			return nil, fmt.Errorf("model: tensor %q has shape %v, the architecture wants %v", t.Name, t.Shape, p.Shape)
 		}
 		if _, dup := w.Params[t.Name]; dup {
@@ -284,18 +305,6 @@ func WeightsFromTensors(meta map[string]string, ts []Tensor) (*Weights, error) {
 	return w, nil
 }
 
-func equalInts(a, b []int) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
-}
-
 func configFromMetadata(meta map[string]string) (Config, error) {
 	get := func(k string) (string, error) {
 		v, ok := meta[k]
@@ -306,7 +315,7 @@ func configFromMetadata(meta map[string]string) (Config, error) {
 	}
 	var c Config
 	if meta == nil {
-		return c, fmt.Errorf("model: the file has no %s: not a weights file of this package", metadataKey)
+		return c, fmt.Errorf("model: the file has no %s: not a weights file of this package", safetensors.MetadataKey)
 	}
 	f, err := get(metaFormat)
 	if err != nil {

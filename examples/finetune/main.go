@@ -33,6 +33,7 @@ import (
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
 	"github.com/parallaxdepth/parallax/model/train"
+	"github.com/parallaxdepth/parallax/safetensors"
 )
 
 type config struct {
@@ -150,12 +151,7 @@ func run(c config) error {
 			fmt.Fprintln(os.Stderr, note)
 		}
 	case c.from != "":
-		if w, err = model.Load(c.from); err != nil {
-			if cw, cerr := train.LoadCheckpoint(c.from); cerr == nil {
-				w, err = cw.Weights, nil
-			}
-		}
-		if err != nil {
+		if w, _, err = train.LoadWeights(c.from); err != nil {
 			return fmt.Errorf("finetune: -from: %w", err)
 		}
 		origin = "weights " + c.from
@@ -268,9 +264,9 @@ func run(c config) error {
 	out.Provenance["train.lr"] = fmt.Sprint(c.lr)
 	out.Provenance["train.command"] = "finetune " + strings.Join(os.Args[1:], " ")
 	delete(out.Provenance, model.ProvenanceStatus)
-	dtype := model.F32
+	dtype := safetensors.F32
 	if c.f16 {
-		dtype = model.F16
+		dtype = safetensors.F16
 	}
 	if res.Interrupted {
 		// The weights so far are written too, so an interrupted run leaves

@@ -3,12 +3,14 @@ package train
 import (
 	"encoding/json"
 	"fmt"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
 
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/safetensors"
 )
 
 // CheckpointFormat and CheckpointVersion identify a checkpoint file (the
@@ -31,7 +33,7 @@ const (
 // seed, the epoch and the position in the epoch, so the seed and the
 // number of batches consumed are the whole random state.
 //
-// A checkpoint file is a safetensors file (written with model's encoder):
+// A checkpoint file is a safetensors file (package safetensors):
 // the weights' tensors and metadata as in a weights file (see package
 // model), plus F32 tensors adam.m.NAME and adam.v.NAME (Adam's moments
 // for parameter NAME, in its shape) and these metadata fields, all
@@ -51,7 +53,8 @@ const (
 //
 // Weights are always stored as F32 so that a resumed run is bit for bit the
 // uninterrupted one. model.Load refuses a checkpoint (it has tensors that
-// are not parameters); use LoadCheckpoint and its Weights.
+// are not parameters); use LoadCheckpoint and its Weights, or LoadWeights,
+// which reads either kind of file.
 type Checkpoint struct {
 	// Weights are the network's parameters and configuration.
 	Weights *model.Weights
@@ -88,7 +91,7 @@ const (
 )
 
 // SaveCheckpoint writes c to path atomically (a temporary file in the same
-// directory, synced, then renamed over path; see model.SaveSafetensors).
+// directory, synced, then renamed over path; see safetensors.WriteFile).
 // It returns an error if the weights are invalid or a moment does not
 // match its parameter.
 func SaveCheckpoint(path string, c *Checkpoint) error {
@@ -141,10 +144,10 @@ func SaveCheckpoint(path string, c *Checkpoint) error {
 		if len(m) != len(c.Weights.Params[name]) || len(v) != len(m) {
 			return fmt.Errorf("train: checkpoint: moments of %q do not match the parameter", name)
 		}
-		ts = append(ts, model.Tensor{Name: momentPrefix1 + name, Shape: shape, Data: m},
-			model.Tensor{Name: momentPrefix2 + name, Shape: shape, Data: v})
+		ts = append(ts, safetensors.Tensor{Name: momentPrefix1 + name, Shape: shape, Data: m},
+			safetensors.Tensor{Name: momentPrefix2 + name, Shape: shape, Data: v})
 	}
-	if err := model.SaveSafetensors(path, meta, ts, model.F32); err != nil {
+	if err := safetensors.WriteFile(path, ts, meta, safetensors.F32); err != nil {
 		return fmt.Errorf("train: checkpoint: %w", err)
 	}
 	return nil
@@ -156,18 +159,42 @@ func SaveCheckpoint(path string, c *Checkpoint) error {
 // weights that do not fit their architecture, or holds moments that are
 // missing, of the wrong shape, or invalid.
 func LoadCheckpoint(path string) (*Checkpoint, error) {
-	meta, ts, err := model.LoadSafetensors(path)
+	ts, meta, err := safetensors.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("train: checkpoint: %w", err)
 	}
-	c, err := checkpointFrom(meta, ts)
+	c, err := checkpointFrom(ts, meta)
 	if err != nil {
 		return nil, fmt.Errorf("train: checkpoint %s: %w", path, err)
 	}
 	return c, nil
 }
 
-func checkpointFrom(meta map[string]string, ts []model.Tensor) (*Checkpoint, error) {
+// LoadWeights reads the weights of a weights file (see model.Load) or of a
+// checkpoint (see LoadCheckpoint), whichever path holds, parsing the file
+// once. The second result reports whether the file was a checkpoint. Its
+// errors are those of model.Load or of LoadCheckpoint, by the kind of file
+// its metadata names.
+func LoadWeights(path string) (*model.Weights, bool, error) {
+	ts, meta, err := safetensors.ReadFile(path)
+	if err != nil {
+		return nil, false, fmt.Errorf("train: %w", err)
+	}
+	if _, ok := meta[metaCkFormat]; ok {
+		c, err := checkpointFrom(ts, meta)
+		if err != nil {
+			return nil, true, fmt.Errorf("train: checkpoint %s: %w", path, err)
+		}
+		return c.Weights, true, nil
+	}
+	w, err := model.WeightsFromTensors(ts, meta)
+	if err != nil {
+		return nil, false, fmt.Errorf("train: %w (file %s)", err, path)
+	}
+	return w, false, nil
+}
+
+func checkpointFrom(ts []safetensors.Tensor, meta map[string]string) (*Checkpoint, error) {
 	if meta[metaCkFormat] != CheckpointFormat {
 		return nil, fmt.Errorf("metadata field %q is %q, want %q: not a training checkpoint", metaCkFormat, meta[metaCkFormat], CheckpointFormat)
 	}
@@ -216,9 +243,9 @@ func checkpointFrom(meta map[string]string, ts []model.Tensor) (*Checkpoint, err
 		return nil, err
 	}
 
-	var params []model.Tensor
+	var params []safetensors.Tensor
 	c.Solver.M, c.Solver.V = map[string][]float32{}, map[string][]float32{}
-	moments := map[string]model.Tensor{}
+	moments := map[string]safetensors.Tensor{}
 	for _, t := range ts {
 		if strings.HasPrefix(t.Name, momentPrefix1) || strings.HasPrefix(t.Name, momentPrefix2) {
 			moments[t.Name] = t
@@ -226,7 +253,7 @@ func checkpointFrom(meta map[string]string, ts []model.Tensor) (*Checkpoint, err
 		}
 		params = append(params, t)
 	}
-	w, err := model.WeightsFromTensors(meta, params)
+	w, err := model.WeightsFromTensors(params, meta)
 	if err != nil {
 		return nil, err
 	}
@@ -242,7 +269,7 @@ func checkpointFrom(meta map[string]string, ts []model.Tensor) (*Checkpoint, err
 		if !ok {
 			return nil, fmt.Errorf("tensor %q is a moment of %q, which is not a parameter", name, param)
 		}
-		if fmt.Sprint(shape) != fmt.Sprint(t.Shape) {
+		if !slices.Equal(shape, t.Shape) {
 			return nil, fmt.Errorf("tensor %q has shape %v, its parameter %v", name, t.Shape, shape)
 		}
 		if strings.HasPrefix(name, momentPrefix1) {

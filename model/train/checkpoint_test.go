@@ -4,10 +4,12 @@ import (
 	"bytes"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/safetensors"
 )
 
 // testCheckpoint returns a valid checkpoint of trainerConfig with moments.
@@ -66,7 +68,7 @@ func equal32(a, b []float32) bool {
 	return true
 }
 
-func firstMoment(ts []model.Tensor) int {
+func firstMoment(ts []safetensors.Tensor) int {
 	for i, x := range ts {
 		if strings.HasPrefix(x.Name, "adam.m.") {
 			return i
@@ -88,25 +90,25 @@ func TestCheckpointRejectsBadFiles(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	meta, ts, err := model.ReadSafetensors(raw)
+	ts, meta, err := safetensors.Parse(raw)
 	if err != nil {
 		t.Fatal(err)
 	}
 	// rewrite returns a file with changed metadata or tensors.
-	rewrite := func(edit func(meta map[string]string, ts []model.Tensor) []model.Tensor) []byte {
+	rewrite := func(edit func(meta map[string]string, ts []safetensors.Tensor) []safetensors.Tensor) []byte {
 		m := map[string]string{}
 		for k, v := range meta {
 			m[k] = v
 		}
-		cp := append([]model.Tensor(nil), ts...)
+		cp := append([]safetensors.Tensor(nil), ts...)
 		var buf bytes.Buffer
-		if err := model.WriteSafetensors(&buf, m, edit(m, cp), model.F32); err != nil {
+		if err := safetensors.Write(&buf, edit(m, cp), m, safetensors.F32); err != nil {
 			t.Fatal(err)
 		}
 		return buf.Bytes()
 	}
 	plain := filepath.Join(dir, "weights")
-	if err := c.Weights.Save(plain, model.F32); err != nil {
+	if err := c.Weights.Save(plain, safetensors.F32); err != nil {
 		t.Fatal(err)
 	}
 	plainBytes, _ := os.ReadFile(plain)
@@ -120,31 +122,31 @@ func TestCheckpointRejectsBadFiles(t *testing.T) {
 		{"header only", raw[:8], "train: checkpoint"},
 		{"empty", nil, "train: checkpoint"},
 		{"weights file", plainBytes, "not a training checkpoint"},
-		{"future version", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"future version", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			m["checkpoint.version"] = "2"
 			return ts
 		}), `unsupported checkpoint.version "2"`},
-		{"missing step", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"missing step", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			delete(m, "checkpoint.step")
 			return ts
 		}), `"checkpoint.step" is missing`},
-		{"counts disagree", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"counts disagree", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			m["checkpoint.skips"] = "0"
 			return ts
 		}), "do not add up"},
-		{"missing moment", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"missing moment", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			i := firstMoment(ts)
 			return append(ts[:i], ts[i+1:]...)
 		}), "moments of"},
-		{"moment shape", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"moment shape", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			i := firstMoment(ts)
-			ts[i] = model.Tensor{Name: ts[i].Name, Shape: []int{1, len(ts[i].Data)}, Data: ts[i].Data}
+			ts[i] = safetensors.Tensor{Name: ts[i].Name, Shape: []int{1, len(ts[i].Data)}, Data: ts[i].Data}
 			return ts
 		}), "has shape"},
-		{"stray moment", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
-			return append(ts, model.Tensor{Name: "adam.m.nothing", Shape: []int{1}, Data: []float32{0}})
+		{"stray moment", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
+			return append(ts, safetensors.Tensor{Name: "adam.m.nothing", Shape: []int{1}, Data: []float32{0}})
 		}), `"nothing", which is not a parameter`},
-		{"negative second moment", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"negative second moment", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			for i, x := range ts {
 				if strings.HasPrefix(x.Name, "adam.v.") {
 					d := append([]float32(nil), x.Data...)
@@ -155,10 +157,10 @@ func TestCheckpointRejectsBadFiles(t *testing.T) {
 			}
 			return ts
 		}), "invalid value"},
-		{"missing weight", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"missing weight", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			return ts[1:]
 		}), "missing"},
-		{"bad schedule", rewrite(func(m map[string]string, ts []model.Tensor) []model.Tensor {
+		{"bad schedule", rewrite(func(m map[string]string, ts []safetensors.Tensor) []safetensors.Tensor {
 			m["checkpoint.schedule"] = `{"Rate": -1}`
 			return ts
 		}), "learning rate"},
@@ -179,6 +181,29 @@ func TestCheckpointRejectsBadFiles(t *testing.T) {
 	}
 	if _, err := LoadCheckpoint(filepath.Join(dir, "absent")); err == nil || !strings.HasPrefix(err.Error(), "train: ") {
 		t.Errorf("missing file: %v", err)
+	}
+
+	// LoadWeights reads the weights of either kind of file and refuses a
+	// damaged checkpoint with LoadCheckpoint's error.
+	for _, tc := range []struct {
+		path string
+		ck   bool
+	}{{good, true}, {plain, false}} {
+		w, ck, err := LoadWeights(tc.path)
+		if err != nil || ck != tc.ck {
+			t.Fatalf("LoadWeights(%s) = checkpoint %v, %v", tc.path, ck, err)
+		}
+		for name, v := range c.Weights.Params {
+			if !slices.Equal(w.Params[name], v) {
+				t.Fatalf("LoadWeights(%s): %s differs", tc.path, name)
+			}
+		}
+	}
+	if _, ck, err := LoadWeights(filepath.Join(dir, "missing_moment")); !ck || err == nil || !strings.Contains(err.Error(), "moments of") {
+		t.Errorf("LoadWeights of a damaged checkpoint: %v, %v", ck, err)
+	}
+	if _, _, err := LoadWeights(filepath.Join(dir, "empty")); err == nil || !strings.HasPrefix(err.Error(), "train: safetensors: ") {
+		t.Errorf("LoadWeights of an empty file: %v", err)
 	}
 }
 

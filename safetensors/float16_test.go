@@ -1,4 +1,4 @@
-package model
+package safetensors
 
 import (
 	"encoding/binary"
