@@ -23,18 +23,18 @@ func ScalePixels(px float64, fromWidth, toWidth int) float64 {
 }
 
 // DepthFromPixels returns the depth in metres of a disparity of px pixels at
-// the rig's width: Z = Focal·Baseline / (px + Doffs). ok is false, and z is
+// the rig's width: Z = Fx·Baseline / (px + DeltaCx). ok is false, and z is
 // 0, if px is not positive and finite or the depth is not positive and
 // finite.
 func (r *Rig) DepthFromPixels(px float64) (z float64, ok bool) {
 	if !(px > 0) || math.IsInf(px, 0) {
 		return 0, false
 	}
-	den := px + r.Doffs
+	den := px + r.DeltaCx
 	if !(den > 0) {
 		return 0, false
 	}
-	z = r.Focal * r.Baseline / den
+	z = r.Fx * r.Baseline / den
 	if !(z > 0) || math.IsInf(z, 0) {
 		return 0, false
 	}
@@ -42,14 +42,14 @@ func (r *Rig) DepthFromPixels(px float64) (z float64, ok bool) {
 }
 
 // PixelsFromDepth returns the disparity in pixels at the rig's width of a
-// point z metres away: d = Focal·Baseline/z − Doffs. ok is false, and px is
+// point z metres away: d = Fx·Baseline/z − DeltaCx. ok is false, and px is
 // 0, if z is not positive and finite or the disparity is not positive (the
-// point lies beyond the rig's range when Doffs > 0).
+// point lies beyond the rig's range when DeltaCx > 0).
 func (r *Rig) PixelsFromDepth(z float64) (px float64, ok bool) {
 	if !(z > 0) || math.IsInf(z, 0) {
 		return 0, false
 	}
-	px = r.Focal*r.Baseline/z - r.Doffs
+	px = r.Fx*r.Baseline/z - r.DeltaCx
 	if !(px > 0) || math.IsInf(px, 0) {
 		return 0, false
 	}
@@ -226,8 +226,10 @@ func (r *Rig) FractionFromDepth(z float64) (frac float64, ok bool) {
 
 // DepthMapFromFraction converts image n of a batch of single-channel
 // disparities expressed as fractions of the width (the network's output)
-// into metric depth. The batch may have any resolution: the rig is rescaled
-// to W × H with Scaled first, so r describes the cameras at their own size.
+// into metric depth. The batch may have any resolution: it is taken to be
+// the rig's images resized to W × H, whatever the aspect ratio (the
+// network's input is resized that way), and the rig is rescaled with
+// Stretched first, so r describes the cameras at their own size.
 // Pixels whose disparity is not positive and finite, or whose depth is not,
 // are invalid.
 func (r *Rig) DepthMapFromFraction(im *planar.Image, n int) (*Depth, error) {
@@ -240,7 +242,7 @@ func (r *Rig) DepthMapFromFraction(im *planar.Image, n int) (*Depth, error) {
 	}
 	s := r
 	if im.W != r.Width || im.H != r.Height {
-		if s, err = r.Scaled(im.W, im.H); err != nil {
+		if s, err = r.Stretched(im.W, im.H); err != nil {
 			return nil, err
 		}
 	}

@@ -10,11 +10,11 @@ import (
 	"github.com/parallaxdepth/parallax/planar"
 )
 
-// TestMiddleburyWorkedExample checks Z = f·B/(d + doffs) on the Middlebury
+// TestMiddleburyWorkedExample checks Z = f·B/(d + Δcx) on the Middlebury
 // 2014 Motorcycle calibration (see motorcycleRig for the source):
 // d = 48.9999 px gives Z ≈ 2397.82 mm, computed by hand:
 // 994.978 × 193.001 / (48.9999 + 31.086) = 2397.82 mm. (That Middlebury 2014
-// adds doffs to the disparity is from memory of its calibration notes; the
+// adds its principal-point difference to the disparity is from memory of its calibration notes; the
 // numpy fixture below checks the same formula on the whole map.)
 func TestMiddleburyWorkedExample(t *testing.T) {
 	rig := motorcycleRig()
@@ -78,7 +78,7 @@ func loadMotorcycleFixture(t *testing.T) *motorcycleFixture {
 // TestMotorcycleReduced converts the reduced ground truth of
 // testdata/motorcycle (numpy-written PFM, 370 × 250, made from the 741 × 500
 // map cropped to 740 columns and halved; see its PROVENANCE.md) with the rig
-// rescaled by Scaled. Halving divides both disparity and doffs by 2, so the
+// rescaled by Scaled. Halving divides both disparity and Δcx by 2, so the
 // depths must stay within the full-resolution range computed by numpy, and
 // their mean close to numpy's full-resolution mean. A rig that was not
 // rescaled (or one that scaled only the focal length) fails both.
@@ -142,7 +142,7 @@ func TestMotorcycleReduced(t *testing.T) {
 		}
 	}
 	// Block means drop the pixels next to unknown ones, so the means differ
-	// a little; 2% still separates this from a rig whose doffs was not
+	// a little; 2% still separates this from a rig whose Δcx was not
 	// rescaled, checked below.
 	mean := sum / float64(n)
 	if math.Abs(mean-fx.Mean) > 0.02*fx.Mean {
@@ -150,7 +150,7 @@ func TestMotorcycleReduced(t *testing.T) {
 	}
 	t.Logf("mean depth %v m at 370 x 250, numpy's full-resolution mean %v m", mean, fx.Mean)
 	wrong := *rig
-	wrong.Doffs = crop.Doffs
+	wrong.DeltaCx = crop.DeltaCx
 	zw, err := wrong.DisparityToDepth(disp)
 	if err != nil {
 		t.Fatal(err)
@@ -163,9 +163,9 @@ func TestMotorcycleReduced(t *testing.T) {
 		}
 	}
 	if mean := sum / float64(n); math.Abs(mean-fx.Mean) <= 0.02*fx.Mean {
-		t.Errorf("a rig with unscaled doffs also gives a mean of %v m: the check cannot tell them apart", mean)
+		t.Errorf("a rig with unscaled Δcx also gives a mean of %v m: the check cannot tell them apart", mean)
 	} else {
-		t.Logf("mean depth with unscaled doffs: %v m (numpy full resolution %v m)", mean, fx.Mean)
+		t.Logf("mean depth with unscaled Δcx: %v m (numpy full resolution %v m)", mean, fx.Mean)
 	}
 }
 
@@ -177,16 +177,16 @@ func TestDepthFromPixelsInvalid(t *testing.T) {
 		}
 	}
 	neg := motorcycleRig()
-	neg.Doffs = -10
+	neg.DeltaCx = -10
 	if z, ok := neg.DepthFromPixels(5); ok {
-		t.Errorf("d + doffs < 0: got %v, ok", z)
+		t.Errorf("d + Δcx < 0: got %v, ok", z)
 	}
 	if z, ok := neg.DepthFromPixels(10); ok {
-		t.Errorf("d + doffs = 0: got %v, ok", z)
+		t.Errorf("d + Δcx = 0: got %v, ok", z)
 	}
-	// Beyond the rig's range: f·B/z < doffs gives a negative disparity.
+	// Beyond the rig's range: f·B/z < Δcx gives a negative disparity.
 	if d, ok := rig.PixelsFromDepth(100); ok {
-		t.Errorf("PixelsFromDepth(100 m) = %v, ok; want invalid (f·B/Z = 1.92 px < doffs)", d)
+		t.Errorf("PixelsFromDepth(100 m) = %v, ok; want invalid (f·B/Z = 1.92 px < Δcx)", d)
 	}
 	for _, z := range []float64{0, -2, math.NaN(), math.Inf(1)} {
 		if d, ok := rig.PixelsFromDepth(z); ok || d != 0 {
@@ -196,7 +196,7 @@ func TestDepthFromPixelsInvalid(t *testing.T) {
 }
 
 func TestDisparityToDepthMap(t *testing.T) {
-	rig := &Rig{Width: 8, Height: 4, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 3.5, Cy: 1.5, MaxDepth: 100}
+	rig := &Rig{Width: 8, Height: 4, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 3.5, Cy: 1.5, MaxDepth: 100}
 	d, err := NewDisparity(image.Rect(2, 1, 6, 3)) // a sub-window of the rig's image
 	if err != nil {
 		t.Fatal(err)
@@ -235,7 +235,7 @@ func TestDisparityToDepthMap(t *testing.T) {
 		}
 	}
 	// A depth below float32's range rounds to 0: invalid, not a valid 0.
-	tiny := &Rig{Width: 8, Height: 4, Focal: 1e-30, Baseline: 1e-30, Fx: 1e-30, Fy: 1, Cx: 3.5, Cy: 1.5, MaxDepth: 1}
+	tiny := &Rig{Width: 8, Height: 4, Baseline: 1e-30, Fx: 1e-30, Fy: 1, Cx: 3.5, Cy: 1.5, MaxDepth: 1}
 	zt, err := tiny.DisparityToDepth(d)
 	if err != nil {
 		t.Fatal(err)

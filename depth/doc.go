@@ -16,10 +16,16 @@
 //     refers to. The network and packages warp and loss express disparity as
 //     a fraction f of the image width W, which is resolution-free: f·W pixels
 //     at any width W (FractionToPixels, PixelsToFraction).
-//   - Depth from disparity: Z = Focal·Baseline / (d_px + Doffs), with Focal
-//     and Doffs in pixels at the same image width as d_px (Rig.Scaled
-//     rescales a rig). Doffs is the principal-point x offset between the two
-//     views, zero for a rig rectified to a shared principal point.
+//   - Depth from disparity: Z = Fx·Baseline / (d_px + Δcx), with Fx and the
+//     principal-point difference Δcx = cx_right − cx_left (Rig.DeltaCx) in
+//     pixels at the same image width as d_px; Δcx is zero for a rig
+//     rectified to a shared principal point.
+//   - Image size. A rig describes images of one size; Rig.Scaled rescales
+//     it to another size of the same aspect ratio (within MaxAspectChange,
+//     1 %) and refuses any other, since a cropped image or another camera
+//     would get wrong depth silently; Rig.Stretched rescales to any size,
+//     for images that were stretched from the rig's. Every caller in this
+//     module (model.Estimator, the commands) goes through this rule.
 //   - Validity. A disparity that is not positive, NaN or ±Inf, or whose
 //     depth would be non-positive or non-finite, becomes an invalid pixel:
 //     conversions never produce a silent ±Inf. Maps carry a validity mask
@@ -43,8 +49,9 @@
 //
 // What is where:
 //
-//   - rig.go: Rig, its JSON file (ReadRig, LoadRig, Write, SaveRig),
-//     Validate, Scaled for resized images and Cropped for cropped ones.
+//   - rig.go: Rig, its JSON file (ReadRig, LoadRig, Write, SaveRig; schema
+//     version 2), Validate, CheckAspect, Scaled and Stretched for resized
+//     images and Cropped for cropped ones.
 //   - convert.go: fraction ↔ pixels ↔ metres, for single values and maps
 //     (DepthFromPixels, DisparityToDepth, DepthMapFromFraction, …).
 //   - maps.go: Map, Disparity, Depth, Confidence; DisparityFromImage and

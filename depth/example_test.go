@@ -15,16 +15,15 @@ import (
 // scikit-image 0.19.3 (skimage.data.stereo_motorcycle docstring).
 const motorcycleJSON = `{
   "format": "parallax-rig",
-  "version": 1,
+  "version": 2,
   "width_px": 741,
   "height_px": 500,
-  "focal_px": 994.978,
-  "baseline_m": 0.193001,
-  "doffs_px": 31.086,
   "fx_px": 994.978,
   "fy_px": 994.978,
   "cx_px": 311.193,
   "cy_px": 254.877,
+  "baseline_m": 0.193001,
+  "delta_cx_px": 31.086,
   "min_depth_m": 0.5,
   "max_depth_m": 10
 }`
@@ -34,13 +33,13 @@ func ExampleReadRig() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	fmt.Printf("%dx%d, f = %.3f px, B = %.1f mm\n", rig.Width, rig.Height, rig.Focal, rig.Baseline*1000)
+	fmt.Printf("%dx%d, f = %.3f px, B = %.1f mm\n", rig.Width, rig.Height, rig.Fx, rig.Baseline*1000)
 
 	_, err = depth.ReadRig(strings.NewReader(strings.Replace(motorcycleJSON, "0.193001", "0", 1)))
 	fmt.Println(err)
 	// Output:
 	// 741x500, f = 994.978 px, B = 193.0 mm
-	// depth: rig baseline is 0: it must be positive and finite
+	// depth: rig baseline_m is 0: it must be positive and finite
 }
 
 func ExampleRig_DepthFromPixels() {
@@ -66,10 +65,10 @@ func ExampleRig_Scaled() {
 	const frac = 0.0661
 	zSmall, _ := small.DepthFromPixels(depth.FractionToPixels(frac, small.Width))
 	zFull, _ := rig.DepthFromPixels(depth.FractionToPixels(frac, rig.Width))
-	fmt.Printf("f = %.2f px, doffs = %.3f px\n", small.Focal, small.Doffs)
+	fmt.Printf("fx = %.2f px, Δcx = %.3f px\n", small.Fx, small.DeltaCx)
 	fmt.Printf("%.4f m at 370 px, %.4f m at 741 px\n", zSmall, zFull)
 	// Output:
-	// f = 496.82 px, doffs = 15.522 px
+	// fx = 496.82 px, Δcx = 15.522 px
 	// 2.3984 m at 370 px, 2.3984 m at 741 px
 }
 
@@ -146,7 +145,7 @@ func ExampleWritePNG16() {
 }
 
 func ExamplePointCloud_WritePLY() {
-	rig := &depth.Rig{Width: 2, Height: 1, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 0.5, Cy: 0, MaxDepth: 10}
+	rig := &depth.Rig{Width: 2, Height: 1, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 0.5, Cy: 0, MaxDepth: 10}
 	z, _ := depth.NewDepth(image.Rect(0, 0, 2, 1))
 	z.Set(0, 0, 2)
 	z.Set(1, 0, 4)

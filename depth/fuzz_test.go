@@ -22,6 +22,7 @@ func FuzzReadRig(f *testing.F) {
 	motorcycleRig().Write(&buf)
 	f.Add(buf.Bytes())
 	f.Add([]byte(`{"format":"parallax-rig","version":1}`))
+	f.Add([]byte(`{"version":2,"version":2,"a":{"b":[{"c":1,"c":2}]}}`))
 	f.Add([]byte(`{"width_px":1e400}`))
 	f.Add([]byte("[[[[[[[[[[[[[[[[[[[["))
 	f.Fuzz(func(t *testing.T, data []byte) {

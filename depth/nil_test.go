@@ -36,7 +36,7 @@ func TestNilInputs(t *testing.T) {
 			}
 		}()
 	}
-	rig := &Rig{Width: 4, Height: 2, Focal: 100, Fx: 100, Fy: 100, Cx: 1.5, Cy: 0.5, Baseline: 0.1, MaxDepth: 10}
+	rig := &Rig{Width: 4, Height: 2, Fx: 100, Fy: 100, Cx: 1.5, Cy: 0.5, Baseline: 0.1, MaxDepth: 10}
 	rig.MaskRange(nil)
 	c, err := NewConfidence(image.Rect(0, 0, 2, 2))
 	if err != nil {

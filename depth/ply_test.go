@@ -12,7 +12,7 @@ import (
 
 // plyRig is a small rig: f = 100 px, principal point (1.5, 1), so pixel
 // (x, y) at depth Z back-projects to ((x−1.5)Z/100, (y−1)Z/80, Z).
-var plyRig = &Rig{Width: 4, Height: 3, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 80, Cx: 1.5, Cy: 1, MaxDepth: 50}
+var plyRig = &Rig{Width: 4, Height: 3, Baseline: 0.1, Fx: 100, Fy: 80, Cx: 1.5, Cy: 1, MaxDepth: 50}
 
 func plyScene() (*Depth, *image.NRGBA) {
 	z, err := NewDepth(image.Rect(0, 0, 4, 3))

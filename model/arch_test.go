@@ -176,19 +176,19 @@ func TestTinyArchGolden(t *testing.T) {
 
 func TestDMaxFromRig(t *testing.T) {
 	// Middlebury 2014 Motorcycle calibration (as in depth.ReadRig's doc):
-	// f = 994.978 px, B = 0.193001 m, doffs = 31.086 px, W = 741; with
-	// Z_min = 0.5 m the disparity is f·B/Z − doffs = 352.97 px.
-	r := &depth.Rig{Width: 741, Height: 500, Focal: 994.978, Baseline: 0.193001, Doffs: 31.086,
+	// f = 994.978 px, B = 0.193001 m, Δcx = 31.086 px, W = 741; with
+	// Z_min = 0.5 m the disparity is f·B/Z − Δcx = 352.97 px.
+	r := &depth.Rig{Width: 741, Height: 500, Baseline: 0.193001, DeltaCx: 31.086,
 		Fx: 994.978, Fy: 994.978, Cx: 311.193, Cy: 254.877, MinDepth: 0.5, MaxDepth: 10}
 	d, err := DMaxFromRig(r)
 	want := (994.978*0.193001/0.5 - 31.086) / 741
 	if err != nil || math.Abs(d-want) > 1e-12 || math.Abs(d-0.47634) > 1e-4 {
 		t.Fatalf("DMaxFromRig = %v, %v; want %v", d, err, want)
 	}
-	r.Doffs = 0
+	r.DeltaCx = 0
 	d0, _ := DMaxFromRig(r)
-	if dm, _ := DMax(r.Focal, r.Baseline, r.MinDepth, r.Width); d0 != dm {
-		t.Errorf("DMaxFromRig with doffs 0 = %v, DMax = %v", d0, dm)
+	if dm, _ := DMax(r.Fx, r.Baseline, r.MinDepth, r.Width); d0 != dm {
+		t.Errorf("DMaxFromRig with Δcx 0 = %v, DMax = %v", d0, dm)
 	}
 	r.MinDepth = 0
 	if _, err := DMaxFromRig(r); err == nil || !strings.HasPrefix(err.Error(), "model: ") {

@@ -187,8 +187,8 @@ func DMax(focal, baseline, minDepth float64, width int) (float64, error) {
 }
 
 // DMaxFromRig returns the largest disparity, as a fraction of the rig's
-// image width, of a point at the rig's MinDepth: (Focal·Baseline/MinDepth −
-// Doffs) / Width, which is DMax for a rig with Doffs = 0. It returns an
+// image width, of a point at the rig's MinDepth: (Fx·Baseline/MinDepth −
+// DeltaCx) / Width, which is DMax for a rig with DeltaCx = 0. It returns an
 // error if the rig is invalid, MinDepth is 0, or the result is not in (0, 1].
 func DMaxFromRig(r *depth.Rig) (float64, error) {
 	if r == nil {

@@ -55,7 +55,7 @@
 //     named NAME.bias, where NAME is the convolution layer's name.
 //   - DMax, the largest disparity a head can output, comes from the rig and
 //     the nearest depth of interest: d_max = f·B / Z_min / W (see DMax;
-//     DMaxFromRig also subtracts the rig's Doffs).
+//     DMaxFromRig also subtracts the rig's DeltaCx).
 //
 // # Weights files
 //

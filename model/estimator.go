@@ -18,10 +18,16 @@ import (
 // EstimatorOptions configures an Estimator. A nil *EstimatorOptions means
 // the zero value, which is valid.
 type EstimatorOptions struct {
-	// Rig describes the cameras, at any image size: it is rescaled to each
-	// input's size with Rig.Scaled. If nil, Estimate returns no metric
-	// depth.
+	// Rig describes the cameras, at any image size of their aspect ratio: it
+	// is rescaled to each input's size with Rig.Scaled, so Estimate refuses
+	// an image whose aspect ratio differs by more than
+	// depth.MaxAspectChange (a crop or another camera). If nil, Estimate
+	// returns no metric depth.
 	Rig *depth.Rig
+	// StretchRig rescales the rig with Rig.Stretched instead, for images
+	// that were resized from the rig's without keeping its aspect ratio.
+	// Default false.
+	StretchRig bool
 	// Flip enables flip post-processing: the mirrored image is predicted
 	// as well and the two are blended (see FlipBlend).
 	// It costs a second forward pass. Default false.
@@ -74,14 +80,15 @@ type Estimate struct {
 // its scratch buffers) from a pool of at most MaxWorkers and returns it, so
 // calls beyond MaxWorkers wait (or give up when their context ends).
 type Estimator struct {
-	weights *Weights
-	arch    *Arch
-	rig     *depth.Rig
-	flip    bool
-	tau     float64
-	resize  xdraw.Interpolator
-	idle    chan *worker
-	tokens  chan struct{} // one per worker that may still be created
+	weights    *Weights
+	arch       *Arch
+	rig        *depth.Rig
+	stretchRig bool
+	flip       bool
+	tau        float64
+	resize     xdraw.Interpolator
+	idle       chan *worker
+	tokens     chan struct{} // one per worker that may still be created
 }
 
 // worker holds everything one Estimate call writes at the network's size.
@@ -143,7 +150,7 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if o.Resample == nil {
 		o.Resample = xdraw.CatmullRom
 	}
-	e := &Estimator{weights: w, arch: a, rig: o.Rig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample,
+	e := &Estimator{weights: w, arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample,
 		idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
 	for range o.MaxWorkers {
 		e.tokens <- struct{}{}
@@ -242,6 +249,10 @@ func (e *Estimator) Estimate(ctx context.Context, img image.Image) (*Estimate, e
 		if e.rig.Width == b.Dx() && e.rig.Height == b.Dy() {
 			r := *e.rig
 			rig = &r
+		} else if e.stretchRig {
+			if rig, err = e.rig.Stretched(b.Dx(), b.Dy()); err != nil {
+				return nil, fmt.Errorf("model: %w", err)
+			}
 		} else if rig, err = e.rig.Scaled(b.Dx(), b.Dy()); err != nil {
 			return nil, fmt.Errorf("model: %w", err)
 		}

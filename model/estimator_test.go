@@ -76,7 +76,7 @@ func TestEstimateMatchesNet(t *testing.T) {
 				t.Fatalf("disparity at (%d, %d): %v %v, want %v", x, y, v, ok, dl*float32(w))
 			}
 			z, ok := got.Depth.At(x, y)
-			want := rig.Focal * rig.Baseline / float64(v)
+			want := rig.Fx * rig.Baseline / float64(v)
 			if !ok || math.Abs(float64(z)-want) > 1e-5*want {
 				t.Fatalf("depth at (%d, %d): %v, want %v", x, y, z, want)
 			}
@@ -147,8 +147,8 @@ func TestEstimateOtherSizes(t *testing.T) {
 	}
 	// Depth is resolution-free: same scene, same metres, through the rig
 	// rescaled to 512×256 (focal length doubled).
-	if math.Abs(got.Rig.Focal-2*rig.Focal) > 1e-9*rig.Focal {
-		t.Errorf("scaled focal %v, want %v", got.Rig.Focal, 2*rig.Focal)
+	if math.Abs(got.Rig.Fx-2*rig.Fx) > 1e-9*rig.Fx {
+		t.Errorf("scaled focal %v, want %v", got.Rig.Fx, 2*rig.Fx)
 	}
 	var rel float64
 	for y := 0; y < 256; y += 2 {
@@ -161,11 +161,11 @@ func TestEstimateOtherSizes(t *testing.T) {
 	if rel /= n; rel > 0.05 {
 		t.Errorf("mean relative depth difference between 2x and 1x: %v", rel)
 	}
-	// A small odd-sized crop works too.
-	small := image.NewGray(image.Rect(0, 0, 37, 23))
+	// A small odd size of the rig's aspect ratio (within 1 %) works too.
+	small := image.NewGray(image.Rect(0, 0, 103, 51))
 	got, err = est.Estimate(context.Background(), small)
-	if err != nil || got.Disparity.Rect.Dx() != 37 || got.Depth.Rect.Dy() != 23 {
-		t.Fatalf("37x23: %v", err)
+	if err != nil || got.Disparity.Rect.Dx() != 103 || got.Depth.Rect.Dy() != 51 {
+		t.Fatalf("103x51: %v", err)
 	}
 }
 
@@ -223,9 +223,10 @@ func TestEstimatorErrors(t *testing.T) {
 // -race.
 func TestEstimatorConcurrent(t *testing.T) {
 	w := tinyWeights(t)
-	rig := &depth.Rig{Width: 128, Height: 64, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 64, Cy: 32, MaxDepth: 50}
+	rig := &depth.Rig{Width: 128, Height: 64, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 64, Cy: 32, MaxDepth: 50}
 	for _, flip := range []bool{false, true} {
-		est, err := NewEstimator(w, &EstimatorOptions{Rig: rig, Flip: flip, MaxWorkers: 3})
+		// The sizes below have many aspect ratios: stretch the rig to each.
+		est, err := NewEstimator(w, &EstimatorOptions{Rig: rig, StretchRig: true, Flip: flip, MaxWorkers: 3})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -543,7 +544,7 @@ func TestEstimateWaitsAndCancels(t *testing.T) {
 // no rescaling makes a new rig anyway).
 func TestEstimateRigIsACopy(t *testing.T) {
 	w := tinyWeights(t)
-	rig := &depth.Rig{Width: 128, Height: 64, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 64, Cy: 32, MaxDepth: 50}
+	rig := &depth.Rig{Width: 128, Height: 64, Baseline: 0.1, Fx: 100, Fy: 100, Cx: 64, Cy: 32, MaxDepth: 50}
 	est, err := NewEstimator(w, &EstimatorOptions{Rig: rig})
 	if err != nil {
 		t.Fatal(err)

@@ -46,11 +46,11 @@ func TestRigFocal(t *testing.T) {
 				t.Fatal(err)
 			}
 			want := float64(w) / 2 / math.Tan(c.hfovDeg/2*math.Pi/180)
-			if math.Abs(rig.Focal-want) > 1e-9*want || rig.Fx != rig.Focal || rig.Fy != rig.Focal {
-				t.Errorf("%s at width %d: focal %v fx %v fy %v, want %v", c.style, w, rig.Focal, rig.Fx, rig.Fy, want)
+			if math.Abs(rig.Fx-want) > 1e-9*want || rig.Fx != rig.Fx || rig.Fy != rig.Fx {
+				t.Errorf("%s at width %d: focal %v fx %v fy %v, want %v", c.style, w, rig.Fx, rig.Fx, rig.Fy, want)
 			}
-			if rig.Baseline != c.baseline || rig.Doffs != 0 {
-				t.Errorf("%s: baseline %v doffs %v, want %v and 0", c.style, rig.Baseline, rig.Doffs, c.baseline)
+			if rig.Baseline != c.baseline || rig.DeltaCx != 0 {
+				t.Errorf("%s: baseline %v delta_cx %v, want %v and 0", c.style, rig.Baseline, rig.DeltaCx, c.baseline)
 			}
 			if rig.Cx != float64(w-1)/2 || rig.Cy != float64(w/2-1)/2 {
 				t.Errorf("%s: principal point (%v, %v), want the image centre", c.style, rig.Cx, rig.Cy)
@@ -68,10 +68,10 @@ func TestFrontoParallelPlane(t *testing.T) {
 	const w, h = 96, 48
 	rig := testRig(t, w, h)
 	const shift = 7 // pixels
-	z := rig.Focal * rig.Baseline / shift
+	z := rig.Fx * rig.Baseline / shift
 	p := render(planeScene(z), rig, 2)
 
-	wantFrac := rig.Focal * rig.Baseline / z / float64(w)
+	wantFrac := rig.Fx * rig.Baseline / z / float64(w)
 	for i := range p.DispLeft.Pix {
 		if d := float64(p.DispLeft.Pix[i]); math.Abs(d-wantFrac) > 1e-6*wantFrac {
 			t.Fatalf("left disparity at %d is %v, want f·B/Z/W = %v", i, d, wantFrac)
@@ -134,7 +134,7 @@ func b2f(b bool) float64 {
 func TestOcclusionBand(t *testing.T) {
 	const w, h = 128, 64
 	rig := testRig(t, w, h)
-	fb := rig.Focal * rig.Baseline
+	fb := rig.Fx * rig.Baseline
 	z0, z1 := fb/4, fb/16 // plane disparity 4 px, box front 16 px
 	sc := planeScene(z0)
 	sc.mats = append(sc.mats, material{kind: texMottled, base: rgb{0.2, 0.5, 0.2}, alt: rgb{0.1, 0.3, 0.1}, scale: 0.05, contrast: 0.5, seed: 3})

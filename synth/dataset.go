@@ -156,7 +156,7 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 		}
 		if *old != *rig {
 			return fmt.Errorf("synth: %s already holds a dataset of another rig (%dx%d, focal %.4g px, baseline %.4g m); write %s at %dx%d into an empty folder",
-				dir, old.Width, old.Height, old.Focal, old.Baseline, style, rig.Width, rig.Height)
+				dir, old.Width, old.Height, old.Fx, old.Baseline, style, rig.Width, rig.Height)
 		}
 	}
 	if err := makeDirs(dir); err != nil {

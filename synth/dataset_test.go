@@ -105,8 +105,8 @@ func TestDatasetLayout(t *testing.T) {
 		if z[i] != p.DepthLeft.Pix[i] {
 			t.Fatalf("pixel %d: file depth %v, in memory %v", i, z[i], p.DepthLeft.Pix[i])
 		}
-		// Disparity in pixels is f·B/Z (doffs 0).
-		if want := rig.Focal * rig.Baseline / float64(z[i]); math.Abs(float64(dl[i])-want) > 1e-5*want {
+		// Disparity in pixels is f·B/Z (Δcx 0).
+		if want := rig.Fx * rig.Baseline / float64(z[i]); math.Abs(float64(dl[i])-want) > 1e-5*want {
 			t.Fatalf("pixel %d: disparity %v px, f·B/Z = %v", i, dl[i], want)
 		}
 	}

@@ -13,16 +13,16 @@
 //
 //   - Rig. Pinhole and rectified: the right camera sits Rig.Baseline metres
 //     along the left camera's x axis with the same orientation, both share
-//     the principal point (Doffs = 0), pixels are square (Fy = Fx = Focal)
+//     the principal point (DeltaCx = 0), pixels are square (Fy = Fx)
 //     and the principal point is the image centre ((W−1)/2, (H−1)/2). Each
-//     style fixes its horizontal field of view, so Focal scales with the
+//     style fixes its horizontal field of view, so Fx scales with the
 //     width. Camera frames have x right, y down, z forward; the world has Y
 //     up.
 //   - Pixel centres sit at integer coordinates 0 … W−1 (as in packages
 //     planar and warp).
 //   - Ground truth is exact and taken at pixel centres: the ray through the
 //     centre of pixel (x, y) meets the nearest surface at depth Z (camera z,
-//     metres), and the disparity is Focal·Baseline/Z pixels. In memory
+//     metres), and the disparity is Fx·Baseline/Z pixels. In memory
 //     (Pair) disparities are a fraction of the width, as package warp wants
 //     them; files hold pixels.
 //   - Colour is anti-aliased, so it is not a point sample: away from

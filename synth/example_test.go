@@ -20,8 +20,8 @@ func ExampleGenerate() {
 	i := 16*r.Width + 32 // pixel (32, 16)
 	dpx := float64(p.DispLeft.Pix[i]) * float64(r.Width)
 	z := float64(p.DepthLeft.Pix[i])
-	fmt.Printf("%s rig: %dx%d, focal %.2f px, baseline %.2f m\n", synth.Storage, r.Width, r.Height, r.Focal, r.Baseline)
-	fmt.Printf("d·Z/(f·B) = %.4f\n", dpx*z/(r.Focal*r.Baseline))
+	fmt.Printf("%s rig: %dx%d, focal %.2f px, baseline %.2f m\n", synth.Storage, r.Width, r.Height, r.Fx, r.Baseline)
+	fmt.Printf("d·Z/(f·B) = %.4f\n", dpx*z/(r.Fx*r.Baseline))
 	// Output:
 	// storage rig: 64x32, focal 55.43 px, baseline 0.10 m
 	// d·Z/(f·B) = 1.0000

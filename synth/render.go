@@ -50,7 +50,7 @@ func render(sc *scene, rig *depth.Rig, samples int) *Pair {
 		VisibleLeft:  planar.New(1, 1, h, w),
 		VisibleRight: planar.New(1, 1, h, w),
 	}
-	fb := rig.Focal * rig.Baseline
+	fb := rig.Fx * rig.Baseline
 	plane := w * h
 	inv := 1 / float64(samples*samples)
 	centres := make([]hit, plane)

@@ -67,7 +67,7 @@ func (s Style) spec() (rigSpec, bool) {
 
 // Rig returns the style's rig at the image size width × height: focal
 // length (W/2)/tan(hfov/2) pixels, square pixels (Fy = Fx), the principal
-// point at the image centre ((W−1)/2, (H−1)/2) and Doffs 0. It returns an
+// point at the image centre ((W−1)/2, (H−1)/2) and DeltaCx 0. It returns an
 // error for an unknown style or a size that depth.Rig rejects.
 func (s Style) Rig(width, height int) (*depth.Rig, error) {
 	sp, ok := s.spec()
@@ -77,7 +77,7 @@ func (s Style) Rig(width, height int) (*depth.Rig, error) {
 	f := float64(width) / 2 / math.Tan(sp.hfov/2)
 	r := &depth.Rig{
 		Width: width, Height: height,
-		Focal: f, Baseline: sp.baseline, Doffs: 0,
+		Baseline: sp.baseline, DeltaCx: 0,
 		Fx: f, Fy: f, Cx: float64(width-1) / 2, Cy: float64(height-1) / 2,
 		MinDepth: sp.minDepth, MaxDepth: sp.maxDepth,
 	}

@@ -17,7 +17,6 @@ import (
 	_ "image/jpeg"
 	_ "image/png"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -115,13 +114,15 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 		rig, err = demo.Rig()
 		if len(args) > 0 {
 			fmt.Fprintf(stderr, "estimate: no -rig given: assuming the demo camera (focal %.1f px at %d px width, baseline %.3f m);\n"+
-				"          depth in metres is only right for that camera\n", rig.Focal, rig.Width, rig.Baseline)
+				"          depth in metres is only right for that camera\n", rig.Fx, rig.Width, rig.Baseline)
 		}
 	}
 	if err != nil {
 		return err
 	}
-	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig, Flip: o.flip})
+	// Without -rig the demo rig is only a guess, already warned about: it is
+	// stretched to any image rather than refused.
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig, StretchRig: o.rig == "", Flip: o.flip})
 	if err != nil {
 		return err
 	}
@@ -138,9 +139,11 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 			bar.clear()
 			return err
 		}
-		if err := sameAspect(img.Bounds(), rig, o.rig); o.rig != "" && err != nil {
-			bar.clear()
-			return fmt.Errorf("estimate: %s: %w", in.name, err)
+		if o.rig != "" {
+			if err := rig.CheckAspect(img.Bounds().Dx(), img.Bounds().Dy()); err != nil {
+				bar.clear()
+				return fmt.Errorf("estimate: %s and %s: %w", in.name, o.rig, err)
+			}
 		}
 		start := time.Now()
 		e, err := est.Estimate(ctx, img)
@@ -178,18 +181,6 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, "output folder: %s\n", o.out)
 	}
 	return nil
-}
-
-// sameAspect returns an error if the image b and the rig's image differ in
-// aspect ratio by more than 1%: Rig.Scaled would stretch the rig to fit,
-// which for a cropped image or another camera gives wrong depth silently.
-func sameAspect(b image.Rectangle, rig *depth.Rig, rigPath string) error {
-	a, r := float64(b.Dx())/float64(b.Dy()), float64(rig.Width)/float64(rig.Height)
-	if math.Abs(a/r-1) <= 0.01 {
-		return nil
-	}
-	return fmt.Errorf("the image is %dx%d but %s is for %dx%d images, another aspect ratio (a cropped image or another camera?)",
-		b.Dx(), b.Dy(), rigPath, rig.Width, rig.Height)
 }
 
 // listInputs expands the arguments: files as given, folders into their PNG

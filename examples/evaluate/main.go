@@ -163,12 +163,8 @@ func pairFolder(dir, pair, rigPath string) (*strings.Replacer, error) {
 	if err != nil {
 		return nil, fmt.Errorf("evaluate: %s: %w", files[0], err)
 	}
-	if a, r := float64(cfg.Width)/float64(cfg.Height), float64(rig.Width)/float64(rig.Height); math.Abs(a/r-1) > 0.01 {
-		return nil, fmt.Errorf("evaluate: %s is %dx%d but the rig %s is for %dx%d images, another aspect ratio (a cropped image or another camera?)",
-			files[0], cfg.Width, cfg.Height, rigPath, rig.Width, rig.Height)
-	}
 	if rig, err = rig.Scaled(cfg.Width, cfg.Height); err != nil {
-		return nil, err
+		return nil, fmt.Errorf("evaluate: %s and %s: %w", files[0], rigPath, err)
 	}
 	return replacer, depth.SaveRig(filepath.Join(dir, "rig.json"), rig)
 }

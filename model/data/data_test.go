@@ -110,7 +110,7 @@ func writeDataset(t *testing.T, f fixture, names ...string) string {
 		writePair(t, dir, n, f, uint64(i))
 	}
 	if f.rig {
-		rig := depth.Rig{Width: f.w, Height: f.h, Focal: 100, Baseline: 0.1, Fx: 100, Fy: 100,
+		rig := depth.Rig{Width: f.w, Height: f.h, Baseline: 0.1, Fx: 100, Fy: 100,
 			Cx: float64(f.w-1) / 2, Cy: float64(f.h-1) / 2, MinDepth: 0.5, MaxDepth: 20}
 		var b bytes.Buffer
 		if err := rig.Write(&b); err != nil {

@@ -149,10 +149,10 @@ def cubehelix_fixture():
 def motorcycle_fixture():
     # Calibration from the docstring of skimage.data.stereo_motorcycle,
     # /usr/lib/python3/dist-packages/skimage/data/_fetchers.py lines 1076-1080.
-    f, doffs, baseline_m = 994.978, 31.086, 0.193001
+    f, delta_cx, baseline_m = 994.978, 31.086, 0.193001
     d = np.load("/usr/lib/python3/dist-packages/skimage/data/motorcycle_disp.npz")["arr_0"].astype(np.float64)
     known = np.isfinite(d) & (d > 0)
-    z = np.where(known, f * baseline_m / np.where(known, d + doffs, 1.0), 0.0)
+    z = np.where(known, f * baseline_m / np.where(known, d + delta_cx, 1.0), 0.0)
     rng = np.random.default_rng(3)
     ys, xs = np.nonzero(known)
     pick = rng.choice(len(ys), 40, replace=False)
