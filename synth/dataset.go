@@ -4,81 +4,54 @@ import (
 	"errors"
 	"fmt"
 	"image"
-	"image/png"
-	"io"
-	"os"
-	"path/filepath"
 	"sync"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
-	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/planar"
-)
-
-// Folders of a dataset, relative to its root (see the package
-// documentation for the layout).
-const (
-	DirLeft      = "left"
-	DirRight     = "right"
-	DirDispLeft  = "truth/disp_left"
-	DirDispRight = "truth/disp_right"
-	DirDepthLeft = "truth/depth_left"
-	DirOccLeft   = "truth/occ_left"
-	DirOccRight  = "truth/occ_right"
-	RigFile      = "rig.json"
 )
 
 // PairName returns the file name stem of pair index: six digits, zero
 // padded ("000042"); more digits for indices of a million and beyond.
 func PairName(index int) string { return fmt.Sprintf("%06d", index) }
 
-// Save writes p into the dataset folder dir under the stem name: the two
-// images as 8-bit RGB PNG, the disparities of both views in pixels and the
-// left depth in metres as single-channel PFM, and the occlusion masks as
-// 8-bit gray PNG (255 where the pixel is not visible in the other view, 0
-// elsewhere). It creates the folders it needs and does not write rig.json
-// (WriteDataset does). Every file is written atomically.
-func (p *Pair) Save(dir, name string) error {
+// Record returns p as a record of package dataset under the name: the two
+// images as 8-bit RGB, the disparities of both views in pixels, the left
+// depth in metres, and the occlusion masks as 8-bit gray images (255 where
+// the pixel is not visible in the other view, 0 elsewhere). It returns an
+// error if p or its rig is nil or a map has another shape than the rig.
+func (p *Pair) Record(name string) (*dataset.Record, error) {
 	if err := p.check(); err != nil {
+		return nil, err
+	}
+	r := &dataset.Record{Name: name, Left: p.Left.ToNRGBA(0), Right: p.Right.ToNRGBA(0),
+		OccLeft: occlusionImage(p.VisibleLeft), OccRight: occlusionImage(p.VisibleRight)}
+	var err error
+	if r.DispLeft, err = depth.DisparityFromFraction(p.DispLeft, 0); err != nil {
+		return nil, fmt.Errorf("synth: %w", err)
+	}
+	if r.DispRight, err = depth.DisparityFromFraction(p.DispRight, 0); err != nil {
+		return nil, fmt.Errorf("synth: %w", err)
+	}
+	if r.DepthLeft, err = depth.NewDepth(image.Rect(0, 0, p.Rig.Width, p.Rig.Height)); err != nil {
+		return nil, fmt.Errorf("synth: %w", err)
+	}
+	for i, z := range p.DepthLeft.Pix {
+		r.DepthLeft.Set(i%p.Rig.Width, i/p.Rig.Width, z)
+	}
+	return r, nil
+}
+
+// Save writes p into the data-set folder dir under the stem name, through
+// dataset.Write (see Record for what is written). It does not write
+// rig.json (WriteDataset does). Every file is written atomically.
+func (p *Pair) Save(dir, name string) error {
+	r, err := p.Record(name)
+	if err != nil {
 		return err
 	}
-	if name == "" || filepath.Base(name) != name {
-		return fmt.Errorf("synth: pair name %q must be a plain file name", name)
-	}
-	if err := makeDirs(dir); err != nil {
-		return err
-	}
-	w, h := p.Rig.Width, p.Rig.Height
-	pixels := func(frac []float32) []float32 {
-		out := make([]float32, len(frac))
-		for i, v := range frac {
-			out[i] = float32(float64(v) * float64(w))
-		}
-		return out
-	}
-	steps := []func() error{
-		func() error { return savePNG(filepath.Join(dir, DirLeft, name+".png"), p.Left.ToNRGBA(0)) },
-		func() error { return savePNG(filepath.Join(dir, DirRight, name+".png"), p.Right.ToNRGBA(0)) },
-		func() error {
-			return depth.SavePFM(filepath.Join(dir, DirDispLeft, name+".pfm"), pixels(p.DispLeft.Pix), w, h, 1)
-		},
-		func() error {
-			return depth.SavePFM(filepath.Join(dir, DirDispRight, name+".pfm"), pixels(p.DispRight.Pix), w, h, 1)
-		},
-		func() error {
-			return depth.SavePFM(filepath.Join(dir, DirDepthLeft, name+".pfm"), p.DepthLeft.Pix, w, h, 1)
-		},
-		func() error {
-			return savePNG(filepath.Join(dir, DirOccLeft, name+".png"), occlusionImage(p.VisibleLeft))
-		},
-		func() error {
-			return savePNG(filepath.Join(dir, DirOccRight, name+".png"), occlusionImage(p.VisibleRight))
-		},
-	}
-	for _, step := range steps {
-		if err := step(); err != nil {
-			return fmt.Errorf("synth: saving pair %s: %w", name, err)
-		}
+	if err := dataset.Write(dir, r); err != nil {
+		return fmt.Errorf("synth: saving pair %s: %w", name, err)
 	}
 	return nil
 }
@@ -107,15 +80,6 @@ func (p *Pair) check() error {
 	return nil
 }
 
-func makeDirs(dir string) error {
-	for _, d := range []string{DirLeft, DirRight, DirDispLeft, DirDispRight, DirDepthLeft, DirOccLeft, DirOccRight} {
-		if err := os.MkdirAll(filepath.Join(dir, d), 0o755); err != nil {
-			return fmt.Errorf("synth: %w", err)
-		}
-	}
-	return nil
-}
-
 // occlusionImage turns a visibility mask (1 visible) into the file form
 // (255 not visible).
 func occlusionImage(m *planar.Image) *image.Gray {
@@ -129,13 +93,14 @@ func occlusionImage(m *planar.Image) *image.Gray {
 }
 
 // WriteDataset renders pairs 0 … n−1 of the style for the seed and writes
-// them, with the rig, into dir in the layout of the package documentation.
-// If dir already holds a rig.json for another rig (another style or size),
-// WriteDataset refuses to mix the two and returns an error; with the same
-// rig it replaces the pairs it writes and leaves others in place.
-// Pairs are rendered by opt.Workers goroutines; each pair's files depend
-// only on (style, seed, index, size, samples), so the output is the same
-// for any number of workers. It returns the first error met.
+// them, with the rig, into dir in the layout of package dataset (through
+// dataset.Create and dataset.Write). If dir already holds a rig.json for
+// another rig (another style or size), WriteDataset refuses to mix the two
+// and returns an error; with the same rig it replaces the pairs it writes
+// and leaves others in place. Pairs are rendered by opt.Workers goroutines;
+// each pair's files depend only on (style, seed, index, size, samples), so
+// the output is the same for any number of workers. It returns the first
+// error met.
 func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) error {
 	o, err := opt.resolved()
 	if err != nil {
@@ -148,22 +113,8 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	if err != nil {
 		return err
 	}
-	rigPath := filepath.Join(dir, RigFile)
-	if _, err := os.Stat(rigPath); err == nil {
-		old, err := depth.LoadRig(rigPath)
-		if err != nil {
-			return fmt.Errorf("synth: %s already holds a dataset whose rig cannot be read: %w", dir, err)
-		}
-		if *old != *rig {
-			return fmt.Errorf("synth: %s already holds a dataset of another rig (%dx%d, focal %.4g px, baseline %.4g m); write %s at %dx%d into an empty folder",
-				dir, old.Width, old.Height, old.Fx, old.Baseline, style, rig.Width, rig.Height)
-		}
-	}
-	if err := makeDirs(dir); err != nil {
-		return err
-	}
-	if err := depth.SaveRig(rigPath, rig); err != nil {
-		return fmt.Errorf("synth: %w", err)
+	if err := dataset.Create(dir, rig); err != nil {
+		return fmt.Errorf("synth: writing %s at %dx%d: %w", style, rig.Width, rig.Height, err)
 	}
 	jobs := make(chan int)
 	errs := make(chan error)
@@ -210,13 +161,4 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	close(stop)
 	wg.Wait()
 	return first
-}
-
-// pngEncoder favours speed: at the default level, compression takes about
-// as long as rendering, for files only about 15 % smaller.
-var pngEncoder = png.Encoder{CompressionLevel: png.BestSpeed}
-
-// savePNG encodes img as PNG into path atomically.
-func savePNG(path string, img image.Image) error {
-	return atomicfile.Write(path, "synth", func(w io.Writer) error { return pngEncoder.Encode(w, img) })
 }

@@ -13,6 +13,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 )
 
@@ -76,7 +77,7 @@ func TestDatasetLayout(t *testing.T) {
 	if got := keys(files); strings.Join(got, " ") != strings.Join(want, " ") {
 		t.Fatalf("files:\n%v\nwant:\n%v", got, want)
 	}
-	rig, err := depth.LoadRig(filepath.Join(dir, RigFile))
+	rig, err := depth.LoadRig(filepath.Join(dir, dataset.RigFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -308,7 +309,7 @@ func TestErrors(t *testing.T) {
 	if err := WriteDataset(mixed, Storage, 2, 2, &Options{Width: 16, Height: 8}); err != nil {
 		t.Errorf("rewriting a dataset of the same rig: %v", err)
 	}
-	if err := os.WriteFile(filepath.Join(mixed, RigFile), []byte("{"), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(mixed, dataset.RigFile), []byte("{"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	errBadRig := WriteDataset(mixed, Storage, 1, 1, &Options{Width: 16, Height: 8})

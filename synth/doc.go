@@ -46,8 +46,9 @@
 //   - A ray that meets nothing (impossible in the built-in styles, which are
 //     closed rooms) gives black, disparity 0, depth 0 and not visible.
 //
-// Dataset layout (WriteDataset, Pair.Save), NAME = PairName(index), six
-// digits:
+// Data-set files (WriteDataset and Pair.Save write them through package
+// dataset, which owns the layout and reads it back), NAME =
+// PairName(index), six digits:
 //
 //	DIR/rig.json                    the rig (depth.SaveRig)
 //	DIR/left/NAME.png               8-bit RGB

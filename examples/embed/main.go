@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/demo"
 )
@@ -17,7 +18,13 @@ func main() {
 	must(err)
 	est, err := model.NewEstimator(nil, &model.EstimatorOptions{Rig: rig}) // nil: the embedded weights
 	must(err)
-	for f, err := range demo.Frames(append(os.Args[1:], "")[0]) { // no folder: the demo image
+	frames := dataset.Frames(append(os.Args[1:], "")[0]) // the images of a folder, in name order
+	if len(os.Args) < 2 {
+		// No folder: the demo image.
+		img, err := demo.Left()
+		frames = func(yield func(dataset.Frame, error) bool) { yield(dataset.Frame{Name: demo.Name, Image: img}, err) }
+	}
+	for f, err := range frames {
 		must(err)
 		e, err := est.Estimate(context.Background(), f.Image)
 		must(err)

@@ -14,8 +14,6 @@ import (
 	"flag"
 	"fmt"
 	"image"
-	_ "image/jpeg"
-	_ "image/png"
 	"io"
 	"os"
 	"path/filepath"
@@ -23,6 +21,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/model"
@@ -211,7 +210,7 @@ func listInputs(args []string) ([]input, error) {
 			}
 			continue
 		}
-		names, err := demo.ImageFiles(a)
+		names, err := dataset.ImageFiles(a)
 		if err != nil {
 			return nil, fmt.Errorf("estimate: %w", err)
 		}
@@ -231,26 +230,9 @@ func decode(in input) (image.Image, error) {
 	if in.path == "" {
 		return demo.Left()
 	}
-	f, err := os.Open(in.path)
+	img, err := dataset.LoadImage(in.path)
 	if err != nil {
 		return nil, fmt.Errorf("estimate: %w", err)
-	}
-	defer f.Close()
-	// Check the header's size first: a few bytes may claim 60000×60000
-	// pixels, which image.Decode would try to allocate.
-	c, _, err := image.DecodeConfig(f)
-	if err != nil {
-		return nil, fmt.Errorf("estimate: %s: %w", in.path, err)
-	}
-	if c.Width > depth.MaxSide || c.Height > depth.MaxSide || c.Width*c.Height > model.MaxInputPixels {
-		return nil, fmt.Errorf("estimate: %s: image size %dx%d is too large (sides up to %d, at most %d pixels)", in.path, c.Width, c.Height, depth.MaxSide, model.MaxInputPixels)
-	}
-	if _, err := f.Seek(0, io.SeekStart); err != nil {
-		return nil, fmt.Errorf("estimate: %w", err)
-	}
-	img, _, err := image.Decode(f)
-	if err != nil {
-		return nil, fmt.Errorf("estimate: %s: %w", in.path, err)
 	}
 	return img, nil
 }

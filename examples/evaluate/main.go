@@ -1,5 +1,5 @@
 // Command evaluate scores the depth network on a folder of stereo pairs with
-// ground truth (the layout of package model/data, as package synth writes
+// ground truth (the layout of package dataset, as package synth writes
 // it): it estimates the left view's disparity of every pair at the pair's
 // own resolution with model.Estimator, prints the disparity and depth error
 // tables of package depth, and can write error-map images. With -adapt N it
@@ -28,6 +28,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
@@ -61,7 +62,7 @@ func main() {
 		fmt.Fprintf(flag.CommandLine.Output(), `usage: evaluate [flags] [dataset folder]
 
 Scores the network on pairs with ground truth (DIR/left, DIR/right, DIR/rig.json,
-DIR/truth/disp_left and/or DIR/truth/depth_left; see package model/data).
+DIR/truth/disp_left and/or DIR/truth/depth_left; see package dataset).
 Default folder: %s. Disparity errors are in pixels at each pair's
 resolution; depth errors use the folder's rig and count pixels inside its depth
 range. Each table has one row per pair and their mean (per-pair average).
@@ -87,101 +88,48 @@ Flags:
 }
 
 func main1(ctx context.Context, o options, dir string, dirGiven bool) error {
-	if o.pair != "" {
+	var ds *dataset.Set
+	var err error
+	switch {
+	case o.pair != "":
 		if dirGiven {
 			return errors.New("evaluate: give either -pair or a dataset folder")
 		}
-		tmp, err := os.MkdirTemp("", "parallax-evaluate-")
-		if err != nil {
-			return fmt.Errorf("evaluate: %w", err)
-		}
-		defer os.RemoveAll(tmp)
-		names, err := pairFolder(tmp, o.pair, o.rig)
-		if err != nil {
+		if ds, err = pairSet(o.pair, o.rig); err != nil {
 			return err
 		}
-		dir, o.source = tmp, o.pair
-		if err := run(ctx, o, dir, os.Stdout, os.Stderr); err != nil {
-			// Name the user's files, not the staging copies.
-			return errors.New(names.Replace(err.Error()))
-		}
-		return nil
-	} else if o.rig != "" {
+		o.source = o.pair
+	case o.rig != "":
 		return errors.New("evaluate: -rig goes with -pair; a dataset folder has its own rig.json")
+	default:
+		if ds, err = dataset.Open(dir); err != nil {
+			return fmt.Errorf("evaluate: %w", err)
+		}
 	}
-	return run(ctx, o, dir, os.Stdout, os.Stderr)
+	return run(ctx, o, ds, os.Stdout, os.Stderr)
 }
 
-// pairFolder lays out one pair of files as a dataset folder in dir, so that
-// package model/data reads it like any other: the images and the disparity
-// are copied, and the rig is rescaled to the images' size. The replacer it
-// returns turns the copies' paths in an error message back into the user's.
-func pairFolder(dir, pair, rigPath string) (*strings.Replacer, error) {
+// pairSet makes a set of the one pair of files given as LEFT,RIGHT,DISP,
+// with the rig file (if any) rescaled to the images' size.
+func pairSet(pair, rigPath string) (*dataset.Set, error) {
 	files := strings.Split(pair, ",")
 	if len(files) != 3 {
 		return nil, fmt.Errorf("evaluate: -pair %q: want LEFT,RIGHT,DISP", pair)
 	}
-	name := strings.TrimSuffix(filepath.Base(files[0]), filepath.Ext(files[0]))
-	rel := []string{
-		filepath.Join("left", name+strings.ToLower(filepath.Ext(files[0]))),
-		filepath.Join("right", name+strings.ToLower(filepath.Ext(files[1]))),
-		filepath.Join("truth", data.DispLeft, name+".pfm"),
-	}
-	var names []string
-	for i, f := range files {
-		dst := filepath.Join(dir, rel[i])
-		names = append(names, dst, f) // full paths first: the replacer tries them in order
-		b, err := os.ReadFile(f)
-		if err != nil {
-			return nil, fmt.Errorf("evaluate: %w", err)
-		}
-		if err := os.MkdirAll(filepath.Dir(dst), 0o755); err != nil {
-			return nil, fmt.Errorf("evaluate: %w", err)
-		}
-		if err := os.WriteFile(dst, b, 0o644); err != nil {
-			return nil, fmt.Errorf("evaluate: %w", err)
-		}
-	}
-	for i, f := range files {
-		names = append(names, rel[i], f)
-	}
-	names = append(names, dir, "-pair")
-	replacer := strings.NewReplacer(names...)
-	if rigPath == "" {
-		return replacer, nil
-	}
-	rig, err := depth.LoadRig(rigPath)
-	if err != nil {
-		return nil, err
-	}
-	f, err := os.Open(files[0])
+	ds, err := dataset.FromFiles(files[0], files[1], map[dataset.Kind]string{dataset.DispLeft: files[2]}, rigPath)
 	if err != nil {
 		return nil, fmt.Errorf("evaluate: %w", err)
 	}
-	defer f.Close()
-	cfg, _, err := image.DecodeConfig(f)
-	if err != nil {
-		return nil, fmt.Errorf("evaluate: %s: %w", files[0], err)
-	}
-	if rig, err = rig.Scaled(cfg.Width, cfg.Height); err != nil {
-		return nil, fmt.Errorf("evaluate: %s and %s: %w", files[0], rigPath, err)
-	}
-	return replacer, depth.SaveRig(filepath.Join(dir, "rig.json"), rig)
+	return ds, nil
 }
 
-func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) error {
-	ds, err := data.Open(dir)
-	if err != nil {
-		return fmt.Errorf("evaluate: %w", err)
+func run(ctx context.Context, o options, ds *dataset.Set, stdout, stderr io.Writer) error {
+	var err error
+	dir := ds.Dir
+	if o.source != "" {
+		dir = o.source
 	}
-	if len(ds.Pairs) == 0 {
-		return fmt.Errorf("evaluate: %s holds no pairs", dir)
-	}
-	hasDisp, hasDepth := false, false
-	for _, k := range ds.Truth {
-		hasDisp = hasDisp || k == data.DispLeft
-		hasDepth = hasDepth || k == data.DepthLeft
-	}
+	hasDisp, hasDepth := ds.Has(dataset.DispLeft), ds.Has(dataset.DepthLeft)
 	if hasDepth && ds.Rig == nil {
 		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig.json: depth is not scored\n", dir)
 		hasDepth = false
@@ -231,7 +179,7 @@ func run(ctx context.Context, o options, dir string, stdout, stderr io.Writer) e
 }
 
 // adapt fine-tunes w on the pairs of ds (left and right images only).
-func adapt(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, stderr io.Writer) (*model.Weights, *train.Result, error) {
+func adapt(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, stderr io.Writer) (*model.Weights, *train.Result, error) {
 	batch := min(o.batch, len(ds.Pairs))
 	// With -flip the estimate also runs on mirrored images: mirror half of
 	// the adaptation samples (and swap their views, see data.FlipSwap) so
@@ -268,7 +216,7 @@ func adapt(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, s
 }
 
 // evaluate scores w on every pair of ds and prints the tables.
-func evaluate(ctx context.Context, o options, ds *data.Dataset, w *model.Weights, label string, hasDisp, hasDepth bool, stdout, stderr io.Writer) error {
+func evaluate(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, label string, hasDisp, hasDepth bool, stdout, stderr io.Writer) error {
 	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: ds.Rig, Flip: o.flip})
 	if err != nil {
 		return err
@@ -284,7 +232,7 @@ func evaluate(ctx context.Context, o options, ds *data.Dataset, w *model.Weights
 		if !o.quiet {
 			fmt.Fprintf(stderr, "\r%s: pair %d/%d", label, i+1, len(ds.Pairs))
 		}
-		s, err := ds.Load(i, p.Width, p.Height)
+		s, err := data.Load(ds, i, p.Width, p.Height)
 		if err != nil {
 			return fmt.Errorf("evaluate: %w", err)
 		}

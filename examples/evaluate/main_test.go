@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/dataset"
 )
 
 func TestWithMean(t *testing.T) {
@@ -26,7 +28,11 @@ func TestRunSynthetic(t *testing.T) {
 	errs := t.TempDir()
 	var out, log bytes.Buffer
 	o := options{errors: errs, adapt: 1, batch: 2, seed: 1, quiet: true}
-	if err := run(context.Background(), o, dir, &out, &log); err != nil {
+	ds, err := dataset.Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := run(context.Background(), o, ds, &out, &log); err != nil {
 		t.Fatal(err)
 	}
 	s := out.String()
@@ -46,40 +52,43 @@ func TestRunSynthetic(t *testing.T) {
 			t.Errorf("%s: %v", p, err)
 		}
 	}
-	if err := run(context.Background(), options{batch: 1}, t.TempDir(), &out, &log); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+	if err := main1(context.Background(), options{batch: 1}, t.TempDir(), true); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
 		t.Errorf("empty folder: %v", err)
 	}
 }
 
-// TestPairFolder lays out the committed Motorcycle pair (Middlebury 2014,
-// shipped by Debian python3-skimage 0.19.3; see testdata/motorcycle) as a
-// dataset and checks that model/data reads it with the rescaled rig.
-func TestPairFolder(t *testing.T) {
+// TestPairSet makes a set of the committed Motorcycle pair (Middlebury 2014,
+// shipped by Debian python3-skimage 0.19.3; see testdata/motorcycle) with
+// the rescaled rig and evaluates it.
+func TestPairSet(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
-	dir := t.TempDir()
 	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
-	if _, err := pairFolder(dir, pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")); err != nil {
+	ds, err := pairSet(pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json"))
+	if err != nil {
 		t.Fatal(err)
 	}
+	if ds.Rig == nil || ds.Rig.Width != 370 || ds.Rig.Height != 250 {
+		t.Fatalf("rig %+v, want one for 370×250", ds.Rig)
+	}
 	var out, log bytes.Buffer
-	if err := run(context.Background(), options{quiet: true, batch: 1}, dir, &out, &log); err != nil {
+	if err := run(context.Background(), options{quiet: true, batch: 1}, ds, &out, &log); err != nil {
 		t.Fatal(err)
 	}
 	if !strings.Contains(out.String(), "epe_px") || !strings.Contains(out.String(), "left ") {
 		t.Errorf("output:\n%s", out.String())
 	}
-	if _, err := pairFolder(t.TempDir(), "a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+	if _, err := pairSet("a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
 		t.Errorf("two files: %v", err)
 	}
 	// The greenhouse rig (256×128) is for another aspect ratio than 370×250.
 	other := filepath.Join("..", "..", "testdata", "synth", "greenhouse", "rig.json")
-	if _, err := pairFolder(t.TempDir(), pair, other); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), "aspect ratio") || !strings.Contains(err.Error(), other) {
+	if _, err := pairSet(pair, other); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), "aspect ratio") || !strings.Contains(err.Error(), other) {
 		t.Errorf("rig of another aspect ratio: %v", err)
 	}
 }
 
 // TestPairErrorsNameUserFiles checks that an error about a -pair file names
-// the file the user gave, not its copy in the staging folder.
+// the file the user gave.
 func TestPairErrorsNameUserFiles(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
 	small := filepath.Join("..", "..", "model", "demo", "greenhouse_left.png") // 256×128, the pair is 370×250
@@ -89,7 +98,7 @@ func TestPairErrorsNameUserFiles(t *testing.T) {
 		{filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + notPFM, notPFM},
 	} {
 		err := main1(context.Background(), options{quiet: true, batch: 1, pair: tc.pair}, "", false)
-		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), tc.want) || strings.Contains(err.Error(), "parallax-evaluate-") {
+		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("-pair %s: %v, want an error naming %s", tc.pair, err, tc.want)
 		} else {
 			t.Logf("%v", err)

@@ -6,7 +6,7 @@
 // It starts from the weights embedded in package model unless -from names
 // a weights file (or a checkpoint) or -from-scratch asks for a fresh
 // initialisation; -resume continues an interrupted run from its checkpoint
-// exactly. DIR has the layout of package model/data: left/NAME.png and
+// exactly. DIR has the layout of package dataset: left/NAME.png and
 // right/NAME.png (PNG or JPEG), optionally rig.json and truth/. When the
 // pairs have ground truth, a held-out part (-val) is scored before and
 // after with the depth package's metrics.
@@ -30,6 +30,7 @@ import (
 	"syscall"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
 	"github.com/parallaxdepth/parallax/model/train"
@@ -124,13 +125,13 @@ func run(c config) error {
 	if st, err := os.Stat(c.data); err != nil || !st.IsDir() {
 		return fmt.Errorf("finetune: -data %s is not a folder", c.data)
 	}
-	ds, err := data.Open(c.data)
+	ds, err := dataset.Open(c.data)
 	if err != nil {
 		return fmt.Errorf("finetune: %w", err)
 	}
-	trainSet, valSet := ds, (*data.Dataset)(nil)
+	trainSet, valSet := ds, (*dataset.Set)(nil)
 	if c.val > 0 {
-		if trainSet, valSet, err = ds.Split(c.val, c.seed); err != nil {
+		if trainSet, valSet, err = data.Split(ds, c.val, c.seed); err != nil {
 			return fmt.Errorf("finetune: %w", err)
 		}
 	}
@@ -324,9 +325,9 @@ func scheduleNote(ck *train.Checkpoint, c config) string {
 		ck.Steps, ck.Schedule.Rate, c.steps, c.lr, ck.Step)
 }
 
-func hasTruth(ds *data.Dataset) bool {
+func hasTruth(ds *dataset.Set) bool {
 	for _, k := range ds.Truth {
-		if k == data.DispLeft || (k == data.DepthLeft && ds.Rig != nil) {
+		if k == dataset.DispLeft || (k == dataset.DepthLeft && ds.Rig != nil) {
 			return true
 		}
 	}

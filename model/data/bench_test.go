@@ -6,10 +6,12 @@ import (
 	"io"
 	"path/filepath"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/dataset"
 )
 
 func benchmarkEpoch(b *testing.B, width, height int, aug *Augment) {
-	ds, err := Open(filepath.Join("..", "..", "testdata", "synth", "storage"))
+	ds, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "storage"))
 	if err != nil {
 		b.Fatal(err)
 	}

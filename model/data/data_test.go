@@ -16,6 +16,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/warp"
@@ -64,14 +65,14 @@ func writePair(t *testing.T, dir, name string, f fixture, seed uint64) {
 			dep[i] = 2.5
 		}
 		disp[0] = float32(math.Inf(1)) // no truth at (0, 0)
-		for _, k := range []string{DispLeft, DispRight} {
+		for _, k := range []string{string(dataset.DispLeft), string(dataset.DispRight)} {
 			mkdir(t, filepath.Join(dir, "truth", k))
 			if err := depth.SavePFM(filepath.Join(dir, "truth", k, name+".pfm"), disp, f.w, f.h, 1); err != nil {
 				t.Fatal(err)
 			}
 		}
-		mkdir(t, filepath.Join(dir, "truth", DepthLeft))
-		if err := depth.SavePFM(filepath.Join(dir, "truth", DepthLeft, name+".pfm"), dep, f.w, f.h, 1); err != nil {
+		mkdir(t, filepath.Join(dir, "truth", string(dataset.DepthLeft)))
+		if err := depth.SavePFM(filepath.Join(dir, "truth", string(dataset.DepthLeft), name+".pfm"), dep, f.w, f.h, 1); err != nil {
 			t.Fatal(err)
 		}
 		occ := image.NewGray(image.Rect(0, 0, f.w, f.h))
@@ -80,7 +81,7 @@ func writePair(t *testing.T, dir, name string, f fixture, seed uint64) {
 				occ.SetGray(x, y, color.Gray{255})
 			}
 		}
-		savePNG(t, filepath.Join(dir, "truth", OccLeft, name+".png"), occ)
+		savePNG(t, filepath.Join(dir, "truth", string(dataset.OccLeft), name+".png"), occ)
 	}
 }
 
@@ -138,91 +139,22 @@ func wantErr(t *testing.T, err error, parts ...string) {
 	}
 }
 
-func TestOpen(t *testing.T) {
-	dir := writeDataset(t, fixture{w: 64, h: 32, d: 4, truth: true, rig: true}, "b", "a", "c")
-	os.WriteFile(filepath.Join(dir, "left", "notes.txt"), []byte("ignored"), 0o644)
-	os.WriteFile(filepath.Join(dir, "left", ".hidden.png"), []byte("ignored"), 0o644)
-	ds, err := Open(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(ds.Pairs) != 3 || ds.Pairs[0].Name != "a" || ds.Pairs[2].Name != "c" {
-		t.Fatalf("pairs %+v", ds.Pairs)
-	}
-	if ds.Rig == nil || ds.Rig.Width != 64 {
-		t.Fatalf("rig %+v", ds.Rig)
-	}
-	if strings.Join(ds.Truth, ",") != "disp_left,disp_right,depth_left,occ_left" {
-		t.Fatalf("truth kinds %v", ds.Truth)
-	}
-	if p := ds.Pairs[1]; p.Width != 64 || p.Height != 32 || filepath.Base(p.Truth[DepthLeft]) != "b.pfm" {
-		t.Fatalf("pair %+v", p)
-	}
-}
-
-func TestOpenReportsByName(t *testing.T) {
-	f := fixture{w: 32, h: 16, d: 2, truth: true}
-
-	dir := writeDataset(t, f, "a", "b", "c")
-	os.Remove(filepath.Join(dir, "right", "b.png"))
-	os.Remove(filepath.Join(dir, "left", "c.png"))
-	_, err := Open(dir)
-	wantErr(t, err, "2 unpaired", "left/b.png has no partner in right/", "right/c.png has no partner in left/")
-
-	dir = writeDataset(t, f, "a", "b")
-	savePNG(t, filepath.Join(dir, "right", "b.png"), image.NewGray(image.Rect(0, 0, 30, 16)))
-	_, err = Open(dir)
-	wantErr(t, err, `pair "b": left/b.png is 32×16 but right/b.png is 30×16`)
-
-	dir = writeDataset(t, f, "a", "b")
-	os.WriteFile(filepath.Join(dir, "left", "a.png"), []byte("not a png at all"), 0o644)
-	_, err = Open(dir)
-	wantErr(t, err, "left/a.png", "image: unknown format")
-
-	dir = writeDataset(t, f, "a", "b")
-	os.Remove(filepath.Join(dir, "truth", DispRight, "a.pfm"))
-	os.WriteFile(filepath.Join(dir, "truth", DepthLeft, "zzz.pfm"), nil, 0o644)
-	_, err = Open(dir)
-	wantErr(t, err, `pair "a" has no truth/disp_right/a.pfm`, "truth/depth_left/zzz.pfm belongs to no pair")
-
-	dir = writeDataset(t, f, "a")
-	savePNG(t, filepath.Join(dir, "left", "a.jpg"), image.NewGray(image.Rect(0, 0, 32, 16)))
-	_, err = Open(dir)
-	wantErr(t, err, "left/a.png", "left/a.jpg", "have the same name")
-
-	dir = writeDataset(t, fixture{w: 32, h: 16, rig: true}, "a")
-	rig, _ := depth.LoadRig(filepath.Join(dir, "rig.json"))
-	rig.Width = 64
-	var b bytes.Buffer
-	rig.Write(&b)
-	os.WriteFile(filepath.Join(dir, "rig.json"), b.Bytes(), 0o644)
-	_, err = Open(dir)
-	wantErr(t, err, "rig.json describes 64×16 images but left/a.png is 32×16")
-
-	os.WriteFile(filepath.Join(dir, "rig.json"), []byte(`{"format": "parallax-rig"}`), 0o644)
-	_, err = Open(dir)
-	wantErr(t, err, "rig")
-
-	_, err = Open(t.TempDir())
-	wantErr(t, err, "left")
-}
-
 func TestLoadCorruptNamesFile(t *testing.T) {
 	dir := writeDataset(t, fixture{w: 32, h: 16, d: 2, truth: true}, "a", "b")
 	// A PNG cut after its header passes Open and fails on decoding.
 	p := filepath.Join(dir, "right", "b.png")
 	full, _ := os.ReadFile(p)
 	os.WriteFile(p, full[:len(full)/2], 0o644)
-	q := filepath.Join(dir, "truth", DispLeft, "a.pfm")
+	q := filepath.Join(dir, "truth", string(dataset.DispLeft), "a.pfm")
 	pfm, _ := os.ReadFile(q)
 	os.WriteFile(q, pfm[:len(pfm)-10], 0o644)
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = ds.Load(1, 32, 16)
+	_, err = Load(ds, 1, 32, 16)
 	wantErr(t, err, "right/b.png")
-	_, err = ds.Load(0, 32, 16)
+	_, err = Load(ds, 0, 32, 16)
 	wantErr(t, err, "a.pfm")
 
 	// The loader stops at the first error and reports it.
@@ -254,15 +186,15 @@ func TestResizeGroundTruth(t *testing.T) {
 			}
 		}
 	}
-	if err := depth.SavePFM(filepath.Join(dir, "truth", DispLeft, "a.pfm"), disp, w, h, 1); err != nil {
+	if err := depth.SavePFM(filepath.Join(dir, "truth", string(dataset.DispLeft), "a.pfm"), disp, w, h, 1); err != nil {
 		t.Fatal(err)
 	}
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, size := range [][2]int{{32, 16}, {64, 32}, {96, 64}} {
-		s, err := ds.Load(0, size[0], size[1])
+		s, err := Load(ds, 0, size[0], size[1])
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -339,11 +271,11 @@ func TestResizeImageAntialiased(t *testing.T) {
 func TestFlipSwapConsistent(t *testing.T) {
 	const w, h, d = 64, 8, 5
 	dir := writeDataset(t, fixture{w: w, h: h, d: d, truth: true}, "a")
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	s, err := ds.Load(0, w, h)
+	s, err := Load(ds, 0, w, h)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -387,7 +319,7 @@ func TestFlipSwapConsistent(t *testing.T) {
 	}
 	// The sample without swapping (mirror only) must fail the same test:
 	// this is what makes the check meaningful.
-	s2, _ := ds.Load(0, w, h)
+	s2, _ := Load(ds, 0, w, h)
 	mirror(s2.Left)
 	mirror(s2.Right)
 	mirror(s2.DispLeft)
@@ -438,8 +370,8 @@ func TestFlipSwapMapsTruth(t *testing.T) {
 func TestPhotometricKeepsViewsConsistent(t *testing.T) {
 	const w, h, d = 48, 4, 3
 	dir := writeDataset(t, fixture{w: w, h: h, d: d}, "a")
-	ds, _ := Open(dir)
-	s, _ := ds.Load(0, w, h)
+	ds, _ := dataset.Open(dir)
+	s, _ := Load(ds, 0, w, h)
 	before := s.Left.Clone()
 	a := Augment{Photometric: 1, Gamma: [2]float64{0.7, 0.7}, Brightness: [2]float64{1.3, 1.3}, Colour: [2]float64{0.9, 1.1}}
 	a.apply(s, rand.New(rand.NewPCG(1, 2)))
@@ -476,11 +408,11 @@ func TestPhotometricKeepsViewsConsistent(t *testing.T) {
 
 func TestSplit(t *testing.T) {
 	names := []string{"p0", "p1", "p2", "p3", "p4", "p5", "p6", "p7", "p8", "p9"}
-	ds := &Dataset{}
+	ds := &dataset.Set{}
 	for _, n := range names {
-		ds.Pairs = append(ds.Pairs, Pair{Name: n})
+		ds.Pairs = append(ds.Pairs, dataset.Pair{Name: n})
 	}
-	tr, va, err := ds.Split(0.3, 42)
+	tr, va, err := Split(ds, 0.3, 42)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -488,15 +420,15 @@ func TestSplit(t *testing.T) {
 		t.Fatalf("split sizes %d/%d, want 7/3", len(tr.Pairs), len(va.Pairs))
 	}
 	seen := map[string]int{}
-	for _, p := range append(append([]Pair(nil), tr.Pairs...), va.Pairs...) {
+	for _, p := range append(append([]dataset.Pair(nil), tr.Pairs...), va.Pairs...) {
 		seen[p.Name]++
 	}
 	if len(seen) != 10 {
 		t.Fatalf("split lost or duplicated pairs: %v", seen)
 	}
-	tr2, va2, _ := ds.Split(0.3, 42)
-	_, va3, _ := ds.Split(0.3, 43)
-	key := func(d *Dataset) string {
+	tr2, va2, _ := Split(ds, 0.3, 42)
+	_, va3, _ := Split(ds, 0.3, 43)
+	key := func(d *dataset.Set) string {
 		var s []string
 		for _, p := range d.Pairs {
 			s = append(s, p.Name)
@@ -509,10 +441,10 @@ func TestSplit(t *testing.T) {
 	if key(va) == key(va3) {
 		t.Errorf("seeds 42 and 43 give the same validation set %s", key(va))
 	}
-	if _, _, err := (&Dataset{Pairs: ds.Pairs[:1]}).Split(0.5, 1); err == nil {
+	if _, _, err := Split(&dataset.Set{Pairs: ds.Pairs[:1]}, 0.5, 1); err == nil {
 		t.Error("split of one pair accepted")
 	}
-	if _, _, err := ds.Split(1, 1); err == nil {
+	if _, _, err := Split(ds, 1, 1); err == nil {
 		t.Error("fraction 1 accepted")
 	}
 }
@@ -536,7 +468,7 @@ func epochBatches(t *testing.T, l *Loader, epoch int) []*Batch {
 
 func TestLoaderDeterministic(t *testing.T) {
 	dir := writeDataset(t, fixture{w: 64, h: 32, d: 3, truth: true}, "a", "b", "c", "d", "e", "f", "g")
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -609,7 +541,7 @@ func equalBatch(a, b *Batch) bool {
 
 func TestLoaderCloseEarly(t *testing.T) {
 	dir := writeDataset(t, fixture{w: 32, h: 32, d: 1}, "a", "b", "c", "d")
-	ds, _ := Open(dir)
+	ds, _ := dataset.Open(dir)
 	l, _ := NewLoader(ds, &Options{Width: 32, Height: 32, BatchSize: 1, Prefetch: 2})
 	it := l.Epoch(context.Background(), 0)
 	if _, err := it.Next(); err != nil {
@@ -622,7 +554,7 @@ func TestLoaderCloseEarly(t *testing.T) {
 	if _, err := NewLoader(ds, &Options{BatchSize: -1}); err == nil {
 		t.Error("negative batch size accepted")
 	}
-	if _, err := NewLoader(&Dataset{}, nil); err == nil {
+	if _, err := NewLoader(&dataset.Set{}, nil); err == nil {
 		t.Error("empty dataset accepted")
 	}
 }
@@ -639,14 +571,14 @@ func TestJPEGWithoutTruth(t *testing.T) {
 		jpeg.Encode(&b, img, nil)
 		os.WriteFile(filepath.Join(dir, side, "x.JPG"), b.Bytes(), 0o644)
 	}
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if ds.Rig != nil || len(ds.Truth) != 0 {
 		t.Fatalf("rig %v, truth %v", ds.Rig, ds.Truth)
 	}
-	s, err := ds.Load(0, 64, 32)
+	s, err := Load(ds, 0, 64, 32)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,36 +1,22 @@
-// Package data reads folders of rectified stereo pairs and serves them to
-// training and evaluation as resized, optionally augmented batches.
+// Package data serves data sets (package dataset) to training and
+// evaluation as resized, optionally augmented batches: Load resizes one
+// pair, Loader batches an epoch with prefetching, Split holds out a
+// validation set, Augment perturbs samples.
 //
-// # Folder layout
-//
-//	DIR/left/NAME.png     left image (PNG or JPEG: .png, .jpg, .jpeg)
-//	DIR/right/NAME.png    right image, same NAME and size as the left one
-//	DIR/rig.json          optional rig description (see depth.ReadRig)
-//	DIR/truth/disp_left/NAME.pfm   optional: left disparity, pixels, PFM float32
-//	DIR/truth/disp_right/NAME.pfm  optional: right disparity, pixels
-//	DIR/truth/depth_left/NAME.pfm  optional: left depth, metres
-//	DIR/truth/occ_left/NAME.png    optional: left occlusion map (grey levels;
-//	                               package synth writes 255 where a left pixel
-//	                               is not visible in the right view)
-//	DIR/truth/occ_right/NAME.png   optional: the right view's occlusion map
-//
-// Files with other extensions and names starting with "." are ignored.
-// Every left image needs a right partner and every right image a left one;
-// a truth folder that exists must hold a file for every pair and nothing
-// else. Open reports each violation by file name; nothing is skipped
-// silently. Images whose sizes disagree, corrupt files and truth maps of
-// the wrong size are errors naming the file.
+// The folder layout, the pair type and the reading of files belong to
+// package dataset; this package never reads a path itself.
 //
 // # Conventions
 //
 //   - Images are planar.Image values, NCHW float32, RGB in [0, 1].
 //   - Disparity ground truth is converted to the project's unit, a positive
-//     fraction of the image width: a PFM value d (pixels at the stored width
+//     fraction of the image width: a value d (pixels at the stored width
 //     W0) becomes d/W0, which equals d·(W/W0) pixels at the resized width W
-//     divided by W. A value of 0 marks a pixel without ground truth; PFM
-//     values that are not positive and finite become 0.
+//     divided by W. A value of 0 marks a pixel without ground truth (the
+//     invalid pixels of dataset.Record).
 //   - Depth ground truth is in metres; 0 marks a pixel without ground truth.
 //   - Occlusion maps hold the stored grey level scaled to [0, 1].
+//   - Size: Options.Width and Height default to the pairs' stored size.
 //   - Resizing: images with Catmull-Rom (golang.org/x/image/draw, which
 //     widens the kernel when shrinking, so downscaling is antialiased);
 //     ground truth with nearest-neighbour sampling at pixel centres, so an

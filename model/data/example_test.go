@@ -5,16 +5,17 @@ import (
 	"fmt"
 	"io"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model/data"
 )
 
 func Example() {
-	ds, err := data.Open("../../testdata/synth/greenhouse")
+	ds, err := dataset.Open("../../testdata/synth/greenhouse")
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
-	train, val, err := ds.Split(0.34, 1)
+	train, val, err := data.Split(ds, 0.34, 1)
 	if err != nil {
 		fmt.Println(err)
 		return

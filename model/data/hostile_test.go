@@ -13,6 +13,8 @@ import (
 	"runtime"
 	"strings"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/dataset"
 )
 
 // TestLoadHostileSizes checks that sizes which would need an absurd
@@ -21,12 +23,12 @@ import (
 // by one whose header claims a huge size.
 func TestLoadHostileSizes(t *testing.T) {
 	dir := writeDataset(t, fixture{w: 32, h: 16, d: 2}, "a")
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, sz := range [][2]int{{1 << 15, 1 << 15}, {1 << 15, 1 << 11}, {0, 16}, {32, -1}} {
-		_, err := ds.Load(0, sz[0], sz[1])
+		_, err := Load(ds, 0, sz[0], sz[1])
 		if err == nil || !strings.HasPrefix(err.Error(), "data: ") {
 			t.Errorf("Load(%d×%d): error %v, want one starting with data:", sz[0], sz[1], err)
 		}
@@ -51,7 +53,7 @@ func TestLoadHostileSizes(t *testing.T) {
 	}
 	var before, after runtime.MemStats
 	runtime.ReadMemStats(&before)
-	_, err = ds.Load(0, 32, 16)
+	_, err = Load(ds, 0, 32, 16)
 	runtime.ReadMemStats(&after)
 	wantErr(t, err, "left/a.png")
 	// Decoding the pixels would allocate 900 MB before failing.
@@ -66,7 +68,7 @@ func TestLoadHostileSizes(t *testing.T) {
 // (make(chan) panicked on it).
 func TestLoaderHostileOptions(t *testing.T) {
 	dir := writeDataset(t, fixture{w: 32, h: 16, d: 2}, "a", "b")
-	ds, err := Open(dir)
+	ds, err := dataset.Open(dir)
 	if err != nil {
 		t.Fatal(err)
 	}

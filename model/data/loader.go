@@ -8,16 +8,17 @@ import (
 	"math/rand/v2"
 	"sync"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
-	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/planar"
 )
 
 // Options configures a Loader. A nil *Options means the defaults; each zero
 // field means its default.
 type Options struct {
-	// Width and Height are the output size; 0 means model.DefaultWidth and
-	// model.DefaultHeight.
+	// Width and Height are the output size; 0 means the pairs' stored width
+	// (height), which must then be the same for every pair. A network
+	// wants its input size here (model.Config.Width and Height).
 	Width, Height int
 	// BatchSize is the number of samples per batch; 0 means 8.
 	BatchSize int
@@ -55,33 +56,42 @@ type Batch struct {
 	Flipped []bool
 }
 
-// Loader serves a Dataset as batches.
+// Loader serves a data set as batches.
 type Loader struct {
-	ds  *Dataset
+	ds  *dataset.Set
 	opt Options
 }
 
 // NewLoader returns a loader over ds. It returns an error for an empty
-// dataset or invalid options.
-func NewLoader(ds *Dataset, opt *Options) (*Loader, error) {
+// set, invalid options, or a zero Width or Height over pairs of different
+// stored sizes.
+func NewLoader(ds *dataset.Set, opt *Options) (*Loader, error) {
 	var o Options
 	if opt != nil {
 		o = *opt
 	}
-	if o.Width == 0 {
-		o.Width = model.DefaultWidth
+	if ds == nil || len(ds.Pairs) == 0 {
+		return nil, errors.New("data: the dataset has no pairs")
 	}
-	if o.Height == 0 {
-		o.Height = model.DefaultHeight
+	if o.Width == 0 || o.Height == 0 {
+		p0 := ds.Pairs[0]
+		for _, p := range ds.Pairs[1:] {
+			if (o.Width == 0 && p.Width != p0.Width) || (o.Height == 0 && p.Height != p0.Height) {
+				return nil, fmt.Errorf("data: pairs %q (%d×%d) and %q (%d×%d) differ in size: give Options.Width and Height", p0.Name, p0.Width, p0.Height, p.Name, p.Width, p.Height)
+			}
+		}
+		if o.Width == 0 {
+			o.Width = p0.Width
+		}
+		if o.Height == 0 {
+			o.Height = p0.Height
+		}
 	}
 	if o.BatchSize == 0 {
 		o.BatchSize = 8
 	}
 	if o.Prefetch == 0 {
 		o.Prefetch = 2
-	}
-	if ds == nil || len(ds.Pairs) == 0 {
-		return nil, errors.New("data: the dataset has no pairs")
 	}
 	if o.Width < 1 || o.Height < 1 || o.BatchSize < 1 || o.Prefetch < 1 {
 		return nil, fmt.Errorf("data: invalid options: size %d×%d, batch size %d, prefetch %d", o.Width, o.Height, o.BatchSize, o.Prefetch)
@@ -225,15 +235,15 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 	for _, k := range l.ds.Truth {
 		m := planar.New(n, 1, o.Height, o.Width)
 		switch k {
-		case DispLeft:
+		case dataset.DispLeft:
 			b.DispLeft = m
-		case DispRight:
+		case dataset.DispRight:
 			b.DispRight = m
-		case DepthLeft:
+		case dataset.DepthLeft:
 			b.DepthLeft = m
-		case OccLeft:
+		case dataset.OccLeft:
 			b.OccLeft = m
-		case OccRight:
+		case dataset.OccRight:
 			b.OccRight = m
 		}
 	}
@@ -241,7 +251,7 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		s, err := l.ds.Load(i, o.Width, o.Height)
+		s, err := Load(l.ds, i, o.Width, o.Height)
 		if err != nil {
 			return nil, err
 		}

@@ -3,12 +3,10 @@ package data
 import (
 	"fmt"
 	"image"
-	"io"
-	"math"
-	"os"
 
 	"golang.org/x/image/draw"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
 )
@@ -31,93 +29,49 @@ type Sample struct {
 	Flipped bool
 }
 
-// Load reads pair i of d and resizes it to width × height. It returns an
-// error naming the file if an image or truth map is corrupt, has another
-// size than recorded by Open, or a truth map has more than one channel.
-func (d *Dataset) Load(i, width, height int) (*Sample, error) {
-	if i < 0 || i >= len(d.Pairs) {
-		return nil, fmt.Errorf("data: pair index %d out of range [0, %d)", i, len(d.Pairs))
-	}
+// Load reads pair i of ds (with dataset.Set.Read) and resizes it to width ×
+// height. It returns an error naming the file if an image or truth map is
+// corrupt, has another size than recorded by dataset.Open, or a truth map
+// has more than one channel.
+func Load(ds *dataset.Set, i, width, height int) (*Sample, error) {
 	if width <= 0 || height <= 0 || width > depth.MaxSide || height > depth.MaxSide || width*height > depth.MaxPixels {
 		return nil, fmt.Errorf("data: invalid output size %d×%d (sides in [1, %d], at most %d pixels)", width, height, depth.MaxSide, depth.MaxPixels)
 	}
-	p := d.Pairs[i]
-	s := &Sample{Name: p.Name}
-	var err error
-	if s.Left, err = d.loadImage(p, p.Left, width, height); err != nil {
-		return nil, err
+	r, err := ds.Read(i)
+	if err != nil {
+		return nil, fmt.Errorf("data: %w", err)
 	}
-	if s.Right, err = d.loadImage(p, p.Right, width, height); err != nil {
-		return nil, err
+	s := &Sample{Name: r.Name}
+	if s.Left, err = toPlanar(r.Left, width, height); err != nil {
+		return nil, fmt.Errorf("data: %s: %w", ds.Pairs[i].Left, err)
 	}
-	for _, k := range []struct {
-		kind string
-		dst  **planar.Image
-	}{{DispLeft, &s.DispLeft}, {DispRight, &s.DispRight}, {DepthLeft, &s.DepthLeft}} {
-		path, ok := p.Truth[k.kind]
-		if !ok {
-			continue
-		}
-		scale := float32(1)
-		if k.kind != DepthLeft {
-			scale = 1 / float32(p.Width) // pixels at the stored width → fraction
-		}
-		if *k.dst, err = d.loadPFM(p, path, scale, width, height); err != nil {
-			return nil, err
-		}
+	if s.Right, err = toPlanar(r.Right, width, height); err != nil {
+		return nil, fmt.Errorf("data: %s: %w", ds.Pairs[i].Right, err)
 	}
-	for _, k := range []struct {
-		kind string
-		dst  **planar.Image
-	}{{OccLeft, &s.OccLeft}, {OccRight, &s.OccRight}} {
-		if path, ok := p.Truth[k.kind]; ok {
-			if *k.dst, err = d.loadGrey(p, path, width, height); err != nil {
-				return nil, err
-			}
-		}
+	// Disparity in pixels at the stored width → fraction of the width.
+	inv := 1 / float32(ds.Pairs[i].Width)
+	if r.DispLeft != nil {
+		s.DispLeft = nearest(scaled(&r.DispLeft.Map, inv), width, height)
+	}
+	if r.DispRight != nil {
+		s.DispRight = nearest(scaled(&r.DispRight.Map, inv), width, height)
+	}
+	if r.DepthLeft != nil {
+		s.DepthLeft = nearest(scaled(&r.DepthLeft.Map, 1), width, height)
+	}
+	if r.OccLeft != nil {
+		s.OccLeft = nearest(grey(r.OccLeft), width, height)
+	}
+	if r.OccRight != nil {
+		s.OccRight = nearest(grey(r.OccRight), width, height)
 	}
 	return s, nil
 }
 
-func (d *Dataset) decode(p Pair, path string) (image.Image, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("data: %w", err)
-	}
-	defer f.Close()
-	// Check the size in the header first: the file may have changed since
-	// Open, and decoding a hostile size would allocate without bound.
-	c, _, err := image.DecodeConfig(f)
-	if err != nil {
-		return nil, fmt.Errorf("data: %s: %v", rel(d.Dir, path), err)
-	}
-	if c.Width != p.Width || c.Height != p.Height {
-		return nil, fmt.Errorf("data: %s is %d×%d, expected %d×%d", rel(d.Dir, path), c.Width, c.Height, p.Width, p.Height)
-	}
-	if _, err := f.Seek(0, io.SeekStart); err != nil {
-		return nil, fmt.Errorf("data: %w", err)
-	}
-	img, _, err := image.Decode(f)
-	if err != nil {
-		return nil, fmt.Errorf("data: %s: %v", rel(d.Dir, path), err)
-	}
-	if b := img.Bounds(); b.Dx() != p.Width || b.Dy() != p.Height {
-		return nil, fmt.Errorf("data: %s is %d×%d, expected %d×%d", rel(d.Dir, path), b.Dx(), b.Dy(), p.Width, p.Height)
-	}
-	return img, nil
-}
-
-func (d *Dataset) loadImage(p Pair, path string, width, height int) (*planar.Image, error) {
-	img, err := d.decode(p, path)
-	if err != nil {
-		return nil, err
-	}
-	if p.Width == width && p.Height == height {
-		out, err := planar.FromImage(img)
-		if err != nil {
-			return nil, fmt.Errorf("data: %s: %w", rel(d.Dir, path), err)
-		}
-		return out, nil
+// toPlanar returns img as a 1×3×H×W image at width × height.
+func toPlanar(img image.Image, width, height int) (*planar.Image, error) {
+	if b := img.Bounds(); b.Dx() == width && b.Dy() == height {
+		return planar.FromImage(img)
 	}
 	return resizeImage(img, width, height), nil
 }
@@ -134,48 +88,43 @@ func resizeImage(img image.Image, width, height int) *planar.Image {
 	return out
 }
 
-// loadPFM reads a one-channel PFM of the pair's size, multiplies valid
-// values by scale, zeroes invalid ones and resamples by nearest neighbour.
-func (d *Dataset) loadPFM(p Pair, path string, scale float32, width, height int) (*planar.Image, error) {
-	pix, w, h, c, err := depth.LoadPFM(path)
-	if err != nil {
-		return nil, fmt.Errorf("data: %w", err)
-	}
-	if c != 1 {
-		return nil, fmt.Errorf("data: %s has %d channels, want 1", rel(d.Dir, path), c)
-	}
-	if w != p.Width || h != p.Height {
-		return nil, fmt.Errorf("data: %s is %d×%d but the pair's images are %d×%d", rel(d.Dir, path), w, h, p.Width, p.Height)
-	}
-	for i, v := range pix {
-		if v > 0 && !math.IsInf(float64(v), 1) {
-			pix[i] = v * scale
-		} else {
-			pix[i] = 0 // NaN, ±Inf, 0 and negative values carry no truth
-		}
-	}
-	return nearest(pix, w, h, width, height), nil
+// planeMap is a single-channel w×h map, row-major.
+type planeMap struct {
+	pix  []float32
+	w, h int
 }
 
-func (d *Dataset) loadGrey(p Pair, path string, width, height int) (*planar.Image, error) {
-	img, err := d.decode(p, path)
-	if err != nil {
-		return nil, err
+// scaled returns the valid values of m multiplied by scale, 0 elsewhere.
+func scaled(m *depth.Map, scale float32) planeMap {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	out := planeMap{make([]float32, w*h), w, h}
+	for y := range h {
+		for x := range w {
+			if i := y*m.Stride + x; m.Mask[i] != 0 {
+				out.pix[y*w+x] = m.Pix[i] * scale
+			}
+		}
 	}
+	return out
+}
+
+// grey returns the grey level of img (its red channel) in [0, 1].
+func grey(img image.Image) planeMap {
 	b := img.Bounds()
-	pix := make([]float32, b.Dx()*b.Dy())
+	out := planeMap{make([]float32, b.Dx()*b.Dy()), b.Dx(), b.Dy()}
 	for y := 0; y < b.Dy(); y++ {
 		for x := 0; x < b.Dx(); x++ {
 			r, _, _, _ := img.At(b.Min.X+x, b.Min.Y+y).RGBA()
-			pix[y*b.Dx()+x] = float32(r) / 0xffff
+			out.pix[y*b.Dx()+x] = float32(r) / 0xffff
 		}
 	}
-	return nearest(pix, b.Dx(), b.Dy(), width, height), nil
+	return out
 }
 
-// nearest resamples a w×h map to width×height, taking for each output pixel
+// nearest resamples a map to width×height, taking for each output pixel
 // centre the input pixel whose area contains it.
-func nearest(pix []float32, w, h, width, height int) *planar.Image {
+func nearest(m planeMap, width, height int) *planar.Image {
+	pix, w, h := m.pix, m.w, m.h
 	out := planar.New(1, 1, height, width)
 	if w == width && h == height {
 		copy(out.Pix, pix)

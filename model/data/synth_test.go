@@ -5,6 +5,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/warp"
 )
@@ -41,7 +42,7 @@ func rebuildError(t *testing.T, s *Sample) (float64, int) {
 // swapping must not.
 func TestSynthFolders(t *testing.T) {
 	for _, style := range []string{"greenhouse", "storage"} {
-		ds, err := Open(filepath.Join("..", "..", "testdata", "synth", style))
+		ds, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", style))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -49,7 +50,7 @@ func TestSynthFolders(t *testing.T) {
 			t.Fatalf("%s: %d pairs, rig %v, truth %v", style, len(ds.Pairs), ds.Rig, ds.Truth)
 		}
 		for i := range ds.Pairs {
-			s, err := ds.Load(i, 256, 128)
+			s, err := Load(ds, i, 256, 128)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -74,11 +75,11 @@ func TestSynthFolders(t *testing.T) {
 			t.Logf("%s/%s: rebuild error %.4f (%d px), flipped %.4f (%d px), mirrored only %.4f", style, s.Name, e0, n0, e1, n1, e2)
 
 			// Downscaled by 2, the disparity keeps its fraction of the width.
-			h, err := ds.Load(i, 128, 64)
+			h, err := Load(ds, i, 128, 64)
 			if err != nil {
 				t.Fatal(err)
 			}
-			full, _ := ds.Load(i, 256, 128)
+			full, _ := Load(ds, i, 256, 128)
 			if !sameAt(h.DispLeft, full.DispLeft, 10, 20) {
 				t.Errorf("%s/%s: half-size disparity differs from the full-size one", style, s.Name)
 			}

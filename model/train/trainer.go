@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
@@ -49,7 +50,7 @@ func LoaderSource(l *data.Loader) Source { return loaderSource{l} }
 // c: images resized to c's input size, batches of batch pairs (a last
 // partial batch of an epoch is dropped), shuffled every epoch by seed, with
 // augmentation aug (nil for none; data.DefaultAugment is a common choice).
-func NewDatasetSource(ds *data.Dataset, c model.Config, batch int, seed uint64, aug *data.Augment) (Source, error) {
+func NewDatasetSource(ds *dataset.Set, c model.Config, batch int, seed uint64, aug *data.Augment) (Source, error) {
 	c = c.WithDefaults()
 	l, err := data.NewLoader(ds, &data.Options{Width: c.Width, Height: c.Height, BatchSize: batch,
 		Shuffle: true, Seed: seed, Augment: aug, DropPartial: true})

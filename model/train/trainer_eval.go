@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
@@ -38,7 +39,7 @@ type Evaluation struct {
 // network's input) with model's graph-free forward pass and scores d_L
 // against the ground truth with package depth. It returns an error if ds
 // has no disparity or depth ground truth, or a file cannot be read.
-func Evaluate(ctx context.Context, w *model.Weights, ds *data.Dataset, batch int) (*Evaluation, error) {
+func Evaluate(ctx context.Context, w *model.Weights, ds *dataset.Set, batch int) (*Evaluation, error) {
 	if w == nil || ds == nil {
 		return nil, errors.New("train: evaluate: nil weights or data set")
 	}
@@ -47,8 +48,8 @@ func Evaluate(ctx context.Context, w *model.Weights, ds *data.Dataset, batch int
 	}
 	hasDisp, hasDepth := false, false
 	for _, k := range ds.Truth {
-		hasDisp = hasDisp || k == data.DispLeft
-		hasDepth = hasDepth || (k == data.DepthLeft && ds.Rig != nil)
+		hasDisp = hasDisp || k == dataset.DispLeft
+		hasDepth = hasDepth || (k == dataset.DepthLeft && ds.Rig != nil)
 	}
 	if !hasDisp && !hasDepth {
 		return nil, fmt.Errorf("train: evaluate: %s has no left disparity or depth ground truth (with a rig)", ds.Dir)

@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
 )
@@ -23,9 +24,9 @@ var trainerConfig = model.Config{Width: 128, Height: 64, Encoder: []int{8, 8, 12
 
 // openSynth opens a style of testdata/synth (3 pairs with exact ground
 // truth, made by package synth).
-func openSynth(t testing.TB, style string) *data.Dataset {
+func openSynth(t testing.TB, style string) *dataset.Set {
 	t.Helper()
-	ds, err := data.Open(filepath.Join("..", "..", "testdata", "synth", style))
+	ds, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", style))
 	if err != nil {
 		t.Skipf("synthetic pairs not available: %v", err)
 	}
