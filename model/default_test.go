@@ -1,44 +1,27 @@
 package model
 
 import (
-	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
 	"flag"
-	"github.com/parallaxdepth/parallax/safetensors"
 	"math"
+	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/planar"
+	"github.com/parallaxdepth/parallax/safetensors"
 )
 
-var (
-	writePlaceholder = flag.Bool("write-placeholder", false, "rewrite model/weights/default.safetensors with the untrained placeholder")
-	fp32Weights      = flag.String("fp32-weights", "", "an safetensors.F32 weights file whose safetensors.F16 copy is the embedded default; checked by TestDefaultF16")
-)
+var f32Weights = flag.String("f32-weights", "", "rewrite testdata/model/default_f32_disp0.safetensors from this F32 original of the embedded weights (a weights file or a training checkpoint; a relative path starts in model/, e.g. ../training/default/checkpoint.safetensors)")
 
-// placeholder returns the untrained placeholder in F32.
-func placeholder(t testing.TB) *Weights {
-	w, err := NewWeights(Config{}, PlaceholderSeed)
-	if err != nil {
-		t.Fatal(err)
-	}
-	w.Provenance = map[string]string{
-		ProvenanceStatus: StatusPlaceholder,
-		"made_by":        "model.NewWeights(model.Config{}, 1) stored as safetensors.F16 by: go test ./model -run TestDefaultPlaceholder -write-placeholder",
-		"note":           "never trained: its depth is meaningless; replace with trained weights",
-	}
-	return w
-}
+// f32Reference is the committed output of the embedded weights' F32
+// original: disp0 on the demo image (testdata/infer/input_u8.bin), with the
+// SHA-256 of the F16 file it belongs to.
+var f32Reference = filepath.Join("..", "testdata", "model", "default_f32_disp0.safetensors")
 
-// TestDefaultPlaceholder checks that the embedded weights load and, while
-// they are the placeholder, that they are exactly the F16 copy of the
-// deterministic initialisation, so anyone can rebuild them.
-func TestDefaultPlaceholder(t *testing.T) {
-	if *writePlaceholder {
-		if err := placeholder(t).Save(filepath.Join("weights", "default.safetensors"), safetensors.F16); err != nil {
-			t.Fatal(err)
-		}
-	}
+func TestDefault(t *testing.T) {
 	w, err := Default()
 	if err != nil {
 		t.Fatal(err)
@@ -46,90 +29,150 @@ func TestDefaultPlaceholder(t *testing.T) {
 	if len(defaultWeights) > 8<<20 {
 		t.Errorf("embedded weights are %d bytes, the budget is 8 MB", len(defaultWeights))
 	}
-	if !w.IsPlaceholder() {
-		t.Logf("embedded weights are not the placeholder: %v", w.Provenance)
-		return
-	}
-	var buf bytes.Buffer
-	if err := placeholder(t).Encode(&buf, safetensors.F16); err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(buf.Bytes(), defaultWeights) {
-		t.Error("the embedded placeholder differs from NewWeights(Config{}, PlaceholderSeed) in safetensors.F16: rerun with -write-placeholder")
+	if w.Provenance[ProvenanceStatus] == "" {
+		t.Errorf("the embedded weights' provenance has no %q: %v", ProvenanceStatus, w.Provenance)
 	}
 	// Default returns a copy: changing it leaves the next one alone.
 	w.Params["head0.bias"][0] = 42
-	w2, _ := Default()
+	w2, err := Default()
+	if err != nil {
+		t.Fatal(err)
+	}
 	if w2.Params["head0.bias"][0] == 42 {
 		t.Error("Default shares its tensors between calls")
 	}
 }
 
-// TestDefaultF16 checks that storing the weights as F16 moves the network's
-// output by at most 1e-3 (a fraction of the width, the budget of the issue)
-// on the demo-like input: the F32 weights are the placeholder's
-// initialisation, or the file given with -fp32-weights when the embedded
-// default has been trained.
+// demoInput returns the demo image as the network's input: the planes of
+// testdata/infer/input_u8.bin (written by TestTorchInterchange) over 255.
+func demoInput(t testing.TB) *planar.Image {
+	a, err := Build(Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	u8, err := os.ReadFile(filepath.Join("..", "testdata", "infer", "input_u8.bin"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := planar.New(1, a.Input.C, a.Input.H, a.Input.W)
+	if len(u8) != len(in.Pix) {
+		t.Fatalf("input_u8.bin has %d bytes, the input %d values", len(u8), len(in.Pix))
+	}
+	for i, v := range u8 {
+		in.Pix[i] = float32(v) / 255
+	}
+	return in
+}
+
+func forwardDisp0(t testing.TB, w *Weights, in *planar.Image) []float32 {
+	net, err := NewNet(w, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o, err := net.Forward(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return slices.Clone(o[0].Pix)
+}
+
+// loadF32Original reads the F32 weights of a weights file or of a training
+// checkpoint: the tensors named as the architecture's parameters (package
+// model cannot import model/train).
+func loadF32Original(t testing.TB, path string) *Weights {
+	ts, meta, err := safetensors.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := configFromMetadata(meta)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := Build(c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var params []safetensors.Tensor
+	for _, x := range ts {
+		if _, ok := a.Param(x.Name); ok {
+			params = append(params, x)
+		}
+	}
+	w, err := WeightsFromTensors(params, meta)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return w
+}
+
+// TestDefaultF16 checks that storing the default weights as F16 moves the
+// network's output by at most 1e-3 of the width (the budget of the issue
+// that introduced F16 storage): the embedded weights' disp0 on the demo
+// image against the committed output of their F32 original. The reference
+// names the SHA-256 of the embedded file it was made for, so new weights
+// without a new reference fail. Rewrite it with
+//
+//	go test ./model -run TestDefaultF16 -f32-weights ../training/default/checkpoint.safetensors
+//
+// which first checks that the embedded weights are exactly that file's
+// weights rounded to F16.
 func TestDefaultF16(t *testing.T) {
-	f32 := placeholder(t)
 	def, err := Default()
 	if err != nil {
 		t.Fatal(err)
 	}
-	if *fp32Weights != "" {
-		if f32, err = Load(*fp32Weights); err != nil {
-			t.Fatal(err)
-		}
-	} else if !def.IsPlaceholder() {
-		t.Skip("the embedded weights are trained; pass -fp32-weights FILE with their safetensors.F32 original")
-	}
-	for name, v := range f32.Params {
-		h := def.Params[name]
-		for i := range v {
-			if want := safetensors.Float16From(safetensors.Float16Bits(v[i])); h[i] != want {
-				t.Fatalf("%s[%d]: embedded %v, safetensors.F16 of the safetensors.F32 weights %v", name, i, h[i], want)
+	sum := sha256.Sum256(defaultWeights)
+	digest := hex.EncodeToString(sum[:])
+	in := demoInput(t)
+	if *f32Weights != "" {
+		f32 := loadF32Original(t, *f32Weights)
+		for name, v := range f32.Params {
+			h := def.Params[name]
+			for i := range v {
+				if want := safetensors.Float16From(safetensors.Float16Bits(v[i])); h[i] != want {
+					t.Fatalf("%s[%d]: embedded %v, F16 of %s %v: not the embedded weights' original", name, i, h[i], *f32Weights, want)
+				}
 			}
 		}
-	}
-	in := testImage(t, def.Config)
-	outs := make([][]float32, 2)
-	for k, w := range []*Weights{f32, def} {
-		net, err := NewNet(w, 1)
+		a, err := Build(def.Config)
 		if err != nil {
 			t.Fatal(err)
 		}
-		o, err := net.Forward(in)
-		if err != nil {
+		sh, _ := a.Shape(a.Outputs[0])
+		ref := []safetensors.Tensor{{Name: "disp0", Shape: []int{sh.C, sh.H, sh.W}, Data: forwardDisp0(t, f32, in)}}
+		meta := map[string]string{
+			"weights_sha256": digest,
+			"source":         "F32 weights of " + filepath.Base(*f32Weights) + " at step " + f32.Provenance["train.steps"],
+			"input":          "testdata/infer/input_u8.bin / 255 (the demo image)",
+			"made_by":        "go test ./model -run TestDefaultF16 -f32-weights FILE",
+		}
+		if err := safetensors.WriteFile(f32Reference, ref, meta, safetensors.F32); err != nil {
 			t.Fatal(err)
 		}
-		outs[k] = append([]float32(nil), o[0].Pix...)
 	}
+	ts, meta, err := safetensors.ReadFile(f32Reference)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if meta["weights_sha256"] != digest {
+		t.Fatalf("%s belongs to other weights (SHA-256 %s, the embedded file's %s): rewrite it with -f32-weights", f32Reference, meta["weights_sha256"], digest)
+	}
+	got := forwardDisp0(t, def, in)
+	if len(ts) != 1 || ts[0].Name != "disp0" || len(ts[0].Data) != len(got) {
+		t.Fatalf("%s holds %d tensors; want disp0 with %d values", f32Reference, len(ts), len(got))
+	}
+	want := ts[0].Data
 	worst, lo, hi := 0.0, math.Inf(1), math.Inf(-1)
-	for i := range outs[0] {
-		worst = max(worst, math.Abs(float64(outs[0][i]-outs[1][i])))
-		lo, hi = min(lo, float64(outs[0][i])), max(hi, float64(outs[0][i]))
+	for i := range want {
+		worst = max(worst, math.Abs(float64(got[i]-want[i])))
+		lo, hi = min(lo, float64(want[i])), max(hi, float64(want[i]))
 	}
-	t.Logf("disp0 in [%.4f, %.4f]; largest safetensors.F16 - safetensors.F32 difference %.3g", lo, hi, worst)
+	t.Logf("F32 disp0 in [%.4f, %.4f] (%s); largest F16 - F32 difference %.3g", lo, hi, meta["source"], worst)
 	if worst > 1e-3 {
 		t.Errorf("F16 storage moves disp0 by %g > 1e-3", worst)
 	}
 	// The comparison means something only if the heads are not saturated.
-	if hi-lo < 1e-3 {
+	if hi-lo < 0.01 {
 		t.Errorf("disp0 spans only [%v, %v]: the heads are saturated", lo, hi)
 	}
-}
-
-// testImage is a deterministic smooth colour image at the network's size.
-func testImage(t testing.TB, c Config) *planar.Image {
-	c = c.WithDefaults()
-	in := planar.New(1, 3, c.Height, c.Width)
-	for ch := range 3 {
-		for y := range c.Height {
-			for x := range c.Width {
-				v := 0.5 + 0.4*math.Sin(float64(x)*0.07*float64(ch+1)+float64(y)*0.05)*math.Cos(float64(y)*0.03*float64(3-ch))
-				in.Set(0, ch, y, x, float32(v))
-			}
-		}
-	}
-	return in
 }

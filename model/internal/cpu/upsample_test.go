@@ -8,6 +8,19 @@ import (
 
 // upsamplePaths runs f with the Go loops and, where the CPU has them,
 // with the AVX2 loops.
+// blocksPaths runs f with the Go loops and, where the CPU has them, with
+// the AVX2 loops for 2×2 blocks (nearest upsampling).
+func blocksPaths(t *testing.T, f func(t *testing.T)) {
+	saved := blocksAVX2
+	defer func() { blocksAVX2 = saved }()
+	blocksAVX2 = false
+	t.Run("go", f)
+	if saved {
+		blocksAVX2 = true
+		t.Run("avx2", f)
+	}
+}
+
 func upsamplePaths(t *testing.T, f func(t *testing.T)) {
 	saved := upsampleAVX2
 	defer func() { upsampleAVX2 = saved }()

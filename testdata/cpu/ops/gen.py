@@ -1,6 +1,6 @@
 #!/usr/bin/python3
 """Regenerates the reference fixtures for the CPU engine's operators
-(model/internal/cpu: upsample*, concat*, activation*, bias*, pool*,
+(model/internal/cpu: upsample*, concat*, activation*, bias*,
 elementwise*).
 
 Source: PyTorch from Debian's python3-torch 1.13.1 (run with /usr/bin/python3,
@@ -116,16 +116,6 @@ def bias():
     write("bias.json", cases)
 
 
-def pool():
-    cases = []
-    for shape in [(2, 3, 4, 6), (1, 2, 5, 7), (1, 1, 3, 3), (1, 1, 2, 2), (2, 1, 7, 4), (1, 2, 6, 37)]:
-        x = randn(*shape)
-        y, gy, (gx,) = run(lambda t: F.avg_pool2d(t, kernel_size=2, stride=2), [x])
-        cases.append({"op": "avg_pool2d_k2_s2", "shape": list(shape), "x": flat(x),
-                      "y": flat(y), "gy": flat(gy), "gx": flat(gx)})
-    write("pool.json", cases)
-
-
 def elementwise():
     cases = []
     shape = (2, 3, 4, 5)
@@ -146,5 +136,4 @@ if __name__ == "__main__":
     concat()
     activation()
     bias()
-    pool()
     elementwise()
