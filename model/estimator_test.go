@@ -331,35 +331,6 @@ func TestFlipEquivariant(t *testing.T) {
 	}
 }
 
-func TestFlipBlend(t *testing.T) {
-	const h, w = 2, 201
-	orig, mirr, dst := make([]float32, h*w), make([]float32, h*w), make([]float32, h*w)
-	for i := range orig {
-		orig[i], mirr[i] = 1, 3
-	}
-	FlipBlend(dst, orig, mirr, h, w)
-	// Columns by u = x/200: the mirrored one alone up to u = 0.05, the
-	// ramp to the mean at u = 0.10, the original alone from u = 0.95.
-	for _, c := range []struct {
-		x    int
-		want float32
-	}{{0, 3}, {10, 3}, {15, 2.5}, {20, 2}, {100, 2}, {180, 2}, {185, 1.5}, {190, 1}, {200, 1}} {
-		for y := range h {
-			if got := dst[y*w+c.x]; math.Abs(float64(got-c.want)) > 1e-6 {
-				t.Errorf("column %d: %v, want %v", c.x, got, c.want)
-			}
-		}
-	}
-	// In place, agreeing predictions stay.
-	copy(mirr, orig)
-	FlipBlend(orig, orig, mirr, h, w)
-	for i, v := range orig {
-		if v != 1 {
-			t.Fatalf("agreeing predictions changed at %d: %v", i, v)
-		}
-	}
-}
-
 func TestLRConfidenceHand(t *testing.T) {
 	const h, w = 1, 10
 	left, right := make([]float32, w), make([]float32, w)

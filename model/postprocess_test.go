@@ -3,6 +3,7 @@ package model
 import (
 	"encoding/json"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"testing"
@@ -43,5 +44,85 @@ func TestResizeBilinearOpenCV(t *testing.T) {
 				break
 			}
 		}
+	}
+}
+
+// TestFlipBlend checks the support rule by hand on one row of 10 pixels:
+// orig says 1 px everywhere, mirrored 3 px. orig's columns 0–2 map left of
+// the right view by mirrored's 3 px (x − 3 < 0), so they take mirrored;
+// mirrored's column 9 maps outside by orig's 1 px (9 + 1 > 9), so it takes
+// orig; columns 3 and 8 sit exactly on the edge (u = 0 and u = 9, inside, as
+// in package warp) and are averaged like the rest.
+func TestFlipBlend(t *testing.T) {
+	const h, w = 2, 10
+	orig, mirr, dst := make([]float32, h*w), make([]float32, h*w), make([]float32, h*w)
+	for i := range orig {
+		orig[i], mirr[i] = 0.1, 0.3
+	}
+	FlipBlend(dst, orig, mirr, h, w)
+	for y := range h {
+		for x := range w {
+			want := float32(0.2)
+			switch {
+			case x <= 2:
+				want = 0.3
+			case x == 9:
+				want = 0.1
+			}
+			if got := dst[y*w+x]; math.Abs(float64(got-want)) > 1e-7 {
+				t.Errorf("row %d column %d: %v, want %v", y, x, got, want)
+			}
+		}
+	}
+	// Disparities wider than the image: neither has support anywhere, and
+	// every pixel is the mean.
+	for i := range orig {
+		orig[i], mirr[i] = 1.2, 1.1
+	}
+	FlipBlend(dst, orig, mirr, h, w)
+	for i, v := range dst {
+		if math.Abs(float64(v)-1.15) > 1e-6 {
+			t.Fatalf("both blind, pixel %d: %v, want 1.15", i, v)
+		}
+	}
+	// In place, agreeing predictions stay.
+	copy(mirr, orig)
+	FlipBlend(orig, orig, mirr, h, w)
+	for i, v := range orig {
+		if v != 1.2 {
+			t.Fatalf("agreeing predictions changed at %d: %v", i, v)
+		}
+	}
+}
+
+// TestFlipBlendMirror checks that the blend commutes with mirroring: for a
+// mirrored input the two predictions swap roles, so blending the mirrored
+// predictions gives the mirrored blend, bit for bit.
+func TestFlipBlendMirror(t *testing.T) {
+	const h, w = 3, 37
+	rng := rand.New(rand.NewPCG(4, 5))
+	orig, mirr := make([]float32, h*w), make([]float32, h*w)
+	for i := range orig {
+		orig[i], mirr[i] = 0.3*rng.Float32(), 0.3*rng.Float32()
+	}
+	dst, mdst := make([]float32, h*w), make([]float32, h*w)
+	FlipBlend(dst, orig, mirr, h, w)
+	mo, mm := make([]float32, h*w), make([]float32, h*w)
+	mirrorPlanes(mo, mirr, h, w)
+	mirrorPlanes(mm, orig, h, w)
+	FlipBlend(mdst, mo, mm, h, w)
+	back := make([]float32, h*w)
+	mirrorPlanes(back, mdst, h, w)
+	single := 0
+	for i := range dst {
+		if back[i] != dst[i] {
+			t.Fatalf("pixel %d: mirrored blend %v, blend %v", i, back[i], dst[i])
+		}
+		if dst[i] == orig[i] || dst[i] == mirr[i] {
+			single++
+		}
+	}
+	if single == 0 {
+		t.Error("no pixel took a single prediction: the random maps do not exercise the borders")
 	}
 }
