@@ -1,0 +1,93 @@
+package sgm
+
+import (
+	"image"
+	"image/color"
+)
+
+// grey writes img's luma into dst (row-major, width img.Bounds().Dx()),
+// with the weights of color.GrayModel (ITU-R BT.601: 0.299, 0.587, 0.114 on
+// 16-bit values, rounded). *image.Gray, *image.RGBA, *image.NRGBA and
+// *image.YCbCr (its Y plane) are read directly; other types go through
+// color.GrayModel.
+func grey(dst []uint8, img image.Image) {
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	switch m := img.(type) {
+	case *image.Gray:
+		for y := range h {
+			i := m.PixOffset(b.Min.X, b.Min.Y+y)
+			copy(dst[y*w:(y+1)*w], m.Pix[i:i+w])
+		}
+	case *image.YCbCr:
+		for y := range h {
+			i := m.YOffset(b.Min.X, b.Min.Y+y)
+			copy(dst[y*w:(y+1)*w], m.Y[i:i+w])
+		}
+	case *image.RGBA:
+		for y := range h {
+			i := m.PixOffset(b.Min.X, b.Min.Y+y)
+			row := m.Pix[i : i+4*w]
+			out := dst[y*w : (y+1)*w]
+			for x := range out {
+				p := row[4*x : 4*x+3 : 4*x+3]
+				out[x] = luma8(uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101)
+			}
+		}
+	case *image.NRGBA:
+		for y := range h {
+			i := m.PixOffset(b.Min.X, b.Min.Y+y)
+			row := m.Pix[i : i+4*w]
+			out := dst[y*w : (y+1)*w]
+			for x := range out {
+				p := row[4*x : 4*x+4 : 4*x+4]
+				r, g, bl, a := uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101, uint32(p[3])*0x101
+				if a != 0xffff { // as color.NRGBA.RGBA premultiplies
+					r, g, bl = r*a/0xffff, g*a/0xffff, bl*a/0xffff
+				}
+				out[x] = luma8(r, g, bl)
+			}
+		}
+	default:
+		for y := range h {
+			out := dst[y*w : (y+1)*w]
+			for x := range out {
+				out[x] = color.GrayModel.Convert(img.At(b.Min.X+x, b.Min.Y+y)).(color.Gray).Y
+			}
+		}
+	}
+}
+
+// luma8 is color.GrayModel's conversion of 16-bit premultiplied R, G, B.
+func luma8(r, g, b uint32) uint8 {
+	return uint8((19595*r + 38470*g + 7471*b + 1<<15) >> 24)
+}
+
+// censusRow writes row y of the census transform of a w-wide grey image,
+// read from pad (the image with a border of half the window on each side,
+// see padImage), into dst: bit k, counted from the most significant bit used
+// in row-major order over the cw×ch window without its centre, is 1 when
+// that neighbour is darker than the centre.
+func censusRow(dst []uint64, pad []uint8, w, cw, ch, y int) {
+	rx, ry := cw/2, ch/2
+	pw := w + 2*rx
+	out := dst[:w]
+	centre := pad[(y+ry)*pw+rx : (y+ry)*pw+rx+w]
+	clear(out)
+	for dy := range ch {
+		nrow := pad[(y+dy)*pw : (y+dy)*pw+pw]
+		for dx := range cw {
+			if dy == ry && dx == rx {
+				continue
+			}
+			n := nrow[dx : dx+w]
+			for x, c := range centre {
+				var bit uint64
+				if n[x] < c {
+					bit = 1
+				}
+				out[x] = out[x]<<1 | bit
+			}
+		}
+	}
+}

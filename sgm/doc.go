@@ -1,0 +1,66 @@
+// Package sgm computes disparity from a rectified stereo pair by
+// semi-global matching (H. Hirschmüller, "Stereo processing by semiglobal
+// matching and mutual information", IEEE TPAMI 30(2):328–341, 2008), in
+// pure Go: the classical matcher a robot can run without a network, and a
+// baseline and input for the project's stereo network.
+//
+// The method, as built here:
+//
+//  1. Matching cost: the census transform (R. Zabih and J. Woodfill,
+//     ECCV 1994) of each grey image over a CensusWidth × CensusHeight window, one
+//     bit per neighbour (1 when darker than the centre), and the Hamming
+//     distance between a left pixel's bits and the right pixel's at each
+//     disparity. The cost depends only on the order of grey levels around
+//     a pixel, so a gain or offset between the cameras' exposures does not
+//     change it.
+//  2. Aggregation along 4 or 8 straight paths (Options.Paths) with the
+//     penalties P1 for a one-pixel disparity change and P2 for a larger one;
+//     P2 shrinks where the grey level changes along the path
+//     (Options.P2Falloff), so that disparity may jump at intensity edges.
+//  3. Winner takes all over the summed path costs; a parabola through the
+//     best cost and its two neighbours gives the sub-pixel disparity.
+//  4. Checks that mark pixels invalid: uniqueness (the best cost must beat
+//     every cost more than one pixel away by Options.Uniqueness percent), a
+//     left-right check (the right view's winner, taken from the same summed
+//     costs, must agree within Options.LRTolerance), and speckle removal
+//     (small connected regions, Options.SpeckleSize).
+//  5. Optionally, the scan-line hole fill (Options.FillHoles, FillHoles):
+//     each hole takes the smaller of the nearest valid disparities to its
+//     left and right, the background beside an occluding edge.
+//
+// API (stable):
+//
+//	m, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: 47}) // nil: defaults
+//	res, err := m.Match(ctx, left, right)                    // image.Image each
+//	res.Disparity  // *depth.Disparity, left view, pixels, with validity
+//	res.Confidence // *depth.Confidence, from the cost curve, valid everywhere
+//	err = m.MatchInto(ctx, res, left2, right2)               // reuses res's maps: no allocation
+//	n, err := sgm.FillHoles(d)  // scan-line fill of any method's disparity
+//	n, err = sgm.ZeroHoles(d)   // holes become valid 0s, to score them as 0
+//
+// Conventions:
+//
+//   - Disparity is in pixels at the images' resolution, of the left view:
+//     left column x matches right column x − d (the convention of package
+//     depth). The search covers the integers MinDisparity … MaxDisparity;
+//     MaxDisparity may come from a depth.Rig (the disparity of its MinDepth
+//     at the image's width). Sub-pixel values lie within half a pixel of
+//     the integer winner.
+//   - Pixels whose best match falls left of the right image's first column,
+//     or that fail a check, are invalid (mask 0, value 0). Disparity 0 is
+//     never valid (package depth's rule), so with MinDisparity 0 a winner of
+//     0 is a hole.
+//   - Results have the left image's bounds; pixel (x, y) of the map is
+//     pixel (x, y) of the image.
+//   - Images are converted to 8-bit grey with color.GrayModel's weights.
+//   - Determinism: the costs and their sums are integers and every pixel's
+//     result depends only on the images and options, so the output has the
+//     same bits for any GOMAXPROCS and any number of concurrent calls.
+//   - Memory: each worker holds 3 bytes per cell (an 8-bit cost and a
+//     16-bit sum) for width × height × levels, levels rounded up to a
+//     multiple of 16, plus a few bytes per pixel; workers keep their
+//     buffers for the next call.
+//   - Errors start with "sgm: " and name the problem: a nil, empty,
+//     oversized or unequal image, an option out of range, a disparity range
+//     that does not fit the image. Nothing panics on data.
+package sgm

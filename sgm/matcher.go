@@ -1,0 +1,549 @@
+package sgm
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"image"
+	"math"
+	"math/bits"
+
+	"github.com/parallaxdepth/parallax/depth"
+)
+
+// Result is the output of Matcher.Match for one rectified pair, with the
+// bounds of the left image.
+type Result struct {
+	// Disparity is the left view's disparity in pixels: left column x
+	// matches right column x − d. Pixels that fail a check are invalid.
+	Disparity *depth.Disparity
+	// Confidence is valid at every pixel: (c₂ − c₁)/c₂ in [0, 1], where c₁
+	// is the best aggregated cost and c₂ the best one more than a pixel
+	// away from it; 0 where the disparity is invalid or was filled.
+	Confidence *depth.Confidence
+}
+
+// Matcher computes disparity from rectified stereo pairs by semi-global
+// matching. It is safe for concurrent use: each call borrows a worker (its
+// buffers) from a pool of at most Options.MaxWorkers and returns it, so
+// calls beyond MaxWorkers wait, or give up when their context ends.
+type Matcher struct {
+	opt    Options
+	idle   chan *worker
+	tokens chan struct{} // one per worker that may still be created
+}
+
+// NewMatcher returns a Matcher with the options opt (nil means the
+// defaults), or an error naming an option out of range.
+func NewMatcher(opt *Options) (*Matcher, error) {
+	var o Options
+	if opt != nil {
+		o = *opt
+	}
+	o, err := o.resolve()
+	if err != nil {
+		return nil, err
+	}
+	m := &Matcher{opt: o, idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
+	for range o.MaxWorkers {
+		m.tokens <- struct{}{}
+	}
+	return m, nil
+}
+
+// Options returns the Matcher's options with every default filled in.
+func (m *Matcher) Options() Options {
+	o := m.opt
+	if o.Rig != nil {
+		r := *o.Rig
+		o.Rig = &r
+	}
+	return o
+}
+
+// Range returns the disparities [lo, hi], in pixels, that the Matcher
+// searches in an image width pixels wide, or an error if that width leaves
+// nothing to search.
+func (m *Matcher) Range(width int) (lo, hi int, err error) {
+	return m.opt.disparityRange(width)
+}
+
+// Match computes the left view's disparity and its confidence for the
+// rectified pair left, right (equal sizes; colour images are converted to
+// grey). It returns an error if an image is nil, empty, too large or the
+// sizes differ, if the disparity range does not fit the image, or if ctx
+// ends while waiting for a worker.
+func (m *Matcher) Match(ctx context.Context, left, right image.Image) (*Result, error) {
+	var r Result
+	if err := m.MatchInto(ctx, &r, left, right); err != nil {
+		return nil, err
+	}
+	return &r, nil
+}
+
+// MatchInto is Match writing into dst. Its maps are reused when their
+// bounds equal the left image's (Rect, with Stride ≥ width); otherwise, or
+// if nil, new ones are allocated. With reused maps a call does not allocate
+// in steady state for *image.Gray, *image.RGBA, *image.NRGBA and
+// *image.YCbCr inputs.
+func (m *Matcher) MatchInto(ctx context.Context, dst *Result, left, right image.Image) error {
+	if dst == nil {
+		return errors.New("sgm: MatchInto: nil result")
+	}
+	b, err := checkPair(left, right)
+	if err != nil {
+		return err
+	}
+	lo, hi, err := m.opt.disparityRange(b.Dx())
+	if err != nil {
+		return err
+	}
+	levels := hi - lo + 1
+	padded := (levels + 15) &^ 15
+	if cells := int64(b.Dx()) * int64(b.Dy()) * int64(padded); cells > MaxCells {
+		return fmt.Errorf("sgm: %dx%d pixels with %d disparity levels exceed %d cells", b.Dx(), b.Dy(), levels, MaxCells)
+	}
+	if dst.Disparity == nil || !fits(&dst.Disparity.Map, b) {
+		if dst.Disparity, err = depth.NewDisparity(b); err != nil {
+			return fmt.Errorf("sgm: %w", err)
+		}
+	}
+	if dst.Confidence == nil || !fits(&dst.Confidence.Map, b) {
+		if dst.Confidence, err = depth.NewConfidence(b); err != nil {
+			return fmt.Errorf("sgm: %w", err)
+		}
+	}
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("sgm: %w", err)
+	}
+	wk, err := m.acquire(ctx)
+	if err != nil {
+		return err
+	}
+	defer m.release(wk)
+	wk.run(left, right, lo, levels, dst)
+	return nil
+}
+
+// fits reports whether m can hold a map with bounds b.
+func fits(m *depth.Map, b image.Rectangle) bool {
+	return m.Rect == b && m.Stride >= b.Dx() && len(m.Pix) >= (b.Dy()-1)*m.Stride+b.Dx() && len(m.Mask) >= (b.Dy()-1)*m.Stride+b.Dx()
+}
+
+// checkPair returns the left image's bounds, or an error for a nil, empty or
+// oversized image or unequal sizes.
+func checkPair(left, right image.Image) (image.Rectangle, error) {
+	for _, s := range []struct {
+		name string
+		img  image.Image
+	}{{"left", left}, {"right", right}} {
+		if s.img == nil {
+			return image.Rectangle{}, fmt.Errorf("sgm: %s image is nil", s.name)
+		}
+		b := s.img.Bounds()
+		if b.Empty() {
+			return image.Rectangle{}, fmt.Errorf("sgm: %s image is empty (bounds %v)", s.name, b)
+		}
+		if w, h := b.Dx(), b.Dy(); w > depth.MaxSide || h > depth.MaxSide || w*h > depth.MaxPixels {
+			return image.Rectangle{}, fmt.Errorf("sgm: %s image is %dx%d, larger than %d pixels a side or %d pixels", s.name, w, h, depth.MaxSide, depth.MaxPixels)
+		}
+	}
+	lb, rb := left.Bounds(), right.Bounds()
+	if lb.Size() != rb.Size() {
+		return image.Rectangle{}, fmt.Errorf("sgm: left image is %dx%d and right image %dx%d: a rectified pair has equal sizes", lb.Dx(), lb.Dy(), rb.Dx(), rb.Dy())
+	}
+	return lb, nil
+}
+
+func (m *Matcher) acquire(ctx context.Context) (*worker, error) {
+	select {
+	case wk := <-m.idle:
+		return wk, nil
+	default:
+	}
+	select {
+	case wk := <-m.idle:
+		return wk, nil
+	case <-m.tokens:
+		return newWorker(&m.opt), nil
+	case <-ctx.Done():
+		return nil, fmt.Errorf("sgm: waiting for a worker: %w", ctx.Err())
+	}
+}
+
+func (m *Matcher) release(wk *worker) { m.idle <- wk }
+
+// Parallel work is split by the problem's size only.
+const (
+	rowGrain  = 4  // rows per range in the row-wise phases
+	bandLines = 16 // path lines per range in the vertical and diagonal phases
+)
+
+// worker holds one call's buffers, grown as needed and reused.
+type worker struct {
+	opt *Options
+
+	// The current call.
+	w, h     int
+	lo, n    int // first disparity, levels searched
+	np       int // levels stored per pixel: n rounded up to a multiple of 16
+	costMax  uint8
+	p1       uint16
+	p2       [256]uint16 // large-jump penalty by grey-level difference
+	shear    int         // of the band phase running
+	lineOff  int
+	dst      *Result
+	disp     []float32 // w×h, the disparity before it is written to dst
+	valid    []uint8
+	conf     []float32
+	greyL    []uint8
+	greyR    []uint8
+	padL     []uint8
+	padR     []uint8
+	censL    []uint64
+	censR    []uint64
+	texPre   []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each
+	cost     []uint8  // w×h×np
+	sum      []uint16 // w×h×np
+	rowBuf   []uint16 // per row range: 2 path vectors
+	rowInt   []int32  // per row range: 3×w
+	lineBuf  []uint16 // per line: 2 path vectors (alternating rows)
+	lineMin  []uint16 // per line: 2 minima
+	speckles speckleScratch
+
+	censusFn, rowFn, bandFn, selectFn func(lo, hi int)
+}
+
+func newWorker(o *Options) *worker {
+	wk := &worker{opt: o}
+	wk.censusFn = wk.censusRange
+	wk.rowFn = wk.rowRange
+	wk.bandFn = wk.bandRange
+	wk.selectFn = wk.selectRange
+	return wk
+}
+
+func grow[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n)
+	}
+	return s[:n]
+}
+
+// run matches one pair whose sizes and range were checked.
+func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
+	o := wk.opt
+	b := left.Bounds()
+	w, h := b.Dx(), b.Dy()
+	wk.w, wk.h, wk.lo, wk.n = w, h, lo, levels
+	wk.np = (levels + 15) &^ 15
+	wk.dst = dst
+	cw, ch := o.CensusWidth, o.CensusHeight
+	wk.costMax = uint8(cw*ch - 1)
+	wk.p1 = uint16(o.P1)
+	for g := range wk.p2 {
+		p := float64(o.P2)
+		if o.P2Falloff != Off {
+			p = math.Round(p * o.P2Falloff / (o.P2Falloff + float64(g)))
+		}
+		wk.p2[g] = uint16(max(p, float64(o.P1+1)))
+	}
+	wh := w * h
+	wk.greyL, wk.greyR = grow(wk.greyL, wh), grow(wk.greyR, wh)
+	npad := (w + cw - 1) * (h + ch - 1)
+	wk.padL, wk.padR = grow(wk.padL, npad), grow(wk.padR, npad)
+	wk.censL, wk.censR = grow(wk.censL, wh), grow(wk.censR, wh)
+	wk.texPre = grow(wk.texPre, h*(w+1))
+	wk.cost = grow(wk.cost, wh*wk.np)
+	wk.sum = grow(wk.sum, wh*wk.np)
+	ranges := (h + rowGrain - 1) / rowGrain
+	wk.rowBuf = grow(wk.rowBuf, ranges*2*(wk.np+2))
+	wk.rowInt = grow(wk.rowInt, ranges*3*w)
+	lines := w + h - 1
+	wk.lineBuf = grow(wk.lineBuf, lines*2*(wk.np+2))
+	wk.lineMin = grow(wk.lineMin, lines*2)
+	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
+
+	grey(wk.greyL, left)
+	grey(wk.greyR, right)
+	padImage(wk.padL, wk.greyL, w, h, cw, ch)
+	padImage(wk.padR, wk.greyR, w, h, cw, ch)
+	parallelFor(2*h, rowGrain, wk.censusFn)
+	parallelFor(h, rowGrain, wk.rowFn)
+	wk.band(0)
+	if o.Paths == 8 {
+		wk.band(1)
+		wk.band(-1)
+	}
+	parallelFor(h, rowGrain, wk.selectFn)
+	if o.SpeckleSize != Off {
+		wk.speckles.remove(wk.disp, wk.valid, w, h, o.SpeckleSize, float32(o.SpeckleJump))
+	}
+	if o.FillHoles {
+		for y := range h {
+			fillRow(wk.disp[y*w:(y+1)*w], wk.valid[y*w:(y+1)*w], filled)
+		}
+	}
+	wk.write()
+}
+
+// write copies the disparity, validity and confidence into dst.
+func (wk *worker) write() {
+	w := wk.w
+	d, c := wk.dst.Disparity, wk.dst.Confidence
+	for y := range wk.h {
+		dp, dm := d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w]
+		cp, cm := c.Pix[y*c.Stride:y*c.Stride+w], c.Mask[y*c.Stride:y*c.Stride+w]
+		disp, valid, conf := wk.disp[y*w:(y+1)*w], wk.valid[y*w:(y+1)*w], wk.conf[y*w:(y+1)*w]
+		for x, v := range disp {
+			cm[x] = 1
+			if valid[x] == 0 || !(v > 0) {
+				dp[x], dm[x], cp[x] = 0, 0, 0
+				continue
+			}
+			dp[x], dm[x] = v, 1
+			if valid[x] == filled {
+				cp[x] = 0
+			} else {
+				cp[x] = conf[x]
+			}
+		}
+	}
+}
+
+// padImage copies the w×h image g into pad with a border of half the census
+// window on each side, repeating the edge pixels.
+func padImage(pad, g []uint8, w, h, cw, ch int) {
+	rx, ry := cw/2, ch/2
+	pw := w + 2*rx
+	for py := range h + 2*ry {
+		sy := min(max(py-ry, 0), h-1)
+		src := g[sy*w : (sy+1)*w]
+		row := pad[py*pw : (py+1)*pw]
+		for x := range rx {
+			row[x] = src[0]
+			row[rx+w+x] = src[w-1]
+		}
+		copy(row[rx:rx+w], src)
+	}
+}
+
+// censusRange computes census rows [lo, hi) of the stacked left (rows
+// 0 … h−1) and right (h … 2h−1) images.
+func (wk *worker) censusRange(lo, hi int) {
+	w, h := wk.w, wk.h
+	for r := lo; r < hi; r++ {
+		if r < h {
+			censusRow(wk.censL[r*w:(r+1)*w], wk.padL, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r)
+			g, pre := wk.greyL[r*w:(r+1)*w], wk.texPre[r*(w+1):(r+1)*(w+1)]
+			pre[0] = 0
+			for x := range w - 1 {
+				pre[x+1] = pre[x] + int32(absDiff(g[x+1], g[x]))
+			}
+			pre[w] = pre[w-1]
+		} else {
+			censusRow(wk.censR[(r-h)*w:(r-h+1)*w], wk.padR, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r-h)
+		}
+	}
+}
+
+// rowRange computes the matching costs of rows [lo, hi) and aggregates them
+// along the two horizontal paths, which start the sums.
+func (wk *worker) rowRange(lo, hi int) {
+	w, np, n := wk.w, wk.np, wk.n
+	stride := np + 2
+	buf := wk.rowBuf[(lo/rowGrain)*2*stride:]
+	a, b := buf[:stride], buf[stride:2*stride]
+	for y := lo; y < hi; y++ {
+		cost := wk.cost[y*w*np : (y+1)*w*np]
+		sum := wk.sum[y*w*np : (y+1)*w*np]
+		cl, cr := wk.censL[y*w:(y+1)*w], wk.censR[y*w:(y+1)*w]
+		costMax := wk.costMax
+		for x := range w {
+			c := cost[x*np : (x+1)*np]
+			// Disparity lo+d matches right column x−lo−d.
+			k := min(n, x-wk.lo+1)
+			if k < 0 {
+				k = 0
+			}
+			l := cl[x]
+			for d := range k {
+				c[d] = uint8(bits.OnesCount64(l ^ cr[x-wk.lo-d]))
+			}
+			for d := k; d < np; d++ {
+				c[d] = costMax
+			}
+		}
+		clear(sum)
+		g := wk.greyL[y*w : (y+1)*w]
+		m := pathStart(a, cost[:np], sum[:np])
+		for x := 1; x < w; x++ {
+			m = pathStepGeneric(b, a, cost[x*np:(x+1)*np], sum[x*np:(x+1)*np], wk.p1, wk.p2[absDiff(g[x], g[x-1])], m)
+			a, b = b, a
+		}
+		m = pathStart(a, cost[(w-1)*np:], sum[(w-1)*np:])
+		for x := w - 2; x >= 0; x-- {
+			m = pathStepGeneric(b, a, cost[x*np:(x+1)*np], sum[x*np:(x+1)*np], wk.p1, wk.p2[absDiff(g[x], g[x+1])], m)
+			a, b = b, a
+		}
+	}
+}
+
+func absDiff(a, b uint8) uint8 {
+	if a > b {
+		return a - b
+	}
+	return b - a
+}
+
+// band aggregates along the two directions of the lines x = i + s·y + off:
+// vertical for s = 0, diagonal for s = ±1.
+func (wk *worker) band(s int) {
+	wk.shear = s
+	lines := wk.w
+	wk.lineOff = 0
+	if s != 0 {
+		lines = wk.w + wk.h - 1
+		if s == 1 {
+			wk.lineOff = -(wk.h - 1)
+		}
+	}
+	parallelFor(lines, bandLines, wk.bandFn)
+}
+
+// bandRange aggregates lines [lo, hi) of the current band downwards, then
+// upwards.
+func (wk *worker) bandRange(lo, hi int) {
+	w, h, np, s := wk.w, wk.h, wk.np, wk.shear
+	stride := np + 2
+	for _, down := range [2]bool{true, false} {
+		for step := range h {
+			y, py, px := step, step-1, -s // previous pixel at (x+px, py)
+			if !down {
+				y, py, px = h-1-step, h-step, s
+			}
+			cur, prev := y&1, (y&1)^1
+			x0 := max(lo+s*y+wk.lineOff, 0)
+			x1 := min(hi+s*y+wk.lineOff, w)
+			g := wk.greyL[y*w : (y+1)*w]
+			for x := x0; x < x1; x++ {
+				i := x - s*y - wk.lineOff
+				line := wk.lineBuf[i*2*stride : (i+1)*2*stride]
+				mins := wk.lineMin[2*i : 2*i+2]
+				c := wk.cost[(y*w+x)*np : (y*w+x+1)*np]
+				sum := wk.sum[(y*w+x)*np : (y*w+x+1)*np]
+				qx := x + px
+				if step == 0 || qx < 0 || qx >= w {
+					mins[cur] = pathStart(line[cur*stride:(cur+1)*stride], c, sum)
+					continue
+				}
+				p2 := wk.p2[absDiff(g[x], wk.greyL[py*w+qx])]
+				mins[cur] = pathStepGeneric(line[cur*stride:(cur+1)*stride], line[prev*stride:(prev+1)*stride], c, sum, wk.p1, p2, mins[prev])
+			}
+		}
+	}
+}
+
+// texture returns the mean absolute difference between horizontally
+// adjacent grey levels in the part of pixel (x, y)'s census window inside
+// the left image.
+func (wk *worker) texture(x, y int) float64 {
+	w, h := wk.w, wk.h
+	rx, ry := wk.opt.CensusWidth/2, wk.opt.CensusHeight/2
+	x0, x1 := max(x-rx, 0), min(x+rx, w-1) // differences x0|x0+1 … x1−1|x1
+	y0, y1 := max(y-ry, 0), min(y+ry, h-1)
+	if x1 == x0 {
+		return 0
+	}
+	var s int32
+	for r := y0; r <= y1; r++ {
+		pre := wk.texPre[r*(w+1) : (r+1)*(w+1)]
+		s += pre[x1] - pre[x0]
+	}
+	return float64(s) / float64((x1-x0)*(y1-y0+1))
+}
+
+// Validity codes in worker.valid.
+const (
+	invalid = 0
+	matched = 1
+	filled  = 2
+)
+
+// selectRange picks each pixel's disparity in rows [lo, hi): winner takes
+// all over the aggregated costs, the uniqueness and left-right checks, and
+// a parabola through the best cost and its neighbours for the sub-pixel
+// position.
+func (wk *worker) selectRange(lo, hi int) {
+	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
+	o := wk.opt
+	scratch := wk.rowInt[(lo/rowGrain)*3*w : (lo/rowGrain+1)*3*w]
+	best, rmin, rarg := scratch[:w], scratch[w:2*w], scratch[2*w:]
+	for y := lo; y < hi; y++ {
+		sum := wk.sum[y*w*np : (y+1)*w*np]
+		for i := range rmin {
+			rmin[i], rarg[i] = math.MaxInt32, -1
+		}
+		for x := range w {
+			v := sum[x*np : x*np+n]
+			bd, bv := 0, v[0]
+			for d, s := range v {
+				if s < bv {
+					bd, bv = d, s
+				}
+			}
+			best[x] = int32(bd)
+			// The right view's pixel x−dlo−d sees this cost at disparity
+			// dlo+d.
+			for d := 0; d < n && x-dlo-d >= 0; d++ {
+				xr := x - dlo - d
+				if int32(v[d]) < rmin[xr] {
+					rmin[xr], rarg[xr] = int32(v[d]), int32(d)
+				}
+			}
+		}
+		disp := wk.disp[y*w : (y+1)*w]
+		valid := wk.valid[y*w : (y+1)*w]
+		conf := wk.conf[y*w : (y+1)*w]
+		for x := range w {
+			disp[x], valid[x], conf[x] = 0, invalid, 0
+			bd := int(best[x])
+			xr := x - dlo - bd
+			if xr < 0 {
+				continue // the match lies outside the right image
+			}
+			if o.MinTexture > 0 && wk.texture(x, y) < o.MinTexture {
+				continue
+			}
+			v := sum[x*np : x*np+n]
+			bv := uint32(v[bd])
+			second := uint32(math.MaxUint32)
+			for d, s := range v {
+				if (d < bd-1 || d > bd+1) && uint32(s) < second {
+					second = uint32(s)
+				}
+			}
+			if second == math.MaxUint32 {
+				conf[x] = 1
+			} else if second > 0 {
+				conf[x] = float32(second-bv) / float32(second)
+			}
+			if o.Uniqueness != Off && second != math.MaxUint32 && float64(second)*100 <= float64(bv)*(100+o.Uniqueness) {
+				continue
+			}
+			if o.LRTolerance != Off {
+				if dr := int(rarg[xr]); dr < 0 || dr-bd > o.LRTolerance || bd-dr > o.LRTolerance {
+					continue
+				}
+			}
+			f := float32(dlo + bd)
+			if bd > 0 && bd < n-1 {
+				a, c := float32(v[bd-1]), float32(v[bd+1])
+				if den := a + c - 2*float32(bv); den > 0 {
+					f += (a - c) / (2 * den)
+				}
+			}
+			disp[x], valid[x] = f, matched
+		}
+	}
+}

@@ -1,0 +1,5 @@
+//go:build race
+
+package sgm
+
+const raceEnabled = true
