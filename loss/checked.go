@@ -180,7 +180,7 @@ func Consistency(dispL, dispR *planar.Image, b warp.Border) (value float64, grad
 	return value, gradL, gradR, nil
 }
 
-// ScaleImages is one scale of the objective for Evaluate: left and right
+// ScaleImages is one scale of the objective for EvalObjective: left and right
 // images of one shape, and left and right disparities (one channel) of the
 // same batch size and resolution.
 type ScaleImages struct {
@@ -194,33 +194,20 @@ type Gradients struct {
 	DispL, DispR *planar.Image
 }
 
-// Evaluate returns the weighted terms of the multi-scale objective (see
-// Objective; a nil opts means DefaultObjectiveOptions) and its gradient
-// with respect to every disparity. It returns an error if there is no
-// scale, an image is nil, empty or holds NaN or Inf, shapes disagree within
-// a scale, a disparity has more than one channel, an option is negative,
-// non-finite or out of range (Alpha outside [0, 1], an unknown Border), or
-// smoothness normalisation meets a disparity whose mean is not positive.
-func Evaluate(scales []ScaleImages, opts *ObjectiveOptions) (Terms, []Gradients, error) {
+// EvalObjective returns the weighted terms of the multi-scale objective
+// (see Objective; a nil opts means the defaults) and its gradient with
+// respect to every disparity. It returns an error if there is no scale, an
+// image is nil, empty or holds NaN or Inf, shapes disagree within a scale,
+// a disparity has more than one channel, an option is out of range (a
+// weight negative other than Off or not finite, Alpha outside (0, 1] and
+// not Off, an unknown Border), or smoothness normalisation meets a
+// disparity whose mean is not positive.
+func EvalObjective(scales []ScaleImages, opts *ObjectiveOptions) (Terms, []Gradients, error) {
 	const term = "objective"
-	o := DefaultObjectiveOptions()
-	if opts != nil {
-		o = *opts
+	if err := opts.Validate(); err != nil {
+		return Terms{}, nil, err
 	}
-	for _, w := range []struct {
-		name string
-		v    float64
-	}{{"appearance weight", o.Appearance}, {"smoothness weight", o.Smoothness}, {"consistency weight", o.Consistency}} {
-		if !(w.v >= 0) || math.IsInf(w.v, 0) {
-			return Terms{}, nil, fmt.Errorf("loss: %s: %s %v must be finite and not negative", term, w.name, w.v)
-		}
-	}
-	if !(o.Alpha >= 0 && o.Alpha <= 1) {
-		return Terms{}, nil, fmt.Errorf("loss: %s: alpha %v is outside [0, 1]", term, o.Alpha)
-	}
-	if o.Border != warp.Zero && o.Border != warp.Clamp {
-		return Terms{}, nil, fmt.Errorf("loss: %s: unknown border mode %v", term, o.Border)
-	}
+	o := opts.resolved()
 	if len(scales) == 0 {
 		return Terms{}, nil, fmt.Errorf("loss: %s: no scale given", term)
 	}
@@ -248,7 +235,7 @@ func Evaluate(scales []ScaleImages, opts *ObjectiveOptions) (Terms, []Gradients,
 			if err := checkPlaneOf(t, d.what, d.im, "left image", sc.Left); err != nil {
 				return Terms{}, nil, err
 			}
-			if o.NormalizeSmoothness && o.Smoothness != 0 {
+			if !o.RawSmoothness && o.Smoothness != 0 {
 				if err := checkMeans(t, d.what, d.im); err != nil {
 					return Terms{}, nil, err
 				}
@@ -258,7 +245,7 @@ func Evaluate(scales []ScaleImages, opts *ObjectiveOptions) (Terms, []Gradients,
 		grads[i] = Gradients{DispL: planar.New(sc.DispL.N, 1, sc.DispL.H, sc.DispL.W), DispR: planar.New(sc.DispR.N, 1, sc.DispR.H, sc.DispR.W)}
 		kg[i] = DispGrad{DispL: grads[i].DispL.Pix, DispR: grads[i].DispR.Pix}
 	}
-	obj := Objective{Options: &o}
+	obj := Objective{Options: opts}
 	t := obj.Eval(nil, kg, ks)
 	if err := finiteResult(term, t.Total); err != nil {
 		return Terms{}, nil, err

@@ -77,20 +77,20 @@ func TestCheckedErrors(t *testing.T) {
 	_, _, _, err = Consistency(disp, disp, warp.Border(9))
 	wantErr(t, err, "border")
 
-	_, _, err = Evaluate(nil, nil)
+	_, _, err = EvalObjective(nil, nil)
 	wantErr(t, err, "no scale")
 	good := ScaleImages{Left: img, Right: img, DispL: disp, DispR: disp}
 	bad := good
 	bad.DispR = filled(1, 1, 2, 5, 0.1)
-	_, _, err = Evaluate([]ScaleImages{good, bad}, nil)
+	_, _, err = EvalObjective([]ScaleImages{good, bad}, nil)
 	wantErr(t, err, "scale 1")
 	neg := DefaultObjectiveOptions()
-	neg.Smoothness = -1
-	_, _, err = Evaluate([]ScaleImages{good}, &neg)
+	neg.Smoothness = -2
+	_, _, err = EvalObjective([]ScaleImages{good}, &neg)
 	wantErr(t, err, "smoothness weight")
 	bad = good
 	bad.Right = nan
-	_, _, err = Evaluate([]ScaleImages{good, bad}, nil)
+	_, _, err = EvalObjective([]ScaleImages{good, bad}, nil)
 	wantErr(t, err, "right image")
 
 	_, err = Pyramid(empty, 2)
@@ -114,7 +114,7 @@ func TestCheckedMatchesKernels(t *testing.T) {
 		}
 		scales = append(scales, ScaleImages{Left: mk(s.C, s.Left), Right: mk(s.C, s.Right), DispL: mk(1, s.DispL), DispR: mk(1, s.DispR)})
 	}
-	terms, grads, err := Evaluate(scales, nil)
+	terms, grads, err := EvalObjective(scales, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -217,7 +217,7 @@ func FuzzSmoothnessConsistency(f *testing.F) {
 	})
 }
 
-func FuzzEvaluate(f *testing.F) {
+func FuzzEvalObjective(f *testing.F) {
 	fuzzSeeds(f)
 	f.Fuzz(func(t *testing.T, a, b []byte) {
 		l, rest := fuzzImage(a, 3)
@@ -235,9 +235,9 @@ func FuzzEvaluate(f *testing.F) {
 		opts := DefaultObjectiveOptions()
 		if len(rest) > 0 {
 			opts.Alpha = float64(rest[0]) / 200
-			opts.NormalizeSmoothness = rest[0]%2 == 0
+			opts.RawSmoothness = rest[0]%2 == 1
 		}
-		terms, grads, err := Evaluate([]ScaleImages{{Left: l, Right: r, DispL: dl, DispR: dr}}, &opts)
+		terms, grads, err := EvalObjective([]ScaleImages{{Left: l, Right: r, DispL: dl, DispR: dr}}, &opts)
 		finiteOrErr(t, "Evaluate", terms.Total, err)
 		if err == nil && len(grads) != 1 {
 			t.Fatalf("%d gradients for 1 scale", len(grads))

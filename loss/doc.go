@@ -37,7 +37,7 @@
 // with the Shape, or a non-positive Shape. They never panic on values: NaN
 // and Inf propagate into the result.
 //
-// The checked API (SSIM, Appearance, Smoothness, Consistency, Evaluate,
+// The checked API (SSIM, Appearance, Smoothness, Consistency, EvalObjective,
 // Pyramid) takes *planar.Image values and returns an error whose text
 // starts with "loss: " and names the problem (nil or empty images,
 // mismatched shapes, wrong channel counts, NaN or Inf values).

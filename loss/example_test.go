@@ -49,7 +49,7 @@ func ExampleCheckGradient() {
 // 0. With SSIM (the default α = 0.85) the appearance is not quite 0: the
 // 3×3 windows in the first valid column of the rebuilt left view still see
 // the unfilled column beside it.
-func ExampleEvaluate() {
+func ExampleEvalObjective() {
 	const h, w = 4, 16
 	left := planar.New(1, 3, h, w)
 	right := planar.New(1, 3, h, w)
@@ -71,9 +71,9 @@ func ExampleEvaluate() {
 	}
 	scales := []loss.ScaleImages{{Left: left, Right: right, DispL: dl, DispR: dr}}
 	l1 := loss.DefaultObjectiveOptions()
-	l1.Alpha = 0
+	l1.Alpha = loss.Off
 	for _, opts := range []*loss.ObjectiveOptions{&l1, nil} {
-		terms, grads, err := loss.Evaluate(scales, opts)
+		terms, grads, err := loss.EvalObjective(scales, opts)
 		if err != nil {
 			fmt.Println(err)
 			return

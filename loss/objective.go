@@ -2,49 +2,102 @@ package loss
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/parallaxdepth/parallax/warp"
 )
 
 // ObjectiveOptions are the weights and settings of the combined objective.
-// A nil *ObjectiveOptions means DefaultObjectiveOptions; a non-nil value is
-// taken literally, so a weight of 0 switches its term off.
+// A nil *ObjectiveOptions means the defaults, and so does each zero field:
+// ObjectiveOptions{} is DefaultObjectiveOptions(). A weight (and Alpha) set
+// to Off is 0: it switches its term (the SSIM share) off.
 type ObjectiveOptions struct {
 	// Appearance weights the photometric appearance term of both views.
-	// Default 1.
+	// If 0 it is defaulted to 1.
 	Appearance float64
 	// Smoothness weights the edge-aware smoothness of both disparities at
 	// the finest scale; scale s (0 = finest) uses Smoothness / 2^s, because
-	// a disparity step spans 2^s times fewer pixels there. Default 0.1.
+	// a disparity step spans 2^s times fewer pixels there. If 0 it is
+	// defaulted to 0.1.
 	Smoothness float64
-	// Consistency weights the left-right consistency term. Default 1.
+	// Consistency weights the left-right consistency term. If 0 it is
+	// defaulted to 1.
 	Consistency float64
-	// Alpha is the SSIM share α of the appearance term (0 gives L1 only).
-	// Default DefaultAlpha (0.85).
+	// Alpha is the SSIM share α of the appearance term, in (0, 1]; Off
+	// gives L1 only. If 0 it is defaulted to DefaultAlpha (0.85).
 	Alpha float64
-	// NormalizeSmoothness divides each disparity by its per-image mean
-	// before the smoothness term, so the term does not reward shrinking the
-	// disparities. Default true.
-	NormalizeSmoothness bool
+	// RawSmoothness, if true, applies the smoothness term to the
+	// disparities as they are. By default each disparity is divided by its
+	// per-image mean first, so that the term does not reward shrinking the
+	// disparities.
+	RawSmoothness bool
 	// Border is the warp border mode for the reconstructions and the
-	// consistency term. Default warp.Zero. Pixels whose sample falls outside
-	// the source are excluded by the warp's mask either way.
+	// consistency term; the zero value is warp.Zero. Pixels whose sample
+	// falls outside the source are excluded by the warp's mask either way.
 	Border warp.Border
 }
 
-// DefaultObjectiveOptions returns the defaults: appearance 1, smoothness
-// 0.1 (halved at each coarser scale), consistency 1, α = 0.85, smoothness on
-// mean-normalised disparity, warp.Zero borders. These weights are our
-// choice, in line with common practice for self-supervised stereo.
+// Off, as a weight of ObjectiveOptions or as its Alpha, stands for 0,
+// which the zero value cannot say (a zero field means its default).
+const Off = -1.0
+
+// DefaultObjectiveOptions returns the defaults, written out: appearance 1,
+// smoothness 0.1 (halved at each coarser scale), consistency 1, α = 0.85,
+// smoothness on mean-normalised disparity, warp.Zero borders. These weights
+// are our choice, in line with common practice for self-supervised stereo.
 func DefaultObjectiveOptions() ObjectiveOptions {
 	return ObjectiveOptions{
-		Appearance:          1,
-		Smoothness:          0.1,
-		Consistency:         1,
-		Alpha:               DefaultAlpha,
-		NormalizeSmoothness: true,
-		Border:              warp.Zero,
+		Appearance:  1,
+		Smoothness:  0.1,
+		Consistency: 1,
+		Alpha:       DefaultAlpha,
+		Border:      warp.Zero,
 	}
+}
+
+// resolved returns the options in effect: the defaults for nil and for
+// every zero field, 0 for every Off. Other values are kept, so that
+// EvalObjective can refuse them.
+func (o *ObjectiveOptions) resolved() ObjectiveOptions {
+	def := DefaultObjectiveOptions()
+	if o == nil {
+		return def
+	}
+	r := *o
+	for _, f := range []struct{ v, def *float64 }{
+		{&r.Appearance, &def.Appearance}, {&r.Smoothness, &def.Smoothness},
+		{&r.Consistency, &def.Consistency}, {&r.Alpha, &def.Alpha},
+	} {
+		switch *f.v {
+		case 0:
+			*f.v = *f.def
+		case Off:
+			*f.v = 0
+		}
+	}
+	return r
+}
+
+// Validate returns an error naming the first option of o that is out of
+// range: a weight that is negative (other than Off) or not finite, an Alpha
+// outside (0, 1] that is not Off, or an unknown Border. A nil o is valid.
+func (o *ObjectiveOptions) Validate() error {
+	r := o.resolved()
+	for _, w := range []struct {
+		name string
+		v    float64
+	}{{"appearance weight", r.Appearance}, {"smoothness weight", r.Smoothness}, {"consistency weight", r.Consistency}} {
+		if !(w.v >= 0) || math.IsInf(w.v, 0) {
+			return fmt.Errorf("loss: objective: %s %v must be finite and positive, or Off", w.name, w.v)
+		}
+	}
+	if !(r.Alpha >= 0 && r.Alpha <= 1) {
+		return fmt.Errorf("loss: objective: alpha %v is outside (0, 1] and not Off", r.Alpha)
+	}
+	if r.Border != warp.Zero && r.Border != warp.Clamp {
+		return fmt.Errorf("loss: objective: unknown border mode %v", r.Border)
+	}
+	return nil
 }
 
 // Scale is one scale of the objective: the left and right images (N*C*H*W
@@ -88,10 +141,9 @@ func (t *Terms) add(o Terms) {
 // warp(I_L by d_R, RebuildRight) with validity m_R, A is AppearanceKernel,
 // Sm is SmoothnessKernel and LR is ConsistencyKernel. Averaging over the
 // scales keeps the magnitude independent of their number. The zero value
-// uses DefaultObjectiveOptions and is ready to use.
+// uses the default options and is ready to use.
 type Objective struct {
-	// Options are the weights and settings; nil means
-	// DefaultObjectiveOptions.
+	// Options are the weights and settings; nil means the defaults.
 	Options *ObjectiveOptions
 
 	app   AppearanceKernel
@@ -112,7 +164,7 @@ type Objective struct {
 // allocate in steady state. It panics if grads or perScale is not nil and
 // has a length other than len(scales), if a slice length does not match
 // its scale's Shape, or if Options.Border is not a defined warp.Border (as
-// warp.Forward does); Evaluate checks all of these and returns errors.
+// warp.Forward does); EvalObjective checks all of these and returns errors.
 func (o *Objective) Eval(perScale []Terms, grads []DispGrad, scales []Scale) Terms {
 	const name = "Objective.Eval"
 	if grads != nil && len(grads) != len(scales) {
@@ -121,10 +173,7 @@ func (o *Objective) Eval(perScale []Terms, grads []DispGrad, scales []Scale) Ter
 	if perScale != nil && len(perScale) != len(scales) {
 		panic(fmt.Sprintf("loss.%s: %d per-scale terms for %d scales", name, len(perScale), len(scales)))
 	}
-	opts := DefaultObjectiveOptions()
-	if o.Options != nil {
-		opts = *o.Options
-	}
+	opts := o.Options.resolved()
 	var total Terms
 	for i, sc := range scales {
 		var g DispGrad
@@ -193,7 +242,7 @@ func (o *Objective) scale(g DispGrad, sc Scale, level, levels int, opts *Objecti
 			if v.grad != nil {
 				gs = o.gtmp
 			}
-			t.Smoothness += fs * o.smo.Eval(gs, v.disp, v.target, s, opts.NormalizeSmoothness)
+			t.Smoothness += fs * o.smo.Eval(gs, v.disp, v.target, s, !opts.RawSmoothness)
 			if v.grad != nil {
 				axpy(v.grad, float32(fs), gs)
 			}

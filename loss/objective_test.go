@@ -3,6 +3,7 @@ package loss
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/planar"
@@ -88,7 +89,7 @@ func TestObjectiveGradient(t *testing.T) {
 	scales := randomScales(rng, shapes, 0.01)
 	def := DefaultObjectiveOptions()
 	clampL1 := def
-	clampL1.Border, clampL1.Alpha, clampL1.NormalizeSmoothness = warp.Clamp, 0, false
+	clampL1.Border, clampL1.Alpha, clampL1.RawSmoothness = warp.Clamp, Off, true
 	for name, opts := range map[string]ObjectiveOptions{"default": def, "clamp, L1, raw smoothness": clampL1} {
 		o := Objective{Options: &opts}
 		grads := make([]DispGrad, len(scales))
@@ -123,10 +124,10 @@ func TestObjectiveWeights(t *testing.T) {
 	var o Objective
 	base := make([]Terms, 2)
 	o.Eval(base, nil, scales)
-	// Doubling a weight doubles its term only; 0 switches it off.
+	// Doubling a weight doubles its term only; Off switches it off.
 	opts := DefaultObjectiveOptions()
 	opts.Smoothness = 0.2
-	opts.Consistency = 0
+	opts.Consistency = Off
 	o2 := Objective{Options: &opts}
 	per := make([]Terms, 2)
 	o2.Eval(per, nil, scales)
@@ -190,5 +191,56 @@ func TestDownsampleAndPyramid(t *testing.T) {
 	}
 	if _, err := Pyramid(im, 5); err == nil {
 		t.Error("Pyramid accepted 5 levels of an 8×12 image")
+	}
+}
+
+// TestObjectiveOptionsConvention checks the options convention: nil, the
+// zero value and DefaultObjectiveOptions give the same objective (a zero
+// field means its default, so a non-nil value is not taken literally);
+// Off and only Off switches a weight off; Validate names a bad field.
+func TestObjectiveOptionsConvention(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 18))
+	scales := randomScales(rng, []Shape{{N: 1, C: 3, H: 6, W: 8}, {N: 1, C: 3, H: 3, W: 4}}, 1e-3)
+	eval := func(opts *ObjectiveOptions) Terms {
+		o := Objective{Options: opts}
+		return o.Eval(nil, nil, scales)
+	}
+	def := DefaultObjectiveOptions()
+	want := eval(nil)
+	if want.Appearance == 0 || want.Smoothness == 0 || want.Consistency == 0 {
+		t.Fatalf("default terms %+v: every term should count", want)
+	}
+	for name, opts := range map[string]*ObjectiveOptions{
+		"zero value":      {},
+		"defaults":        &def,
+		"zero smoothness": {Appearance: 1, Consistency: 1},
+	} {
+		if got := eval(opts); got != want {
+			t.Errorf("%s: terms %+v, nil options give %+v", name, got, want)
+		}
+	}
+	off := eval(&ObjectiveOptions{Smoothness: Off})
+	if off.Smoothness != 0 || off.Appearance != want.Appearance || off.Consistency != want.Consistency {
+		t.Errorf("smoothness Off: %+v, defaults %+v", off, want)
+	}
+	if l1 := eval(&ObjectiveOptions{Alpha: Off}); l1.Appearance == want.Appearance {
+		t.Error("Alpha Off (L1 only) gives the default appearance term")
+	}
+	for _, tc := range []struct {
+		opts ObjectiveOptions
+		want string
+	}{
+		{ObjectiveOptions{Smoothness: -2}, "smoothness weight -2"},
+		{ObjectiveOptions{Appearance: math.Inf(1)}, "appearance weight +Inf"},
+		{ObjectiveOptions{Alpha: 1.5}, "alpha 1.5"},
+		{ObjectiveOptions{Border: 7}, "border"},
+	} {
+		if err := tc.opts.Validate(); err == nil || !strings.HasPrefix(err.Error(), "loss: ") || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("Validate(%+v) = %v, want an error naming %q", tc.opts, err, tc.want)
+		}
+	}
+	var none *ObjectiveOptions
+	if err := none.Validate(); err != nil {
+		t.Errorf("nil options: %v", err)
 	}
 }

@@ -189,7 +189,7 @@ func adapt(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, st
 	if err != nil {
 		return nil, nil, fmt.Errorf("evaluate: %w", err)
 	}
-	opt := &train.Options{Steps: o.adapt, Batch: batch, Seed: o.seed}
+	opt := &train.TrainerOptions{Steps: o.adapt, Batch: batch, Seed: o.seed}
 	if !o.quiet {
 		opt.Progress = func(p train.Progress) {
 			if p.Step%10 == 0 || p.Step == o.adapt {

@@ -203,7 +203,7 @@ func run(c config) error {
 		}
 	}
 	bar := newProgressBar(os.Stderr, c.quiet)
-	opt := &train.Options{
+	opt := &train.TrainerOptions{
 		Steps: c.steps, Batch: c.batch, Seed: c.seed,
 		Schedule:       train.Schedule{Rate: c.lr, Warmup: c.warmup},
 		CheckpointPath: c.checkpoint, CheckpointEvery: c.every,

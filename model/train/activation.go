@@ -9,9 +9,9 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// ELU adds the exponential linear unit (alpha = 1) of x, cpu.ELU, as the
+// nodeELU adds the exponential linear unit (alpha = 1) of x, cpu.ELU, as the
 // node name. Its gradient is cpu.ELUBackward on the output.
-func ELU(name string, x *G.Node) (*G.Node, error) {
+func nodeELU(name string, x *G.Node) (*G.Node, error) {
 	s, err := anyShape("elu "+name, x)
 	if err != nil {
 		return nil, err
@@ -34,11 +34,11 @@ func ELU(name string, x *G.Node) (*G.Node, error) {
 	return apply(op, name, x)
 }
 
-// SigmoidScale adds scale·sigmoid(x), cpu.SigmoidScale, as the node name:
+// nodeSigmoidScale adds scale·sigmoid(x), cpu.SigmoidScale, as the node name:
 // the disparity head, y = d_max·sigmoid(x). Its gradient is
 // cpu.SigmoidScaleBackward on the output. It returns an error if scale is
 // not finite.
-func SigmoidScale(name string, x *G.Node, scale float64) (*G.Node, error) {
+func nodeSigmoidScale(name string, x *G.Node, scale float64) (*G.Node, error) {
 	s, err := anyShape("sigmoid "+name, x)
 	if err != nil {
 		return nil, err
@@ -66,9 +66,9 @@ func SigmoidScale(name string, x *G.Node, scale float64) (*G.Node, error) {
 	return apply(op, name, x)
 }
 
-// Scale adds factor·x, cpu.ScaleShift with no shift, as the node name.
+// nodeScale adds factor·x, cpu.ScaleShift with no shift, as the node name.
 // It returns an error if factor is not finite.
-func Scale(name string, x *G.Node, factor float64) (*G.Node, error) {
+func nodeScale(name string, x *G.Node, factor float64) (*G.Node, error) {
 	s, err := anyShape("scale "+name, x)
 	if err != nil {
 		return nil, err

@@ -20,7 +20,7 @@ func benchmarkStep(b *testing.B, c model.Config, batch int) {
 		b.Fatal(err)
 	}
 	defer s.Close()
-	a := s.Net.Arch
+	a := s.net.Arch
 	rng := rand.New(rand.NewPCG(1, 2))
 	left := randomImage(rng, batch, 3, a.Input.H, a.Input.W)
 	right := randomImage(rng, batch, 3, a.Input.H, a.Input.W)

@@ -214,7 +214,7 @@ func TestResumeRefusesOtherRun(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	tr := newTestTrainer(t, freshWeights(t, 1), src, Options{Steps: 5, Batch: 1, Seed: 1})
+	tr := newTestTrainer(t, freshWeights(t, 1), src, TrainerOptions{Steps: 5, Batch: 1, Seed: 1})
 	base := func() *Checkpoint {
 		c := tr.Checkpoint()
 		return c

@@ -8,10 +8,10 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// Concat adds the channel concatenation of xs (each (N, Ci, H, W), equal
+// nodeConcat adds the channel concatenation of xs (each (N, Ci, H, W), equal
 // N, H and W), cpu.Concat, as the node name. It returns an error if there
 // are no inputs or their shapes disagree.
-func Concat(name string, xs ...*G.Node) (*G.Node, error) {
+func nodeConcat(name string, xs ...*G.Node) (*G.Node, error) {
 	if len(xs) == 0 {
 		return nil, fmt.Errorf("train: concat %q: no inputs", name)
 	}

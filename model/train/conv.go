@@ -8,9 +8,9 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// ConvSpec describes a convolution layer with a square kernel. The zero
+// convSpec describes a convolution layer with a square kernel. The zero
 // value of each field is its default.
-type ConvSpec struct {
+type convSpec struct {
 	// Kernel is the kernel side. If Kernel is 0 it is defaulted to 3.
 	Kernel int
 	// Stride is the output step in input pixels. If 0 it is defaulted to 1.
@@ -27,12 +27,12 @@ type ConvSpec struct {
 	NoInputGrad bool
 }
 
-// Conv2D adds the convolution layer name, y = conv(x, w) + b, to x's
+// nodeConv2D adds the convolution layer name, y = conv(x, w) + b, to x's
 // graph: x has shape (N, C, H, W), w (O, C, K, K) in OIHW order and b (O).
 // The forward pass and the three gradients (input, weights, bias) share one
-// cpu.Conv2D plan and its workspaces. The node is called name. Conv2D
+// cpu.Conv2D plan and its workspaces. The node is called name. nodeConv2D
 // returns an error if a shape does not fit the layer.
-func Conv2D(name string, x, w, b *G.Node, spec ConvSpec) (*G.Node, error) {
+func nodeConv2D(name string, x, w, b *G.Node, spec convSpec) (*G.Node, error) {
 	n, c, h, wd, err := shape4("conv "+name, x)
 	if err != nil {
 		return nil, err

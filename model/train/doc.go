@@ -6,13 +6,15 @@
 //
 // # Operators
 //
-// Conv2D (with bias), ELU, SigmoidScale (the disparity head, d_max·sigmoid),
-// Scale, UpsampleBilinear2x, UpsampleNearest2x and Concat each add one node
-// whose op calls a kernel of model/internal/cpu; its symbolic gradient
-// (gorgonia's SDOp) is built from further ops that call the same kernel's
-// backward. NewObjective adds loss.Objective as one scalar node whose
-// gradients are the ones the loss kernels computed in the same call. No
-// formula is implemented in this package.
+// The graph is built from unexported operators (convolution with bias,
+// ELU, the disparity head d_max·sigmoid, scaling, bilinear and nearest 2×
+// upsampling, channel concatenation), each adding one node whose op calls a
+// kernel of model/internal/cpu; its symbolic gradient (gorgonia's SDOp) is
+// built from further ops that call the same kernel's backward. The
+// objective (loss.Objective) is one scalar node whose gradients are the
+// ones the loss kernels computed in the same call. No formula is
+// implemented in this package, and no gorgonia node appears in its API
+// except through Adam, which implements gorgonia's Solver.
 //
 // Conventions:
 //
@@ -33,9 +35,8 @@
 //     registers, so ops do not implement UsePreallocDoer. gorgonia may
 //     reuse a dead value's buffer in place for a later node of the same
 //     run (its register allocation), so the Value of an intermediate node
-//     read after RunAll is not reliable: read disparities from
-//     Objective.Disparity and losses from Objective.Terms, which are the
-//     ops' own copies. Parameter gradients are safe: gorgonia adds each
+//     read after RunAll is not reliable: disparities and losses are read
+//     from the objective op's own copies. Parameter gradients are safe: gorgonia adds each
 //     run's gradient into the parameter's own gradient buffer (so they
 //     accumulate over runs until Adam.Step clears them).
 //   - Errors for data start with "train: "; operators check input shapes
@@ -43,10 +44,9 @@
 //
 // # Training
 //
-// A training step: set the input image (Network.SetInput) and the image
-// pair of the objective (Objective.SetImages), run the TapeMachine, read
-// Objective.Terms, call Adam.Step on the parameters, Reset the machine.
-// Session bundles those. gorgonia's own solvers skip a parameter without a
+// A training step: set the input image of the network and the image pair
+// of the objective, run the TapeMachine, read the objective's terms, call
+// Adam.Step on the parameters, Reset the machine. Session bundles those. gorgonia's own solvers skip a parameter without a
 // gradient silently and hide Adam's moments; Adam here returns an error
 // for a missing or non-finite gradient before changing any weight and
 // exports its state for checkpoints.
@@ -62,7 +62,7 @@
 // of the steps, ×0.5 at 60% and 80%), Adam, a Progress report after every
 // step (step, weighted terms, rate, steps/s and pairs/s), and checkpoints
 // (SaveCheckpoint, LoadCheckpoint; safetensors with the weights, Adam's
-// moments and the data position) every Options.CheckpointEvery steps, at
+// moments and the data position) every TrainerOptions.CheckpointEvery steps, at
 // the end, and when the context is cancelled. Trainer.Resume continues a
 // checkpointed run; with the same options and data the result is the
 // uninterrupted run's, bit for bit on any number of threads (see

@@ -9,7 +9,7 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// Network is the disparity network of a model.Arch as a gorgonia graph
+// network is the disparity network of a model.Arch as a gorgonia graph
 // for batches of a fixed size, built by walking Arch.Layers: the same
 // description the graph-free model.Net walks, so training and inference
 // cannot disagree.
@@ -18,8 +18,8 @@ import (
 // the layer's name; a convolution with an activation has its
 // pre-activation node called NAME.pre; parameters are named as in
 // Arch.Params (NAME.weight, NAME.bias). A sigmoid head followed by its
-// d_max scale (headS then dispS) becomes one SigmoidScale node dispS.
-type Network struct {
+// d_max scale (headS then dispS) becomes one nodeSigmoidScale node dispS.
+type network struct {
 	// Arch is the architecture the graph was built from.
 	Arch *model.Arch
 	// Batch is the number of images per run.
@@ -39,10 +39,10 @@ type Network struct {
 	input   []float32
 }
 
-// BuildNetwork adds the network of a for batches of batch images to g. The
+// buildNetwork adds the network of a for batches of batch images to g. The
 // parameters start at zero; set them with SetWeights. It returns an error
 // if a is nil, batch is not positive, or a layer does not fit.
-func BuildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*Network, error) {
+func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 	if g == nil || a == nil {
 		return nil, fmt.Errorf("train: network: nil graph or architecture")
 	}
@@ -52,7 +52,7 @@ func BuildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*Network, error) {
 	if _, err := planar.NewChecked(batch, a.Input.C, a.Input.H, a.Input.W); err != nil {
 		return nil, fmt.Errorf("train: network: %w", err)
 	}
-	net := &Network{Arch: a, Batch: batch, Graph: g, tensors: map[string]*G.Node{}, params: map[string][]float32{}}
+	net := &network{Arch: a, Batch: batch, Graph: g, tensors: map[string]*G.Node{}, params: map[string][]float32{}}
 	in := a.Input
 	net.input = make([]float32, batch*in.Len())
 	net.Input = G.NewTensor(g, tensor.Float32, 4, G.WithShape(batch, in.C, in.H, in.W), G.WithName(model.InputName),
@@ -103,7 +103,7 @@ func BuildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*Network, error) {
 		var err error
 		switch l.Op {
 		case model.OpConv:
-			spec := ConvSpec{Kernel: l.Kernel, Stride: l.Stride, Dilation: l.Dilation, Pad: l.Pad,
+			spec := convSpec{Kernel: l.Kernel, Stride: l.Stride, Dilation: l.Dilation, Pad: l.Pad,
 				Reflect: l.Padding == model.PadReflect, NoInputGrad: ins[0] == net.Input}
 			w, b := net.tensors[l.Name+".weight"], net.tensors[l.Name+".bias"]
 			if w == nil || b == nil {
@@ -113,34 +113,34 @@ func BuildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*Network, error) {
 			if l.Act != model.ActNone {
 				name += ".pre"
 			}
-			if out, err = Conv2D(name, ins[0], w, b, spec); err != nil {
+			if out, err = nodeConv2D(name, ins[0], w, b, spec); err != nil {
 				return nil, err
 			}
 			net.tensors[name] = out
 			switch {
 			case fused[l.Name]:
 				next := &a.Layers[i+1]
-				out, err = SigmoidScale(next.Name, out, next.Factor)
+				out, err = nodeSigmoidScale(next.Name, out, next.Factor)
 			case l.Act == model.ActELU:
-				out, err = ELU(l.Name, out)
+				out, err = nodeELU(l.Name, out)
 			case l.Act == model.ActSigmoid:
-				out, err = SigmoidScale(l.Name, out, 1)
+				out, err = nodeSigmoidScale(l.Name, out, 1)
 			case l.Act != model.ActNone:
 				err = fmt.Errorf("train: network: layer %q has unknown activation %v", l.Name, l.Act)
 			}
 		case model.OpUpsample:
 			switch l.Mode {
 			case model.UpNearest:
-				out, err = UpsampleNearest2x(l.Name, ins[0])
+				out, err = nodeUpsampleNearest2x(l.Name, ins[0])
 			case model.UpBilinear:
-				out, err = UpsampleBilinear2x(l.Name, ins[0])
+				out, err = nodeUpsampleBilinear2x(l.Name, ins[0])
 			default:
 				err = fmt.Errorf("train: network: layer %q has unknown upsampling %v", l.Name, l.Mode)
 			}
 		case model.OpConcat:
-			out, err = Concat(l.Name, ins...)
+			out, err = nodeConcat(l.Name, ins...)
 		case model.OpScale:
-			out, err = Scale(l.Name, ins[0], l.Factor)
+			out, err = nodeScale(l.Name, ins[0], l.Factor)
 		default:
 			err = fmt.Errorf("train: network: layer %q has unknown operation %v", l.Name, l.Op)
 		}
@@ -168,12 +168,12 @@ func BuildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*Network, error) {
 
 // Node returns the node of the tensor or parameter called name (see the
 // type's documentation for names), or nil.
-func (net *Network) Node(name string) *G.Node { return net.tensors[name] }
+func (net *network) Node(name string) *G.Node { return net.tensors[name] }
 
 // SetInput copies img, a batch of left images (Batch, 3, H, W), RGB in
 // [0, 1], into the input node. It returns an error if img has the wrong
 // shape or holds NaN or Inf.
-func (net *Network) SetInput(img *planar.Image) error {
+func (net *network) SetInput(img *planar.Image) error {
 	if err := img.Check("input image"); err != nil {
 		return fmt.Errorf("train: %w", err)
 	}
@@ -191,7 +191,7 @@ func (net *Network) SetInput(img *planar.Image) error {
 // SetWeights copies the parameters of w into the graph. It returns an
 // error if w is nil, does not fit its architecture, or its architecture is
 // not the network's.
-func (net *Network) SetWeights(w *model.Weights) error {
+func (net *network) SetWeights(w *model.Weights) error {
 	if w == nil {
 		return fmt.Errorf("train: weights are nil")
 	}
@@ -220,7 +220,7 @@ func (net *Network) SetWeights(w *model.Weights) error {
 
 // CopyWeights copies the graph's current parameters into w.Params (which
 // must fit the network's architecture; missing entries are allocated).
-func (net *Network) CopyWeights(w *model.Weights) {
+func (net *network) CopyWeights(w *model.Weights) {
 	if w.Params == nil {
 		w.Params = map[string][]float32{}
 	}

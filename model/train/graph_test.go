@@ -47,7 +47,7 @@ func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 	}
 
 	g := G.NewGraph()
-	net, err := BuildNetwork(g, ref.Arch(), batch)
+	net, err := buildNetwork(g, ref.Arch(), batch)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -115,14 +115,14 @@ func TestSessionGradients(t *testing.T) {
 		t.Errorf("terms %+v do not add up to a positive total", terms)
 	}
 	for sc := range model.Scales {
-		dl, dr := s.Objective.Disparity(sc)
+		dl, dr := s.obj.Disparity(sc)
 		hw := len(dl)
 		if d := math.Max(maxDiff(dl, want[sc].Pix[:hw]), maxDiff(dr, want[sc].Pix[hw:])); d > 1e-5 {
 			t.Errorf("scale %d: objective saw disparities %g away from model.Net's", sc, d)
 		}
 	}
 	analytic := map[string][]float32{}
-	for _, n := range s.Net.Params {
+	for _, n := range s.net.Params {
 		g, err := n.Grad()
 		if err != nil {
 			t.Fatalf("%s: %v", n.Name(), err)
@@ -152,7 +152,7 @@ func TestSessionGradients(t *testing.T) {
 	}
 	eps := 1e-3 / math.Sqrt(g2)
 	shift := func(k float64) {
-		for name, v := range s.Net.params {
+		for name, v := range s.net.params {
 			for i, gv := range analytic[name] {
 				v[i] += float32(k * eps * float64(gv))
 			}
@@ -161,12 +161,12 @@ func TestSessionGradients(t *testing.T) {
 	orig := s.Weights()
 	shift(1)
 	fp := cost()
-	if err := s.Net.SetWeights(orig); err != nil {
+	if err := s.net.SetWeights(orig); err != nil {
 		t.Fatal(err)
 	}
 	shift(-1)
 	fm := cost()
-	if err := s.Net.SetWeights(orig); err != nil {
+	if err := s.net.SetWeights(orig); err != nil {
 		t.Fatal(err)
 	}
 	t.Logf("loss %.6f, after a step of 1e-3 against the gradient %.6f, along it %.6f", terms.Total, fm, fp)
@@ -190,7 +190,7 @@ func TestNetworkGradients(t *testing.T) {
 		t.Fatal(err)
 	}
 	g := G.NewGraph()
-	net, err := BuildNetwork(g, a, 2)
+	net, err := buildNetwork(g, a, 2)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -272,7 +272,7 @@ func TestTrainingGraphNames(t *testing.T) {
 	defer s.Close()
 	seen := map[string]bool{}
 	ours := 0
-	for _, n := range s.Net.Graph.AllNodes() {
+	for _, n := range s.net.Graph.AllNodes() {
 		if _, ok := n.Op().(*kernelOp); !ok {
 			continue
 		}
@@ -301,13 +301,13 @@ func TestNetworkErrors(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := BuildNetwork(G.NewGraph(), a, 0); err == nil {
+	if _, err := buildNetwork(G.NewGraph(), a, 0); err == nil {
 		t.Error("batch 0 accepted")
 	}
-	if _, err := BuildNetwork(G.NewGraph(), nil, 1); err == nil {
+	if _, err := buildNetwork(G.NewGraph(), nil, 1); err == nil {
 		t.Error("nil architecture accepted")
 	}
-	net, err := BuildNetwork(G.NewGraph(), a, 1)
+	net, err := buildNetwork(G.NewGraph(), a, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

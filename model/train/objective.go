@@ -9,7 +9,7 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// Objective is the self-supervised stereo objective (loss.Objective) as
+// graphObjective is the self-supervised stereo objective (loss.Objective) as
 // one graph node. Its inputs are the predicted disparities, one node per
 // scale of shape (N, 2, H/2^s, W/2^s) with channel 0 the left view's d_L
 // and channel 1 the right view's d_R; the left and right images are
@@ -19,7 +19,7 @@ import (
 // the upstream value, so no formula is implemented twice.
 //
 // After each run Terms and PerScale return the weighted terms for logging.
-type Objective struct {
+type graphObjective struct {
 	kernel loss.Objective
 	shapes []loss.Shape // per scale, C = 3
 
@@ -36,17 +36,21 @@ type Objective struct {
 	cost     *G.Node
 }
 
-// NewObjective adds the objective over disps (scale 0, the finest,
+// newGraphObjective adds the objective over disps (scale 0, the finest,
 // first; each half the resolution of the one before) to their graph as a
-// scalar node called name, and returns it. A nil opts means
-// loss.DefaultObjectiveOptions. It returns an error if disps is empty, a
+// scalar node called name, and returns it. A nil opts means the defaults.
+// It returns an error if opts is out of range (see
+// loss.ObjectiveOptions.Validate), disps is empty, a
 // node is not (N, 2, H/2^s, W/2^s), or the finest resolution cannot be
 // halved len(disps)−1 times.
-func NewObjective(name string, disps []*G.Node, opts *loss.ObjectiveOptions) (*Objective, error) {
+func newGraphObjective(name string, disps []*G.Node, opts *loss.ObjectiveOptions) (*graphObjective, error) {
 	if len(disps) == 0 {
 		return nil, fmt.Errorf("train: objective %q: no disparities", name)
 	}
-	o := &Objective{}
+	o := &graphObjective{}
+	if err := opts.Validate(); err != nil {
+		return nil, fmt.Errorf("train: %w", err)
+	}
 	if opts != nil {
 		c := *opts
 		o.kernel.Options = &c
@@ -116,14 +120,14 @@ func NewObjective(name string, disps []*G.Node, opts *loss.ObjectiveOptions) (*O
 }
 
 // Cost returns the scalar node of the objective, for gorgonia's Grad.
-func (o *Objective) Cost() *G.Node { return o.cost }
+func (o *graphObjective) Cost() *G.Node { return o.cost }
 
 // SetImages sets the left and right images of the next runs: (N, 3, H, W)
 // at the finest disparity resolution, RGB in [0, 1]. The values are copied
 // and the coarser scales are made by 2×2 area averaging
 // (loss.Downsample2). It returns an error if an image is missing, has the
 // wrong shape or holds NaN or Inf.
-func (o *Objective) SetImages(left, right *planar.Image) error {
+func (o *graphObjective) SetImages(left, right *planar.Image) error {
 	s0 := o.shapes[0]
 	for _, im := range []struct {
 		what string
@@ -152,7 +156,7 @@ func (o *Objective) SetImages(left, right *planar.Image) error {
 // eval is the forward pass: split each disparity tensor into the left and
 // right maps, run the loss kernel, and keep its gradients in the layout of
 // the inputs.
-func (o *Objective) eval(out []float32, in [][]float32) error {
+func (o *graphObjective) eval(out []float32, in [][]float32) error {
 	if !o.ready {
 		return fmt.Errorf("train: objective: SetImages was not called")
 	}
@@ -178,14 +182,14 @@ func (o *Objective) eval(out []float32, in [][]float32) error {
 }
 
 // Terms returns the weighted terms of the last run; Total is the cost.
-func (o *Objective) Terms() loss.Terms { return o.terms }
+func (o *graphObjective) Terms() loss.Terms { return o.terms }
 
 // PerScale returns the weighted terms of each scale in the last run, finest
 // first, in a new slice.
-func (o *Objective) PerScale() []loss.Terms { return append([]loss.Terms(nil), o.perScale...) }
+func (o *graphObjective) PerScale() []loss.Terms { return append([]loss.Terms(nil), o.perScale...) }
 
 // Disparity returns the left and right disparity maps of scale s (N·Hs·Ws
 // values each) that the last run evaluated. They are the op's own copies,
 // valid until the next run; unlike the values bound to graph nodes they
 // are never reused by gorgonia. It panics if s is out of range.
-func (o *Objective) Disparity(s int) (left, right []float32) { return o.dl[s], o.dr[s] }
+func (o *graphObjective) Disparity(s int) (left, right []float32) { return o.dl[s], o.dr[s] }

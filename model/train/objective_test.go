@@ -63,7 +63,7 @@ func TestObjectiveNode(t *testing.T) {
 		disps = append(disps, G.NewTensor(g, tensor.Float32, 4, G.WithShape(n, 2, hs, ws), G.WithName("disp"+string(rune('0'+s))),
 			G.WithValue(tensor.New(tensor.WithShape(n, 2, hs, ws), tensor.WithBacking(v)))))
 	}
-	obj, err := NewObjective("objective", disps, nil)
+	obj, err := newGraphObjective("objective", disps, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,13 +151,13 @@ func TestObjectiveErrors(t *testing.T) {
 	g := G.NewGraph()
 	d0 := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 2, 8, 8), G.WithName("d0"))
 	bad := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 2, 3, 4), G.WithName("bad"))
-	if _, err := NewObjective("o", []*G.Node{d0, bad}, nil); err == nil {
+	if _, err := newGraphObjective("o", []*G.Node{d0, bad}, nil); err == nil {
 		t.Error("a scale of the wrong size was accepted")
 	}
-	if _, err := NewObjective("o", nil, nil); err == nil {
+	if _, err := newGraphObjective("o", nil, nil); err == nil {
 		t.Error("no disparities accepted")
 	}
-	obj, err := NewObjective("o", []*G.Node{d0}, nil)
+	obj, err := newGraphObjective("o", []*G.Node{d0}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

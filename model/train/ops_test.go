@@ -16,8 +16,8 @@ import (
 // output. Tolerances allow for float32 evaluation of the network with a
 // finite-difference step of 2⁻¹⁰.
 func TestOperatorGradients(t *testing.T) {
-	conv := func(spec ConvSpec) func([]*G.Node) (*G.Node, error) {
-		return func(in []*G.Node) (*G.Node, error) { return Conv2D("c", in[0], in[1], in[2], spec) }
+	conv := func(spec convSpec) func([]*G.Node) (*G.Node, error) {
+		return func(in []*G.Node) (*G.Node, error) { return nodeConv2D("c", in[0], in[1], in[2], spec) }
 	}
 	cases := []struct {
 		name   string
@@ -30,7 +30,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "conv3x3 reflect stride 2",
 			shapes: []tensor.Shape{{2, 3, 6, 8}, {4, 3, 3, 3}, {4}},
 			lo:     -1, hi: 1,
-			build: conv(ConvSpec{Kernel: 3, Stride: 2, Pad: 1, Reflect: true}),
+			build: conv(convSpec{Kernel: 3, Stride: 2, Pad: 1, Reflect: true}),
 			want: func(in [][]float32) []float32 {
 				p, _ := cpu.NewConv2D(cpu.ConvParams{InC: 3, OutC: 4, Kernel: 3, Stride: 2, Pad: 1, Padding: cpu.ReflectPad}, 2, 6, 8)
 				y := make([]float32, 2*4*3*4)
@@ -42,7 +42,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "conv3x3 zero pad stride 1",
 			shapes: []tensor.Shape{{1, 2, 5, 4}, {3, 2, 3, 3}, {3}},
 			lo:     -1, hi: 1,
-			build: conv(ConvSpec{Kernel: 3, Pad: 1}),
+			build: conv(convSpec{Kernel: 3, Pad: 1}),
 			want: func(in [][]float32) []float32 {
 				p, _ := cpu.NewConv2D(cpu.ConvParams{InC: 2, OutC: 3, Kernel: 3, Pad: 1}, 1, 5, 4)
 				y := make([]float32, 3*5*4)
@@ -54,7 +54,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "elu",
 			shapes: []tensor.Shape{{2, 3, 4, 5}},
 			lo:     -2, hi: 2,
-			build: func(in []*G.Node) (*G.Node, error) { return ELU("e", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeELU("e", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.ELU(y, in[0])
@@ -65,7 +65,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "sigmoid scaled by 0.3",
 			shapes: []tensor.Shape{{2, 2, 3, 4}},
 			lo:     -4, hi: 4,
-			build: func(in []*G.Node) (*G.Node, error) { return SigmoidScale("s", in[0], 0.3) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeSigmoidScale("s", in[0], 0.3) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.SigmoidScale(y, in[0], 0.3)
@@ -76,7 +76,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "scale",
 			shapes: []tensor.Shape{{1, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build: func(in []*G.Node) (*G.Node, error) { return Scale("k", in[0], -2.5) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeScale("k", in[0], -2.5) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
 				cpu.ScaleShift(y, in[0], -2.5, 0)
@@ -87,7 +87,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "bilinear 2x",
 			shapes: []tensor.Shape{{2, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build: func(in []*G.Node) (*G.Node, error) { return UpsampleBilinear2x("u", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeUpsampleBilinear2x("u", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 4*len(in[0]))
 				cpu.UpsampleBilinear2x(y, in[0], 2, 2, 3, 4)
@@ -98,7 +98,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "nearest 2x",
 			shapes: []tensor.Shape{{1, 3, 2, 3}},
 			lo:     -1, hi: 1,
-			build: func(in []*G.Node) (*G.Node, error) { return UpsampleNearest2x("u", in[0]) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeUpsampleNearest2x("u", in[0]) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 4*len(in[0]))
 				cpu.UpsampleNearest2x(y, in[0], 1, 3, 2, 3)
@@ -109,7 +109,7 @@ func TestOperatorGradients(t *testing.T) {
 			name:   "concat of three",
 			shapes: []tensor.Shape{{2, 1, 3, 4}, {2, 3, 3, 4}, {2, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build: func(in []*G.Node) (*G.Node, error) { return Concat("cat", in...) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeConcat("cat", in...) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 2*6*3*4)
 				cpu.Concat(y, in, []int{1, 3, 2}, 2, 3, 4)
@@ -123,23 +123,23 @@ func TestOperatorGradients(t *testing.T) {
 			shapes: []tensor.Shape{{2, 2, 4, 6}, {3, 2, 3, 3}, {3}, {2, 5, 3, 3}, {2}},
 			lo:     -1, hi: 1,
 			build: func(in []*G.Node) (*G.Node, error) {
-				a, err := Conv2D("c1", in[0], in[1], in[2], ConvSpec{Pad: 1, Reflect: true})
+				a, err := nodeConv2D("c1", in[0], in[1], in[2], convSpec{Pad: 1, Reflect: true})
 				if err != nil {
 					return nil, err
 				}
-				e, err := ELU("e1", a)
+				e, err := nodeELU("e1", a)
 				if err != nil {
 					return nil, err
 				}
-				c, err := Concat("cat", e, in[0])
+				c, err := nodeConcat("cat", e, in[0])
 				if err != nil {
 					return nil, err
 				}
-				b, err := Conv2D("c2", c, in[3], in[4], ConvSpec{Pad: 1, Reflect: true})
+				b, err := nodeConv2D("c2", c, in[3], in[4], convSpec{Pad: 1, Reflect: true})
 				if err != nil {
 					return nil, err
 				}
-				return SigmoidScale("head", b, 0.3)
+				return nodeSigmoidScale("head", b, 0.3)
 			},
 			want: func(in [][]float32) []float32 {
 				p1, _ := cpu.NewConv2D(cpu.ConvParams{InC: 2, OutC: 3, Kernel: 3, Pad: 1, Padding: cpu.ReflectPad}, 2, 4, 6)
@@ -176,7 +176,7 @@ func TestConvNoInputGrad(t *testing.T) {
 	x := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 3, 4, 4), G.WithName("x"))
 	w := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 3, 3, 3), G.WithName("w"))
 	b := G.NewVector(g, tensor.Float32, G.WithShape(2), G.WithName("b"))
-	y, err := Conv2D("c", x, w, b, ConvSpec{Pad: 1, NoInputGrad: true})
+	y, err := nodeConv2D("c", x, w, b, convSpec{Pad: 1, NoInputGrad: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -204,20 +204,20 @@ func TestHashcodeDiffers(t *testing.T) {
 	x2 := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 3, 8, 8), G.WithName("x2"))
 	w := G.NewTensor(g, tensor.Float32, 4, G.WithShape(4, 3, 3, 3), G.WithName("w"))
 	b := G.NewVector(g, tensor.Float32, G.WithShape(4), G.WithName("b"))
-	mk := func(name string, x *G.Node, s ConvSpec) uint32 {
-		n, err := Conv2D(name, x, w, b, s)
+	mk := func(name string, x *G.Node, s convSpec) uint32 {
+		n, err := nodeConv2D(name, x, w, b, s)
 		if err != nil {
 			t.Fatal(err)
 		}
 		return n.Op().Hashcode()
 	}
-	base := ConvSpec{Pad: 1}
+	base := convSpec{Pad: 1}
 	hs := map[string]uint32{
 		"base":    mk("a", x, base),
 		"name":    mk("b", x, base),
-		"stride":  mk("c", x, ConvSpec{Pad: 1, Stride: 2}),
-		"pad":     mk("a", x, ConvSpec{Pad: 0}),
-		"reflect": mk("a", x, ConvSpec{Pad: 1, Reflect: true}),
+		"stride":  mk("c", x, convSpec{Pad: 1, Stride: 2}),
+		"pad":     mk("a", x, convSpec{Pad: 0}),
+		"reflect": mk("a", x, convSpec{Pad: 1, Reflect: true}),
 		"batch":   mk("a", x2, base),
 	}
 	seen := map[uint32]string{}
@@ -227,13 +227,13 @@ func TestHashcodeDiffers(t *testing.T) {
 		}
 		seen[h] = k
 	}
-	e1, _ := SigmoidScale("h", x, 0.3)
-	e2, _ := SigmoidScale("h", x, 0.2)
+	e1, _ := nodeSigmoidScale("h", x, 0.3)
+	e2, _ := nodeSigmoidScale("h", x, 0.2)
 	if e1.Op().Hashcode() == e2.Op().Hashcode() {
 		t.Error("sigmoid heads with different scales share a hash")
 	}
-	u1, _ := UpsampleNearest2x("u", x)
-	u2, _ := UpsampleBilinear2x("u", x)
+	u1, _ := nodeUpsampleNearest2x("u", x)
+	u2, _ := nodeUpsampleBilinear2x("u", x)
 	if u1.Op().Hashcode() == u2.Op().Hashcode() {
 		t.Error("nearest and bilinear upsampling share a hash")
 	}
@@ -248,11 +248,11 @@ func TestIdenticalLayersStayDistinct(t *testing.T) {
 	w := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 2, 3, 3), G.WithName("w"))
 	b := G.NewVector(g, tensor.Float32, G.WithShape(2), G.WithName("b"))
 	before := len(g.AllNodes())
-	y1, err := Conv2D("first", x, w, b, ConvSpec{Pad: 1})
+	y1, err := nodeConv2D("first", x, w, b, convSpec{Pad: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
-	y2, err := Conv2D("second", x, w, b, ConvSpec{Pad: 1})
+	y2, err := nodeConv2D("second", x, w, b, convSpec{Pad: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -275,15 +275,15 @@ func TestOperatorsDoNotAllocate(t *testing.T) {
 	x := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 3, 8, 8), G.WithName("x"))
 	w := G.NewTensor(g, tensor.Float32, 4, G.WithShape(4, 3, 3, 3), G.WithName("w"))
 	b := G.NewVector(g, tensor.Float32, G.WithShape(4), G.WithName("b"))
-	y, err := Conv2D("c", x, w, b, ConvSpec{Pad: 1, Reflect: true})
+	y, err := nodeConv2D("c", x, w, b, convSpec{Pad: 1, Reflect: true})
 	if err != nil {
 		t.Fatal(err)
 	}
-	e, err := ELU("e", y)
+	e, err := nodeELU("e", y)
 	if err != nil {
 		t.Fatal(err)
 	}
-	cat, err := Concat("cat", e, x)
+	cat, err := nodeConcat("cat", e, x)
 	if err != nil {
 		t.Fatal(err)
 	}

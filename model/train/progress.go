@@ -8,7 +8,7 @@ import (
 )
 
 // Progress is what a Trainer reports after every step, through
-// Options.Progress.
+// TrainerOptions.Progress.
 type Progress struct {
 	// Step is the number of steps done, including this one and skipped
 	// ones; Steps is the run's total.
@@ -75,10 +75,14 @@ type CollapseOptions struct {
 	// which nothing is reported: a fresh start (PrepareHeads) is uniform by
 	// design. If it is 0 it is defaulted to 200 (our own choice: on 32
 	// generated greenhouse pairs at batch 4 the spread of a prepared fresh
-	// start passed 0.02 after about 80 steps and 0.1 after about 90); a
-	// negative value means none.
+	// start passed 0.02 after about 80 steps and 0.1 after about 90);
+	// CollapseFromStart (or any negative value) means none.
 	After int
 }
+
+// CollapseFromStart, as CollapseOptions.After, reports a collapse from the
+// first step (a zero After means the default grace period).
+const CollapseFromStart = -1
 
 func (c CollapseOptions) withDefaults() CollapseOptions {
 	if c.Spread == 0 {

@@ -15,10 +15,10 @@ import (
 // TapeMachine and an Adam solver. A Session is not safe for concurrent
 // use.
 type Session struct {
-	// Net is the network graph.
-	Net *Network
-	// Objective is the loss node; read Terms and PerScale after a step.
-	Objective *Objective
+	// net is the network graph; obj is the loss node, whose Terms and
+	// PerScale hold the last run's losses.
+	net *network
+	obj *graphObjective
 	// Solver updates the parameters; set its learning rate before a step,
 	// save and restore its state with State and SetState.
 	Solver *Adam
@@ -40,21 +40,21 @@ func NewSession(w *model.Weights, batch int, opts *loss.ObjectiveOptions, adam *
 		return nil, fmt.Errorf("train: %w", err)
 	}
 	g := G.NewGraph()
-	net, err := BuildNetwork(g, a, batch)
+	net, err := buildNetwork(g, a, batch)
 	if err != nil {
 		return nil, err
 	}
 	if err := net.SetWeights(w); err != nil {
 		return nil, err
 	}
-	obj, err := NewObjective("objective", net.Outputs[:], opts)
+	obj, err := newGraphObjective("objective", net.Outputs[:], opts)
 	if err != nil {
 		return nil, err
 	}
 	if _, err := G.Grad(obj.Cost(), net.Params...); err != nil {
 		return nil, fmt.Errorf("train: gradients: %w", err)
 	}
-	s := &Session{Net: net, Objective: obj, Solver: NewAdam(adam)}
+	s := &Session{net: net, obj: obj, Solver: NewAdam(adam)}
 	s.vm = G.NewTapeMachine(g, G.BindDualValues(net.Params...))
 	s.vgs = G.NodesToValueGrads(net.Params)
 	return s, nil
@@ -65,10 +65,10 @@ func NewSession(w *model.Weights, batch int, opts *loss.ObjectiveOptions, adam *
 // in the parameters, without a solver step. It returns the weighted terms
 // of the objective.
 func (s *Session) Forward(left, right *planar.Image) (loss.Terms, error) {
-	if err := s.Net.SetInput(left); err != nil {
+	if err := s.net.SetInput(left); err != nil {
 		return loss.Terms{}, err
 	}
-	if err := s.Objective.SetImages(left, right); err != nil {
+	if err := s.obj.SetImages(left, right); err != nil {
 		return loss.Terms{}, err
 	}
 	defer s.vm.Reset()
@@ -76,7 +76,7 @@ func (s *Session) Forward(left, right *planar.Image) (loss.Terms, error) {
 		s.ClearGradients() // a partial backward pass may have added some
 		return loss.Terms{}, fmt.Errorf("train: run: %w", err)
 	}
-	return s.Objective.Terms(), nil
+	return s.obj.Terms(), nil
 }
 
 // Step runs one training step on a batch: forward, backward and an Adam
@@ -95,8 +95,8 @@ func (s *Session) Step(left, right *planar.Image) (loss.Terms, error) {
 // Weights returns a copy of the current parameters as model weights with
 // the network's configuration.
 func (s *Session) Weights() *model.Weights {
-	w := &model.Weights{Config: s.Net.Arch.Config, Provenance: map[string]string{}}
-	s.Net.CopyWeights(w)
+	w := &model.Weights{Config: s.net.Arch.Config, Provenance: map[string]string{}}
+	s.net.CopyWeights(w)
 	return w
 }
 
@@ -107,7 +107,7 @@ func (s *Session) Close() error { return s.vm.Close() }
 // into on every run (Step clears them itself; call this after Forward when
 // the gradients are not wanted).
 func (s *Session) ClearGradients() {
-	for _, n := range s.Net.Params {
+	for _, n := range s.net.Params {
 		if g, err := n.Grad(); err == nil {
 			if d, err := float32Data(g); err == nil {
 				clear(d)

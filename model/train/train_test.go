@@ -87,7 +87,7 @@ func TestTrainingLowersLoss(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.ClearGradients()
-	dl, _ := s.Objective.Disparity(0)
+	dl, _ := s.obj.Disparity(0)
 	if d := maxDiff(dl, out[0].Pix[:len(dl)]); d > 1e-5 {
 		t.Errorf("trained graph and model.Net differ by %g", d)
 	}

@@ -41,8 +41,8 @@ func (s loaderSource) Epoch(ctx context.Context, epoch int) Batches {
 }
 
 // LoaderSource returns a Source over a loader. The loader must have been
-// made with Options.DropPartial (every batch of a Trainer has the same
-// size), and its seed should be the Trainer's Options.Seed, which
+// made with data.Options.DropPartial (every batch of a Trainer has the same
+// size), and its seed should be the Trainer's TrainerOptions.Seed, which
 // checkpoints record.
 func LoaderSource(l *data.Loader) Source { return loaderSource{l} }
 
@@ -60,9 +60,9 @@ func NewDatasetSource(ds *dataset.Set, c model.Config, batch int, seed uint64, a
 	return LoaderSource(l), nil
 }
 
-// Options configures a Trainer. A nil *Options means the defaults; each
+// TrainerOptions configures a Trainer. A nil *TrainerOptions means the defaults; each
 // zero field means its default.
-type Options struct {
+type TrainerOptions struct {
 	// Steps is the number of training steps of the run (skipped ones
 	// included). If it is 0 it is defaulted to 1000.
 	Steps int
@@ -106,7 +106,7 @@ type Result struct {
 	// that was not skipped.
 	First, Last loss.Terms
 	// Interrupted reports that the context was cancelled before the run
-	// finished; a checkpoint was written if Options.CheckpointPath is set.
+	// finished; a checkpoint was written if TrainerOptions.CheckpointPath is set.
 	Interrupted bool
 	// Collapses counts the collapse episodes reported in this call.
 	Collapses int
@@ -119,7 +119,7 @@ type Result struct {
 // steps with NaN or Inf skipped, checkpoints that resume a run exactly,
 // and collapse detection. A Trainer is not safe for concurrent use.
 type Trainer struct {
-	opt   Options
+	opt   TrainerOptions
 	sched Schedule
 	src   Source
 	sess  *Session
@@ -134,11 +134,11 @@ type Trainer struct {
 // model.NewWeights for a fresh initialisation) and draws batches from src.
 // It returns an error for nil arguments, invalid options or weights that
 // do not fit their architecture.
-func NewTrainer(w *model.Weights, src Source, opt *Options) (*Trainer, error) {
+func NewTrainer(w *model.Weights, src Source, opt *TrainerOptions) (*Trainer, error) {
 	if src == nil {
 		return nil, errors.New("train: trainer: no data source")
 	}
-	var o Options
+	var o TrainerOptions
 	if opt != nil {
 		o = *opt
 	}
@@ -265,7 +265,7 @@ func (t *Trainer) Resume(c *Checkpoint) error {
 	case c.Step > t.opt.Steps:
 		return fmt.Errorf("train: resume: the checkpoint is at step %d, past this run's %d steps", c.Step, t.opt.Steps)
 	}
-	if err := t.sess.Net.SetWeights(c.Weights); err != nil {
+	if err := t.sess.net.SetWeights(c.Weights); err != nil {
 		return fmt.Errorf("train: resume: %w", err)
 	}
 	if err := t.sess.Solver.SetState(c.Solver); err != nil {
@@ -278,16 +278,16 @@ func (t *Trainer) Resume(c *Checkpoint) error {
 	return nil
 }
 
-// Run trains until Options.Steps steps are done or ctx is cancelled. Each
+// Run trains until TrainerOptions.Steps steps are done or ctx is cancelled. Each
 // step sets the scheduled learning rate, runs the graph on one batch and
 // applies Adam. A step whose batch, loss or gradient holds NaN or Inf is
 // skipped: no weight and no solver moment changes, the data position
 // advances, and Progress reports it. On cancellation Run writes a
-// checkpoint (if Options.CheckpointPath is set) and returns the result with
+// checkpoint (if TrainerOptions.CheckpointPath is set) and returns the result with
 // Interrupted set and a nil error. Errors of the data source (a corrupt
 // file, say) or of the graph end the run and are returned; after a data
 // source error past step 0 Run first writes a checkpoint of the completed
-// steps (if Options.CheckpointPath is set) and names it in the error.
+// steps (if TrainerOptions.CheckpointPath is set) and names it in the error.
 func (t *Trainer) Run(ctx context.Context) (*Result, error) {
 	res := &Result{}
 	defer func() {
@@ -387,7 +387,7 @@ func (t *Trainer) saveOnDataError(res *Result, err error) error {
 // train runs one step on b and advances the step count.
 func (t *Trainer) train(b *data.Batch, epoch, pos int) (Progress, error) {
 	p := Progress{Steps: t.opt.Steps, Epoch: epoch, Batch: pos}
-	in := t.sess.Net.Arch.Input
+	in := t.sess.net.Arch.Input
 	if b == nil || b.Left == nil || b.Right == nil {
 		return p, fmt.Errorf("train: epoch %d, batch %d: empty batch", epoch, pos)
 	}
@@ -434,9 +434,9 @@ func (t *Trainer) train(b *data.Batch, epoch, pos int) (Progress, error) {
 			t.first, t.haveFirst = p.Terms, true
 		}
 		t.last = p.Terms
-		dl, _ := t.sess.Objective.Disparity(0)
+		dl, _ := t.sess.obj.Disparity(0)
 		p.Spread = spread(dl, t.opt.Batch)
-		p.MeanDisparity = mean(dl) * float64(t.sess.Net.Arch.Input.W)
+		p.MeanDisparity = mean(dl) * float64(t.sess.net.Arch.Input.W)
 		if t.step > t.opt.Collapse.After && (p.Spread < t.opt.Collapse.Spread || p.MeanDisparity < t.opt.Collapse.MinPixels) {
 			t.low++
 			p.Collapsed = t.low == t.opt.Collapse.Steps

@@ -33,7 +33,7 @@ func openSynth(t testing.TB, style string) *dataset.Set {
 	return ds
 }
 
-func newTestTrainer(t testing.TB, w *model.Weights, src Source, opt Options) *Trainer {
+func newTestTrainer(t testing.TB, w *model.Weights, src Source, opt TrainerOptions) *Trainer {
 	t.Helper()
 	tr, err := NewTrainer(w, src, &opt)
 	if err != nil {
@@ -70,7 +70,7 @@ func TestTrainerLowersLossAndError(t *testing.T) {
 		t.Fatalf("evaluation before: %+v, want disparity and depth over 3 pairs", before)
 	}
 	var reports int
-	tr := newTestTrainer(t, w, src, Options{Steps: 90, Batch: 1, Seed: 1, Schedule: Schedule{Rate: 1e-3},
+	tr := newTestTrainer(t, w, src, TrainerOptions{Steps: 90, Batch: 1, Seed: 1, Schedule: Schedule{Rate: 1e-3},
 		Progress: func(p Progress) {
 			reports++
 			if p.StepsPerSec <= 0 || p.PairsPerSec != p.StepsPerSec {
@@ -115,8 +115,8 @@ func TestResumeEqualsUninterrupted(t *testing.T) {
 	t.Logf("GOMAXPROCS=%d", runtime.GOMAXPROCS(0))
 	const steps, stop = 7, 4
 	dir := t.TempDir()
-	opts := func(path string) Options {
-		return Options{Steps: steps, Batch: 1, Seed: 5, Schedule: Schedule{Warmup: 2}, CheckpointPath: path, CheckpointEvery: 3}
+	opts := func(path string) TrainerOptions {
+		return TrainerOptions{Steps: steps, Batch: 1, Seed: 5, Schedule: Schedule{Warmup: 2}, CheckpointPath: path, CheckpointEvery: 3}
 	}
 	source := func() Source {
 		src, err := NewDatasetSource(ds, trainerConfig, 1, 5, &data.DefaultAugment)
@@ -209,7 +209,7 @@ func TestRunsSameOnAnyThreadCount(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		tr := newTestTrainer(t, freshWeights(t, 9), src, Options{Steps: 5, Batch: 1, Seed: 5, Schedule: Schedule{Warmup: 2}})
+		tr := newTestTrainer(t, freshWeights(t, 9), src, TrainerOptions{Steps: 5, Batch: 1, Seed: 5, Schedule: Schedule{Warmup: 2}})
 		if _, err := tr.Run(context.Background()); err != nil {
 			t.Fatal(err)
 		}
@@ -298,7 +298,7 @@ func TestPoisonedBatchSkipped(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "run.ckpt")
 	var ckpts []*Checkpoint
 	var skipped []Progress
-	tr := newTestTrainer(t, freshWeights(t, 4), poisoned(src, 2), Options{Steps: 4, Batch: 1, Seed: 2,
+	tr := newTestTrainer(t, freshWeights(t, 4), poisoned(src, 2), TrainerOptions{Steps: 4, Batch: 1, Seed: 2,
 		CheckpointPath: path, CheckpointEvery: 1,
 		Progress: func(p Progress) {
 			if p.Skipped {
@@ -365,8 +365,8 @@ func TestCollapseReported(t *testing.T) {
 		}
 	}
 	var at []int
-	tr := newTestTrainer(t, w, src, Options{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
-		Collapse: CollapseOptions{Steps: 4, After: -1},
+	tr := newTestTrainer(t, w, src, TrainerOptions{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
+		Collapse: CollapseOptions{Steps: 4, After: CollapseFromStart},
 		Progress: func(p Progress) {
 			if p.Spread > 1e-3 {
 				t.Errorf("step %d: spread %v of a constant map", p.Step, p.Spread)
@@ -393,7 +393,7 @@ func TestCollapseReported(t *testing.T) {
 		}
 	}
 	var at2 []int
-	tr2 := newTestTrainer(t, w2, src, Options{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
+	tr2 := newTestTrainer(t, w2, src, TrainerOptions{Steps: 6, Batch: 1, Schedule: Schedule{Rate: 1e-12},
 		Collapse: CollapseOptions{Steps: 3, After: 1},
 		Progress: func(p Progress) {
 			if p.Collapsed {
@@ -505,7 +505,7 @@ func TestDataErrorWritesCheckpoint(t *testing.T) {
 		t.Fatal(err)
 	}
 	path := filepath.Join(t.TempDir(), "run.ckpt")
-	tr := newTestTrainer(t, freshWeights(t, 4), failing(src, 4), Options{Steps: 6, Batch: 1, Seed: 2, CheckpointPath: path})
+	tr := newTestTrainer(t, freshWeights(t, 4), failing(src, 4), TrainerOptions{Steps: 6, Batch: 1, Seed: 2, CheckpointPath: path})
 	res, err := tr.Run(context.Background())
 	if err == nil || !strings.HasPrefix(err.Error(), "train: ") || !strings.Contains(err.Error(), "x.png") || !strings.Contains(err.Error(), path) {
 		t.Fatalf("error %v, want one naming the file and the checkpoint", err)

@@ -6,15 +6,15 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// UpsampleBilinear2x adds the bilinear 2× upsampling of x (N, C, H, W),
+// nodeUpsampleBilinear2x adds the bilinear 2× upsampling of x (N, C, H, W),
 // cpu.UpsampleBilinear2x, as the node name; the output is (N, C, 2H, 2W).
-func UpsampleBilinear2x(name string, x *G.Node) (*G.Node, error) {
+func nodeUpsampleBilinear2x(name string, x *G.Node) (*G.Node, error) {
 	return upsample2x("upsample.bilinear", name, x, cpu.UpsampleBilinear2x, cpu.UpsampleBilinear2xBackward)
 }
 
-// UpsampleNearest2x adds the nearest-neighbour 2× upsampling of x
+// nodeUpsampleNearest2x adds the nearest-neighbour 2× upsampling of x
 // (N, C, H, W), cpu.UpsampleNearest2x, as the node name.
-func UpsampleNearest2x(name string, x *G.Node) (*G.Node, error) {
+func nodeUpsampleNearest2x(name string, x *G.Node) (*G.Node, error) {
 	return upsample2x("upsample.nearest", name, x, cpu.UpsampleNearest2x, cpu.UpsampleNearest2xBackward)
 }
 
