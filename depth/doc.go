@@ -60,6 +60,7 @@
 //   - metrics.go, summary.go: DepthErrors (abs rel, sq rel, RMSE, RMSE log,
 //     δ < 1.25ᵏ; formulas on DepthMetrics, common practice), DisparityErrors
 //     (end-point error, bad-1/2/3 rates, Scharstein & Szeliski, IJCV 2002),
-//     and Summary for text tables and CSV.
+//     DisparityMean and DepthMean for per-pair means over a data set (empty
+//     pairs counted apart), and Summary for text tables and CSV.
 //   - png16.go, pfm.go, ply.go, cubehelix.go: the files people open.
 package depth

@@ -261,3 +261,82 @@ func DisparityErrors(est, gt *Disparity) (DisparityMetrics, error) {
 	m.Bad1, m.Bad2, m.Bad3 = float64(b1)/n, float64(b2)/n, float64(b3)/n
 	return m, nil
 }
+
+// DisparityMean averages DisparityMetrics over pairs: every pair with at
+// least one counted pixel weighs the same whatever its size (the per-image
+// average, common practice in stereo and depth benchmarks), and N is the
+// total number of pixels. A pair with N = 0 (no pixel valid in both maps)
+// has no measure to average: Add counts it as empty and leaves it out of
+// the mean. The zero value is an empty mean, ready for use.
+type DisparityMean struct{ m pairMean }
+
+// Add adds the metrics of one pair.
+func (a *DisparityMean) Add(m DisparityMetrics) { a.m.add(m.N, m.EPE, m.Bad1, m.Bad2, m.Bad3) }
+
+// Pairs returns the number of pairs averaged and the number of empty pairs
+// added.
+func (a *DisparityMean) Pairs() (counted, empty int) { return a.m.pairs, a.m.empty }
+
+// Mean returns the per-pair mean of the measures, with N the total number
+// of pixels. Without any counted pair, N is 0 and the measures are NaN.
+func (a *DisparityMean) Mean() DisparityMetrics {
+	n, v := a.m.mean(4)
+	return DisparityMetrics{N: n, EPE: v[0], Bad1: v[1], Bad2: v[2], Bad3: v[3]}
+}
+
+// DepthMean averages DepthMetrics over pairs with the rules of
+// DisparityMean; Scale is averaged like the measures (1 without median
+// scaling).
+type DepthMean struct{ m pairMean }
+
+// Add adds the metrics of one pair.
+func (a *DepthMean) Add(m DepthMetrics) {
+	a.m.add(m.N, m.Scale, m.AbsRel, m.SqRel, m.RMSE, m.RMSELog, m.Delta1, m.Delta2, m.Delta3)
+}
+
+// Pairs returns the number of pairs averaged and the number of empty pairs
+// added.
+func (a *DepthMean) Pairs() (counted, empty int) { return a.m.pairs, a.m.empty }
+
+// Mean returns the per-pair mean of the measures and of Scale, with N the
+// total number of pixels. Without any counted pair, N is 0 and the other
+// fields are NaN.
+func (a *DepthMean) Mean() DepthMetrics {
+	n, v := a.m.mean(8)
+	return DepthMetrics{N: n, Scale: v[0], AbsRel: v[1], SqRel: v[2], RMSE: v[3], RMSELog: v[4], Delta1: v[5], Delta2: v[6], Delta3: v[7]}
+}
+
+// pairMean sums the measures of the pairs with counted pixels.
+type pairMean struct {
+	sum          []float64
+	n            int // pixels
+	pairs, empty int
+}
+
+func (a *pairMean) add(n int, v ...float64) {
+	if n == 0 {
+		a.empty++
+		return
+	}
+	if a.sum == nil {
+		a.sum = make([]float64, len(v))
+	}
+	a.pairs++
+	a.n += n
+	for i, x := range v {
+		a.sum[i] += x
+	}
+}
+
+// mean returns the pixel total and the k per-pair means (NaN without a
+// counted pair).
+func (a *pairMean) mean(k int) (int, []float64) {
+	v := make([]float64, k)
+	for i := range v {
+		v[i] = math.NaN()
+		if a.pairs > 0 {
+			v[i] = a.sum[i] / float64(a.pairs)
+		}
+	}
+	return a.n, v
+}

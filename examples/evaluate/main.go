@@ -18,7 +18,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"image"
 	_ "image/jpeg"
 	"io"
 	"math"
@@ -32,6 +31,7 @@ import (
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
+	"github.com/parallaxdepth/parallax/model/evaluation"
 	"github.com/parallaxdepth/parallax/model/train"
 )
 
@@ -212,85 +212,76 @@ func adapt(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, st
 	return tr.Weights(), res, nil
 }
 
-// evaluate scores w on every pair of ds and prints the tables.
+// evaluate scores w on every pair of ds with package model/evaluation and
+// prints the tables.
 func evaluate(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, label string, hasDisp, hasDepth bool, stdout, stderr io.Writer) error {
-	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: ds.Rig, Flip: o.flip})
-	if err != nil {
-		return err
-	}
 	if o.errors != "" {
 		if err := os.MkdirAll(o.errors, 0o755); err != nil {
 			return fmt.Errorf("evaluate: %w", err)
 		}
 	}
-	var dispRows, depthRows []row
-	start := time.Now()
-	for i, p := range ds.Pairs {
-		if !o.quiet {
-			fmt.Fprintf(stderr, "\r%s: pair %d/%d", label, i+1, len(ds.Pairs))
-		}
-		s, err := data.Load(ds, i, p.Width, p.Height)
-		if err != nil {
-			return fmt.Errorf("evaluate: %w", err)
-		}
-		e, err := est.Estimate(ctx, s.Left.ToNRGBA(0))
-		if err != nil {
-			return fmt.Errorf("evaluate: %s: %w", p.Name, err)
-		}
-		if hasDisp {
-			gt, err := depth.DisparityFromFraction(s.DispLeft, 0)
-			if err != nil {
-				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
-			}
-			m, err := depth.DisparityErrors(e.Disparity, gt)
-			if err != nil {
-				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
-			}
-			dispRows = append(dispRows, row{p.Name, m.N, []float64{m.EPE, m.Bad1, m.Bad2, m.Bad3}})
-			if o.errors != "" {
-				if err := saveError(filepath.Join(o.errors, p.Name+".disp-error.png"), &e.Disparity.Map, &gt.Map, false, 3); err != nil {
+	opt := &evaluation.ScoreOptions{Flip: o.flip}
+	if !o.quiet {
+		opt.Progress = func(done, total int) { fmt.Fprintf(stderr, "\r%s: pair %d/%d", label, done, total) }
+	}
+	if o.errors != "" {
+		opt.Inspect = func(s *evaluation.PairScore, e *model.Estimate, r *dataset.Record) error {
+			if hasDisp {
+				if err := saveError(filepath.Join(o.errors, s.Name+".disp-error.png"), &e.Disparity.Map, &r.DispLeft.Map, false, 3); err != nil {
 					return err
 				}
 			}
-		}
-		if hasDepth {
-			gt, err := depthTruth(s)
-			if err != nil {
-				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
+			if hasDepth {
+				return saveError(filepath.Join(o.errors, s.Name+".depth-error.png"), &e.Depth.Map, &r.DepthLeft.Map, true, 0.25)
 			}
-			m, err := depth.DepthErrors(e.Depth, gt, &depth.DepthOptions{MinDepth: ds.Rig.MinDepth, MaxDepth: ds.Rig.MaxDepth})
-			if err != nil {
-				return fmt.Errorf("evaluate: %s: %w", p.Name, err)
-			}
-			depthRows = append(depthRows, row{p.Name, m.N, []float64{m.AbsRel, m.SqRel, m.RMSE, m.RMSELog, m.Delta1, m.Delta2, m.Delta3}})
-			if o.errors != "" {
-				if err := saveError(filepath.Join(o.errors, p.Name+".depth-error.png"), &e.Depth.Map, &gt.Map, true, 0.25); err != nil {
-					return err
-				}
-			}
+			return nil
 		}
 	}
+	start := time.Now()
+	rep, err := evaluation.Score(ctx, w, ds, opt)
 	if !o.quiet {
-		fmt.Fprintf(stderr, "\r%s: %d pairs in %.1f s\n", label, len(ds.Pairs), time.Since(start).Seconds())
+		fmt.Fprintln(stderr)
+	}
+	if err != nil {
+		return fmt.Errorf("evaluate: %w", err)
+	}
+	if !o.quiet {
+		fmt.Fprintf(stderr, "%s: %d pairs in %.1f s\n", label, len(ds.Pairs), time.Since(start).Seconds())
+	}
+	for _, e := range []struct {
+		what  string
+		names []string
+	}{{"disparity", rep.EmptyDisparity}, {"depth", rep.EmptyDepth}} {
+		if len(e.names) > 0 {
+			fmt.Fprintf(stderr, "evaluate: %d pairs have no pixel with a valid %s estimate and truth (pixels 0, NaN below; left out of the mean): %s\n",
+				len(e.names), e.what, strings.Join(e.names, ", "))
+		}
 	}
 	src := ds.Dir
 	if o.source != "" {
 		src = o.source
 	}
 	fmt.Fprintf(stdout, "\n%s — %s, %d pairs, flip %v\n", label, src, len(ds.Pairs), o.flip)
-	if hasDisp {
+	many := len(rep.Pairs) > 1
+	if rep.HasDisparity {
 		var s depth.Summary
-		for _, r := range withMean(dispRows) {
-			s.AddDisparity(r.name, depth.DisparityMetrics{N: r.n, EPE: r.v[0], Bad1: r.v[1], Bad2: r.v[2], Bad3: r.v[3]})
+		for _, p := range rep.Pairs {
+			s.AddDisparity(p.Name, p.Disparity)
+		}
+		if many {
+			s.AddDisparity("mean", rep.Disparity)
 		}
 		if err := print(stdout, "disparity (pixels at each pair's resolution; bad-K = fraction off by more than K px)", &s, o.csv); err != nil {
 			return err
 		}
 	}
-	if hasDepth {
+	if rep.HasDepth {
 		var s depth.Summary
-		for _, r := range withMean(depthRows) {
-			s.AddDepth(r.name, depth.DepthMetrics{N: r.n, Scale: 1, AbsRel: r.v[0], SqRel: r.v[1], RMSE: r.v[2], RMSELog: r.v[3], Delta1: r.v[4], Delta2: r.v[5], Delta3: r.v[6]})
+		for _, p := range rep.Pairs {
+			s.AddDepth(p.Name, p.Depth)
+		}
+		if many {
+			s.AddDepth("mean", rep.Depth)
 		}
 		if err := print(stdout, fmt.Sprintf("depth (metres, no median scaling, ground truth within %.2f … %.2f m)", ds.Rig.MinDepth, ds.Rig.MaxDepth), &s, o.csv); err != nil {
 			return err
@@ -299,51 +290,12 @@ func evaluate(ctx context.Context, o options, ds *dataset.Set, w *model.Weights,
 	return nil
 }
 
-type row struct {
-	name string
-	n    int
-	v    []float64
-}
-
-// withMean appends the row of per-pair means (pixels: the total).
-func withMean(rows []row) []row {
-	if len(rows) < 2 {
-		return rows
-	}
-	m := row{name: "mean", v: make([]float64, len(rows[0].v))}
-	for _, r := range rows {
-		m.n += r.n
-		for k, v := range r.v {
-			m.v[k] += v / float64(len(rows))
-		}
-	}
-	return append(rows, m)
-}
-
 func print(w io.Writer, title string, s *depth.Summary, csv bool) error {
 	fmt.Fprintf(w, "\n%s\n", title)
 	if csv {
 		return s.WriteCSV(w)
 	}
 	return s.WriteTable(w)
-}
-
-// depthTruth turns the sample's depth truth (metres, 0 = none) into a map.
-func depthTruth(s *data.Sample) (*depth.Depth, error) {
-	if s.DepthLeft == nil {
-		return nil, errors.New("no depth truth")
-	}
-	im := s.DepthLeft
-	z, err := depth.NewDepth(image.Rect(0, 0, im.W, im.H))
-	if err != nil {
-		return nil, err
-	}
-	for y := range im.H {
-		for x := range im.W {
-			z.Set(x, y, im.Pix[y*im.W+x])
-		}
-	}
-	return z, nil
 }
 
 // saveError writes |est − gt| (relative to gt if rel) of the pixels valid

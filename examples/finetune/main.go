@@ -33,6 +33,7 @@ import (
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
+	"github.com/parallaxdepth/parallax/model/evaluation"
 	"github.com/parallaxdepth/parallax/model/train"
 	"github.com/parallaxdepth/parallax/safetensors"
 )
@@ -62,7 +63,7 @@ func main() {
 	flag.Uint64Var(&c.seed, "seed", 1, "seed of the validation split, the shuffling and the augmentation (and of -from-scratch)")
 	flag.Float64Var(&c.val, "val", 0.2, "fraction of the pairs held out for validation, scored before and after when they have ground truth (0: none)")
 	flag.BoolVar(&c.noAugment, "no-augment", false, "train without flips and colour changes")
-	flag.IntVar(&c.evalBatch, "eval-batch", 4, "pairs per forward pass when scoring the validation pairs")
+	flag.IntVar(&c.evalBatch, "eval-batch", 4, "validation pairs scored at once")
 	flag.StringVar(&c.logPath, "log", "", "CSV log of every step (default: the -out path with .csv instead of its extension)")
 	flag.StringVar(&c.plotPath, "plot", "", "loss-curve PNG (default: the -out path with .png instead of its extension)")
 	flag.BoolVar(&c.f16, "f16", false, "store the weights as 16-bit floats (half the size)")
@@ -180,10 +181,14 @@ func run(c config) error {
 	}
 	fmt.Fprintf(os.Stderr, " from %s, resized to %dx%d; starting from %s\n", c.data, w.Config.Width, w.Config.Height, origin)
 
-	canScore := valSet != nil && hasTruth(valSet)
-	var before *train.Evaluation
+	canScore := false
+	if valSet != nil {
+		disp, metric := evaluation.Scorable(valSet)
+		canScore = disp || metric
+	}
+	var before *evaluation.Report
 	if canScore && !c.resume {
-		if before, err = train.Evaluate(context.Background(), w, valSet, c.evalBatch); err != nil {
+		if before, err = evaluation.Score(context.Background(), w, valSet, &evaluation.ScoreOptions{Workers: c.evalBatch}); err != nil {
 			return fmt.Errorf("finetune: scoring before training: %w", err)
 		}
 	}
@@ -299,7 +304,7 @@ func run(c config) error {
 		fmt.Printf("\nwarning: the disparity collapsed to a near-constant map %d time(s); the weights may be useless\n", res.Collapses)
 	}
 	if canScore {
-		after, err := train.Evaluate(context.Background(), out, valSet, c.evalBatch)
+		after, err := evaluation.Score(context.Background(), out, valSet, &evaluation.ScoreOptions{Workers: c.evalBatch})
 		if err != nil {
 			return fmt.Errorf("finetune: scoring after training: %w", err)
 		}
@@ -321,18 +326,9 @@ func scheduleNote(ck *train.Checkpoint, c config) string {
 		ck.Steps, ck.Schedule.Rate, c.steps, c.lr, ck.Step)
 }
 
-func hasTruth(ds *dataset.Set) bool {
-	for _, k := range ds.Truth {
-		if k == dataset.DispLeft || (k == dataset.DepthLeft && ds.Rig != nil) {
-			return true
-		}
-	}
-	return false
-}
-
-func printEval(w io.Writer, n int, before, after *train.Evaluation) {
-	fmt.Fprintf(w, "\nheld-out pairs: %d, at the network's input size\n", n)
-	col := func(e *train.Evaluation, f func(*train.Evaluation) float64) string {
+func printEval(w io.Writer, n int, before, after *evaluation.Report) {
+	fmt.Fprintf(w, "\nheld-out pairs: %d, scored at their own resolution (mean per pair)\n", n)
+	col := func(e *evaluation.Report, f func(*evaluation.Report) float64) string {
 		if e == nil {
 			return "        -"
 		}
@@ -340,24 +336,24 @@ func printEval(w io.Writer, n int, before, after *train.Evaluation) {
 	}
 	type row struct {
 		name string
-		f    func(*train.Evaluation) float64
+		f    func(*evaluation.Report) float64
 	}
 	var rows []row
 	if after.HasDisparity {
 		rows = append(rows,
-			row{"disparity EPE (px)", func(e *train.Evaluation) float64 { return e.Disparity.EPE }},
-			row{"bad-1 (> 1 px)", func(e *train.Evaluation) float64 { return e.Disparity.Bad1 }},
-			row{"bad-3 (> 3 px)", func(e *train.Evaluation) float64 { return e.Disparity.Bad3 }})
+			row{"disparity EPE (px)", func(e *evaluation.Report) float64 { return e.Disparity.EPE }},
+			row{"bad-1 (> 1 px)", func(e *evaluation.Report) float64 { return e.Disparity.Bad1 }},
+			row{"bad-3 (> 3 px)", func(e *evaluation.Report) float64 { return e.Disparity.Bad3 }})
 	}
 	if after.HasDepth {
 		rows = append(rows,
-			row{"abs rel", func(e *train.Evaluation) float64 { return e.Depth.AbsRel }},
-			row{"sq rel (m)", func(e *train.Evaluation) float64 { return e.Depth.SqRel }},
-			row{"RMSE (m)", func(e *train.Evaluation) float64 { return e.Depth.RMSE }},
-			row{"RMSE log", func(e *train.Evaluation) float64 { return e.Depth.RMSELog }},
-			row{"δ < 1.25", func(e *train.Evaluation) float64 { return e.Depth.Delta1 }},
-			row{"δ < 1.25²", func(e *train.Evaluation) float64 { return e.Depth.Delta2 }},
-			row{"δ < 1.25³", func(e *train.Evaluation) float64 { return e.Depth.Delta3 }})
+			row{"abs rel", func(e *evaluation.Report) float64 { return e.Depth.AbsRel }},
+			row{"sq rel (m)", func(e *evaluation.Report) float64 { return e.Depth.SqRel }},
+			row{"RMSE (m)", func(e *evaluation.Report) float64 { return e.Depth.RMSE }},
+			row{"RMSE log", func(e *evaluation.Report) float64 { return e.Depth.RMSELog }},
+			row{"δ < 1.25", func(e *evaluation.Report) float64 { return e.Depth.Delta1 }},
+			row{"δ < 1.25²", func(e *evaluation.Report) float64 { return e.Depth.Delta2 }},
+			row{"δ < 1.25³", func(e *evaluation.Report) float64 { return e.Depth.Delta3 }})
 	}
 	fmt.Fprintf(w, "  %-20s %9s %9s\n", "", "before", "after")
 	for _, r := range rows {

@@ -95,7 +95,6 @@
 // (AVX-512, AVX2, purego) round differently, so a run resumed on a machine
 // that selects another kernel continues, but not bit for bit.
 //
-// Evaluate scores weights on a data set with ground truth (disparity EPE
-// and bad-N, and the depth metrics of package depth), for before/after
-// figures of a fine-tuning run.
+// Scoring weights on a data set with ground truth, for before/after figures
+// of a fine-tuning run, is package model/evaluation (no gorgonia).
 package train

@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -15,6 +14,7 @@ import (
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
+	"github.com/parallaxdepth/parallax/model/evaluation"
 )
 
 // trainerConfig is a small instance of the architecture at half the size
@@ -62,11 +62,11 @@ func TestTrainerLowersLossAndError(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	before, err := Evaluate(context.Background(), w, ds, 3)
+	before, err := evaluation.Score(context.Background(), w, ds, &evaluation.ScoreOptions{Workers: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !before.HasDisparity || !before.HasDepth || before.Pairs != 3 {
+	if !before.HasDisparity || !before.HasDepth || len(before.Pairs) != 3 {
 		t.Fatalf("evaluation before: %+v, want disparity and depth over 3 pairs", before)
 	}
 	var reports int
@@ -84,7 +84,7 @@ func TestTrainerLowersLossAndError(t *testing.T) {
 	if res.Step != 90 || res.Skips != 0 || res.Interrupted || reports != 90 {
 		t.Fatalf("result %+v after %d reports", res, reports)
 	}
-	after, err := Evaluate(context.Background(), tr.Weights(), ds, 3)
+	after, err := evaluation.Score(context.Background(), tr.Weights(), ds, &evaluation.ScoreOptions{Workers: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -442,7 +442,7 @@ func TestPrepareHeads(t *testing.T) {
 		}
 	}
 	ds := openSynth(t, "greenhouse")
-	ev, err := Evaluate(context.Background(), w, ds, 3)
+	ev, err := evaluation.Score(context.Background(), w, ds, &evaluation.ScoreOptions{Workers: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -527,77 +527,5 @@ func TestDataErrorWritesCheckpoint(t *testing.T) {
 				t.Fatalf("%s[%d]: checkpoint %v, trainer %v", name, i, c.Weights.Params[name][i], v[i])
 			}
 		}
-	}
-}
-
-// Evaluate scores channel 0 (d_L) and averages per pair: its EPE and bad-3
-// equal a direct computation from model.Net's output and the loader's
-// ground truth, and the heads are set so that d_R would score otherwise.
-func TestEvaluateScoresLeftView(t *testing.T) {
-	ds := openSynth(t, "greenhouse")
-	w := freshWeights(t, 5)
-	PrepareHeads(w)
-	w.Params["head0.bias"][0], w.Params["head0.bias"][1] = -1.5, -4 // d_L ≈ 0.055, d_R ≈ 0.005 of the width
-	ev, err := Evaluate(context.Background(), w, ds, 2)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !ev.HasDisparity || ev.Pairs != 3 {
-		t.Fatalf("evaluation %+v, want disparity over 3 pairs", ev)
-	}
-	l, err := data.NewLoader(ds, &data.Options{Width: trainerConfig.Width, Height: trainerConfig.Height, BatchSize: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
-	net, err := model.NewNet(w, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	it := l.Epoch(context.Background(), 0)
-	defer it.Close()
-	var epe, bad3, epeRight [2]float64 // sums of per-pair values; [1] counts pairs
-	for {
-		b, err := it.Next()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			t.Fatal(err)
-		}
-		out, err := net.Forward(b.Left)
-		if err != nil {
-			t.Fatal(err)
-		}
-		d, W := out[0], float64(out[0].W)
-		hw := d.H * d.W
-		var s, s3, sr float64
-		n := 0
-		for i, g := range b.DispLeft.Pix {
-			if !(g > 0) || math.IsInf(float64(g), 0) {
-				continue
-			}
-			e := math.Abs(float64(d.Pix[i])-float64(g)) * W
-			s += e
-			if e > 3 {
-				s3++
-			}
-			sr += math.Abs(float64(d.Pix[hw+i])-float64(g)) * W
-			n++
-		}
-		if n == 0 {
-			continue
-		}
-		epe[0] += s / float64(n)
-		bad3[0] += s3 / float64(n)
-		epeRight[0] += sr / float64(n)
-		epe[1]++
-	}
-	wantEPE, wantBad3, rightEPE := epe[0]/epe[1], bad3[0]/epe[1], epeRight[0]/epe[1]
-	t.Logf("EPE %.4f px (direct %.4f; d_R would give %.4f), bad-3 %.4f (direct %.4f)", ev.Disparity.EPE, wantEPE, rightEPE, ev.Disparity.Bad3, wantBad3)
-	if math.Abs(ev.Disparity.EPE-wantEPE) > 1e-4*wantEPE || math.Abs(ev.Disparity.Bad3-wantBad3) > 1e-9 {
-		t.Errorf("Evaluate: EPE %v, bad-3 %v; direct: %v, %v", ev.Disparity.EPE, ev.Disparity.Bad3, wantEPE, wantBad3)
-	}
-	if math.Abs(rightEPE-wantEPE) < 0.5 {
-		t.Fatalf("d_R's EPE %v is too close to d_L's %v for the check to tell the channels apart", rightEPE, wantEPE)
 	}
 }

@@ -1,0 +1,34 @@
+// Package evaluation scores depth weights on a data set with ground truth:
+// the one evaluation that training, the evaluate command and the tests
+// use. It runs the graph-free model.Estimator, so it needs no training
+// machinery.
+//
+// # What is scored
+//
+//   - The left view's disparity against truth/disp_left: EPE and bad-1/2/3
+//     (depth.DisparityErrors), in pixels.
+//   - The left view's metric depth against truth/depth_left, if the set has
+//     a rig: abs rel, sq rel, RMSE, RMSE log and the δ thresholds
+//     (depth.DepthErrors) in metres, without median scaling (a calibrated
+//     rig gives metric depth), counting pixels whose truth lies inside the
+//     rig's depth range, with estimates clamped to it.
+//
+// # Resolution
+//
+// Every pair is scored at its own stored resolution, as a user of
+// model.Estimator sees it: the estimator resizes the left image to the
+// network's input, and its disparity back to the pair's size. EPE and
+// bad-K are therefore pixels at the pair's width, whatever the network's
+// input size.
+//
+// # Means and empty pairs
+//
+// A measure's mean is the per-pair mean (depth.DisparityMean,
+// depth.DepthMean): each pair weighs the same, and N is the total pixel
+// count. A pair with no pixel valid in both the estimate and the truth has
+// N = 0 and NaN measures in its PairScore; it is listed in the Report
+// (EmptyDisparity, EmptyDepth) and left out of the mean, never skipped
+// silently and never an error. A mean over no counted pair is NaN.
+//
+// Errors start with "evaluation: ".
+package evaluation

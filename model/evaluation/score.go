@@ -1,0 +1,198 @@
+package evaluation
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"image"
+	"math"
+	"sync"
+
+	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/model"
+)
+
+// ScoreOptions configures Score. A nil *ScoreOptions means the zero value,
+// which is valid.
+type ScoreOptions struct {
+	// Flip enables flip post-processing (model.EstimatorOptions.Flip).
+	// Default false.
+	Flip bool
+	// Workers is the number of pairs read and estimated at once; 0 means 1.
+	// The report does not depend on it.
+	Workers int
+	// Progress, if not nil, is called after each pair with the number of
+	// pairs done and the total, in pair order, from one goroutine.
+	Progress func(done, total int)
+	// Inspect, if not nil, is called after each pair is scored, in pair
+	// order, with its score, the estimate and the record it was scored
+	// against (for example to write error maps). An error it returns stops
+	// Score, which returns it.
+	Inspect func(s *PairScore, e *model.Estimate, r *dataset.Record) error
+}
+
+// PairScore holds the scores of one pair.
+type PairScore struct {
+	// Name is the pair's name.
+	Name string
+	// Disparity holds EPE and bad-K in pixels at the pair's width, if the
+	// Report has disparity. N = 0 and NaN measures: no pixel was valid in
+	// both the estimate and the truth.
+	Disparity depth.DisparityMetrics
+	// Depth holds the depth measures in metres, if the Report has depth;
+	// N = 0 and NaN measures as for Disparity.
+	Depth depth.DepthMetrics
+}
+
+// Report is the result of Score.
+type Report struct {
+	// Pairs holds every pair's score, in the set's order.
+	Pairs []PairScore
+	// HasDisparity and HasDepth report what was scored (see Scorable).
+	HasDisparity, HasDepth bool
+	// Disparity and Depth are the per-pair means over the pairs with
+	// counted pixels; N is the total number of pixels counted.
+	Disparity depth.DisparityMetrics
+	Depth     depth.DepthMetrics
+	// EmptyDisparity and EmptyDepth name the pairs with no counted pixel
+	// for that measure, left out of its mean.
+	EmptyDisparity, EmptyDepth []string
+}
+
+// Scorable reports what Score scores on set: disparity if every pair has
+// truth/disp_left, metric depth if every pair has truth/depth_left and the
+// set has a rig.
+func Scorable(set *dataset.Set) (disparity, metric bool) {
+	if set == nil {
+		return false, false
+	}
+	return set.Has(dataset.DispLeft), set.Has(dataset.DepthLeft) && set.Rig != nil
+}
+
+// estimator is the part of model.Estimator that Score uses.
+type estimator interface {
+	Estimate(ctx context.Context, img image.Image) (*model.Estimate, error)
+}
+
+// Score estimates every pair of set with the weights w (nil: the embedded
+// default weights) through model.Estimator, with the set's rig, and scores
+// the left view against the ground truth (see the package documentation).
+// It returns an error if set has no pair or nothing Scorable, if a file
+// cannot be read (naming it), or if ctx ends.
+func Score(ctx context.Context, w *model.Weights, set *dataset.Set, opt *ScoreOptions) (*Report, error) {
+	var o ScoreOptions
+	if opt != nil {
+		o = *opt
+	}
+	if o.Workers == 0 {
+		o.Workers = 1
+	}
+	if o.Workers < 0 {
+		return nil, fmt.Errorf("evaluation: %d workers: want at least 1", o.Workers)
+	}
+	if set == nil || len(set.Pairs) == 0 {
+		return nil, errors.New("evaluation: the data set has no pairs")
+	}
+	if disp, z := Scorable(set); !disp && !z {
+		return nil, fmt.Errorf("evaluation: %s has no truth/disp_left, nor truth/depth_left with a rig, to score against", name(set))
+	}
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: set.Rig, Flip: o.Flip, MaxWorkers: o.Workers})
+	if err != nil {
+		return nil, fmt.Errorf("evaluation: %w", err)
+	}
+	return score(ctx, est, set, &o)
+}
+
+func name(set *dataset.Set) string {
+	if set.Dir != "" {
+		return set.Dir
+	}
+	return set.Pairs[0].Left
+}
+
+// result is one pair's estimate and record.
+type result struct {
+	e   *model.Estimate
+	r   *dataset.Record
+	err error
+}
+
+// score runs est over set in chunks of o.Workers pairs and scores them in
+// order; o is resolved.
+func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions) (*Report, error) {
+	rep := &Report{}
+	rep.HasDisparity, rep.HasDepth = Scorable(set)
+	var zopt depth.DepthOptions
+	if rep.HasDepth {
+		zopt.MinDepth, zopt.MaxDepth = set.Rig.MinDepth, set.Rig.MaxDepth
+	}
+	var dm depth.DisparityMean
+	var zm depth.DepthMean
+	n := len(set.Pairs)
+	results := make([]result, o.Workers)
+	for lo := 0; lo < n; lo += o.Workers {
+		hi := min(lo+o.Workers, n)
+		var wg sync.WaitGroup
+		for i := lo; i < hi; i++ {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				res := &results[i-lo]
+				*res = result{}
+				if res.r, res.err = set.Read(i); res.err != nil {
+					return
+				}
+				res.e, res.err = est.Estimate(ctx, res.r.Left)
+			}()
+		}
+		wg.Wait()
+		for i := lo; i < hi; i++ {
+			res, p := results[i-lo], set.Pairs[i]
+			if res.err != nil {
+				return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, res.err)
+			}
+			ps := PairScore{Name: p.Name}
+			if rep.HasDisparity {
+				m, err := depth.DisparityErrors(res.e.Disparity, res.r.DispLeft)
+				switch {
+				case errors.Is(err, depth.ErrNoValidPixels):
+					nan := math.NaN()
+					m = depth.DisparityMetrics{EPE: nan, Bad1: nan, Bad2: nan, Bad3: nan}
+					rep.EmptyDisparity = append(rep.EmptyDisparity, p.Name)
+				case err != nil:
+					return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, err)
+				}
+				ps.Disparity = m
+				dm.Add(m)
+			}
+			if rep.HasDepth {
+				if res.e.Depth == nil {
+					return nil, fmt.Errorf("evaluation: pair %s: the estimator gave no depth", p.Name)
+				}
+				m, err := depth.DepthErrors(res.e.Depth, res.r.DepthLeft, &zopt)
+				switch {
+				case errors.Is(err, depth.ErrNoValidPixels):
+					nan := math.NaN()
+					m = depth.DepthMetrics{Scale: 1, AbsRel: nan, SqRel: nan, RMSE: nan, RMSELog: nan, Delta1: nan, Delta2: nan, Delta3: nan}
+					rep.EmptyDepth = append(rep.EmptyDepth, p.Name)
+				case err != nil:
+					return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, err)
+				}
+				ps.Depth = m
+				zm.Add(m)
+			}
+			rep.Pairs = append(rep.Pairs, ps)
+			if o.Inspect != nil {
+				if err := o.Inspect(&ps, res.e, res.r); err != nil {
+					return nil, err
+				}
+			}
+			if o.Progress != nil {
+				o.Progress(i+1, n)
+			}
+		}
+	}
+	rep.Disparity, rep.Depth = dm.Mean(), zm.Mean()
+	return rep, nil
+}
