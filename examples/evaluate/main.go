@@ -65,7 +65,8 @@ Scores the network on pairs with ground truth (DIR/left, DIR/right, DIR/rig.json
 DIR/truth/disp_left and/or DIR/truth/depth_left; see package dataset).
 Default folder: %s. Disparity errors are in pixels at each pair's
 resolution; depth errors use the folder's rig and count pixels inside its depth
-range. Each table has one row per pair and their mean (per-pair average).
+range. Each table has one row per pair and their mean (per-pair average); a pair
+without any valid pixel shows 0 pixels and NaN and is left out of the mean.
 
 Flags:
 `, defaultData)
@@ -129,10 +130,9 @@ func run(ctx context.Context, o options, ds *dataset.Set, stdout, stderr io.Writ
 	if o.source != "" {
 		dir = o.source
 	}
-	hasDisp, hasDepth := ds.Has(dataset.DispLeft), ds.Has(dataset.DepthLeft)
-	if hasDepth && ds.Rig == nil {
+	hasDisp, hasDepth := evaluation.Scorable(ds)
+	if ds.Has(dataset.DepthLeft) && ds.Rig == nil {
 		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig.json: depth is not scored\n", dir)
-		hasDepth = false
 	}
 	if !hasDisp && !hasDepth {
 		return fmt.Errorf("evaluate: %s has no truth/disp_left or truth/depth_left to score against", dir)

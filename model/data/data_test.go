@@ -586,3 +586,46 @@ func TestJPEGWithoutTruth(t *testing.T) {
 		t.Fatalf("disp %v, green %v", s.DispLeft, s.Left.At(0, 1, 10, 10))
 	}
 }
+
+// A zero Width or Height takes the pairs' stored size; pairs of different
+// sizes then need an explicit size.
+func TestLoaderDefaultSize(t *testing.T) {
+	dir := writeDataset(t, fixture{w: 40, h: 24, d: 2, truth: true}, "a", "b")
+	ds, err := dataset.Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, o := range []*Options{nil, {Width: 20}, {Height: 12}} {
+		l, err := NewLoader(ds, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b := epochBatches(t, l, 0)[0]
+		wantW, wantH := 40, 24
+		if o != nil && o.Width != 0 {
+			wantW = o.Width
+		}
+		if o != nil && o.Height != 0 {
+			wantH = o.Height
+		}
+		if b.Left.W != wantW || b.Left.H != wantH || b.DispLeft.W != wantW || len(b.Names) != 2 {
+			t.Errorf("options %+v: batch %dx%d (disparity %d wide), %d pairs; want %dx%d", o, b.Left.W, b.Left.H, b.DispLeft.W, len(b.Names), wantW, wantH)
+		}
+	}
+	other := writeDataset(t, fixture{w: 32, h: 24, d: 2}, "c")
+	mixed := *ds
+	o2, err := dataset.Open(other)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mixed.Pairs = append(append([]dataset.Pair(nil), ds.Pairs...), o2.Pairs...)
+	mixed.Truth = nil
+	_, err = NewLoader(&mixed, nil)
+	wantErr(t, err, "differ in size", "40×24", "32×24")
+	if _, err := NewLoader(&mixed, &Options{Height: 24}); err == nil {
+		t.Error("a zero width over pairs of different widths accepted")
+	}
+	if _, err := NewLoader(&mixed, &Options{Width: 32, Height: 24}); err != nil {
+		t.Errorf("explicit size: %v", err)
+	}
+}
