@@ -39,7 +39,7 @@ func TestRigFocal(t *testing.T) {
 		style    Style
 		hfovDeg  float64
 		baseline float64
-	}{{Greenhouse, 72, 0.12}, {Storage, 60, 0.1}} {
+	}{{Greenhouse, 72, 0.12}, {Storage, 60, 0.1}, {Orchard, 80, 0.1}} {
 		for _, w := range []int{256, 640} {
 			rig, err := c.style.Rig(w, w/2)
 			if err != nil {

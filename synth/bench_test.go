@@ -5,11 +5,11 @@ import (
 	"testing"
 )
 
-// benchmarkGenerate renders pairs of the style at the given size, one pair
-// per iteration, on one goroutine.
-func benchmarkGenerate(b *testing.B, style Style, w, h int) {
+// benchmarkGenerate renders pairs of the style at the given size with the
+// variation, one pair per iteration, on one goroutine.
+func benchmarkGenerate(b *testing.B, style Style, vary Variation, w, h int) {
 	b.ReportAllocs()
-	opt := &Options{Width: w, Height: h}
+	opt := &Options{Width: w, Height: h, Vary: vary}
 	cpu0, ok := processCPU()
 	n := 0
 	for b.Loop() {
@@ -23,10 +23,16 @@ func benchmarkGenerate(b *testing.B, style Style, w, h int) {
 	}
 }
 
+// BenchmarkGenerate renders each style as Generate does by default, and
+// the unvaried styles varied too (the cost of the capture effects).
 func BenchmarkGenerate(b *testing.B) {
 	for _, st := range Styles {
-		b.Run(fmt.Sprintf("%s/256x128", st), func(b *testing.B) { benchmarkGenerate(b, st, 256, 128) })
+		b.Run(fmt.Sprintf("%s/256x128", st), func(b *testing.B) { benchmarkGenerate(b, st, VaryDefault, 256, 128) })
 	}
+	for _, st := range []Style{Greenhouse, Storage} {
+		b.Run(fmt.Sprintf("%s/varied/256x128", st), func(b *testing.B) { benchmarkGenerate(b, st, VaryAll, 256, 128) })
+	}
+	b.Run("orchard/varied/640x480", func(b *testing.B) { benchmarkGenerate(b, Orchard, VaryAll, 640, 480) })
 }
 
 // BenchmarkWriteDataset writes 16 greenhouse pairs at 256×128 per iteration

@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 )
@@ -78,4 +79,65 @@ func (b *builder) lighting(ambLo, ambHi, difLo, difHi float64) {
 	b.sc.light = vec3{math.Cos(az) * math.Cos(el), math.Sin(el), math.Sin(az) * math.Cos(el)}
 	b.sc.ambient = b.uni(ambLo, ambHi)
 	b.sc.diffuse = b.uni(difLo, difHi)
+}
+
+// buildScene returns scene number index of the style for the seed.
+func buildScene(style Style, seed uint64, index int) (*scene, error) {
+	b := newBuilder(seed, index, style)
+	switch style {
+	case Greenhouse:
+		buildGreenhouse(b)
+	case Storage:
+		buildStorage(b)
+	case Orchard:
+		buildOrchard(b)
+	default:
+		return nil, fmt.Errorf("synth: unknown style %d", int(style))
+	}
+	if len(b.sc.shapes) > 1<<16 {
+		return nil, fmt.Errorf("synth: scene has %d shapes, at most %d are supported", len(b.sc.shapes), 1<<16)
+	}
+	return b.sc, nil
+}
+
+// generate renders a pair with resolved options (see Generate).
+func generate(style Style, seed uint64, index int, o Options) (*Pair, error) {
+	return generatePair(style, seed, index, o, true)
+}
+
+// generatePair is generate; with developed false a varied pair keeps the
+// clean rendered images (no blur, gain or noise), for the tests.
+func generatePair(style Style, seed uint64, index int, o Options, developed bool) (*Pair, error) {
+	vary, err := o.Vary.resolve(style)
+	if err != nil {
+		return nil, err
+	}
+	sp, ok := style.spec()
+	if !ok {
+		return nil, fmt.Errorf("synth: unknown style %d", int(style))
+	}
+	sc, err := buildScene(style, seed, index)
+	if err != nil {
+		return nil, err
+	}
+	if vary == VaryNone {
+		rig, err := style.Rig(o.Width, o.Height)
+		if err != nil {
+			return nil, err
+		}
+		return render(sc, rig, o.Samples), nil
+	}
+	r := varyStream(seed, index, style, streamCapture)
+	c := drawCapture(r, sp.minDepth)
+	rig, err := variedRig(style, &c, o.Width, o.Height)
+	if err != nil {
+		return nil, err
+	}
+	varyScene(sc, r)
+	p := renderShifted(sc, rig, o.Samples, c.RowShift)
+	if developed {
+		develop(p, &c, seed, index, style)
+	}
+	p.Capture = &c
+	return p, nil
 }

@@ -4,12 +4,19 @@ import (
 	"errors"
 	"fmt"
 	"image"
+	"os"
+	"path/filepath"
 	"sync"
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
 )
+
+// DirRigs is the folder, in a data-set folder, of the rigs of varied pairs:
+// rigs/NAME.json (depth.SaveRig), written in place of dataset.RigFile
+// because each varied pair has a rig of its own.
+const DirRigs = "rigs"
 
 // PairName returns the file name stem of pair index: six digits, zero
 // padded ("000042"); more digits for indices of a million and beyond.
@@ -43,8 +50,9 @@ func (p *Pair) Record(name string) (*dataset.Record, error) {
 }
 
 // Save writes p into the data-set folder dir under the stem name, through
-// dataset.Write (see Record for what is written). It does not write
-// rig.json (WriteDataset does). Every file is written atomically.
+// dataset.Write (see Record for what is written), and for a varied pair
+// its rig as rigs/NAME.json. It does not write rig.json (WriteDataset
+// does). Every file is written atomically.
 func (p *Pair) Save(dir, name string) error {
 	r, err := p.Record(name)
 	if err != nil {
@@ -52,6 +60,14 @@ func (p *Pair) Save(dir, name string) error {
 	}
 	if err := dataset.Write(dir, r); err != nil {
 		return fmt.Errorf("synth: saving pair %s: %w", name, err)
+	}
+	if p.Capture != nil {
+		if err := os.MkdirAll(filepath.Join(dir, DirRigs), 0o755); err != nil {
+			return fmt.Errorf("synth: %w", err)
+		}
+		if err := depth.SaveRig(filepath.Join(dir, DirRigs, name+".json"), p.Rig); err != nil {
+			return fmt.Errorf("synth: saving pair %s: %w", name, err)
+		}
 	}
 	return nil
 }
@@ -97,7 +113,9 @@ func occlusionImage(m *planar.Image) *image.Gray {
 // dataset.Create and dataset.Write). If dir already holds a rig.json for
 // another rig (another style or size), WriteDataset refuses to mix the two
 // and returns an error; with the same rig it replaces the pairs it writes
-// and leaves others in place. Pairs are rendered by opt.Workers goroutines;
+// and leaves others in place. Varied pairs (Options.Vary) have a rig each,
+// written as rigs/NAME.json instead of rig.json, and are refused in a
+// folder that holds a rig.json. Pairs are rendered by opt.Workers goroutines;
 // each pair's files depend only on (style, seed, index, size, samples), so
 // the output is the same for any number of workers. It returns the first
 // error met.
@@ -109,12 +127,20 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	if n < 0 {
 		return fmt.Errorf("synth: pair count %d is negative", n)
 	}
+	vary, err := o.Vary.resolve(style)
+	if err != nil {
+		return err
+	}
 	rig, err := style.Rig(o.Width, o.Height)
 	if err != nil {
 		return err
 	}
-	if err := dataset.Create(dir, rig); err != nil {
-		return fmt.Errorf("synth: writing %s at %dx%d: %w", style, rig.Width, rig.Height, err)
+	if vary == VaryNone {
+		if err := dataset.Create(dir, rig); err != nil {
+			return fmt.Errorf("synth: writing %s at %dx%d: %w", style, rig.Width, rig.Height, err)
+		}
+	} else if _, err := os.Stat(filepath.Join(dir, dataset.RigFile)); err == nil {
+		return fmt.Errorf("synth: %s already holds a data set of one rig (%s); write varied pairs, which have a rig each, into an empty folder", dir, dataset.RigFile)
 	}
 	jobs := make(chan int)
 	errs := make(chan error)

@@ -32,6 +32,11 @@ type Options struct {
 	// runtime.GOMAXPROCS(0). It does not change the output.
 	Workers int
 
+	// Vary selects the per-pair randomisation (see Variation); the zero
+	// value VaryDefault leaves Greenhouse and Storage unvaried and varies
+	// the other styles.
+	Vary Variation
+
 	// Progress, if not nil, is called by WriteDataset after each pair is
 	// written with the number of pairs done and the total, from one
 	// goroutine at a time.
@@ -67,27 +72,10 @@ func (o *Options) resolved() (Options, error) {
 	return r, nil
 }
 
-// buildScene returns scene number index of the style for the seed.
-func buildScene(style Style, seed uint64, index int) (*scene, error) {
-	b := newBuilder(seed, index, style)
-	switch style {
-	case Greenhouse:
-		buildGreenhouse(b)
-	case Storage:
-		buildStorage(b)
-	default:
-		return nil, fmt.Errorf("synth: unknown style %d", int(style))
-	}
-	if len(b.sc.shapes) > 1<<16 {
-		return nil, fmt.Errorf("synth: scene has %d shapes, at most %d are supported", len(b.sc.shapes), 1<<16)
-	}
-	return b.sc, nil
-}
-
 // Generate renders pair number index of the style for the seed. The same
-// (style, seed, index, size, samples) always gives the same pair, whatever
-// else is generated and in whatever order. It returns an error for an
-// unknown style, a negative index or invalid options.
+// (style, seed, index, size, samples, variation) always gives the same
+// pair, whatever else is generated and in whatever order. It returns an
+// error for an unknown style, a negative index or invalid options.
 func Generate(style Style, seed uint64, index int, opt *Options) (*Pair, error) {
 	o, err := opt.resolved()
 	if err != nil {
@@ -96,13 +84,5 @@ func Generate(style Style, seed uint64, index int, opt *Options) (*Pair, error) 
 	if index < 0 {
 		return nil, fmt.Errorf("synth: pair index %d is negative", index)
 	}
-	rig, err := style.Rig(o.Width, o.Height)
-	if err != nil {
-		return nil, err
-	}
-	sc, err := buildScene(style, seed, index)
-	if err != nil {
-		return nil, err
-	}
-	return render(sc, rig, o.Samples), nil
+	return generate(style, seed, index, o)
 }

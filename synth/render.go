@@ -24,6 +24,10 @@ type Pair struct {
 	// right camera (inside its image and not hidden), 0 elsewhere;
 	// VisibleRight likewise for the right view seen from the left.
 	VisibleLeft, VisibleRight *planar.Image
+
+	// Capture is the pair's randomisation, nil for an unvaried pair
+	// (VaryNone). Its Rig is then the pair's own.
+	Capture *Capture
 }
 
 // render draws both views of sc and their ground truth.
@@ -36,10 +40,18 @@ type Pair struct {
 // So at a depth edge a pixel's colour mixes both surfaces while its
 // disparity is that of the surface under its centre.
 func render(sc *scene, rig *depth.Rig, samples int) *Pair {
+	return renderShifted(sc, rig, samples, 0)
+}
+
+// renderShifted is render with the right camera's principal point
+// rowShift pixels below the rig's (see Capture.RowShift): the ground truth
+// of each view stays exact at its own pixel centres, and visibility is
+// cast from the point's true position in the other view.
+func renderShifted(sc *scene, rig *depth.Rig, samples int, rowShift float64) *Pair {
 	w, h := rig.Width, rig.Height
 	rightOrigin := sc.origin.add(sc.right.scale(rig.Baseline))
 	mid := sc.origin.add(sc.right.scale(rig.Baseline / 2))
-	views := [2]*view{newView(sc, rig, sc.origin), newView(sc, rig, rightOrigin)}
+	views := [2]*view{newView(sc, rig, sc.origin, rig.Cy), newView(sc, rig, rightOrigin, rig.Cy+rowShift)}
 	p := &Pair{
 		Rig:          rig,
 		Left:         planar.New(1, 3, h, w),
@@ -58,10 +70,12 @@ func render(sc *scene, rig *depth.Rig, samples int) *Pair {
 		img, disp, vis := p.Left, p.DispLeft, p.VisibleLeft
 		other := views[1]
 		sign := -1.0 // a left pixel x is seen at x − d in the right view
+		dy := rowShift
 		if vi == 1 {
 			img, disp, vis = p.Right, p.DispRight, p.VisibleRight
 			other = views[0]
 			sign = 1
+			dy = -rowShift
 		}
 		for y := 0; y < h; y++ {
 			for x := 0; x < w; x++ {
@@ -108,7 +122,7 @@ func render(sc *scene, rig *depth.Rig, samples int) *Pair {
 				// The surface point projects to (xo, y) in the other view;
 				// it is visible there if the other camera's ray through that
 				// point reaches it before anything else.
-				oh := other.trace(xo, float64(y))
+				oh := other.trace(xo, float64(y)+dy)
 				if oh.shape >= 0 && oh.t >= centre.t*(1-visTol) {
 					vis.Pix[i] = 1
 				}

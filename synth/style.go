@@ -21,10 +21,17 @@ const (
 	// printed labels, plastic bins and pallets. Rig: 60° horizontal field
 	// of view, 0.1 m baseline, about 1.25 m above the floor.
 	Storage
+	// Orchard is an orchard alley seen from a small ground robot: grass
+	// and bare soil, rows of fruit trees on trellis posts and wires, bins
+	// and stones, a tree line and sky up to about 30 m away, and now and
+	// then a leaf cluster or a stake within a metre of the camera. Its
+	// pairs are varied by default (see Variation); unvaried rig: 80°
+	// horizontal field of view, 0.1 m baseline.
+	Orchard
 )
 
 // Styles lists every style, in the order of their values.
-var Styles = []Style{Greenhouse, Storage}
+var Styles = []Style{Greenhouse, Storage, Orchard}
 
 // String returns the style's name as ParseStyle reads it.
 func (s Style) String() string {
@@ -33,11 +40,13 @@ func (s Style) String() string {
 		return "greenhouse"
 	case Storage:
 		return "storage"
+	case Orchard:
+		return "orchard"
 	}
 	return fmt.Sprintf("Style(%d)", int(s))
 }
 
-// ParseStyle returns the style named name ("greenhouse" or "storage", case
+// ParseStyle returns the style named name (one of Styles' names, case
 // insensitive).
 func ParseStyle(name string) (Style, error) {
 	for _, s := range Styles {
@@ -45,7 +54,11 @@ func ParseStyle(name string) (Style, error) {
 			return s, nil
 		}
 	}
-	return 0, fmt.Errorf("synth: unknown style %q (want greenhouse or storage)", name)
+	names := make([]string, len(Styles))
+	for i, s := range Styles {
+		names[i] = s.String()
+	}
+	return 0, fmt.Errorf("synth: unknown style %q (want one of %s)", name, strings.Join(names, ", "))
 }
 
 // rigSpec is what fixes a style's rig independently of the image size.
@@ -61,19 +74,27 @@ func (s Style) spec() (rigSpec, bool) {
 		return rigSpec{hfov: 72 * math.Pi / 180, baseline: 0.12, minDepth: 0.25, maxDepth: 20}, true
 	case Storage:
 		return rigSpec{hfov: 60 * math.Pi / 180, baseline: 0.1, minDepth: 0.3, maxDepth: 12}, true
+	case Orchard:
+		return rigSpec{hfov: 80 * math.Pi / 180, baseline: 0.1, minDepth: 0.3, maxDepth: 32}, true
 	}
 	return rigSpec{}, false
 }
 
 // Rig returns the style's rig at the image size width × height: focal
 // length (W/2)/tan(hfov/2) pixels, square pixels (Fy = Fx), the principal
-// point at the image centre ((W−1)/2, (H−1)/2) and DeltaCx 0. It returns an
-// error for an unknown style or a size that depth.Rig rejects.
+// point at the image centre ((W−1)/2, (H−1)/2) and DeltaCx 0. It is the
+// rig of every unvaried pair (VaryNone); a varied pair has a rig of its
+// own (Pair.Rig). It returns an error for an unknown style or a size that
+// depth.Rig rejects.
 func (s Style) Rig(width, height int) (*depth.Rig, error) {
 	sp, ok := s.spec()
 	if !ok {
 		return nil, fmt.Errorf("synth: unknown style %d", int(s))
 	}
+	return sp.rig(s, width, height)
+}
+
+func (sp rigSpec) rig(s Style, width, height int) (*depth.Rig, error) {
 	f := float64(width) / 2 / math.Tan(sp.hfov/2)
 	r := &depth.Rig{
 		Width: width, Height: height,

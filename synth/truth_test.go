@@ -129,6 +129,7 @@ func abs(v int) int {
 // and compares it with d_L, in pixels.
 type lrStats struct {
 	visible, pass            int     // visible pixels and those within 1 px
+	unexplained              int     // failing visible pixels whose two right samples agree (no depth edge between)
 	median                   float64 // median |d_L − d_R(x − d_L)| over visible pixels
 	occluded, occludedNearer int     // in-frame hidden pixels, and those whose match is nearer
 }
@@ -153,6 +154,18 @@ func leftRight(t *testing.T, p *Pair) lrStats {
 			diffs = append(diffs, math.Abs(dl-dr))
 			if math.Abs(dl-dr) <= 1 {
 				st.pass++
+			} else {
+				xr := float64(i%w) - dl
+				x0 := int(math.Floor(xr))
+				y := i / w
+				a := float64(p.DispRight.Pix[y*w+x0]) * float64(w)
+				b := a
+				if x0+1 < w {
+					b = float64(p.DispRight.Pix[y*w+x0+1]) * float64(w)
+				}
+				if math.Abs(a-b) <= 1 {
+					st.unexplained++
+				}
 			}
 		} else {
 			st.occluded++
@@ -172,15 +185,16 @@ var (
 	truthErr   error
 )
 
-// truthPairs renders a few pairs of each style, once, for the ground-truth
-// tests. The tests only read them.
+// truthPairs renders a few unvaried pairs of each style (clean images, the
+// style's rig), once, for the ground-truth tests. The tests only read
+// them; vary_test.go checks varied pairs.
 func truthPairs(t *testing.T) map[Style][]*Pair {
 	t.Helper()
 	truthOnce.Do(func() {
 		truthCache = map[Style][]*Pair{}
 		for _, st := range Styles {
 			for i := 0; i < 3; i++ {
-				p, err := Generate(st, 11, i, nil)
+				p, err := Generate(st, 11, i, &Options{Vary: VaryNone})
 				if err != nil {
 					truthErr = err
 					return
@@ -244,8 +258,13 @@ func TestWarpRebuildsLeft(t *testing.T) {
 // practice: sample the right disparity at x − d_L and compare with d_L,
 // threshold 1 px) to the ground truth. Outside occlusions it must pass
 // almost everywhere: it fails only where the bilinear sample straddles a
-// depth edge (measured 0.2–0.5 % of visible pixels, bound 1 %), and the
-// median difference is float32 rounding (measured 0, bound 1e-3 px). Inside
+// depth edge (measured 0.2–0.5 % of visible pixels in the greenhouse and
+// storage, 0.6–1.1 % in the orchard with its wires, stakes and leaves;
+// bound 2 %); where the two right pixels sampled agree within 1 px it
+// fails only on structures thinner than a pixel that slip between the
+// right view's pixel centres, such as hangers and wires (measured 0–18
+// pixels, 0–0.06 %; bound 0.2 %), and the median difference is float32 rounding (measured 0,
+// bound 1e-3 px). Inside
 // occlusions the match lands on a nearer surface, so the sampled right
 // disparity is larger (measured 93–100 % of hidden in-frame pixels, bound
 // 85 %; the rest are bilinear samples that straddle the occluder's edge).
@@ -257,8 +276,9 @@ func TestLeftRightConsistency(t *testing.T) {
 			frac := float64(s.pass) / float64(s.visible)
 			t.Logf("%s %d: %d of %d visible pixels within 1 px (%.4f), median %.2g px; %d of %d hidden pixels match a nearer surface",
 				st, i, s.pass, s.visible, frac, s.median, s.occludedNearer, s.occluded)
-			if frac < 0.99 || s.median > 1e-3 {
-				t.Errorf("%s pair %d: %.4f of visible pixels pass the 1 px check (min 0.99), median %.3g px (max 1e-3)", st, i, frac, s.median)
+			if frac < 0.98 || s.median > 1e-3 || float64(s.unexplained) > 0.002*float64(s.visible) {
+				t.Errorf("%s pair %d: %.4f of visible pixels pass the 1 px check (min 0.98), %d fail away from depth edges (max 0.2 %%), median %.3g px (max 1e-3)",
+					st, i, frac, s.unexplained, s.median)
 			}
 			if s.occluded == 0 || float64(s.occludedNearer) < 0.85*float64(s.occluded) {
 				t.Errorf("%s pair %d: %d of %d hidden pixels match a nearer surface (min 85 %%)", st, i, s.occludedNearer, s.occluded)

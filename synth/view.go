@@ -23,10 +23,12 @@ type view struct {
 	minZ           []float64
 }
 
-func newView(sc *scene, rig *depth.Rig, origin vec3) *view {
+// newView returns the camera at origin with the rig's intrinsics and the
+// principal point's row cy.
+func newView(sc *scene, rig *depth.Rig, origin vec3, cy float64) *view {
 	v := &view{
 		sc: sc, origin: origin,
-		fx: rig.Fx, fy: rig.Fy, cx: rig.Cx, cy: rig.Cy,
+		fx: rig.Fx, fy: rig.Fy, cx: rig.Cx, cy: cy,
 		w: rig.Width, h: rig.Height,
 	}
 	v.tilesX = (v.w + tileSize - 1) / tileSize

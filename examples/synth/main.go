@@ -18,7 +18,8 @@ import (
 )
 
 func main() {
-	style := flag.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle) or storage (a storage room with shelving)")
+	style := flag.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle), storage (a storage room with shelving) or orchard (a ground robot in an orchard alley, 0.3 to 30 m)")
+	vary := flag.String("vary", "default", "per-pair randomisation: all (rig, colours, textures, light, exposure, blur, noise, gain difference, vertical misalignment; a rig per pair in rigs/), none, or default (none for greenhouse and storage, all for the others)")
 	n := flag.Int("n", 8, "number of stereo pairs to write")
 	seed := flag.Uint64("seed", 1, "random seed; the same seed, style, size and samples give byte-identical files")
 	out := flag.String("out", "", "output folder, created if missing; pairs with the same names are replaced, and a folder holding a dataset of another rig is refused")
@@ -28,17 +29,17 @@ func main() {
 	workers := flag.Int("workers", runtime.GOMAXPROCS(0), "pairs rendered at once; does not change the output")
 	quiet := flag.Bool("quiet", false, "do not print progress")
 	flag.Usage = func() {
-		fmt.Fprintf(flag.CommandLine.Output(), "usage: synth -out DIR [flags]\n\nWrites rectified stereo pairs of synthetic scenes with exact ground truth into DIR:\nrig.json, left/, right/ and truth/ (disparity of both views in pixels, left depth\nin metres, occlusion masks). Flags:\n\n")
+		fmt.Fprintf(flag.CommandLine.Output(), "usage: synth -out DIR [flags]\n\nWrites rectified stereo pairs of synthetic scenes with exact ground truth into DIR:\nrig.json (or rigs/NAME.json for varied pairs), left/, right/ and truth/ (disparity of both views in pixels, left depth\nin metres, occlusion masks). Flags:\n\n")
 		flag.PrintDefaults()
 	}
 	flag.Parse()
-	if err := run(*style, *n, *seed, *out, *width, *height, *samples, *workers, *quiet); err != nil {
+	if err := run(*style, *vary, *n, *seed, *out, *width, *height, *samples, *workers, *quiet); err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)
 	}
 }
 
-func run(styleName string, n int, seed uint64, out string, width, height, samples, workers int, quiet bool) error {
+func run(styleName, varyName string, n int, seed uint64, out string, width, height, samples, workers int, quiet bool) error {
 	if flag.NArg() > 0 {
 		return fmt.Errorf("synth: unexpected argument %q (flags only; see -help)", flag.Arg(0))
 	}
@@ -58,10 +59,14 @@ func run(styleName string, n int, seed uint64, out string, width, height, sample
 	if err != nil {
 		return err
 	}
+	vary, err := synth.ParseVariation(varyName)
+	if err != nil {
+		return err
+	}
 	start := time.Now()
 	last := time.Time{}
 	printed := false
-	opt := &synth.Options{Width: width, Height: height, Samples: samples, Workers: workers}
+	opt := &synth.Options{Width: width, Height: height, Samples: samples, Workers: workers, Vary: vary}
 	if !quiet {
 		opt.Progress = func(done, total int) {
 			if now := time.Now(); done == total || now.Sub(last) > 500*time.Millisecond {
