@@ -122,6 +122,10 @@ func corrRun(t *corrTask, n, c, h, w, disps int) {
 // corrForwardRows computes the output rows (n, k, y) of the input rows
 // lo <= r < hi, r = n·h + y.
 func corrForwardRows(t *corrTask, lo, hi int) {
+	if corrAVX2 {
+		corrForwardRowsAVX2(t, lo, hi)
+		return
+	}
 	c, h, w, disps := t.c, t.h, t.w, t.disps
 	plane := h * w
 	scale := 1 / float32(c)
@@ -154,6 +158,10 @@ func corrForwardRows(t *corrTask, lo, hi int) {
 // corrBackwardRows computes the gradient rows (n, ch, y) of the input rows
 // lo <= r < hi.
 func corrBackwardRows(t *corrTask, lo, hi int) {
+	if corrAVX2 {
+		corrBackwardRowsAVX2(t, lo, hi)
+		return
+	}
 	c, h, w, disps := t.c, t.h, t.w, t.disps
 	plane := h * w
 	scale := 1 / float32(c)
@@ -207,5 +215,167 @@ func mulAddRow(o, a, b []float32) {
 func scaleRow(o []float32, s float32) {
 	for i := range o {
 		o[i] *= s
+	}
+}
+
+// The AVX2 loops work on a copy of each input row (n, y), one padded row
+// of stride values per channel (and per shift for the upstream gradient):
+// pad zeros, the w values, then zeros to the end. The copies make every
+// shifted read, x − k or x + k, land inside the row, so the loops need no
+// edge cases, and they bring the c channel rows together, which in the
+// tensor lie h·w values apart and would fall into the same cache sets.
+// Columns past the last multiple of 8, and channels past the last multiple
+// of 8 in the gradients, are done in Go on the same copies.
+
+// corrLayout returns the padding and the stride of the padded rows for
+// shifts 0 … kmax−1 over rows of w values.
+func corrLayout(w, kmax int) (pad, stride int) {
+	pad = (kmax + 7) &^ 7
+	return pad, 2*pad + (w+7)&^7 + 8
+}
+
+// corrScratch holds the padded-row buffers of idle ranges; like opFree, a
+// channel keeps them across garbage collections.
+var corrScratch = make(chan []float32, 16)
+
+// corrGetScratch returns n zeros, from corrScratch if a buffer there is
+// large enough.
+func corrGetScratch(n int) []float32 {
+	select {
+	case b := <-corrScratch:
+		if cap(b) >= n {
+			b = b[:n]
+			clear(b)
+			return b
+		}
+	default:
+	}
+	return make([]float32, n)
+}
+
+func corrPutScratch(b []float32) {
+	select {
+	case corrScratch <- b:
+	default:
+	}
+}
+
+// corrForwardRowsAVX2 is corrForwardRows with the loops of
+// correlation_amd64.s.
+func corrForwardRowsAVX2(t *corrTask, lo, hi int) {
+	c, h, w, disps := t.c, t.h, t.w, t.disps
+	plane := h * w
+	scale := 1 / float32(c)
+	kmax := min(disps, w)
+	pad, stride := corrLayout(w, kmax)
+	buf := corrGetScratch(2 * c * stride)
+	lp, rp := buf[:c*stride], buf[c*stride:]
+	w8 := w &^ 7
+	for r := lo; r < hi; r++ {
+		b, y := r/h, r%h
+		in := b*c*plane + y*w
+		out := b*disps*plane + y*w
+		for ch := 0; ch < c; ch++ {
+			src, p := in+ch*plane, ch*stride+pad
+			copy(lp[p:p+w], t.left[src:src+w])
+			copy(rp[p:p+w], t.right[src:src+w])
+		}
+		for k0 := 0; k0 < kmax; k0 += 8 {
+			kc := min(8, kmax-k0)
+			o := t.dst[out+k0*plane:]
+			if w8 > 0 {
+				corrForwardAVX2(o, plane, lp[pad:], rp[pad-k0:], stride, c, w8, kc, scale)
+			}
+			if w8 < w {
+				corrForwardCols(o, plane, lp[pad:], rp, pad-k0, stride, c, w8, w, kc, scale)
+			}
+		}
+		for k := 0; k < disps; k++ {
+			row := t.dst[out+k*plane : out+k*plane+w]
+			clear(row[:min(k, w)])
+		}
+	}
+	corrPutScratch(buf)
+}
+
+// corrForwardCols is corrForwardAVX2 in Go for the columns x0 <= x < x1,
+// with r read from roff on.
+func corrForwardCols(o []float32, ostride int, l, r []float32, roff, stride, c, x0, x1, kc int, scale float32) {
+	for j := 0; j < kc; j++ {
+		for x := x0; x < x1; x++ {
+			var s float32
+			for ch := 0; ch < c; ch++ {
+				s += l[ch*stride+x] * r[roff+ch*stride+x-j]
+			}
+			o[j*ostride+x] = s * scale
+		}
+	}
+}
+
+// corrBackwardRowsAVX2 is corrBackwardRows with the loops of
+// correlation_amd64.s: dleft reads the upstream rows at x and the right
+// rows at x − k, dright both at x + k.
+func corrBackwardRowsAVX2(t *corrTask, lo, hi int) {
+	c, h, w, disps := t.c, t.h, t.w, t.disps
+	plane := h * w
+	scale := 1 / float32(c)
+	kmax := min(disps, w)
+	pad, stride := corrLayout(w, kmax)
+	buf := corrGetScratch((2*c + kmax) * stride)
+	lp, rp, gp := buf[:c*stride], buf[c*stride:2*c*stride], buf[2*c*stride:]
+	w8, c8 := w&^7, c&^7
+	for r := lo; r < hi; r++ {
+		b, y := r/h, r%h
+		in := b*c*plane + y*w
+		out := b*disps*plane + y*w
+		for k := 0; k < kmax; k++ {
+			// The upstream values at the constant outputs (x < k) are
+			// ignored: their copies stay 0.
+			row := gp[k*stride+pad : k*stride+pad+w]
+			clear(row[:k])
+			copy(row[k:], t.dst[out+k*plane+k:out+k*plane+w])
+		}
+		for ch := 0; ch < c; ch++ {
+			src, p := in+ch*plane, ch*stride+pad
+			if t.dright != nil {
+				copy(lp[p:p+w], t.left[src:src+w])
+			}
+			if t.dleft != nil {
+				copy(rp[p:p+w], t.right[src:src+w])
+			}
+		}
+		for _, d := range [2]struct {
+			grad, v      []float32
+			gstep, vstep int
+		}{{t.dleft, rp, stride, -1}, {t.dright, lp, stride + 1, 1}} {
+			if d.grad == nil {
+				continue
+			}
+			o := d.grad[in:]
+			if w8 > 0 {
+				for ch0 := 0; ch0 < c8; ch0 += 8 {
+					corrBackwardAVX2(o[ch0*plane:], plane, gp[pad:], d.gstep, d.v[ch0*stride+pad:], d.vstep, stride, kmax, w8, scale)
+				}
+				corrBackwardCols(o, plane, gp, pad, d.gstep, d.v, pad, d.vstep, stride, kmax, 0, c8, w8, w, scale)
+				corrBackwardCols(o, plane, gp, pad, d.gstep, d.v, pad, d.vstep, stride, kmax, c8, c, 0, w, scale)
+			} else {
+				corrBackwardCols(o, plane, gp, pad, d.gstep, d.v, pad, d.vstep, stride, kmax, 0, c, 0, w, scale)
+			}
+		}
+	}
+	corrPutScratch(buf)
+}
+
+// corrBackwardCols is corrBackwardAVX2 in Go for the rows ch0 <= j < ch1
+// and the columns x0 <= x < x1, with g read from goff and v from voff on.
+func corrBackwardCols(out []float32, ostride int, g []float32, goff, gstep int, v []float32, voff, vstep, vstride, kn, ch0, ch1, x0, x1 int, scale float32) {
+	for j := ch0; j < ch1; j++ {
+		for x := x0; x < x1; x++ {
+			var s float32
+			for k := 0; k < kn; k++ {
+				s += g[goff+k*gstep+x] * v[voff+j*vstride+k*vstep+x]
+			}
+			out[j*ostride+x] = s * scale
+		}
 	}
 }

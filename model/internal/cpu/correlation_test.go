@@ -47,7 +47,14 @@ func loadCorrFixture(t *testing.T) []corrFixtureCase {
 
 // corrPaths runs f with every row loop this CPU has.
 func corrPaths(t *testing.T, f func(t *testing.T)) {
+	saved := corrAVX2
+	defer func() { corrAVX2 = saved }()
+	corrAVX2 = false
 	t.Run("go", f)
+	if saved {
+		corrAVX2 = true
+		t.Run("avx2", f)
+	}
 }
 
 func TestCorrelationAgainstTorch(t *testing.T) { corrPaths(t, testCorrelationAgainstTorch) }
@@ -201,7 +208,7 @@ func naiveCorrelationBackward(g, left, right []float32, n, c, h, w, disps int) (
 func TestCorrelationLarge(t *testing.T) { corrPaths(t, testCorrelationLarge) }
 
 func testCorrelationLarge(t *testing.T) {
-	shapes := []struct{ n, c, h, w, disps int }{{2, 9, 13, 70, 30}, {1, 32, 4, 64, 24}, {1, 3, 2, 100, 130}}
+	shapes := []struct{ n, c, h, w, disps int }{{2, 9, 13, 70, 30}, {1, 32, 4, 64, 24}, {1, 17, 3, 41, 13}, {1, 3, 2, 100, 130}}
 	for w := 1; w <= 27; w++ {
 		shapes = append(shapes, struct{ n, c, h, w, disps int }{1, 3, 2, w, 1 + w%11})
 	}
