@@ -8,14 +8,14 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// correlation adds the correlation cost volume of left and right (both
+// nodeCorrelation adds the correlation cost volume of left and right (both
 // (N, C, H, W)) over disps shifts, cpu.Correlation, as the node name; the
 // output is (N, disps, H, W), channel k the match of left column x with
 // right column x − k. Its gradients are the nodes NAME.dleft and
 // NAME.dright, cpu.CorrelationBackward for one input each. It returns an
 // error if the inputs are not float32 tensors of one rank-4 shape or disps
 // is not positive.
-func correlation(name string, left, right *G.Node, disps int) (*G.Node, error) {
+func nodeCorrelation(name string, left, right *G.Node, disps int) (*G.Node, error) {
 	what := "correlation " + name
 	n, c, h, w, err := shape4(what, left)
 	if err != nil {

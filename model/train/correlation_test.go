@@ -29,7 +29,7 @@ func TestStereoOperatorGradients(t *testing.T) {
 		{
 			name:   "correlation",
 			shapes: []tensor.Shape{{2, 3, 4, 9}, {2, 3, 4, 9}},
-			build:  func(in []*G.Node) (*G.Node, error) { return correlation("corr", in[0], in[1], 5) },
+			build:  func(in []*G.Node) (*G.Node, error) { return nodeCorrelation("corr", in[0], in[1], 5) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 2*5*4*9)
 				cpu.Correlation(y, in[0], in[1], 2, 3, 4, 9, 5)
@@ -39,7 +39,7 @@ func TestStereoOperatorGradients(t *testing.T) {
 		{
 			name:   "correlation, more shifts than columns",
 			shapes: []tensor.Shape{{1, 2, 2, 4}, {1, 2, 2, 4}},
-			build:  func(in []*G.Node) (*G.Node, error) { return correlation("corr", in[0], in[1], 6) },
+			build:  func(in []*G.Node) (*G.Node, error) { return nodeCorrelation("corr", in[0], in[1], 6) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 6*2*4)
 				cpu.Correlation(y, in[0], in[1], 1, 2, 2, 4, 6)
@@ -50,7 +50,7 @@ func TestStereoOperatorGradients(t *testing.T) {
 			// A feature map against itself: gorgonia adds the two gradients.
 			name:   "self-correlation",
 			shapes: []tensor.Shape{{1, 4, 3, 7}},
-			build:  func(in []*G.Node) (*G.Node, error) { return correlation("corr", in[0], in[0], 3) },
+			build:  func(in []*G.Node) (*G.Node, error) { return nodeCorrelation("corr", in[0], in[0], 3) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, 3*3*7)
 				cpu.Correlation(y, in[0], in[0], 1, 4, 3, 7, 3)
@@ -61,14 +61,14 @@ func TestStereoOperatorGradients(t *testing.T) {
 			name:   "warp rebuilding the left view",
 			shapes: []tensor.Shape{{2, 3, 3, 8}, {2, 1, 3, 8}},
 			prep:   offKinks(8),
-			build:  func(in []*G.Node) (*G.Node, error) { return warpFeatures("wl", in[0], in[1], warp.RebuildLeft) },
+			build:  func(in []*G.Node) (*G.Node, error) { return nodeWarpFeatures("wl", in[0], in[1], warp.RebuildLeft) },
 			want:   warpWant(warp.Shape{N: 2, C: 3, H: 3, W: 8}, warp.RebuildLeft),
 		},
 		{
 			name:   "warp rebuilding the right view",
 			shapes: []tensor.Shape{{1, 2, 2, 9}, {1, 1, 2, 9}},
 			prep:   offKinks(9),
-			build:  func(in []*G.Node) (*G.Node, error) { return warpFeatures("wr", in[0], in[1], warp.RebuildRight) },
+			build:  func(in []*G.Node) (*G.Node, error) { return nodeWarpFeatures("wr", in[0], in[1], warp.RebuildRight) },
 			want:   warpWant(warp.Shape{N: 1, C: 2, H: 2, W: 9}, warp.RebuildRight),
 		},
 		{
@@ -81,11 +81,11 @@ func TestStereoOperatorGradients(t *testing.T) {
 				offKinks(10)(in[1:])
 			},
 			build: func(in []*G.Node) (*G.Node, error) {
-				wr, err := warpFeatures("w", in[1], in[2], warp.RebuildLeft)
+				wr, err := nodeWarpFeatures("w", in[1], in[2], warp.RebuildLeft)
 				if err != nil {
 					return nil, err
 				}
-				return correlation("corr", in[0], wr, 4)
+				return nodeCorrelation("corr", in[0], wr, 4)
 			},
 			want: func(in [][]float32) []float32 {
 				s := warp.Shape{N: 1, C: 3, H: 2, W: 10}
@@ -145,11 +145,11 @@ func TestStereoOperatorGradientNames(t *testing.T) {
 	l := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 2, 3, 4), G.WithName("l"))
 	r := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 2, 3, 4), G.WithName("r"))
 	d := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 1, 3, 4), G.WithName("d"))
-	wr, err := warpFeatures("w", r, d, warp.RebuildLeft)
+	wr, err := nodeWarpFeatures("w", r, d, warp.RebuildLeft)
 	if err != nil {
 		t.Fatal(err)
 	}
-	y, err := correlation("c", l, wr, 2)
+	y, err := nodeCorrelation("c", l, wr, 2)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -182,13 +182,13 @@ func TestStereoOperatorErrors(t *testing.T) {
 		what string
 		err  error
 	}{
-		{"correlation of two shapes", second(correlation("c1", x, wide, 2))},
-		{"correlation with 0 shifts", second(correlation("c2", x, x, 0))},
-		{"correlation of a vector", second(correlation("c3", vec, vec, 1))},
-		{"correlation of nil", second(correlation("c4", x, nil, 1))},
-		{"warp by a 2-channel disparity", second(warpFeatures("w1", x, d2, warp.RebuildLeft))},
-		{"warp by a disparity of another width", second(warpFeatures("w2", wide, d, warp.RebuildLeft))},
-		{"warp in an undefined direction", second(warpFeatures("w3", x, d, warp.Direction(0)))},
+		{"correlation of two shapes", second(nodeCorrelation("c1", x, wide, 2))},
+		{"correlation with 0 shifts", second(nodeCorrelation("c2", x, x, 0))},
+		{"correlation of a vector", second(nodeCorrelation("c3", vec, vec, 1))},
+		{"correlation of nil", second(nodeCorrelation("c4", x, nil, 1))},
+		{"warp by a 2-channel disparity", second(nodeWarpFeatures("w1", x, d2, warp.RebuildLeft))},
+		{"warp by a disparity of another width", second(nodeWarpFeatures("w2", wide, d, warp.RebuildLeft))},
+		{"warp in an undefined direction", second(nodeWarpFeatures("w3", x, d, warp.Direction(0)))},
 	} {
 		if c.err == nil {
 			t.Errorf("%s: no error", c.what)
@@ -206,13 +206,13 @@ func TestStereoOperatorHashes(t *testing.T) {
 	g := G.NewGraph()
 	x := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 2, 3, 8), G.WithName("x"))
 	d := G.NewTensor(g, tensor.Float32, 4, G.WithShape(1, 1, 3, 8), G.WithName("d"))
-	c1, _ := correlation("c", x, x, 2)
-	c2, _ := correlation("c", x, x, 3)
+	c1, _ := nodeCorrelation("c", x, x, 2)
+	c2, _ := nodeCorrelation("c", x, x, 3)
 	if c1.Op().Hashcode() == c2.Op().Hashcode() {
 		t.Error("correlations over 2 and 3 shifts share a hash")
 	}
-	w1, _ := warpFeatures("w", x, d, warp.RebuildLeft)
-	w2, _ := warpFeatures("w", x, d, warp.RebuildRight)
+	w1, _ := nodeWarpFeatures("w", x, d, warp.RebuildLeft)
+	w2, _ := nodeWarpFeatures("w", x, d, warp.RebuildRight)
 	if w1.Op().Hashcode() == w2.Op().Hashcode() {
 		t.Error("warps in the two directions share a hash")
 	}
@@ -229,11 +229,11 @@ func TestStereoOperatorsDoNotAllocate(t *testing.T) {
 	l := G.NewTensor(g, tensor.Float32, 4, G.WithShape(shape...), G.WithName("l"))
 	r := G.NewTensor(g, tensor.Float32, 4, G.WithShape(shape...), G.WithName("r"))
 	d := G.NewTensor(g, tensor.Float32, 4, G.WithShape(2, 1, 8, 32), G.WithName("d"))
-	wr, err := warpFeatures("w", r, d, warp.RebuildLeft)
+	wr, err := nodeWarpFeatures("w", r, d, warp.RebuildLeft)
 	if err != nil {
 		t.Fatal(err)
 	}
-	y, err := correlation("c", l, wr, 12)
+	y, err := nodeCorrelation("c", l, wr, 12)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -288,11 +288,11 @@ func TestStereoOperatorsDoNotAllocate(t *testing.T) {
 func TestStereoOperatorsGOMAXPROCS(t *testing.T) {
 	shapes := []tensor.Shape{{2, 16, 12, 64}, {2, 16, 12, 64}, {2, 1, 12, 64}}
 	build := func(in []*G.Node) (*G.Node, error) {
-		wr, err := warpFeatures("w", in[1], in[2], warp.RebuildLeft)
+		wr, err := nodeWarpFeatures("w", in[1], in[2], warp.RebuildLeft)
 		if err != nil {
 			return nil, err
 		}
-		return correlation("corr", in[0], wr, 24)
+		return nodeCorrelation("corr", in[0], wr, 24)
 	}
 	h := newHarness(t, rand.New(rand.NewPCG(3, 3)), shapes, 0, 0.3, build)
 	old := runtime.GOMAXPROCS(1)

@@ -8,8 +8,9 @@
 //
 // The graph is built from unexported operators (convolution with bias,
 // ELU, the disparity head d_max·sigmoid, scaling, bilinear and nearest 2×
-// upsampling, channel concatenation), each adding one node whose op calls a
-// kernel of model/internal/cpu; its symbolic gradient (gorgonia's SDOp) is
+// upsampling, channel concatenation, the stereo correlation cost volume,
+// the feature warp of package warp), each adding one node whose op calls a
+// kernel of model/internal/cpu or package warp; its symbolic gradient (gorgonia's SDOp) is
 // built from further ops that call the same kernel's backward. The
 // objective (loss.Objective) is one scalar node whose gradients are the
 // ones the loss kernels computed in the same call. No formula is

@@ -8,7 +8,7 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// warpFeatures adds src (N, C, H, W) resampled along its rows by the
+// nodeWarpFeatures adds src (N, C, H, W) resampled along its rows by the
 // disparity disp (N, 1, H, W, a fraction of the width W), warp.Forward in
 // direction dir, as the node name: with warp.RebuildLeft it reads the
 // right view's features at x − d·W, aligning them with the left view. The
@@ -18,7 +18,7 @@ import (
 // nodes NAME.dsrc and NAME.ddisp, warp.Backward for one input each. It
 // returns an error if the shapes disagree or dir is not a defined
 // warp.Direction.
-func warpFeatures(name string, src, disp *G.Node, dir warp.Direction) (*G.Node, error) {
+func nodeWarpFeatures(name string, src, disp *G.Node, dir warp.Direction) (*G.Node, error) {
 	what := "warp " + name
 	n, c, h, w, err := shape4(what, src)
 	if err != nil {
