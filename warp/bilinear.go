@@ -92,7 +92,11 @@ type tap struct {
 }
 
 // locate sets t to the tap of output column x with disparity d; scale is
-// dir*W. u is rounded to float32 once, so Forward and Backward agree.
+// dir*W. The product scale*d is rounded to float32 before x is added (the
+// conversion forbids fusing the two into one multiply-add, which arm64,
+// ppc64, s390x and riscv64 compilers do): a position meant to land exactly
+// on a pixel, such as 1 − 5·(1/5), then gives the same u, validity and taps
+// on every architecture. Forward and Backward share it, so they agree.
 //
 // At a kink (u an integer) the derivative is the one-sided one PyTorch 1.13
 // grid_sample (align_corners=True) uses: taps floor(u) and floor(u)+1, and
@@ -100,7 +104,7 @@ type tap struct {
 // holds. A NaN u gives a zero tap (output 0); u = ±Inf is clamped like any
 // other far position.
 func (t *tap) locate(x int, d float32, w int, scale float32, b Border) {
-	u := float32(x) + scale*d
+	u := float32(x) + float32(scale*d)
 	fw := float32(w - 1)
 	*t = tap{}
 	if u >= 0 && u <= fw {

@@ -2,6 +2,7 @@ package cpu
 
 import (
 	"fmt"
+	"math"
 	"runtime"
 )
 
@@ -144,8 +145,24 @@ type convWorker struct {
 var im2colOnly bool
 
 // maxElems bounds every tensor a plan handles so that index arithmetic
-// stays far from overflow.
-const maxElems = 1 << 31
+// stays far from overflow: 2^31 values where int has 64 bits, and a quarter
+// of the int range (2^29) where it has 32, which leaves room for the
+// padded grids, slack and gradient buffers sized from the checked ones.
+const maxElems = min(1<<31, math.MaxInt>>2)
+
+// fitsElems reports whether the product of the factors is positive and
+// below maxElems. It multiplies in int64 and checks before each step, so
+// sizes from data cannot overflow into a small product on any int size.
+func fitsElems(factors ...int) bool {
+	p := int64(1)
+	for _, f := range factors {
+		if f <= 0 || p > (maxElems-1)/int64(f) {
+			return false
+		}
+		p *= int64(f)
+	}
+	return true
+}
 
 // NewConv2D returns a plan for convolving batches of n images of h×w
 // pixels with the layer p. It returns an error if a size is not positive,
@@ -170,16 +187,24 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	case p.Padding == ReflectPad && (p.Pad >= h || p.Pad >= w):
 		return nil, fmt.Errorf("cpu: reflection padding %d needs an input larger than %d×%d", p.Pad, h, w)
 	}
-	span := p.Dilation*(p.Kernel-1) + 1
-	if h+2*p.Pad < span || w+2*p.Pad < span {
-		return nil, fmt.Errorf("cpu: kernel span %d exceeds the padded input %d×%d", span, h+2*p.Pad, w+2*p.Pad)
+	// Every size below is checked before it is formed, in int64, so that
+	// no product or sum wraps around where int has 32 bits.
+	tooLarge := fmt.Errorf("cpu: conv of (%d, %d, %d, %d) with %+v is too large", n, p.InC, h, w, p)
+	hp64, wp64 := int64(h)+2*int64(p.Pad), int64(w)+2*int64(p.Pad)
+	span64 := int64(p.Dilation)*(int64(p.Kernel)-1) + 1
+	if hp64 >= maxElems || wp64 >= maxElems || span64 >= maxElems || int64(p.Stride) >= maxElems {
+		return nil, tooLarge
 	}
-	ho := (h+2*p.Pad-span)/p.Stride + 1
-	wo := (w+2*p.Pad-span)/p.Stride + 1
-	for _, e := range []int{n * p.InC * h * w, n * p.OutC * ho * wo, p.OutC * p.InC * p.Kernel * p.Kernel, p.InC * p.Kernel * p.Kernel * ho * wo} {
-		if e <= 0 || e >= maxElems {
-			return nil, fmt.Errorf("cpu: conv of (%d, %d, %d, %d) with %+v is too large", n, p.InC, h, w, p)
-		}
+	hp, wp, span := int(hp64), int(wp64), int(span64)
+	if hp < span || wp < span {
+		return nil, fmt.Errorf("cpu: kernel span %d exceeds the padded input %d×%d", span, hp, wp)
+	}
+	ho := (hp-span)/p.Stride + 1
+	wo := (wp-span)/p.Stride + 1
+	if !fitsElems(n, p.InC, h, w) || !fitsElems(n, p.OutC, ho, wo) || !fitsElems(p.OutC, p.InC, p.Kernel, p.Kernel) ||
+		!fitsElems(p.InC, p.Kernel, p.Kernel, ho, wo) || !fitsElems(n, p.InC, hp, wp) ||
+		!fitsElems(n, p.OutC, ho+2*span, wo+2*span) || !fitsElems(n, p.InC, hp+p.Stride-1, wp+p.Stride-1) {
+		return nil, tooLarge
 	}
 	c := &Conv2D{
 		p: p, n: n,

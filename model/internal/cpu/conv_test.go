@@ -395,6 +395,14 @@ func TestNewConv2DErrors(t *testing.T) {
 		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Dilation: 5}, 1, 8, 8},
 		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Padding: 9}, 1, 8, 8},
 		{ConvParams{InC: 1 << 20, OutC: 1 << 12, Kernel: 3}, 1, 8, 8},
+		// Sizes whose products wrap around to small positive numbers in a
+		// 32-bit int (65537² = 2^32 + 2^17 + 1) or whose sums do.
+		{ConvParams{InC: 1, OutC: 1, Kernel: 1}, 1, 65537, 65537},
+		{ConvParams{InC: 65537, OutC: 1, Kernel: 1}, 65537, 1, 1},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 1, Pad: math.MaxInt / 2}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 3, Dilation: math.MaxInt / 2}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 1, Stride: math.MaxInt / 2}, 1, 8, 8},
+		{ConvParams{InC: 1, OutC: 1, Kernel: 1, Stride: 1 << 16}, 1, 1 << 15, 1 << 15},
 	} {
 		if _, err := NewConv2D(tc.p, tc.n, tc.h, tc.w); err == nil {
 			t.Errorf("NewConv2D(%+v, %d, %d, %d) gave no error", tc.p, tc.n, tc.h, tc.w)
