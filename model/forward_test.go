@@ -111,8 +111,8 @@ func TestForwardNoAllocAndErrors(t *testing.T) {
 	if _, err := NewNet(w, 0); err == nil {
 		t.Error("batch 0 accepted")
 	}
-	if _, err := NewNet(w, 1<<40); err == nil || !strings.HasPrefix(err.Error(), "model: ") {
-		t.Errorf("batch 2^40: %v", err)
+	if _, err := NewNet(w, math.MaxInt); err == nil || !strings.HasPrefix(err.Error(), "model: ") {
+		t.Errorf("batch MaxInt: %v", err)
 	}
 	delete(w.Params, "head1.weight")
 	if _, err := NewNet(w, 1); err == nil || !strings.Contains(err.Error(), "head1.weight") {
