@@ -1,51 +1,132 @@
 package sgm
 
+import "fmt"
+
 // Cost aggregation along one path (Hirschmüller, "Stereo processing by
 // semiglobal matching and mutual information", IEEE TPAMI 30(2), 2008,
 // eq. 13): for the pixel p after p−r on the path,
 //
 //	L(p, d) = C(p, d) + min(L(p−r, d), L(p−r, d±1) + P1, min_k L(p−r, k) + P2) − min_k L(p−r, k)
 //
-// Each L vector has one sentinel slot on each side (index 0 and D+1, set to
-// noPath) so that d±1 needs no test; its values sit at 1 … D.
+// A path vector holds np values (np a multiple of 16) followed by 16
+// sentinel slots set to noPath, so that the AVX2 kernel reads its right
+// neighbour lanes from memory; the left neighbour of level 0 is noPath too.
+// Vectors sit vecPad slots apart in the path buffers.
 
 // noPath is the sentinel beside each path vector; saturating arithmetic
 // keeps it out of every minimum.
 const noPath = 0xffff
 
-// pathStart sets cur (D+2 slots) to the costs, adds them to sum and returns
+// vecPad is the sentinel tail of a path vector.
+const vecPad = 16
+
+// initSentinels sets the tails of the vectors of length np at stride np+vecPad
+// in buf.
+func initSentinels(buf []uint16, np int) {
+	vs := np + vecPad
+	for o := 0; o+vs <= len(buf); o += vs {
+		for i := o + np; i < o+vs; i++ {
+			buf[i] = noPath
+		}
+	}
+}
+
+// pathStart sets cur (np values) to the costs, adds them to sum and returns
 // their minimum: the first pixel of a path.
 func pathStart(cur []uint16, cost []uint8, sum []uint16) uint16 {
-	cur = cur[:len(cost)+2]
+	cur = cur[:len(cost)]
 	sum = sum[:len(cost)]
-	cur[0], cur[len(cost)+1] = noPath, noPath
 	m := uint16(noPath)
 	for d, c := range cost {
 		v := uint16(c)
-		cur[d+1] = v
+		cur[d] = v
 		sum[d] += v
 		m = min(m, v)
 	}
 	return m
 }
 
-// pathStep computes cur from prev (both D+2 slots) and the costs, adds cur's
-// values to sum and returns their minimum. prevMin is prev's minimum and p2
-// the large-jump penalty at this step.
-func pathStepGeneric(cur, prev []uint16, cost []uint8, sum []uint16, p1, p2, prevMin uint16) uint16 {
-	n := len(cost)
-	cur = cur[:n+2]
-	prev = prev[:n+2]
-	sum = sum[:n]
-	cur[0], cur[n+1] = noPath, noPath
-	jump := uint32(prevMin) + uint32(p2)
-	m := uint32(noPath)
-	for d, c := range cost {
-		v := min(uint32(prev[d+1]), uint32(prev[d])+uint32(p1), uint32(prev[d+2])+uint32(p1), jump)
-		v += uint32(c) - uint32(prevMin)
-		cur[d+1] = uint16(v)
-		sum[d] += uint16(v)
-		m = min(m, v)
+// pathRun is n steps of aggregation, along one path or across n lines:
+// step j computes the vector at cur[curOff+j·curStep:] from the one at
+// prev[prevOff+j·prevStep:] (np values and its sentinel tail), the costs
+// at cost[costOff+j·costStep:], which it also adds to sum at the same
+// offsets, the large-jump penalty p2[j] and the previous vector's minimum
+// pmin[pminOff+j·pminStep]; it writes the new minimum to
+// cmin[cminOff+j·cminStep]. A step may read what an earlier step wrote
+// (a path: prev = cur one step back). It panics if a step would reach
+// outside a slice or np is not a positive multiple of 16.
+type pathRun struct {
+	cur, prev                          []uint16
+	curOff, curStep, prevOff, prevStep int
+	cost                               []uint8
+	sum                                []uint16
+	costOff, costStep                  int
+	p2                                 []uint16
+	pmin, cmin                         []uint16
+	pminOff, pminStep                  int
+	cminOff, cminStep                  int
+	n, np                              int
+	p1                                 uint16
+}
+
+// check panics unless every step stays inside the slices.
+func (r *pathRun) check() {
+	if r.np <= 0 || r.np%16 != 0 {
+		panic(fmt.Sprintf("sgm: pathRun with %d levels", r.np))
 	}
-	return uint16(m)
+	if r.n <= 0 {
+		return
+	}
+	span := func(name string, off, step, width, length int) {
+		first, last := off, off+(r.n-1)*step
+		if min(first, last) < 0 || max(first, last)+width > length {
+			panic(fmt.Sprintf("sgm: pathRun: %s steps %d … %d (+%d) outside a slice of %d", name, first, last, width, length))
+		}
+	}
+	span("cur", r.curOff, r.curStep, r.np, len(r.cur))
+	span("prev", r.prevOff, r.prevStep, r.np+vecPad, len(r.prev))
+	span("cost", r.costOff, r.costStep, r.np, len(r.cost))
+	span("sum", r.costOff, r.costStep, r.np, len(r.sum))
+	span("p2", 0, 1, 1, len(r.p2))
+	span("pmin", r.pminOff, r.pminStep, 1, len(r.pmin))
+	span("cmin", r.cminOff, r.cminStep, 1, len(r.cmin))
+}
+
+// runGeneric is pathRun's portable kernel.
+func (r *pathRun) runGeneric() {
+	np := r.np
+	p1 := uint32(r.p1)
+	for j := range r.n {
+		cur := r.cur[r.curOff+j*r.curStep:][:np]
+		prev := r.prev[r.prevOff+j*r.prevStep:][:np+1]
+		cost := r.cost[r.costOff+j*r.costStep:][:np]
+		sum := r.sum[r.costOff+j*r.costStep:][:np]
+		prevMin := uint32(r.pmin[r.pminOff+j*r.pminStep])
+		jump := min(prevMin+uint32(r.p2[j]), noPath)
+		m := uint32(noPath)
+		left := uint32(noPath) // prev[d−1]
+		for d, c := range cost {
+			p := uint32(prev[d])
+			v := min(p, left+p1, uint32(prev[d+1])+p1, jump)
+			left = p
+			v += uint32(c) - prevMin
+			cur[d] = uint16(v)
+			sum[d] += uint16(v)
+			m = min(m, v)
+		}
+		r.cmin[r.cminOff+j*r.cminStep] = uint16(m)
+	}
+}
+
+// run checks the steps and runs them with the fastest kernel.
+func (r *pathRun) run() {
+	r.check()
+	if r.n <= 0 {
+		return
+	}
+	if useAVX2 {
+		r.runAVX2()
+		return
+	}
+	r.runGeneric()
 }

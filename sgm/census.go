@@ -65,29 +65,51 @@ func luma8(r, g, b uint32) uint8 {
 
 // censusRow writes row y of the census transform of a w-wide grey image,
 // read from pad (the image with a border of half the window on each side,
-// see padImage), into dst: bit k, counted from the most significant bit used
-// in row-major order over the cw×ch window without its centre, is 1 when
-// that neighbour is darker than the centre.
-func censusRow(dst []uint64, pad []uint8, w, cw, ch, y int) {
+// see padImage), into dst. The window's neighbours, in row-major order
+// without the centre, go in groups of 8 to the bytes of the word, from the
+// lowest byte: within a byte the first neighbour of the group takes the
+// highest bit used. A bit is 1 when that neighbour is darker than the
+// centre. (The Hamming distance does not depend on the order of the bits;
+// this one lets 32 pixels' bits be set at once.) acc is scratch of 8·w
+// bytes.
+func censusRow(dst []uint64, pad []uint8, w, cw, ch, y int, acc []uint8) {
 	rx, ry := cw/2, ch/2
 	pw := w + 2*rx
 	out := dst[:w]
 	centre := pad[(y+ry)*pw+rx : (y+ry)*pw+rx+w]
-	clear(out)
+	acc = acc[:8*w]
+	clear(acc)
+	k := 0
 	for dy := range ch {
 		nrow := pad[(y+dy)*pw : (y+dy)*pw+pw]
 		for dx := range cw {
 			if dy == ry && dx == rx {
 				continue
 			}
-			n := nrow[dx : dx+w]
-			for x, c := range centre {
-				var bit uint64
-				if n[x] < c {
-					bit = 1
-				}
-				out[x] = out[x]<<1 | bit
-			}
+			darker(acc[(k/8)*w:(k/8+1)*w], nrow[dx:dx+w], centre)
+			k++
 		}
+	}
+	groups := (k + 7) / 8
+	for x := range out {
+		var c uint64
+		for g := range groups {
+			c |= uint64(acc[g*w+x]) << (8 * g)
+		}
+		out[x] = c
+	}
+}
+
+// darkerGeneric shifts each acc[x] left by one bit and sets the new bit
+// when n[x] < c[x].
+func darkerGeneric(acc, n, c []uint8) {
+	n = n[:len(acc)]
+	c = c[:len(acc)]
+	for x, v := range c {
+		var bit uint8
+		if n[x] < v {
+			bit = 1
+		}
+		acc[x] = acc[x]<<1 | bit
 	}
 }

@@ -175,8 +175,8 @@ func (m *Matcher) release(wk *worker) { m.idle <- wk }
 
 // Parallel work is split by the problem's size only.
 const (
-	rowGrain  = 4  // rows per range in the row-wise phases
-	bandLines = 16 // path lines per range in the vertical and diagonal phases
+	maxRowRanges = 16 // ranges of rows in the row-wise phases (each holds a row of path vectors)
+	bandLines    = 16 // path lines per range in the vertical and diagonal phases
 )
 
 // worker holds one call's buffers, grown as needed and reused.
@@ -184,32 +184,37 @@ type worker struct {
 	opt *Options
 
 	// The current call.
-	w, h     int
-	lo, n    int // first disparity, levels searched
-	np       int // levels stored per pixel: n rounded up to a multiple of 16
-	costMax  uint8
-	p1       uint16
-	p2       [256]uint16 // large-jump penalty by grey-level difference
-	shear    int         // of the band phase running
-	lineOff  int
-	dst      *Result
-	disp     []float32 // w×h, the disparity before it is written to dst
-	valid    []uint8
-	conf     []float32
-	greyL    []uint8
-	greyR    []uint8
-	padL     []uint8
-	padR     []uint8
-	censL    []uint64
-	censR    []uint64
-	texPre   []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each
-	cost     []uint8  // w×h×np
-	sum      []uint16 // w×h×np
-	rowBuf   []uint16 // per row range: 2 path vectors
-	rowInt   []int32  // per row range: 3×w
-	lineBuf  []uint16 // per line: 2 path vectors (alternating rows)
-	lineMin  []uint16 // per line: 2 minima
-	speckles speckleScratch
+	w, h      int
+	lo, n     int // first disparity, levels searched
+	np        int // levels stored per pixel: n rounded up to a multiple of 16
+	costMax   uint8
+	p1        uint16
+	p2        [256]uint16 // large-jump penalty by grey-level difference
+	shear     int         // of the band phase running
+	lineOff   int
+	dst       *Result
+	disp      []float32 // w×h, the disparity before it is written to dst
+	valid     []uint8
+	conf      []float32
+	greyL     []uint8
+	greyR     []uint8
+	padL      []uint8
+	padR      []uint8
+	censL     []uint64
+	censR     []uint64
+	censusAcc []uint8  // per row range: 8×w
+	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each
+	cost      []uint8  // w×h×np
+	sum       []uint16 // w×h×np
+	rowGrain  int      // rows per range of the row-wise phases
+	rowVec    []uint16 // per row range: w path vectors
+	rowMin    []uint16 // per row range: w minima
+	rowP2     []uint16 // per row range: 2×w penalties
+	rowInt    []int32  // per row range: 3×w
+	lineVec   []uint16 // 2 (alternating rows) × lines path vectors
+	lineMin   []uint16 // 2 × lines minima
+	lineP2    []uint16 // per line: the penalty of its current step
+	speckles  speckleScratch
 
 	censusFn, rowFn, bandFn, selectFn func(lo, hi int)
 }
@@ -256,26 +261,34 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.texPre = grow(wk.texPre, h*(w+1))
 	wk.cost = grow(wk.cost, wh*wk.np)
 	wk.sum = grow(wk.sum, wh*wk.np)
-	ranges := (h + rowGrain - 1) / rowGrain
-	wk.rowBuf = grow(wk.rowBuf, ranges*2*(wk.np+2))
+	vs := wk.np + vecPad
+	wk.rowGrain = max(4, (h+maxRowRanges-1)/maxRowRanges)
+	ranges := (h + wk.rowGrain - 1) / wk.rowGrain
+	wk.rowVec = grow(wk.rowVec, ranges*w*vs)
+	initSentinels(wk.rowVec, wk.np)
+	wk.rowMin = grow(wk.rowMin, ranges*w)
+	wk.rowP2 = grow(wk.rowP2, ranges*2*w)
 	wk.rowInt = grow(wk.rowInt, ranges*3*w)
+	wk.censusAcc = grow(wk.censusAcc, (2*h+wk.rowGrain-1)/wk.rowGrain*8*w)
 	lines := w + h - 1
-	wk.lineBuf = grow(wk.lineBuf, lines*2*(wk.np+2))
-	wk.lineMin = grow(wk.lineMin, lines*2)
+	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
+	initSentinels(wk.lineVec, wk.np)
+	wk.lineMin = grow(wk.lineMin, 2*lines)
+	wk.lineP2 = grow(wk.lineP2, lines)
 	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
 
 	grey(wk.greyL, left)
 	grey(wk.greyR, right)
 	padImage(wk.padL, wk.greyL, w, h, cw, ch)
 	padImage(wk.padR, wk.greyR, w, h, cw, ch)
-	parallelFor(2*h, rowGrain, wk.censusFn)
-	parallelFor(h, rowGrain, wk.rowFn)
+	parallelFor(2*h, wk.rowGrain, wk.censusFn)
+	parallelFor(h, wk.rowGrain, wk.rowFn)
 	wk.band(0)
 	if o.Paths == 8 {
 		wk.band(1)
 		wk.band(-1)
 	}
-	parallelFor(h, rowGrain, wk.selectFn)
+	parallelFor(h, wk.rowGrain, wk.selectFn)
 	if o.SpeckleSize != Off {
 		wk.speckles.remove(wk.disp, wk.valid, w, h, o.SpeckleSize, float32(o.SpeckleJump))
 	}
@@ -332,9 +345,10 @@ func padImage(pad, g []uint8, w, h, cw, ch int) {
 // 0 … h−1) and right (h … 2h−1) images.
 func (wk *worker) censusRange(lo, hi int) {
 	w, h := wk.w, wk.h
+	acc := wk.censusAcc[(lo/wk.rowGrain)*8*w : (lo/wk.rowGrain+1)*8*w]
 	for r := lo; r < hi; r++ {
 		if r < h {
-			censusRow(wk.censL[r*w:(r+1)*w], wk.padL, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r)
+			censusRow(wk.censL[r*w:(r+1)*w], wk.padL, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r, acc)
 			g, pre := wk.greyL[r*w:(r+1)*w], wk.texPre[r*(w+1):(r+1)*(w+1)]
 			pre[0] = 0
 			for x := range w - 1 {
@@ -342,7 +356,7 @@ func (wk *worker) censusRange(lo, hi int) {
 			}
 			pre[w] = pre[w-1]
 		} else {
-			censusRow(wk.censR[(r-h)*w:(r-h+1)*w], wk.padR, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r-h)
+			censusRow(wk.censR[(r-h)*w:(r-h+1)*w], wk.padR, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r-h, acc)
 		}
 	}
 }
@@ -351,9 +365,12 @@ func (wk *worker) censusRange(lo, hi int) {
 // along the two horizontal paths, which start the sums.
 func (wk *worker) rowRange(lo, hi int) {
 	w, np, n := wk.w, wk.np, wk.n
-	stride := np + 2
-	buf := wk.rowBuf[(lo/rowGrain)*2*stride:]
-	a, b := buf[:stride], buf[stride:2*stride]
+	vs := np + vecPad
+	ri := lo / wk.rowGrain
+	vecs := wk.rowVec[ri*w*vs : (ri+1)*w*vs]
+	mins := wk.rowMin[ri*w : (ri+1)*w]
+	p2lr := wk.rowP2[2*ri*w : (2*ri+1)*w]
+	p2rl := wk.rowP2[(2*ri+1)*w : (2*ri+2)*w]
 	for y := lo; y < hi; y++ {
 		cost := wk.cost[y*w*np : (y+1)*w*np]
 		sum := wk.sum[y*w*np : (y+1)*w*np]
@@ -362,10 +379,7 @@ func (wk *worker) rowRange(lo, hi int) {
 		for x := range w {
 			c := cost[x*np : (x+1)*np]
 			// Disparity lo+d matches right column x−lo−d.
-			k := min(n, x-wk.lo+1)
-			if k < 0 {
-				k = 0
-			}
+			k := max(min(n, x-wk.lo+1), 0)
 			l := cl[x]
 			for d := range k {
 				c[d] = uint8(bits.OnesCount64(l ^ cr[x-wk.lo-d]))
@@ -376,16 +390,21 @@ func (wk *worker) rowRange(lo, hi int) {
 		}
 		clear(sum)
 		g := wk.greyL[y*w : (y+1)*w]
-		m := pathStart(a, cost[:np], sum[:np])
 		for x := 1; x < w; x++ {
-			m = pathStepGeneric(b, a, cost[x*np:(x+1)*np], sum[x*np:(x+1)*np], wk.p1, wk.p2[absDiff(g[x], g[x-1])], m)
-			a, b = b, a
+			p := wk.p2[absDiff(g[x], g[x-1])]
+			p2lr[x] = p
+			p2rl[w-1-x] = p
 		}
-		m = pathStart(a, cost[(w-1)*np:], sum[(w-1)*np:])
-		for x := w - 2; x >= 0; x-- {
-			m = pathStepGeneric(b, a, cost[x*np:(x+1)*np], sum[x*np:(x+1)*np], wk.p1, wk.p2[absDiff(g[x], g[x+1])], m)
-			a, b = b, a
-		}
+		mins[0] = pathStart(vecs, cost[:np], sum[:np])
+		r := pathRun{cur: vecs, prev: vecs, curOff: vs, curStep: vs, prevOff: 0, prevStep: vs,
+			cost: cost, sum: sum, costOff: np, costStep: np, p2: p2lr[1:],
+			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1}
+		r.run()
+		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:])
+		r = pathRun{cur: vecs, prev: vecs, curOff: (w - 2) * vs, curStep: -vs, prevOff: (w - 1) * vs, prevStep: -vs,
+			cost: cost, sum: sum, costOff: (w - 2) * np, costStep: -np, p2: p2rl[:w-1],
+			pmin: mins, cmin: mins, pminOff: w - 1, pminStep: -1, cminOff: w - 2, cminStep: -1, n: w - 1, np: np, p1: wk.p1}
+		r.run()
 	}
 }
 
@@ -415,7 +434,8 @@ func (wk *worker) band(s int) {
 // upwards.
 func (wk *worker) bandRange(lo, hi int) {
 	w, h, np, s := wk.w, wk.h, wk.np, wk.shear
-	stride := np + 2
+	vs := np + vecPad
+	lines := len(wk.lineMin) / 2
 	for _, down := range [2]bool{true, false} {
 		for step := range h {
 			y, py, px := step, step-1, -s // previous pixel at (x+px, py)
@@ -423,23 +443,48 @@ func (wk *worker) bandRange(lo, hi int) {
 				y, py, px = h-1-step, h-step, s
 			}
 			cur, prev := y&1, (y&1)^1
+			curVec, prevVec := wk.lineVec[cur*lines*vs:(cur+1)*lines*vs], wk.lineVec[prev*lines*vs:(prev+1)*lines*vs]
+			curMin, prevMin := wk.lineMin[cur*lines:(cur+1)*lines], wk.lineMin[prev*lines:(prev+1)*lines]
 			x0 := max(lo+s*y+wk.lineOff, 0)
 			x1 := min(hi+s*y+wk.lineOff, w)
-			g := wk.greyL[y*w : (y+1)*w]
-			for x := x0; x < x1; x++ {
-				i := x - s*y - wk.lineOff
-				line := wk.lineBuf[i*2*stride : (i+1)*2*stride]
-				mins := wk.lineMin[2*i : 2*i+2]
-				c := wk.cost[(y*w+x)*np : (y*w+x+1)*np]
-				sum := wk.sum[(y*w+x)*np : (y*w+x+1)*np]
-				qx := x + px
-				if step == 0 || qx < 0 || qx >= w {
-					mins[cur] = pathStart(line[cur*stride:(cur+1)*stride], c, sum)
-					continue
-				}
-				p2 := wk.p2[absDiff(g[x], wk.greyL[py*w+qx])]
-				mins[cur] = pathStepGeneric(line[cur*stride:(cur+1)*stride], line[prev*stride:(prev+1)*stride], c, sum, wk.p1, p2, mins[prev])
+			if x0 >= x1 {
+				continue
 			}
+			start := func(x int) {
+				i := x - s*y - wk.lineOff
+				o := (y*w + x) * np
+				curMin[i] = pathStart(curVec[i*vs:], wk.cost[o:o+np], wk.sum[o:o+np])
+			}
+			if step == 0 {
+				for x := x0; x < x1; x++ {
+					start(x)
+				}
+				continue
+			}
+			// Pixels whose previous pixel lies outside the image start a
+			// path: at most one per row, at an end of the image.
+			a, b := x0, x1
+			if a+px < 0 {
+				start(a)
+				a++
+			}
+			if b-1+px >= w {
+				start(b - 1)
+				b--
+			}
+			if a >= b {
+				continue
+			}
+			g, gp := wk.greyL[y*w:(y+1)*w], wk.greyL[py*w:(py+1)*w]
+			ia := a - s*y - wk.lineOff
+			p2 := wk.lineP2[ia : ia+b-a]
+			for x := a; x < b; x++ {
+				p2[x-a] = wk.p2[absDiff(g[x], gp[x+px])]
+			}
+			r := pathRun{cur: curVec, prev: prevVec, curOff: ia * vs, curStep: vs, prevOff: ia * vs, prevStep: vs,
+				cost: wk.cost, sum: wk.sum, costOff: (y*w + a) * np, costStep: np, p2: p2,
+				pmin: prevMin, cmin: curMin, pminOff: ia, pminStep: 1, cminOff: ia, cminStep: 1, n: b - a, np: np, p1: wk.p1}
+			r.run()
 		}
 	}
 }
@@ -477,7 +522,7 @@ const (
 func (wk *worker) selectRange(lo, hi int) {
 	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
 	o := wk.opt
-	scratch := wk.rowInt[(lo/rowGrain)*3*w : (lo/rowGrain+1)*3*w]
+	scratch := wk.rowInt[(lo/wk.rowGrain)*3*w : (lo/wk.rowGrain+1)*3*w]
 	best, rmin, rarg := scratch[:w], scratch[w:2*w], scratch[2*w:]
 	for y := lo; y < hi; y++ {
 		sum := wk.sum[y*w*np : (y+1)*w*np]

@@ -1,0 +1,123 @@
+package sgm
+
+import (
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+// randomRun builds a pathRun over random data: a chained path (each step
+// reads the vector the step before wrote, forwards or backwards) or
+// independent lines.
+func randomRun(r *rand.Rand, np, n int, chained, backwards bool) *pathRun {
+	vs := np + vecPad
+	k := n + 1
+	cur := make([]uint16, k*vs)
+	for i := range cur {
+		cur[i] = uint16(r.IntN(3000))
+	}
+	initSentinels(cur, np)
+	cost := make([]uint8, k*np)
+	sum := make([]uint16, k*np)
+	for i := range cost {
+		cost[i] = uint8(r.IntN(64))
+		sum[i] = uint16(r.IntN(20000))
+	}
+	p2 := make([]uint16, n)
+	for i := range p2 {
+		p2[i] = uint16(8 + r.IntN(200))
+	}
+	mins := make([]uint16, k)
+	for i := range k {
+		mins[i] = slices.Min(cur[i*vs : i*vs+np])
+	}
+	run := &pathRun{cur: cur, cost: cost, sum: sum, p2: p2, n: n, np: np, p1: uint16(1 + r.IntN(15))}
+	switch {
+	case chained && !backwards:
+		run.prev, run.curOff, run.curStep, run.prevOff, run.prevStep = cur, vs, vs, 0, vs
+		run.costOff, run.costStep = np, np
+		run.pmin, run.cmin, run.pminOff, run.pminStep, run.cminOff, run.cminStep = mins, mins, 0, 1, 1, 1
+	case chained:
+		run.prev, run.curOff, run.curStep, run.prevOff, run.prevStep = cur, (k-2)*vs, -vs, (k-1)*vs, -vs
+		run.costOff, run.costStep = (k-2)*np, -np
+		run.pmin, run.cmin, run.pminOff, run.pminStep, run.cminOff, run.cminStep = mins, mins, k-1, -1, k-2, -1
+	default:
+		prev := make([]uint16, k*vs)
+		for i := range prev {
+			prev[i] = uint16(r.IntN(3000))
+		}
+		initSentinels(prev, np)
+		pm := make([]uint16, k)
+		for i := range k {
+			pm[i] = slices.Min(prev[i*vs : i*vs+np])
+		}
+		run.prev, run.curOff, run.curStep, run.prevOff, run.prevStep = prev, 0, vs, 0, vs
+		run.costOff, run.costStep = 0, np
+		run.pmin, run.cmin, run.pminOff, run.pminStep, run.cminOff, run.cminStep = pm, mins, 0, 1, 0, 1
+	}
+	return run
+}
+
+func cloneRun(a *pathRun) *pathRun {
+	b := *a
+	b.cur = slices.Clone(a.cur)
+	if &a.prev[0] == &a.cur[0] {
+		b.prev = b.cur
+	} else {
+		b.prev = slices.Clone(a.prev)
+	}
+	b.sum = slices.Clone(a.sum)
+	b.cmin = slices.Clone(a.cmin)
+	if &a.pmin[0] == &a.cmin[0] {
+		b.pmin = b.cmin
+	}
+	return &b
+}
+
+// The AVX2 kernel gives the portable kernel's values, for chained paths in
+// both directions and for independent lines.
+func TestPathRunKernels(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("no AVX2 kernel on this machine or build")
+	}
+	r := rand.New(rand.NewPCG(4, 5))
+	for _, np := range []int{16, 32, 48, 80, 128} {
+		for _, mode := range []struct{ chained, backwards bool }{{true, false}, {true, true}, {false, false}} {
+			g := randomRun(r, np, 1+r.IntN(40), mode.chained, mode.backwards)
+			a := cloneRun(g)
+			g.check()
+			g.runGeneric()
+			a.check()
+			a.runAVX2()
+			if !slices.Equal(g.cur, a.cur) || !slices.Equal(g.sum, a.sum) || !slices.Equal(g.cmin, a.cmin) {
+				t.Errorf("np %d, %+v: AVX2 kernel differs from the portable one", np, mode)
+			}
+		}
+	}
+}
+
+// The whole matcher gives the same bits with either kernel.
+func TestKernelsSameResult(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("no AVX2 kernel on this machine or build")
+	}
+	l, r := stepPair(130, 50, 60, 5, 13)
+	a := match(t, nil, l, r)
+	useAVX2 = false
+	defer func() { useAVX2 = hasAVX2 }()
+	if b := match(t, nil, l, r); !sameResult(a, b) {
+		t.Error("the portable kernel gives another result than the AVX2 one")
+	}
+}
+
+func TestPathRunChecks(t *testing.T) {
+	r := rand.New(rand.NewPCG(6, 7))
+	run := randomRun(r, 32, 10, true, false)
+	run.n = 11 // one step past the buffers
+	defer func() {
+		if recover() == nil {
+			t.Error("a run past its buffers did not panic")
+		}
+	}()
+	run.run()
+}
