@@ -39,7 +39,7 @@ func TestRigFocal(t *testing.T) {
 		style    Style
 		hfovDeg  float64
 		baseline float64
-	}{{Greenhouse, 72, 0.12}, {Storage, 60, 0.1}, {Orchard, 80, 0.1}} {
+	}{{Greenhouse, 72, 0.12}, {Storage, 60, 0.1}, {Orchard, 80, 0.1}, {Workshop, 70, 0.08}} {
 		for _, w := range []int{256, 640} {
 			rig, err := c.style.Rig(w, w/2)
 			if err != nil {
@@ -202,5 +202,53 @@ func TestScenesInRange(t *testing.T) {
 		if f := float64(hidden) / float64(total); f < 0.01 || f > 0.3 {
 			t.Errorf("%s: %.3f of left pixels hidden from the right view", st, f)
 		}
+	}
+}
+
+// TestPipes renders horizontal cylinders (a pipe along x in front of the
+// camera, one along z below its axis) and checks the depth of the ray
+// through a pixel centre against the line-cylinder intersection worked by
+// hand: along the image's centre column the rays lie in the plane x = 0,
+// where the x pipe's front is the line z = zc − r at height 0 and the z
+// pipe's top is the line y = −(h − r).
+func TestPipes(t *testing.T) {
+	const w, h = 65, 33
+	rig := testRig(t, w, h)
+	sc := planeScene(6)
+	b := &builder{sc: sc}
+	const zc, r = 2.0, 0.1
+	b.pipe(true, zc, 0, r, -3, 3, 0, 0)
+	const hz = 0.5 // the z pipe's axis is hz below the camera
+	b.pipe(false, 0, -hz, r, 0.5, 5, 0, 0)
+	p := render(sc, rig, 1)
+	x := (w - 1) / 2
+	checked := 0
+	for y := 0; y < h; y++ {
+		k := (float64(y) - rig.Cy) / rig.Fy // downward slope of the ray
+		// Front of the x pipe: the ray (0, −k·t, t) meets the circle
+		// (y)² + (z − zc)² = r² at the smaller root.
+		a := 1 + k*k
+		bq := -zc
+		c := zc*zc - r*r
+		var want float64
+		if disc := bq*bq - a*c; disc >= 0 {
+			want = (-bq - math.Sqrt(disc)) / a
+		} else if k > 0 {
+			// Top of the z pipe at height −(hz − r), if within its length.
+			want = (hz - r) / k
+			if want < 0.5 || want > 5 {
+				continue
+			}
+		} else {
+			continue
+		}
+		got := float64(p.DepthLeft.Pix[y*w+x])
+		if math.Abs(got-want) > 1e-5*want {
+			t.Errorf("row %d: depth %v, want %v", y, got, want)
+		}
+		checked++
+	}
+	if checked < 8 {
+		t.Fatalf("only %d rows checked", checked)
 	}
 }

@@ -68,6 +68,21 @@ func (b *builder) cylinder(x, z, r, y0, y1 float64, side, caps uint16) {
 	})
 }
 
+// pipe adds a horizontal cylinder of radius r along the x axis (alongX)
+// or the z axis, with its axis at height y and (for alongX) depth c or
+// (otherwise) abscissa c, from a0 to a1 along its axis.
+func (b *builder) pipe(alongX bool, c, y, r, a0, a1 float64, side, caps uint16) {
+	sh := shape{kind: shapeCylinder, radius: r, mats: [6]uint16{side, caps, caps}}
+	if alongX {
+		// Own frame (y, x, z): the axis is world x, the circle in (y, z).
+		sh.axis, sh.centre, sh.lo, sh.hi = 1, vec3{y, 0, c}, vec3{0, a0, 0}, vec3{0, a1, 0}
+	} else {
+		// Own frame (x, z, y): the axis is world z, the circle in (x, y).
+		sh.axis, sh.centre, sh.lo, sh.hi = 2, vec3{c, 0, y}, vec3{0, a0, 0}, vec3{0, a1, 0}
+	}
+	b.sc.shapes = append(b.sc.shapes, sh)
+}
+
 func (b *builder) sphere(c vec3, r float64, m uint16) {
 	b.sc.shapes = append(b.sc.shapes, shape{kind: shapeSphere, centre: c, radius: r, mats: [6]uint16{m}})
 }
@@ -91,6 +106,8 @@ func buildScene(style Style, seed uint64, index int) (*scene, error) {
 		buildStorage(b)
 	case Orchard:
 		buildOrchard(b)
+	case Workshop:
+		buildWorkshop(b)
 	default:
 		return nil, fmt.Errorf("synth: unknown style %d", int(style))
 	}

@@ -4,8 +4,9 @@
 // benchmark data; it uses no external assets.
 //
 // The styles (see Style): a greenhouse aisle seen from a small rover, a
-// storage room with shelving seen by a different rig, and an orchard alley
-// seen from a ground robot, with depths from 0.3 m to about 30 m. A pair is
+// storage room with shelving seen by a different rig, an orchard alley seen
+// from a ground robot and an industrial hall seen from its aisle or from
+// above a workbench; the last two span depths from 0.3 m to about 30 m. A pair is
 // fixed by (style, seed, index, image size, samples, variation):
 // Generate(style, seed, i, opt) returns the same pair whatever else is
 // generated, in any order and on any number of goroutines.

@@ -8,7 +8,7 @@ type shapeKind uint8
 const (
 	shapeBox      shapeKind = iota // solid axis-aligned box, seen from outside
 	shapeRoom                      // axis-aligned box seen from inside (floor, walls, ceiling)
-	shapeCylinder                  // solid cylinder with a vertical axis and flat caps
+	shapeCylinder                  // solid cylinder with flat caps, axis along y (or x or z, see shape.axis)
 	shapeSphere                    // solid sphere
 	shapePlane                     // infinite plane n·p = d, seen from either side
 )
@@ -23,9 +23,10 @@ const (
 )
 
 // shape is one analytic primitive. lo and hi bound boxes and rooms;
-// cylinders use centre (x, z), radius and lo.y … hi.y; spheres use centre
-// and radius; planes use normal and offset. mats holds a material index per
-// face.
+// cylinders use centre (x, z), radius and lo.y … hi.y in their own frame,
+// which is the world frame with the y axis swapped for the x or z axis
+// when axis is 1 or 2 (see swapAxis); spheres use centre and radius; planes
+// use normal and offset. mats holds a material index per face.
 type shape struct {
 	kind     shapeKind
 	lo, hi   vec3
@@ -34,7 +35,20 @@ type shape struct {
 	normal   vec3
 	offset   float64
 	mats     [6]uint16
-	uvOrigin vec3 // origin of surface coordinates (box corner, plane point)
+	uvOrigin vec3  // origin of surface coordinates (box corner, plane point)
+	axis     uint8 // cylinders: 0 vertical (y), 1 along x, 2 along z
+}
+
+// swapAxis swaps the y component of p with its x (axis 1) or z (axis 2)
+// component; it is its own inverse and the identity for axis 0.
+func swapAxis(p vec3, axis uint8) vec3 {
+	switch axis {
+	case 1:
+		return vec3{p.y, p.x, p.z}
+	case 2:
+		return vec3{p.x, p.z, p.y}
+	}
+	return p
 }
 
 // bounds returns the shape's axis-aligned bounding box and whether it is
@@ -45,7 +59,8 @@ func (s *shape) bounds() (lo, hi vec3, finite bool) {
 		return s.lo, s.hi, true
 	case shapeCylinder:
 		r := s.radius
-		return vec3{s.centre.x - r, s.lo.y, s.centre.z - r}, vec3{s.centre.x + r, s.hi.y, s.centre.z + r}, true
+		lo, hi := vec3{s.centre.x - r, s.lo.y, s.centre.z - r}, vec3{s.centre.x + r, s.hi.y, s.centre.z + r}
+		return swapAxis(lo, s.axis), swapAxis(hi, s.axis), true
 	case shapeSphere:
 		r := vec3{s.radius, s.radius, s.radius}
 		return s.centre.sub(r), s.centre.add(r), true
@@ -70,6 +85,10 @@ func (s *shape) intersect(r *ray, tMin float64) (t float64, face int, ok bool) {
 	case shapeBox, shapeRoom:
 		return s.intersectBox(r, tMin)
 	case shapeCylinder:
+		if s.axis != 0 {
+			sr := ray{o: swapAxis(r.o, s.axis), d: swapAxis(r.d, s.axis), inv: swapAxis(r.inv, s.axis)}
+			return s.intersectCylinder(&sr, tMin)
+		}
 		return s.intersectCylinder(r, tMin)
 	case shapeSphere:
 		oc := r.o.sub(s.centre)
@@ -200,16 +219,11 @@ func (s *shape) surface(p vec3, face int) (n vec3, u, v float64) {
 		}
 		return n, u, v
 	case shapeCylinder:
-		q := vec3{p.x - s.centre.x, 0, p.z - s.centre.z}
-		if face == faceSide {
-			n = q.scale(1 / s.radius)
-			// The seam of atan2 faces +z, away from the cameras.
-			return n, s.radius * math.Atan2(q.x, -q.z), p.y - s.lo.y
+		if s.axis != 0 {
+			n, u, v := s.cylinderSurface(swapAxis(p, s.axis), face)
+			return swapAxis(n, s.axis), u, v
 		}
-		if face == faceTop {
-			return vec3{0, 1, 0}, q.x, q.z
-		}
-		return vec3{0, -1, 0}, q.x, q.z
+		return s.cylinderSurface(p, face)
 	case shapeSphere:
 		q := p.sub(s.centre)
 		n = q.scale(1 / s.radius)
@@ -226,4 +240,20 @@ func (s *shape) surface(p vec3, face int) (n vec3, u, v float64) {
 	tu := t.sub(s.normal.scale(t.dot(s.normal))).normalized()
 	tv := s.normal.cross(tu)
 	return s.normal, q.dot(tu), q.dot(tv)
+}
+
+// cylinderSurface is surface for a cylinder, with p in the cylinder's own
+// frame (axis along y); n is returned in that frame.
+func (s *shape) cylinderSurface(p vec3, face int) (n vec3, u, v float64) {
+	q := vec3{p.x - s.centre.x, 0, p.z - s.centre.z}
+	if face == faceSide {
+		n = q.scale(1 / s.radius)
+		// The seam of atan2 faces +z, away from the cameras (for a
+		// vertical cylinder).
+		return n, s.radius * math.Atan2(q.x, -q.z), p.y - s.lo.y
+	}
+	if face == faceTop {
+		return vec3{0, 1, 0}, q.x, q.z
+	}
+	return vec3{0, -1, 0}, q.x, q.z
 }

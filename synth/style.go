@@ -28,10 +28,17 @@ const (
 	// pairs are varied by default (see Variation); unvaried rig: 80°
 	// horizontal field of view, 0.1 m baseline.
 	Orchard
+	// Workshop is an industrial hall: concrete floor with painted lanes,
+	// steel columns, machines, drums, racks and pallets, overhead ducts,
+	// seen from the aisle or from right above a workbench with parts on
+	// it (down to 0.3 m). Its pairs are varied by default (see
+	// Variation); unvaried rig: 70° horizontal field of view, 0.08 m
+	// baseline.
+	Workshop
 )
 
 // Styles lists every style, in the order of their values.
-var Styles = []Style{Greenhouse, Storage, Orchard}
+var Styles = []Style{Greenhouse, Storage, Orchard, Workshop}
 
 // String returns the style's name as ParseStyle reads it.
 func (s Style) String() string {
@@ -42,6 +49,8 @@ func (s Style) String() string {
 		return "storage"
 	case Orchard:
 		return "orchard"
+	case Workshop:
+		return "workshop"
 	}
 	return fmt.Sprintf("Style(%d)", int(s))
 }
@@ -76,6 +85,8 @@ func (s Style) spec() (rigSpec, bool) {
 		return rigSpec{hfov: 60 * math.Pi / 180, baseline: 0.1, minDepth: 0.3, maxDepth: 12}, true
 	case Orchard:
 		return rigSpec{hfov: 80 * math.Pi / 180, baseline: 0.1, minDepth: 0.3, maxDepth: 32}, true
+	case Workshop:
+		return rigSpec{hfov: 70 * math.Pi / 180, baseline: 0.08, minDepth: 0.3, maxDepth: 32}, true
 	}
 	return rigSpec{}, false
 }

@@ -63,7 +63,7 @@ func TestRowShiftPlane(t *testing.T) {
 var variedStyles = []struct {
 	style Style
 	vary  Variation
-}{{Orchard, VaryDefault}, {Greenhouse, VaryAll}}
+}{{Orchard, VaryDefault}, {Workshop, VaryDefault}, {Greenhouse, VaryAll}}
 
 type variedPair struct {
 	name         string
@@ -184,10 +184,14 @@ var noGain = [3]float64{1, 1, 1}
 //
 // Clean images (the same pair before blur, gain and noise): sampling the
 // right image at the true match (x − d, y + RowShift) must rebuild the left
-// one within the bounds of TestWarpRebuildsLeft (mean 0.012, away from
-// depth edges 0.01, p95 0.07), for the same reasons (8-bit rounding,
-// bilinear interpolation, anti-aliasing at depth edges). Measured at
-// 256×128, seed 11, pairs 0–2: mean 0.0034–0.0076, p95 0.013–0.035. A
+// one for the same reasons as in TestWarpRebuildsLeft (8-bit rounding,
+// bilinear interpolation, anti-aliasing at depth edges), within 1.5 times
+// its bounds (mean 0.018, away from depth edges 0.015, p95 0.105): the
+// interpolation error grows with texture contrast, and a randomly drawn
+// material (two random colours) reaches full contrast where the styles'
+// own stay below about a third. Measured at 256×128, seed 11, pairs 0–2
+// of the orchard, the workshop and the varied greenhouse: mean
+// 0.0020–0.0098, away from edges 0.0017–0.0092, p95 0.0088–0.053. A
 // disparity off by 1 px must give at least 1.5 times the error (measured
 // 1.96–3.9; varied textures can be coarser than the styles' own).
 //
@@ -198,8 +202,8 @@ var noGain = [3]float64{1, 1, 1}
 // bilinear sampling averages the right view's noise; blur (σ ≤ 1 px,
 // nearly equal in both views) lowers the interpolation error. The bound is
 // the clean pair's measured error plus 1.2 times that noise term, with σ
-// taken at the pair's mean colour (measured 0.0062–0.0164 against bounds
-// 0.011–0.023). Clipped pixels are left out: there the gain difference is
+// taken at the pair's mean colour (measured 0.0062–0.0166 against bounds
+// 0.011–0.031). Clipped pixels are left out: there the gain difference is
 // not invertible.
 //
 // Final images as a matcher sees them (no gain compensation, the vertical
@@ -208,9 +212,9 @@ var noGain = [3]float64{1, 1, 1}
 // the truth stays the photometric optimum a matcher should find.
 func TestVariedWarpRebuildsLeft(t *testing.T) {
 	const (
-		maxMean         = 0.012
-		maxInteriorMean = 0.01
-		maxP95          = 0.07
+		maxMean         = 1.5 * 0.012
+		maxInteriorMean = 1.5 * 0.01
+		maxP95          = 1.5 * 0.07
 	)
 	for _, vp := range variedPairs(t) {
 		c := vp.final.Capture
@@ -359,7 +363,7 @@ func TestVariedTruth(t *testing.T) {
 // disparity.
 func TestVariedDepthSpan(t *testing.T) {
 	lo, hi := math.Inf(1), 0.0
-	for _, st := range []Style{Orchard} {
+	for _, st := range []Style{Orchard, Workshop} {
 		for i := 0; i < 24; i++ {
 			p, err := Generate(st, 5, i, &Options{Width: 64, Height: 32})
 			if err != nil {

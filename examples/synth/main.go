@@ -18,7 +18,7 @@ import (
 )
 
 func main() {
-	style := flag.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle), storage (a storage room with shelving) or orchard (a ground robot in an orchard alley, 0.3 to 30 m)")
+	style := flag.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle), storage (a storage room with shelving), orchard (a ground robot in an orchard alley, 0.3 to 30 m) or workshop (an industrial hall, from its aisle or above a workbench, 0.3 to 30 m)")
 	vary := flag.String("vary", "default", "per-pair randomisation: all (rig, colours, textures, light, exposure, blur, noise, gain difference, vertical misalignment; a rig per pair in rigs/), none, or default (none for greenhouse and storage, all for the others)")
 	n := flag.Int("n", 8, "number of stereo pairs to write")
 	seed := flag.Uint64("seed", 1, "random seed; the same seed, style, size and samples give byte-identical files")
