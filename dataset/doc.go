@@ -1,7 +1,7 @@
 // Package dataset owns the folder layout of a stereo data set: it reads
 // folders of rectified pairs (Open), makes a set of one pair from explicit
 // files (FromFiles), decodes a pair and its ground truth at the stored size
-// (Set.Read), and writes pairs in the same layout (Create, Write). It also
+// (Set.Read), and writes pairs in the same layout (Create, WriteRecord). It also
 // holds the bounded image decoder (LoadImage) and the folder lister
 // (ImageFiles, Frames) that every other package and command uses.
 //
@@ -32,7 +32,7 @@
 //     depth.MaxPixels (a few header bytes may claim 60000×60000 pixels).
 //   - Disparity ground truth is in pixels at the stored width, depth in
 //     metres; a PFM value that is not positive and finite marks a pixel
-//     without ground truth (invalid in the depth.Map). Write stores invalid
+//     without ground truth (invalid in the depth.Map). WriteRecord stores invalid
 //     pixels as 0.
 //   - Occlusion maps are returned as decoded: grey levels, white = hidden.
 //   - Names: NAME is the file name without its extension, shared by both

@@ -18,7 +18,7 @@ const (
 	OccRight  Kind = "occ_right"  // right occlusion map (PNG)
 )
 
-// kinds lists the truth kinds in the order Set.Truth and Write use.
+// kinds lists the truth kinds in the order Set.Truth and WriteRecord use.
 var kinds = []Kind{DispLeft, DispRight, DepthLeft, OccLeft, OccRight}
 
 // RigFile is the rig's file name in a data-set folder.

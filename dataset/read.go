@@ -16,7 +16,7 @@ import (
 )
 
 // Record is the content of one pair at its stored size: the decoded images
-// and the ground truth the set has. Write takes the same type.
+// and the ground truth the set has. WriteRecord takes the same type.
 type Record struct {
 	// Name is the pair's name.
 	Name string

@@ -13,9 +13,9 @@ import (
 	"github.com/parallaxdepth/parallax/depth"
 )
 
-// Pair is one stereo pair of a Set: the paths of its files and its stored
-// size.
-type Pair struct {
+// PairFiles is one stereo pair of a Set: the paths of its files and its
+// stored size.
+type PairFiles struct {
 	// Name is the file name without extension, shared by both views.
 	Name string
 	// Left and Right are the image paths.
@@ -35,7 +35,7 @@ type Set struct {
 	// given to FromFiles rescaled to the images), or nil if there is none.
 	Rig *depth.Rig
 	// Pairs, sorted by Name.
-	Pairs []Pair
+	Pairs []PairFiles
 	// Truth lists the truth kinds every pair has, in the order DispLeft,
 	// DispRight, DepthLeft, OccLeft, OccRight.
 	Truth []Kind
@@ -80,7 +80,7 @@ func Open(dir string) (*Set, error) {
 		return nil, fmt.Errorf("dataset: %s holds no images", filepath.Join(dir, leftDir))
 	}
 	for _, name := range sortedKeys(left) {
-		s.Pairs = append(s.Pairs, Pair{Name: name, Left: left[name], Right: right[name]})
+		s.Pairs = append(s.Pairs, PairFiles{Name: name, Left: left[name], Right: right[name]})
 	}
 	for i := range s.Pairs {
 		p := &s.Pairs[i]
@@ -149,12 +149,12 @@ func Open(dir string) (*Set, error) {
 // aspect ratio (see depth.Rig.CheckAspect).
 func FromFiles(left, right string, truth map[Kind]string, rigPath string) (*Set, error) {
 	name := strings.TrimSuffix(filepath.Base(left), filepath.Ext(left))
-	p := Pair{Name: name, Left: left, Right: right}
+	p := PairFiles{Name: name, Left: left, Right: right}
 	var err error
 	if p.Width, p.Height, err = pairSize("", name, left, right); err != nil {
 		return nil, fmt.Errorf("dataset: %w", err)
 	}
-	s := &Set{Pairs: []Pair{p}}
+	s := &Set{Pairs: []PairFiles{p}}
 	for _, k := range kinds {
 		path, ok := truth[k]
 		if !ok {

@@ -61,7 +61,7 @@ func record(t *testing.T, name string, f fixture, seed int) *Record {
 }
 
 // writeSet writes the pairs names of fixture f into a new folder with
-// Create (if f.rig) and Write.
+// Create (if f.rig) and WriteRecord.
 func writeSet(t *testing.T, f fixture, names ...string) string {
 	t.Helper()
 	dir := t.TempDir()
@@ -71,7 +71,7 @@ func writeSet(t *testing.T, f fixture, names ...string) string {
 		}
 	}
 	for i, n := range names {
-		if err := Write(dir, record(t, n, f, i)); err != nil {
+		if err := WriteRecord(dir, record(t, n, f, i)); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -175,7 +175,7 @@ func TestOpenReportsByName(t *testing.T) {
 	wantErr(t, err, "left")
 }
 
-// TestWriteRead writes pairs with Create and Write and reads them back
+// TestWriteRead writes pairs with Create and WriteRecord and reads them back
 // with Open and Read: the same pixels, truth values and invalid pixels.
 func TestWriteRead(t *testing.T) {
 	f := fixture{w: 12, h: 5, truth: true, rig: true}
@@ -237,7 +237,7 @@ func TestWriteErrors(t *testing.T) {
 		"right size":  {Name: "a", Left: record(t, "a", f, 0).Left, Right: small.Right},
 		"map size":    {Name: "a", Left: record(t, "a", f, 0).Left, Right: record(t, "a", f, 0).Right, DispLeft: small.DispLeft},
 	} {
-		if err := Write(dir, r); err == nil || !strings.HasPrefix(err.Error(), "dataset: ") {
+		if err := WriteRecord(dir, r); err == nil || !strings.HasPrefix(err.Error(), "dataset: ") {
 			t.Errorf("%s: %v", name, err)
 		}
 	}

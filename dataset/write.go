@@ -47,7 +47,7 @@ func Create(dir string, rig *depth.Rig) error {
 	return nil
 }
 
-// Write writes r into the data-set folder dir under r.Name, in the layout
+// WriteRecord writes r into the data-set folder dir under r.Name, in the layout
 // of the package documentation: the images as PNG (left/NAME.png,
 // right/NAME.png), disparities and depth as single-channel PFM (invalid
 // pixels as 0) and occlusion maps as PNG, for the truth r holds. It creates
@@ -56,9 +56,9 @@ func Create(dir string, rig *depth.Rig) error {
 // kinds: Open refuses a truth folder that lacks a pair. It returns an error
 // if r.Name is not a plain file name, an image is missing, or the sizes
 // differ.
-func Write(dir string, r *Record) error {
+func WriteRecord(dir string, r *Record) error {
 	if r == nil || r.Left == nil || r.Right == nil {
-		return errors.New("dataset: Write: nil record or image")
+		return errors.New("dataset: WriteRecord: nil record or image")
 	}
 	if r.Name == "" || filepath.Base(r.Name) != r.Name || r.Name[0] == '.' {
 		return fmt.Errorf("dataset: pair name %q must be a plain file name", r.Name)

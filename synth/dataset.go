@@ -50,7 +50,7 @@ func (p *Pair) Record(name string) (*dataset.Record, error) {
 }
 
 // Save writes p into the data-set folder dir under the stem name, through
-// dataset.Write (see Record for what is written), and for a varied pair
+// dataset.WriteRecord (see Record for what is written), and for a varied pair
 // its rig as rigs/NAME.json. It does not write rig.json (WriteDataset
 // does). Every file is written atomically.
 func (p *Pair) Save(dir, name string) error {
@@ -58,7 +58,7 @@ func (p *Pair) Save(dir, name string) error {
 	if err != nil {
 		return err
 	}
-	if err := dataset.Write(dir, r); err != nil {
+	if err := dataset.WriteRecord(dir, r); err != nil {
 		return fmt.Errorf("synth: saving pair %s: %w", name, err)
 	}
 	if p.Capture != nil {
@@ -110,7 +110,7 @@ func occlusionImage(m *planar.Image) *image.Gray {
 
 // WriteDataset renders pairs 0 … n−1 of the style for the seed and writes
 // them, with the rig, into dir in the layout of package dataset (through
-// dataset.Create and dataset.Write). If dir already holds a rig.json for
+// dataset.Create and dataset.WriteRecord). If dir already holds a rig.json for
 // another rig (another style or size), WriteDataset refuses to mix the two
 // and returns an error; with the same rig it replaces the pairs it writes
 // and leaves others in place. Varied pairs (Options.Vary) have a rig each,

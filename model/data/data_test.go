@@ -410,7 +410,7 @@ func TestSplit(t *testing.T) {
 	names := []string{"p0", "p1", "p2", "p3", "p4", "p5", "p6", "p7", "p8", "p9"}
 	ds := &dataset.Set{}
 	for _, n := range names {
-		ds.Pairs = append(ds.Pairs, dataset.Pair{Name: n})
+		ds.Pairs = append(ds.Pairs, dataset.PairFiles{Name: n})
 	}
 	tr, va, err := Split(ds, 0.3, 42)
 	if err != nil {
@@ -420,7 +420,7 @@ func TestSplit(t *testing.T) {
 		t.Fatalf("split sizes %d/%d, want 7/3", len(tr.Pairs), len(va.Pairs))
 	}
 	seen := map[string]int{}
-	for _, p := range append(append([]dataset.Pair(nil), tr.Pairs...), va.Pairs...) {
+	for _, p := range append(append([]dataset.PairFiles(nil), tr.Pairs...), va.Pairs...) {
 		seen[p.Name]++
 	}
 	if len(seen) != 10 {
@@ -618,7 +618,7 @@ func TestLoaderDefaultSize(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	mixed.Pairs = append(append([]dataset.Pair(nil), ds.Pairs...), o2.Pairs...)
+	mixed.Pairs = append(append([]dataset.PairFiles(nil), ds.Pairs...), o2.Pairs...)
 	mixed.Truth = nil
 	_, err = NewLoader(&mixed, nil)
 	wantErr(t, err, "differ in size", "40×24", "32×24")
