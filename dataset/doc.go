@@ -28,8 +28,8 @@
 // # Conventions
 //
 //   - Sizes: an image or map is refused from its header, before any pixel
-//     is decoded, if a side exceeds depth.MaxSide or the area
-//     depth.MaxPixels (a few header bytes may claim 60000×60000 pixels).
+//     is decoded, if a side exceeds planar.MaxSide or the area
+//     planar.MaxPixels (a few header bytes may claim 60000×60000 pixels).
 //   - Disparity ground truth is in pixels at the stored width, depth in
 //     metres; a PFM value that is not positive and finite marks a pixel
 //     without ground truth (invalid in the depth.Map). WriteRecord stores invalid

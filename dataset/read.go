@@ -13,6 +13,7 @@ import (
 	"strings"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // Record is the content of one pair at its stored size: the decoded images
@@ -113,7 +114,7 @@ func imageSize(path string) (w, h int, err error) {
 }
 
 // checkedConfig reads an image header from f and refuses a size that is
-// not positive or exceeds depth.MaxSide or depth.MaxPixels.
+// not positive or exceeds planar.MaxSide or planar.MaxPixels.
 func checkedConfig(f io.Reader, path string) (w, h int, err error) {
 	c, _, err := image.DecodeConfig(f)
 	if err != nil {
@@ -122,15 +123,15 @@ func checkedConfig(f io.Reader, path string) (w, h int, err error) {
 	if c.Width < 1 || c.Height < 1 {
 		return 0, 0, fmt.Errorf("%s: image size %dx%d has no pixels", path, c.Width, c.Height)
 	}
-	if c.Width > depth.MaxSide || c.Height > depth.MaxSide || c.Width*c.Height > depth.MaxPixels {
-		return 0, 0, fmt.Errorf("%s: image size %dx%d is too large (sides up to %d, at most %d pixels)", path, c.Width, c.Height, depth.MaxSide, depth.MaxPixels)
+	if c.Width > planar.MaxSide || c.Height > planar.MaxSide || c.Width*c.Height > planar.MaxPixels {
+		return 0, 0, fmt.Errorf("%s: image size %dx%d is too large (sides up to %d, at most %d pixels)", path, c.Width, c.Height, planar.MaxSide, planar.MaxPixels)
 	}
 	return c.Width, c.Height, nil
 }
 
 // LoadImage decodes the PNG or JPEG image at path. It reads the size from
 // the header first and refuses, before decoding any pixel, an image whose
-// sides exceed depth.MaxSide or whose area exceeds depth.MaxPixels, so a
+// sides exceed planar.MaxSide or whose area exceeds planar.MaxPixels, so a
 // hostile header cannot make it allocate without bound. Errors name the
 // file.
 func LoadImage(path string) (image.Image, error) { return decodeFile(path, 0, 0) }

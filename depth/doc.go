@@ -43,7 +43,7 @@
 //     rows and byte order.
 //   - Errors. Functions that take data return errors whose text starts with
 //     "depth: "; nothing panics on values, sizes in a file header or corrupt
-//     files. Decoders bound their allocation by MaxSide and MaxPixels and,
+//     files. Decoders bound their allocation by planar.MaxSide and planar.MaxPixels and,
 //     where the format allows, by the size of their input. Save functions write
 //     atomically: a temporary file in the same directory, synced, renamed.
 //

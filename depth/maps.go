@@ -6,6 +6,8 @@ import (
 	"image"
 	"image/color"
 	"math"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // Map is a single-channel float32 map with a validity mask, laid out like
@@ -33,8 +35,8 @@ type Map struct {
 // empty or too large.
 func newMap(r image.Rectangle) (Map, error) {
 	w, h := r.Dx(), r.Dy()
-	if w < 1 || h < 1 || w > MaxSide || h > MaxSide || w*h > MaxPixels {
-		return Map{}, fmt.Errorf("depth: map bounds %v out of range (sides in [1, %d], at most %d pixels)", r, MaxSide, MaxPixels)
+	if w < 1 || h < 1 || w > planar.MaxSide || h > planar.MaxSide || w*h > planar.MaxPixels {
+		return Map{}, fmt.Errorf("depth: map bounds %v out of range (sides in [1, %d], at most %d pixels)", r, planar.MaxSide, planar.MaxPixels)
 	}
 	return Map{Pix: make([]float32, w*h), Mask: make([]uint8, w*h), Stride: w, Rect: r}, nil
 }
@@ -105,7 +107,7 @@ func (m *Map) Check(what string) error {
 		return fmt.Errorf("depth: %s is nil", what)
 	}
 	w, h := m.Rect.Dx(), m.Rect.Dy()
-	if w < 1 || h < 1 || w > MaxSide || h > MaxSide {
+	if w < 1 || h < 1 || w > planar.MaxSide || h > planar.MaxSide {
 		return fmt.Errorf("depth: %s has bounds %v", what, m.Rect)
 	}
 	need := (h-1)*m.Stride + w

@@ -4,6 +4,8 @@ import (
 	"image"
 	"math"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 func TestMapLayout(t *testing.T) {
@@ -49,7 +51,7 @@ func TestMapLayout(t *testing.T) {
 	if _, err := NewDisparity(image.Rect(0, 0, 0, 5)); err == nil {
 		t.Error("empty bounds: no error")
 	}
-	if _, err := NewDisparity(image.Rect(0, 0, MaxSide+1, 1)); err == nil {
+	if _, err := NewDisparity(image.Rect(0, 0, planar.MaxSide+1, 1)); err == nil {
 		t.Error("too wide: no error")
 	}
 }

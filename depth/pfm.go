@@ -9,6 +9,8 @@ import (
 	"math"
 	"os"
 	"strconv"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // PFM (Portable FloatMap) stores float32 samples after a three-line text
@@ -31,8 +33,8 @@ func WritePFM(w io.Writer, pix []float32, width, height, channels int) error {
 	if channels != 1 && channels != 3 {
 		return fmt.Errorf("depth: PFM supports 1 or 3 channels, not %d", channels)
 	}
-	if width < 1 || height < 1 || width > MaxSide || height > MaxSide || width*height > MaxPixels {
-		return fmt.Errorf("depth: PFM size %dx%d out of range (sides in [1, %d], at most %d pixels)", width, height, MaxSide, MaxPixels)
+	if width < 1 || height < 1 || width > planar.MaxSide || height > planar.MaxSide || width*height > planar.MaxPixels {
+		return fmt.Errorf("depth: PFM size %dx%d out of range (sides in [1, %d], at most %d pixels)", width, height, planar.MaxSide, planar.MaxPixels)
 	}
 	if len(pix) != width*height*channels {
 		return fmt.Errorf("depth: PFM %dx%dx%d needs %d samples, got %d", width, height, channels, width*height*channels, len(pix))
@@ -70,7 +72,7 @@ func SavePFM(path string, pix []float32, width, height, channels int) error {
 // row-major with the top row first and channels interleaved. Samples are
 // returned as stored, including NaN and ±Inf; the header scale only sets the
 // byte order. ReadPFM returns an error for a malformed header, a zero or
-// non-finite scale, a size beyond MaxSide or MaxPixels, or truncated data;
+// non-finite scale, a size beyond planar.MaxSide or planar.MaxPixels, or truncated data;
 // its allocation is bounded by the size of the input, whatever the header
 // claims.
 func ReadPFM(r io.Reader) (pix []float32, width, height, channels int, err error) {
@@ -97,14 +99,14 @@ func ReadPFM(r io.Reader) (pix []float32, width, height, channels int, err error
 			return fail("reading the %s: %v", name, err)
 		}
 		v, err := strconv.Atoi(tok)
-		if err != nil || v < 1 || v > MaxSide {
-			return fail("%s %q is not an integer in [1, %d]", name, truncate(tok), MaxSide)
+		if err != nil || v < 1 || v > planar.MaxSide {
+			return fail("%s %q is not an integer in [1, %d]", name, truncate(tok), planar.MaxSide)
 		}
 		dims[i] = v
 	}
 	width, height = dims[0], dims[1]
-	if width*height > MaxPixels {
-		return fail("size %dx%d exceeds %d pixels", width, height, MaxPixels)
+	if width*height > planar.MaxPixels {
+		return fail("size %dx%d exceeds %d pixels", width, height, planar.MaxPixels)
 	}
 	tok, err := pfmToken(br)
 	if err != nil {

@@ -12,6 +12,8 @@ import (
 	"os"
 	"strconv"
 	"strings"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // Point is one point of a cloud: camera coordinates in metres (x right,
@@ -205,7 +207,7 @@ var plyTypes = map[string]struct {
 // if red, green and blue are present they must be uchar and the cloud has
 // colour. Other vertex properties are skipped, and so is everything after
 // the vertices. ReadPLY returns an error for a malformed header, more than
-// MaxPixels vertices, or truncated data; its allocation grows with the input
+// planar.MaxPixels vertices, or truncated data; its allocation grows with the input
 // actually read, whatever the header claims.
 func ReadPLY(r io.Reader) (*PointCloud, error) {
 	br := bufio.NewReaderSize(r, 1<<16)
@@ -258,8 +260,8 @@ func ReadPLY(r io.Reader) (*PointCloud, error) {
 					return fail("the first element is %q, want \"vertex\"", truncate(f[1]))
 				}
 				n, err := strconv.Atoi(f[2])
-				if err != nil || n < 0 || n > MaxPixels {
-					return fail("vertex count %q is not an integer in [0, %d]", truncate(f[2]), MaxPixels)
+				if err != nil || n < 0 || n > planar.MaxPixels {
+					return fail("vertex count %q is not an integer in [0, %d]", truncate(f[2]), planar.MaxPixels)
 				}
 				count, inVertex = n, true
 			} else {

@@ -9,6 +9,8 @@ import (
 	"io"
 	"math"
 	"os"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // 16-bit PNG depth: one grey channel holding the depth in millimetres,
@@ -81,11 +83,11 @@ const maxDeflateRatio = 1032
 // ReadPNG16 reads a 16-bit grey PNG of depth in millimetres, 0 invalid, into
 // a depth map in metres with bounds (0, 0)–(width, height). It checks the
 // header before decoding and returns an error for a PNG that is not 16-bit
-// grey, whose size exceeds MaxSide or MaxPixels, or whose header claims more
+// grey, whose size exceeds planar.MaxSide or planar.MaxPixels, or whose header claims more
 // pixels than its compressed data could hold; so the memory it allocates is
 // bounded by about a thousand times the input size.
 func ReadPNG16(r io.Reader) (*Depth, error) {
-	data, err := io.ReadAll(io.LimitReader(r, 2*MaxPixels+1<<20))
+	data, err := io.ReadAll(io.LimitReader(r, 2*planar.MaxPixels+1<<20))
 	if err != nil {
 		return nil, fmt.Errorf("depth: PNG16: %w", err)
 	}
@@ -96,8 +98,8 @@ func ReadPNG16(r io.Reader) (*Depth, error) {
 	if cfg.ColorModel != color.Gray16Model {
 		return nil, fmt.Errorf("depth: PNG16: the image is not 16-bit grey")
 	}
-	if cfg.Width < 1 || cfg.Height < 1 || cfg.Width > MaxSide || cfg.Height > MaxSide || cfg.Width*cfg.Height > MaxPixels {
-		return nil, fmt.Errorf("depth: PNG16: size %dx%d out of range (sides in [1, %d], at most %d pixels)", cfg.Width, cfg.Height, MaxSide, MaxPixels)
+	if cfg.Width < 1 || cfg.Height < 1 || cfg.Width > planar.MaxSide || cfg.Height > planar.MaxSide || cfg.Width*cfg.Height > planar.MaxPixels {
+		return nil, fmt.Errorf("depth: PNG16: size %dx%d out of range (sides in [1, %d], at most %d pixels)", cfg.Width, cfg.Height, planar.MaxSide, planar.MaxPixels)
 	}
 	if raw := cfg.Height * (1 + 2*cfg.Width); raw > maxDeflateRatio*len(data) {
 		return nil, fmt.Errorf("depth: PNG16: a %dx%d image cannot fit in %d bytes: the file is truncated or corrupt", cfg.Width, cfg.Height, len(data))

@@ -10,6 +10,8 @@ import (
 	"math"
 	"os"
 	"strings"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // RigFormat and RigVersion identify the rig JSON schema; ReadRig rejects a
@@ -18,14 +20,6 @@ import (
 const (
 	RigFormat  = "parallax-rig"
 	RigVersion = 2
-)
-
-// MaxSide bounds the width and height of a rig and of any map read from a
-// file, and MaxPixels bounds width*height, so that a hostile header cannot
-// request an absurd allocation.
-const (
-	MaxSide   = 1 << 15
-	MaxPixels = 1 << 25
 )
 
 // maxRigBytes bounds the size of a rig file.
@@ -286,7 +280,7 @@ func SaveRig(path string, r *Rig) error {
 
 // Validate returns an error naming the first field of r (by its key in the
 // rig file) that is out of range or physically impossible: the size must
-// lie in [1, MaxSide] per side with Width·Height ≤ MaxPixels; Fx, Fy and
+// lie in [1, planar.MaxSide] per side with Width·Height ≤ planar.MaxPixels; Fx, Fy and
 // Baseline must be positive and finite; both principal points, (Cx, Cy) of
 // the left camera and Cx+DeltaCx of the right one, must lie inside the image,
 // whose pixels cover [−½, Width−½] × [−½, Height−½]; and the depth range
@@ -295,11 +289,11 @@ func (r *Rig) Validate() error {
 	if r == nil {
 		return errors.New("depth: rig is nil")
 	}
-	if r.Width < 1 || r.Width > MaxSide || r.Height < 1 || r.Height > MaxSide {
-		return fmt.Errorf("depth: rig size %dx%d (width_px, height_px): each must lie in [1, %d]", r.Width, r.Height, MaxSide)
+	if r.Width < 1 || r.Width > planar.MaxSide || r.Height < 1 || r.Height > planar.MaxSide {
+		return fmt.Errorf("depth: rig size %dx%d (width_px, height_px): each must lie in [1, %d]", r.Width, r.Height, planar.MaxSide)
 	}
-	if r.Width*r.Height > MaxPixels {
-		return fmt.Errorf("depth: rig size %dx%d (width_px, height_px) exceeds %d pixels", r.Width, r.Height, MaxPixels)
+	if r.Width*r.Height > planar.MaxPixels {
+		return fmt.Errorf("depth: rig size %dx%d (width_px, height_px) exceeds %d pixels", r.Width, r.Height, planar.MaxPixels)
 	}
 	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 	for _, f := range []struct {
@@ -385,8 +379,8 @@ func (r *Rig) Stretched(width, height int) (*Rig, error) {
 	if err := r.Validate(); err != nil {
 		return nil, err
 	}
-	if width < 1 || width > MaxSide || height < 1 || height > MaxSide || width*height > MaxPixels {
-		return nil, fmt.Errorf("depth: rescaling the rig: size %dx%d out of range (sides in [1, %d], at most %d pixels)", width, height, MaxSide, MaxPixels)
+	if width < 1 || width > planar.MaxSide || height < 1 || height > planar.MaxSide || width*height > planar.MaxPixels {
+		return nil, fmt.Errorf("depth: rescaling the rig: size %dx%d out of range (sides in [1, %d], at most %d pixels)", width, height, planar.MaxSide, planar.MaxPixels)
 	}
 	sx := float64(width) / float64(r.Width)
 	sy := float64(height) / float64(r.Height)

@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // motorcycleRig is the Middlebury 2014 Motorcycle calibration for the
@@ -154,7 +156,7 @@ func TestRigValidate(t *testing.T) {
 		{"delta cx moves the right point left of the image", "delta_cx_px", func(r *Rig) { r.DeltaCx = -312 }},
 		{"negative min depth", "min_depth_m", func(r *Rig) { r.MinDepth = -1 }},
 		{"infinite max depth", "max_depth_m", func(r *Rig) { r.MaxDepth = math.Inf(1) }},
-		{"too many pixels", "width_px", func(r *Rig) { r.Width, r.Height = MaxSide, MaxSide }},
+		{"too many pixels", "width_px", func(r *Rig) { r.Width, r.Height = planar.MaxSide, planar.MaxSide }},
 	}
 	for _, m := range mutate {
 		r := motorcycleRig()

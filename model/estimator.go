@@ -103,9 +103,6 @@ type worker struct {
 	conf     []float32
 }
 
-// MaxInputPixels bounds the size of an image given to Estimate.
-const MaxInputPixels = depth.MaxPixels
-
 // NewEstimator returns an Estimator that runs the weights w; nil means the
 // embedded default weights (see Default). It keeps references to w's
 // parameter slices. It returns an error if w does not fit its architecture
@@ -222,8 +219,8 @@ func checkImage(img image.Image) (image.Rectangle, error) {
 		return b, fmt.Errorf("model: image is empty (bounds %v)", b)
 	}
 	w, h := b.Dx(), b.Dy()
-	if w > depth.MaxSide || h > depth.MaxSide || w*h > MaxInputPixels {
-		return b, fmt.Errorf("model: image size %dx%d is too large (sides up to %d, at most %d pixels)", w, h, depth.MaxSide, MaxInputPixels)
+	if w > planar.MaxSide || h > planar.MaxSide || w*h > planar.MaxPixels {
+		return b, fmt.Errorf("model: image size %dx%d is too large (sides up to %d, at most %d pixels)", w, h, planar.MaxSide, planar.MaxPixels)
 	}
 	return b, nil
 }

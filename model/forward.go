@@ -38,7 +38,7 @@ type step struct {
 // keeps references to w's parameter slices (changing them changes the
 // network). It returns an error if w does not fit its architecture or the
 // batch size is not positive or so large that a tensor would exceed
-// planar.MaxPixels values. Sizes are checked before anything is allocated:
+// planar.MaxValues values. Sizes are checked before anything is allocated:
 // the input size comes from the Config in a weights file and does not change
 // the file's size.
 func NewNet(w *Weights, batch int) (*Net, error) {
@@ -55,15 +55,15 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 	if batch <= 0 {
 		return nil, fmt.Errorf("model: batch size %d must be positive", batch)
 	}
-	// Every tensor must be a valid planar.Image (at most planar.MaxPixels
+	// Every tensor must be a valid planar.Image (at most planar.MaxValues
 	// values); check them all by arithmetic before allocating any.
-	if batch > planar.MaxPixels/a.Input.Len() {
-		return nil, fmt.Errorf("model: input of %d×%v values exceeds %d values", batch, a.Input, planar.MaxPixels)
+	if batch > planar.MaxValues/a.Input.Len() {
+		return nil, fmt.Errorf("model: input of %d×%v values exceeds %d values", batch, a.Input, planar.MaxValues)
 	}
 	for i := range a.Layers {
 		l := &a.Layers[i]
-		if batch > planar.MaxPixels/l.Out.Len() {
-			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, batch, l.Out, planar.MaxPixels)
+		if batch > planar.MaxValues/l.Out.Len() {
+			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, batch, l.Out, planar.MaxValues)
 		}
 	}
 	m := &Net{arch: a, n: batch, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}}

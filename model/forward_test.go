@@ -148,10 +148,10 @@ func BenchmarkForward256x128(b *testing.B)   { benchmarkForward(b, Config{}, 1) 
 func BenchmarkForward512x256(b *testing.B)   { benchmarkForward(b, Config{Width: 512, Height: 256}, 1) }
 func BenchmarkForward256x128N4(b *testing.B) { benchmarkForward(b, Config{}, 4) }
 
-// TestNewNetHostileSize checks that a batch too large for planar.MaxPixels
+// TestNewNetHostileSize checks that a batch too large for planar.MaxValues
 // values is refused before any tensor is allocated: with 415 parameters at
 // the largest input (MaxNetPixels) a batch of 1024 would take gigabytes,
-// and the input tensor alone exceeds planar.MaxPixels. (A file cannot claim
+// and the input tensor alone exceeds planar.MaxValues. (A file cannot claim
 // a larger input: Config.Validate refuses it.)
 func TestNewNetHostileSize(t *testing.T) {
 	one := []int{1, 1, 1, 1, 1}

@@ -8,9 +8,30 @@ import (
 	"math"
 )
 
-// MaxPixels bounds N*C*H*W for images built from outside data, so a hostile
-// size in a file header cannot request an absurd allocation.
-const MaxPixels = 1 << 28
+// Size limits for data from outside (files, decoded images, headers), so
+// that a hostile size cannot request an absurd allocation. They are the
+// project's one set of size limits; the other packages refer to these.
+const (
+	// MaxSide bounds the width and the height of an image or map (32,768).
+	MaxSide = 1 << 15
+	// MaxPixels bounds width·height of one image or map (2^25, about 33.5
+	// million pixels, e.g. 8192×4096).
+	MaxPixels = 1 << 25
+	// MaxValues bounds N·C·H·W of an Image (2^28).
+	MaxValues = 1 << 28
+)
+
+// CheckSize returns an error if width or height is not in [1, MaxSide] or
+// width·height exceeds MaxPixels.
+func CheckSize(width, height int) error {
+	if width < 1 || height < 1 || width > MaxSide || height > MaxSide {
+		return fmt.Errorf("planar: size %dx%d: each side must lie in [1, %d]", width, height, MaxSide)
+	}
+	if width*height > MaxPixels {
+		return fmt.Errorf("planar: size %dx%d exceeds %d pixels", width, height, MaxPixels)
+	}
+	return nil
+}
 
 // Image is a batch of N images of C channels, H rows and W columns, stored
 // NCHW (see the package documentation).
@@ -20,7 +41,7 @@ type Image struct {
 }
 
 // New returns a zeroed Image of the given shape. It panics if a dimension is
-// not positive or the size exceeds MaxPixels; use NewChecked for sizes that
+// not positive or the size exceeds MaxValues; use NewChecked for sizes that
 // come from data.
 func New(n, c, h, w int) *Image {
 	im, err := NewChecked(n, c, h, w)
@@ -35,8 +56,8 @@ func NewChecked(n, c, h, w int) (*Image, error) {
 	if n <= 0 || c <= 0 || h <= 0 || w <= 0 {
 		return nil, fmt.Errorf("planar: invalid shape %dx%dx%dx%d: every dimension must be positive", n, c, h, w)
 	}
-	if n > MaxPixels/c/h/w {
-		return nil, fmt.Errorf("planar: shape %dx%dx%dx%d exceeds %d elements", n, c, h, w, MaxPixels)
+	if n > MaxValues/c/h/w {
+		return nil, fmt.Errorf("planar: shape %dx%dx%dx%d exceeds %d elements", n, c, h, w, MaxValues)
 	}
 	return &Image{N: n, C: c, H: h, W: w, Pix: make([]float32, n*c*h*w)}, nil
 }
@@ -71,7 +92,7 @@ func (m *Image) Check(what string) error {
 	if m.N <= 0 || m.C <= 0 || m.H <= 0 || m.W <= 0 {
 		return fmt.Errorf("%s is empty (shape %s)", what, m.Shape())
 	}
-	if m.N > MaxPixels/m.C/m.H/m.W || len(m.Pix) != m.N*m.C*m.H*m.W {
+	if m.N > MaxValues/m.C/m.H/m.W || len(m.Pix) != m.N*m.C*m.H*m.W {
 		return fmt.Errorf("%s has %d values for shape %s", what, len(m.Pix), m.Shape())
 	}
 	return nil
@@ -109,7 +130,7 @@ var ErrEmpty = errors.New("planar: image has no pixels")
 
 // FromImage converts img to a 1×3×H×W Image with values in [0, 1] (see
 // FromImageInto). It returns ErrEmpty for an image with no pixels and an
-// error for a nil image or one larger than MaxPixels.
+// error for a nil image or one beyond the size limits (see CheckSize).
 func FromImage(img image.Image) (*Image, error) {
 	if img == nil {
 		return nil, errors.New("planar: image is nil")
@@ -118,6 +139,9 @@ func FromImage(img image.Image) (*Image, error) {
 	w, h := b.Dx(), b.Dy()
 	if w <= 0 || h <= 0 {
 		return nil, ErrEmpty
+	}
+	if err := CheckSize(w, h); err != nil {
+		return nil, err
 	}
 	out, err := NewChecked(1, 3, h, w)
 	if err != nil {

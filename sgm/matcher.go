@@ -9,6 +9,7 @@ import (
 	"math/bits"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/planar"
 )
 
 // Result is the output of Matcher.Match for one rectified pair, with the
@@ -144,8 +145,8 @@ func checkPair(left, right image.Image) (image.Rectangle, error) {
 		if b.Empty() {
 			return image.Rectangle{}, fmt.Errorf("sgm: %s image is empty (bounds %v)", s.name, b)
 		}
-		if w, h := b.Dx(), b.Dy(); w > depth.MaxSide || h > depth.MaxSide || w*h > depth.MaxPixels {
-			return image.Rectangle{}, fmt.Errorf("sgm: %s image is %dx%d, larger than %d pixels a side or %d pixels", s.name, w, h, depth.MaxSide, depth.MaxPixels)
+		if w, h := b.Dx(), b.Dy(); w > planar.MaxSide || h > planar.MaxSide || w*h > planar.MaxPixels {
+			return image.Rectangle{}, fmt.Errorf("sgm: %s image is %dx%d, larger than %d pixels a side or %d pixels", s.name, w, h, planar.MaxSide, planar.MaxPixels)
 		}
 	}
 	lb, rb := left.Bounds(), right.Bounds()

@@ -63,7 +63,7 @@ func TestLoadHostileSizes(t *testing.T) {
 }
 
 // TestLoaderHostileOptions checks options that would ask for absurd
-// allocations: a batch beyond planar.MaxPixels is an error (found without
+// allocations: a batch beyond planar.MaxValues is an error (found without
 // allocating it), and a huge Prefetch is lowered to the number of pairs
 // (make(chan) panicked on it).
 func TestLoaderHostileOptions(t *testing.T) {

@@ -9,7 +9,6 @@ import (
 	"sync"
 
 	"github.com/parallaxdepth/parallax/dataset"
-	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
 )
 
@@ -96,8 +95,8 @@ func NewLoader(ds *dataset.Set, opt *Options) (*Loader, error) {
 	if o.Width < 1 || o.Height < 1 || o.BatchSize < 1 || o.Prefetch < 1 {
 		return nil, fmt.Errorf("data: invalid options: size %d×%d, batch size %d, prefetch %d", o.Width, o.Height, o.BatchSize, o.Prefetch)
 	}
-	if o.Width > depth.MaxSide || o.Height > depth.MaxSide || o.BatchSize > planar.MaxPixels/3/o.Height/o.Width {
-		return nil, fmt.Errorf("data: a batch of %d images of %d×%d exceeds %d values", o.BatchSize, o.Width, o.Height, planar.MaxPixels)
+	if o.Width > planar.MaxSide || o.Height > planar.MaxSide || o.BatchSize > planar.MaxValues/3/o.Height/o.Width {
+		return nil, fmt.Errorf("data: a batch of %d images of %d×%d exceeds %d values", o.BatchSize, o.Width, o.Height, planar.MaxValues)
 	}
 	// More batches ahead than pairs would only size the channels.
 	o.Prefetch = min(o.Prefetch, len(ds.Pairs))

@@ -34,8 +34,8 @@ type Sample struct {
 // corrupt, has another size than recorded by dataset.Open, or a truth map
 // has more than one channel.
 func Load(ds *dataset.Set, i, width, height int) (*Sample, error) {
-	if width <= 0 || height <= 0 || width > depth.MaxSide || height > depth.MaxSide || width*height > depth.MaxPixels {
-		return nil, fmt.Errorf("data: invalid output size %d×%d (sides in [1, %d], at most %d pixels)", width, height, depth.MaxSide, depth.MaxPixels)
+	if width <= 0 || height <= 0 || width > planar.MaxSide || height > planar.MaxSide || width*height > planar.MaxPixels {
+		return nil, fmt.Errorf("data: invalid output size %d×%d (sides in [1, %d], at most %d pixels)", width, height, planar.MaxSide, planar.MaxPixels)
 	}
 	r, err := ds.Read(i)
 	if err != nil {
