@@ -261,15 +261,15 @@ func corrPutScratch(b []float32) {
 }
 
 // corrForwardRowsAVX2 is corrForwardRows with the loops of
-// correlation_amd64.s.
+// correlation_amd64.s. Only the right rows are copied: the left ones are
+// read in place, at x, never outside the row.
 func corrForwardRowsAVX2(t *corrTask, lo, hi int) {
 	c, h, w, disps := t.c, t.h, t.w, t.disps
 	plane := h * w
 	scale := 1 / float32(c)
 	kmax := min(disps, w)
 	pad, stride := corrLayout(w, kmax)
-	buf := corrGetScratch(2 * c * stride)
-	lp, rp := buf[:c*stride], buf[c*stride:]
+	rp := corrGetScratch(c * stride)
 	w8 := w &^ 7
 	for r := lo; r < hi; r++ {
 		b, y := r/h, r%h
@@ -277,17 +277,17 @@ func corrForwardRowsAVX2(t *corrTask, lo, hi int) {
 		out := b*disps*plane + y*w
 		for ch := 0; ch < c; ch++ {
 			src, p := in+ch*plane, ch*stride+pad
-			copy(lp[p:p+w], t.left[src:src+w])
 			copy(rp[p:p+w], t.right[src:src+w])
 		}
+		l := t.left[in:]
 		for k0 := 0; k0 < kmax; k0 += 8 {
 			kc := min(8, kmax-k0)
 			o := t.dst[out+k0*plane:]
 			if w8 > 0 {
-				corrForwardAVX2(o, plane, lp[pad:], rp[pad-k0:], stride, c, w8, kc, scale)
+				corrForwardAVX2(o, plane, l, plane, rp[pad-k0:], stride, c, w8, kc, scale)
 			}
 			if w8 < w {
-				corrForwardCols(o, plane, lp[pad:], rp, pad-k0, stride, c, w8, w, kc, scale)
+				corrForwardCols(o, plane, l, plane, rp, pad-k0, stride, c, w8, w, kc, scale)
 			}
 		}
 		for k := 0; k < disps; k++ {
@@ -295,17 +295,17 @@ func corrForwardRowsAVX2(t *corrTask, lo, hi int) {
 			clear(row[:min(k, w)])
 		}
 	}
-	corrPutScratch(buf)
+	corrPutScratch(rp)
 }
 
 // corrForwardCols is corrForwardAVX2 in Go for the columns x0 <= x < x1,
 // with r read from roff on.
-func corrForwardCols(o []float32, ostride int, l, r []float32, roff, stride, c, x0, x1, kc int, scale float32) {
+func corrForwardCols(o []float32, ostride int, l []float32, lstride int, r []float32, roff, rstride, c, x0, x1, kc int, scale float32) {
 	for j := 0; j < kc; j++ {
 		for x := x0; x < x1; x++ {
 			var s float32
 			for ch := 0; ch < c; ch++ {
-				s += l[ch*stride+x] * r[roff+ch*stride+x-j]
+				s += l[ch*lstride+x] * r[roff+ch*rstride+x-j]
 			}
 			o[j*ostride+x] = s * scale
 		}

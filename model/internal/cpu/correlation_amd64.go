@@ -10,11 +10,11 @@ var corrAVX2 = cpu.X86.HasAVX2 && cpu.X86.HasFMA
 
 // corrForwardAVX2 computes 8 columns at a time, x < nx (a multiple of 8),
 // of kc ≤ 8 output rows j (o[j·ostride + x], shift k0 + j for r starting at
-// shift k0): scale · Σ_{ch<c} l[ch·stride + x] · r[ch·stride + x − j]. It
-// reads r up to 7 values before r[0].
+// shift k0): scale · Σ_{ch<c} l[ch·lstride + x] · r[ch·rstride + x − j].
+// It reads r up to 7 values before r[0].
 //
 //go:noescape
-func corrForwardAVX2(o []float32, ostride int, l, r []float32, stride, c, nx, kc int, scale float32)
+func corrForwardAVX2(o []float32, ostride int, l []float32, lstride int, r []float32, rstride, c, nx, kc int, scale float32)
 
 // corrBackwardAVX2 computes 8 columns at a time, x < nx (a multiple of 8),
 // of 8 gradient rows j (out[j·ostride + x]): scale · Σ_{k<kn}

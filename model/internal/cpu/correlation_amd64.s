@@ -2,25 +2,26 @@
 
 #include "textflag.h"
 
-// func corrForwardAVX2(o []float32, ostride int, l, r []float32, stride, c, nx, kc int, scale float32)
+// func corrForwardAVX2(o []float32, ostride int, l []float32, lstride int, r []float32, rstride, c, nx, kc int, scale float32)
 //
 // For x = 0, 8, … < nx and j < kc: o[j·ostride + x …+8] =
-// scale · Σ_ch l[ch·stride + x …] · r[ch·stride + x − j …], with 8 shifts
-// in 8 accumulators (Y0–Y7) whatever kc is; only kc rows are stored. r may
-// be read up to 7 values before its start.
-TEXT ·corrForwardAVX2(SB), NOSPLIT, $0-116
+// scale · Σ_ch l[ch·lstride + x …] · r[ch·rstride + x − j …], with 8
+// shifts in 8 accumulators (Y0–Y7) whatever kc is; only kc rows are
+// stored. r may be read up to 7 values before its start.
+TEXT ·corrForwardAVX2(SB), NOSPLIT, $0-124
 	MOVQ o_base+0(FP), DI
 	MOVQ ostride+24(FP), R12
 	SHLQ $2, R12
 	MOVQ l_base+32(FP), SI
-	MOVQ r_base+56(FP), DX
-	MOVQ stride+80(FP), R8
+	MOVQ lstride+56(FP), R11
+	SHLQ $2, R11
+	MOVQ r_base+64(FP), DX
+	MOVQ rstride+88(FP), R8
 	SHLQ $2, R8
-	MOVQ c+88(FP), R9
-	MOVQ nx+96(FP), R10
+	MOVQ c+96(FP), R9
+	MOVQ nx+104(FP), R10
 	SHLQ $2, R10
-	MOVQ kc+104(FP), R11
-	VBROADCASTSS scale+112(FP), Y15
+	VBROADCASTSS scale+120(FP), Y15
 	XORQ BX, BX                 // x, in bytes
 	TESTQ R10, R10
 	JZ   fwdDone
@@ -48,7 +49,7 @@ fwdChan:
 	VFMADD231PS -20(CX), Y8, Y5
 	VFMADD231PS -24(CX), Y8, Y6
 	VFMADD231PS -28(CX), Y8, Y7
-	ADDQ R8, AX
+	ADDQ R11, AX
 	ADDQ R8, CX
 	DECQ R13
 	JNZ  fwdChan
@@ -56,37 +57,37 @@ fwdChan:
 	LEAQ (DI)(BX*1), AX         // o[0][x]
 	VMULPS Y15, Y0, Y0
 	VMOVUPS Y0, (AX)
-	CMPQ R11, $2
+	CMPQ kc+112(FP), $2
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y1, Y1
 	VMOVUPS Y1, (AX)
-	CMPQ R11, $3
+	CMPQ kc+112(FP), $3
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y2, Y2
 	VMOVUPS Y2, (AX)
-	CMPQ R11, $4
+	CMPQ kc+112(FP), $4
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y3, Y3
 	VMOVUPS Y3, (AX)
-	CMPQ R11, $5
+	CMPQ kc+112(FP), $5
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y4, Y4
 	VMOVUPS Y4, (AX)
-	CMPQ R11, $6
+	CMPQ kc+112(FP), $6
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y5, Y5
 	VMOVUPS Y5, (AX)
-	CMPQ R11, $7
+	CMPQ kc+112(FP), $7
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y6, Y6
 	VMOVUPS Y6, (AX)
-	CMPQ R11, $8
+	CMPQ kc+112(FP), $8
 	JLT  fwdNext
 	ADDQ R12, AX
 	VMULPS Y15, Y7, Y7

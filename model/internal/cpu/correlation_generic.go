@@ -5,7 +5,7 @@ package cpu
 // corrAVX2 is false where correlation_amd64.s is not built.
 var corrAVX2 = false
 
-func corrForwardAVX2(o []float32, ostride int, l, r []float32, stride, c, nx, kc int, scale float32) {
+func corrForwardAVX2(o []float32, ostride int, l []float32, lstride int, r []float32, rstride, c, nx, kc int, scale float32) {
 	panic("cpu: corrForwardAVX2 without amd64 assembly")
 }
 

@@ -301,6 +301,22 @@ func TestCorrelationNoAlloc(t *testing.T) {
 			CorrelationBackward(gl, gr, y, left, right, s.n, s.c, s.h, s.w, s.disps)
 		})
 	}
+	// The stereo network's levels one after the other: the padded-row
+	// buffers of the largest serve the others.
+	levels := []struct{ n, c, h, w, disps int }{{2, 64, 8, 16, 24}, {2, 32, 16, 32, 5}, {2, 16, 32, 64, 5}}
+	type buffers struct{ left, right, y, gl, gr []float32 }
+	bufs := make([]buffers, len(levels))
+	for i, s := range levels {
+		m := s.n * s.c * s.h * s.w
+		bufs[i] = buffers{opsRandom(m, 1, 1), opsRandom(m, 1, 2), make([]float32, s.n*s.disps*s.h*s.w), make([]float32, m), make([]float32, m)}
+	}
+	opsNoAlloc(t, "Correlation and CorrelationBackward over three shapes", func() {
+		for i, s := range levels {
+			b := bufs[i]
+			Correlation(b.y, b.left, b.right, s.n, s.c, s.h, s.w, s.disps)
+			CorrelationBackward(b.gl, b.gr, b.y, b.left, b.right, s.n, s.c, s.h, s.w, s.disps)
+		}
+	})
 }
 
 func TestCorrelationNonFinite(t *testing.T) { corrPaths(t, testCorrelationNonFinite) }
@@ -340,12 +356,18 @@ func TestCorrelationPanicsOnMisuse(t *testing.T) {
 	opsMustPanic(t, "short dright", func() { CorrelationBackward(nil, x[:5], make([]float32, 12), x, x, 1, 1, 2, 3, 2) })
 }
 
-// corrBenchShapes are the stereo network's coarse level in training (a
-// batch of 4 at 256×128, features at 1/4) and in inference at 640×480
-// (features at 1/4, 160×120).
+// corrBenchShapes are the stereo network's cost volumes (parallax-stereo
+// v1: 64, 32 and 16 feature channels at ⅛, ¼ and ½ resolution, 24 shifts
+// at ⅛ and 5 around the estimate at the finer levels, a batch of both view
+// orders), in training (4 pairs at 256×128) and in inference (one pair at
+// 640×480).
 var corrBenchShapes = []struct{ n, c, h, w, disps int }{
-	{4, 32, 32, 64, 24},
-	{1, 32, 120, 160, 48},
+	{8, 64, 16, 32, 24},
+	{8, 32, 32, 64, 5},
+	{8, 16, 64, 128, 5},
+	{2, 64, 60, 80, 24},
+	{2, 32, 120, 160, 5},
+	{2, 16, 240, 320, 5},
 }
 
 func benchmarkCorrelation(b *testing.B, n, c, h, w, disps int, backward bool) {
@@ -378,7 +400,7 @@ func BenchmarkCorrelation(b *testing.B) {
 			if backward {
 				name = "Backward"
 			}
-			b.Run(fmt.Sprintf("%s/%dx%dx%dx%d/disps%d", name, s.n, s.c, s.h, s.w, s.disps), func(b *testing.B) {
+			b.Run(fmt.Sprintf("%s/%dx%dx%dx%dx%d", name, s.n, s.c, s.h, s.w, s.disps), func(b *testing.B) {
 				benchmarkCorrelation(b, s.n, s.c, s.h, s.w, s.disps, backward)
 			})
 		}
