@@ -218,14 +218,15 @@ func scaleRow(o []float32, s float32) {
 	}
 }
 
-// The AVX2 loops work on a copy of each input row (n, y), one padded row
-// of stride values per channel (and per shift for the upstream gradient):
-// pad zeros, the w values, then zeros to the end. The copies make every
-// shifted read, x − k or x + k, land inside the row, so the loops need no
-// edge cases, and they bring the c channel rows together, which in the
-// tensor lie h·w values apart and would fall into the same cache sets.
-// Columns past the last multiple of 8, and channels past the last multiple
-// of 8 in the gradients, are done in Go on the same copies.
+// The AVX2 loops read the rows they shift, x − k or x + k, from copies:
+// for each input row (n, y), one padded row of stride values per channel
+// (and per shift for the upstream gradient): pad zeros, the w values, then
+// zeros to the end. Every shifted read then lands inside its row, so the
+// loops need no edge cases, and the c channel rows, which in the tensor lie
+// h·w values apart and can fall into the same cache sets, come together.
+// Rows read only at x (the left view in the forward pass) are read in
+// place. Columns past the last multiple of 8, and channels past the last
+// multiple of 8 in the gradients, are done in Go on the same rows.
 
 // corrLayout returns the padding and the stride of the padded rows for
 // shifts 0 … kmax−1 over rows of w values.

@@ -47,8 +47,8 @@
 //     stride-1 correlations, one per phase plane; either is then folded back
 //     through the padding (reflected taps add onto the pixels they mirror).
 //     1×1 stride-1 unpadded layers are a plain GEMM on the input.
-//   - Correlation (the stereo cost volume) copies each input row (n, y) of
-//     every channel into zero-padded rows, so that each shifted read stays
+//   - Correlation (the stereo cost volume) copies the rows it reads at
+//     shifted columns into zero-padded rows, so that each shifted read stays
 //     inside its row, and accumulates 8 shifts (forward) or 8 channels
 //     (gradients) of 8 columns at a time in registers.
 //
