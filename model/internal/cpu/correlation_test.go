@@ -208,7 +208,7 @@ func naiveCorrelationBackward(g, left, right []float32, n, c, h, w, disps int) (
 func TestCorrelationLarge(t *testing.T) { corrPaths(t, testCorrelationLarge) }
 
 func testCorrelationLarge(t *testing.T) {
-	shapes := []struct{ n, c, h, w, disps int }{{2, 9, 13, 70, 30}, {1, 32, 4, 64, 24}, {1, 17, 3, 41, 13}, {1, 3, 2, 100, 130}}
+	shapes := []struct{ n, c, h, w, disps int }{{2, 9, 13, 70, 30}, {1, 32, 4, 64, 24}, {1, 17, 3, 41, 13}, {1, 9, 2, 5, 3}, {1, 3, 2, 100, 130}}
 	for w := 1; w <= 27; w++ {
 		shapes = append(shapes, struct{ n, c, h, w, disps int }{1, 3, 2, w, 1 + w%11})
 	}
