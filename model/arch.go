@@ -20,11 +20,33 @@ const (
 	OpUpsample
 	// OpConcat concatenates its inputs along the channel axis, in order.
 	OpConcat
-	// OpScale multiplies its input by the constant Layer.Factor.
+	// OpScale computes Factor·x + Shift of its input (see Layer.PerWidth).
 	OpScale
+	// OpCorrelation is the matching cost of two feature tensors (the left
+	// view's first) over Layer.Disps horizontal shifts (see
+	// StereoArchName).
+	OpCorrelation
+	// OpWarp resamples its first input (the right view's features) at
+	// x − d·W, d the one-channel disparity of its second input, a fraction
+	// of the width (package warp, RebuildLeft, zeros outside).
+	OpWarp
+	// OpAdd adds its two inputs of equal shape.
+	OpAdd
+	// OpMatch is the classical matcher's estimate of the pair (Matching),
+	// pooled to the layer's resolution: with 2 output channels, channel 0
+	// the disparity in pixels at that resolution and channel 1 the
+	// fraction found without filling; with 1, the disparity as a fraction
+	// of the width. Its input is InputName of a stereo network.
+	OpMatch
+	// OpPairView picks one view of a stereo batch: its input holds the
+	// tensors of N left views then of their N right views, and its output
+	// the same 2N tensors as the views of the pair and of the mirrored,
+	// swapped pair (Layer.View; see StereoArchName).
+	OpPairView
 )
 
-var opNames = map[Op]string{OpConv: "conv", OpUpsample: "upsample", OpConcat: "concat", OpScale: "scale"}
+var opNames = map[Op]string{OpConv: "conv", OpUpsample: "upsample", OpConcat: "concat", OpScale: "scale",
+	OpCorrelation: "correlation", OpWarp: "warp", OpAdd: "add", OpPairView: "pairview", OpMatch: "match"}
 
 // String returns the name of o as used in the text form of an Arch.
 func (o Op) String() string { return enumString(opNames, o) }
@@ -123,8 +145,36 @@ type Layer struct {
 	// OpUpsample: interpolation.
 	Mode Upsampling
 
-	// OpScale: the constant factor.
-	Factor float64
+	// OpScale: the layer computes f·x + Shift/Out.W, where f is Factor,
+	// Factor/Out.W with PerWidth, or Factor·Out.W with TimesWidth. Out.W is
+	// the tensor's width in pixels, so PerWidth turns a value in pixels at
+	// that resolution into a fraction of the width, the unit of every
+	// disparity, at any input size, and TimesWidth the reverse; Shift is in
+	// pixels.
+	Factor, Shift        float64
+	PerWidth, TimesWidth bool
+
+	// OpCorrelation: the number of shifts, 0 … Disps−1 pixels.
+	Disps int
+
+	// OpPairView: ViewLeft or ViewRight.
+	View View
+}
+
+// ScaleShift returns the factor and shift an OpScale layer applies, with
+// PerWidth and Shift resolved against its output width.
+func (l *Layer) ScaleShift() (factor, shift float64) {
+	factor = l.Factor
+	if l.Out.W <= 0 {
+		return factor, 0
+	}
+	if l.PerWidth {
+		factor /= float64(l.Out.W)
+	}
+	if l.TimesWidth {
+		factor *= float64(l.Out.W)
+	}
+	return factor, l.Shift / float64(l.Out.W)
 }
 
 // MarshalJSON writes the fields of l that its Op uses, with the enums as
@@ -144,8 +194,13 @@ func (l Layer) MarshalJSON() ([]byte, error) {
 		Inputs []string `json:"inputs"`
 		Out    Shape    `json:"out"`
 		*conv
-		Mode   string  `json:"mode,omitempty"`
-		Factor float64 `json:"factor,omitempty"`
+		Mode       string  `json:"mode,omitempty"`
+		Factor     float64 `json:"factor,omitempty"`
+		Shift      float64 `json:"shift,omitempty"`
+		PerWidth   bool    `json:"per_width,omitempty"`
+		TimesWidth bool    `json:"times_width,omitempty"`
+		Disps      int     `json:"disps,omitempty"`
+		View       string  `json:"view,omitempty"`
 	}{Name: l.Name, Op: l.Op.String(), Inputs: l.Inputs, Out: l.Out}
 	switch l.Op {
 	case OpConv:
@@ -153,7 +208,11 @@ func (l Layer) MarshalJSON() ([]byte, error) {
 	case OpUpsample:
 		v.Mode = l.Mode.String()
 	case OpScale:
-		v.Factor = l.Factor
+		v.Factor, v.Shift, v.PerWidth, v.TimesWidth = l.Factor, l.Shift, l.PerWidth, l.TimesWidth
+	case OpCorrelation:
+		v.Disps = l.Disps
+	case OpPairView:
+		v.View = l.View.String()
 	}
 	return json.Marshal(v)
 }
@@ -210,6 +269,9 @@ func Build(c Config) (*Arch, error) {
 		return nil, err
 	}
 	c = c.WithDefaults()
+	if c.Arch == StereoArchName {
+		return buildStereo(c), nil
+	}
 	a := &Arch{Config: c, Input: Shape{3, c.Height, c.Width}, shapes: map[string]Shape{InputName: {3, c.Height, c.Width}}}
 
 	// Encoder: at each level a stride-2 convolution halves the resolution
@@ -336,7 +398,12 @@ func (a *Arch) Summary() string {
 		case OpUpsample:
 			op = "upsample2x " + l.Mode.String()
 		case OpScale:
-			op = fmt.Sprintf("scale %g", l.Factor)
+			f, sh := l.ScaleShift()
+			op = fmt.Sprintf("scale %.4g %+.4g", f, sh)
+		case OpCorrelation:
+			op = fmt.Sprintf("correlation %d", l.Disps)
+		case OpPairView:
+			op = "pairview " + l.View.String()
 		}
 		fmt.Fprintf(&b, "%-12s %-26s %-24s %-11s %8d\n", l.Name, op, strings.Join(l.Inputs, ","), l.Out, params)
 	}

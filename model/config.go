@@ -86,6 +86,9 @@ type Config struct {
 // WithDefaults returns c with every zero field replaced by its default. It
 // does not validate; see Validate.
 func (c Config) WithDefaults() Config {
+	if c.Arch == StereoArchName {
+		return c.stereoDefaults()
+	}
 	if c.Arch == "" {
 		c.Arch = ArchName
 	}
@@ -118,11 +121,17 @@ func (c Config) WithDefaults() Config {
 // that is out of range.
 func (c Config) Validate() error {
 	c = c.WithDefaults()
-	if c.Arch != ArchName {
-		return fmt.Errorf("model: config: unknown architecture %q (want %q)", c.Arch, ArchName)
-	}
-	if c.Version != ArchVersion {
-		return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
+	switch c.Arch {
+	case ArchName:
+		if c.Version != ArchVersion {
+			return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
+		}
+	case StereoArchName:
+		if c.Version != StereoArchVersion {
+			return fmt.Errorf("model: config: unsupported %s version %d (want %d)", StereoArchName, c.Version, StereoArchVersion)
+		}
+	default:
+		return fmt.Errorf("model: config: unknown architecture %q (want %q or %q)", c.Arch, ArchName, StereoArchName)
 	}
 	if c.Width < MinSide || c.Width%SizeStep != 0 {
 		return fmt.Errorf("model: config: width %d must be a multiple of %d, at least %d", c.Width, SizeStep, MinSide)
@@ -135,6 +144,9 @@ func (c Config) Validate() error {
 	// overflowing.
 	if c.Width > MaxNetPixels/MinSide || c.Height > MaxNetPixels/MinSide || c.Width*c.Height > MaxNetPixels {
 		return fmt.Errorf("model: config: input %d×%d exceeds the maximum of %d pixels (MaxNetPixels)", c.Width, c.Height, MaxNetPixels)
+	}
+	if c.Arch == StereoArchName {
+		return c.validateStereo()
 	}
 	if len(c.Encoder) != Levels {
 		return fmt.Errorf("model: config: encoder has %d widths, want %d", len(c.Encoder), Levels)

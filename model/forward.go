@@ -6,6 +6,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/model/internal/cpu"
 	"github.com/parallaxdepth/parallax/planar"
+	"github.com/parallaxdepth/parallax/warp"
 )
 
 // Net runs the network on the CPU, without a training graph, for batches of
@@ -15,11 +16,18 @@ import (
 // several goroutines themselves.
 type Net struct {
 	arch  *Arch
-	n     int
-	bufs  [][]float32 // by tensor index; bufs[0] is the caller's input
+	n     int         // images (or pairs) per call
+	nb    int         // batch the layers run on: n, or 2n for a stereo network
+	bufs  [][]float32 // by tensor index; bufs[0] is the input
 	index map[string]int
 	steps []step
 	outs  [Scales]*planar.Image
+
+	// stereo: the input [left; right], the raw one-channel outputs and
+	// the classical matcher's estimate.
+	pair  []float32
+	raw   [Scales][]float32
+	match *Matching
 }
 
 type step struct {
@@ -28,6 +36,8 @@ type step struct {
 	in     []int
 	in0    Shape // shape of the first input
 	conv   *cpu.Conv2D
+	warp   warp.Shape
+	level  int // OpMatch
 	weight []float32
 	bias   []float32
 	srcs   [][]float32 // concat: filled from bufs on every call
@@ -55,18 +65,28 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 	if batch <= 0 {
 		return nil, fmt.Errorf("model: batch size %d must be positive", batch)
 	}
+	nb := batch
+	if a.IsStereo() {
+		if batch > planar.MaxValues/2 {
+			return nil, fmt.Errorf("model: batch size %d is too large", batch)
+		}
+		nb = 2 * batch
+	}
 	// Every tensor must be a valid planar.Image (at most planar.MaxValues
 	// values); check them all by arithmetic before allocating any.
-	if batch > planar.MaxValues/a.Input.Len() {
-		return nil, fmt.Errorf("model: input of %d×%v values exceeds %d values", batch, a.Input, planar.MaxValues)
+	if nb > planar.MaxValues/a.Input.Len() {
+		return nil, fmt.Errorf("model: input of %d×%v values exceeds %d values", nb, a.Input, planar.MaxValues)
 	}
 	for i := range a.Layers {
 		l := &a.Layers[i]
-		if batch > planar.MaxValues/l.Out.Len() {
-			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, batch, l.Out, planar.MaxValues)
+		if nb > planar.MaxValues/l.Out.Len() {
+			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, nb, l.Out, planar.MaxValues)
 		}
 	}
-	m := &Net{arch: a, n: batch, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}}
+	m := &Net{arch: a, n: batch, nb: nb, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}}
+	if a.IsStereo() {
+		m.pair = make([]float32, nb*a.Input.Len())
+	}
 	for i := range a.Layers {
 		l := &a.Layers[i]
 		s := step{layer: l, out: len(m.bufs)}
@@ -79,7 +99,7 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 		}
 		s.in0, _ = a.Shape(l.Inputs[0])
 		m.index[l.Name] = len(m.bufs)
-		m.bufs = append(m.bufs, make([]float32, batch*l.Out.Len()))
+		m.bufs = append(m.bufs, make([]float32, nb*l.Out.Len()))
 		switch l.Op {
 		case OpConv:
 			pad := cpu.ZeroPad
@@ -87,7 +107,7 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 				pad = cpu.ReflectPad
 			}
 			s.conv, err = cpu.NewConv2D(cpu.ConvParams{InC: s.in0.C, OutC: l.Out.C, Kernel: l.Kernel, Stride: l.Stride,
-				Dilation: l.Dilation, Pad: l.Pad, Padding: pad}, batch, s.in0.H, s.in0.W)
+				Dilation: l.Dilation, Pad: l.Pad, Padding: pad}, nb, s.in0.H, s.in0.W)
 			if err != nil {
 				return nil, fmt.Errorf("model: layer %q: %w", l.Name, err)
 			}
@@ -101,6 +121,29 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 				sh, _ := a.Shape(name)
 				s.chans = append(s.chans, sh.C)
 			}
+		case OpCorrelation, OpWarp, OpAdd:
+			if err := checkPairLayer(a, l); err != nil {
+				return nil, err
+			}
+			s.warp = warp.Shape{N: nb, C: s.in0.C, H: s.in0.H, W: s.in0.W}
+		case OpMatch:
+			if l.Inputs[0] != InputName || !a.IsStereo() || (l.Out.C != 1 && l.Out.C != 2) {
+				return nil, fmt.Errorf("model: layer %q: a match reads the input of a stereo network and gives 1 or 2 channels", l.Name)
+			}
+			for s.level = MatchLevel; a.Input.H>>s.level > l.Out.H; s.level++ {
+			}
+			if a.Input.H>>s.level != l.Out.H || a.Input.W>>s.level != l.Out.W {
+				return nil, fmt.Errorf("model: layer %q: %v is not the input %v at 1/2^k, k ≥ %d", l.Name, l.Out, a.Input, MatchLevel)
+			}
+			if m.match == nil {
+				if m.match, err = NewMatching(batch, a.Input.W, a.Input.H, a.Config.DMax); err != nil {
+					return nil, err
+				}
+			}
+		case OpPairView:
+			if l.View != ViewLeft && l.View != ViewRight {
+				return nil, fmt.Errorf("model: layer %q has unknown view %v", l.Name, l.View)
+			}
 		case OpUpsample, OpScale:
 		default:
 			return nil, fmt.Errorf("model: layer %q has unknown operation %v", l.Name, l.Op)
@@ -109,7 +152,16 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 	}
 	for sc, name := range a.Outputs {
 		sh, _ := a.Shape(name)
-		m.outs[sc] = &planar.Image{N: batch, C: sh.C, H: sh.H, W: sh.W, Pix: m.bufs[m.index[name]]}
+		k, ok := m.index[name]
+		if !ok {
+			return nil, fmt.Errorf("model: output %q is not computed", name)
+		}
+		if a.IsStereo() {
+			m.raw[sc] = m.bufs[k]
+			m.outs[sc] = planar.New(batch, 2, sh.H, sh.W)
+			continue
+		}
+		m.outs[sc] = &planar.Image{N: batch, C: sh.C, H: sh.H, W: sh.W, Pix: m.bufs[k]}
 	}
 	return m, nil
 }
@@ -123,6 +175,9 @@ func (m *Net) Arch() *Arch { return m.arch }
 // that share the Net's buffers, overwritten by the next call. It returns an
 // error if img has the wrong shape or holds NaN or Inf.
 func (m *Net) Forward(img *planar.Image) ([Scales]*planar.Image, error) {
+	if m.arch.IsStereo() {
+		return [Scales]*planar.Image{}, errors.New("model: these are stereo weights: give both views (ForwardPair)")
+	}
 	if err := img.Check("input image"); err != nil {
 		return [Scales]*planar.Image{}, fmt.Errorf("model: %w", err)
 	}
@@ -132,12 +187,18 @@ func (m *Net) Forward(img *planar.Image) ([Scales]*planar.Image, error) {
 	if err := img.CheckFinite("input image"); err != nil {
 		return [Scales]*planar.Image{}, fmt.Errorf("model: %w", err)
 	}
-	m.run(img.Pix)
+	if err := m.run(img.Pix); err != nil {
+		return [Scales]*planar.Image{}, err
+	}
 	return m.outs, nil
 }
 
-func (m *Net) run(input []float32) {
+func (m *Net) run(input []float32) error {
 	m.bufs[0] = input
+	defer func() { m.bufs[0] = nil }()
+	if m.match != nil {
+		m.match.Invalidate()
+	}
 	for i := range m.steps {
 		s := &m.steps[i]
 		l := s.layer
@@ -154,20 +215,34 @@ func (m *Net) run(input []float32) {
 			}
 		case OpUpsample:
 			if l.Mode == UpBilinear {
-				cpu.UpsampleBilinear2x(out, x, m.n, s.in0.C, s.in0.H, s.in0.W)
+				cpu.UpsampleBilinear2x(out, x, m.nb, s.in0.C, s.in0.H, s.in0.W)
 			} else {
-				cpu.UpsampleNearest2x(out, x, m.n, s.in0.C, s.in0.H, s.in0.W)
+				cpu.UpsampleNearest2x(out, x, m.nb, s.in0.C, s.in0.H, s.in0.W)
 			}
 		case OpConcat:
 			for k, j := range s.in {
 				s.srcs[k] = m.bufs[j]
 			}
-			cpu.Concat(out, s.srcs, s.chans, m.n, l.Out.H, l.Out.W)
+			cpu.Concat(out, s.srcs, s.chans, m.nb, l.Out.H, l.Out.W)
 		case OpScale:
-			cpu.ScaleShift(out, x, float32(l.Factor), 0)
+			f, sh := l.ScaleShift()
+			cpu.ScaleShift(out, x, float32(f), float32(sh))
+		case OpCorrelation:
+			cpu.Correlation(out, x, m.bufs[s.in[1]], m.nb, s.in0.C, s.in0.H, s.in0.W, l.Disps)
+		case OpWarp:
+			warp.Forward(out, nil, x, m.bufs[s.in[1]], s.warp, warp.RebuildLeft, warp.Zero)
+		case OpAdd:
+			cpu.Add(out, x, m.bufs[s.in[1]])
+		case OpPairView:
+			PairView(out, x, l.View, m.n, s.in0.C, s.in0.H, s.in0.W)
+		case OpMatch:
+			if err := m.match.Compute(x); err != nil {
+				return err
+			}
+			m.match.Pool(out, s.level, l.Out.C)
 		}
 	}
-	m.bufs[0] = nil
+	return nil
 }
 
 // Tensor returns the buffer of the tensor called name from the last
@@ -176,7 +251,7 @@ func (m *Net) run(input []float32) {
 // the next call.
 func (m *Net) Tensor(name string) []float32 {
 	k, ok := m.index[name]
-	if !ok || k == 0 {
+	if !ok || m.bufs[k] == nil {
 		return nil
 	}
 	return m.bufs[k]

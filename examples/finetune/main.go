@@ -40,7 +40,7 @@ import (
 
 type config struct {
 	data, out, from, checkpoint, logPath, plotPath string
-	scratch, resume, noAugment, quiet, f16         bool
+	scratch, stereo, resume, noAugment, quiet, f16 bool
 	steps, batch, warmup, every, evalBatch         int
 	lr, val                                        float64
 	seed                                           uint64
@@ -53,6 +53,7 @@ func main() {
 	flag.StringVar(&c.out, "out", "", "file the trained weights are written to, safetensors (required)")
 	flag.StringVar(&c.from, "from", "", "weights file or training checkpoint to start from (default: the weights embedded in the program)")
 	flag.BoolVar(&c.scratch, "from-scratch", false, "start from a fresh random initialisation (seeded by -seed) at the default input size, with d_max from DIR/rig.json; used to train the default weights")
+	flag.BoolVar(&c.stereo, "stereo", false, "with -from-scratch: the stereo network, which reads both views (otherwise the kind follows the starting weights)")
 	flag.IntVar(&c.steps, "steps", 1000, "number of training steps (one batch each)")
 	flag.IntVar(&c.batch, "batch", 4, "stereo pairs per step")
 	flag.Float64Var(&c.lr, "lr", train.DefaultRate, "base learning rate of Adam; it warms up linearly, then halves at 60% and 80% of the steps")
@@ -98,6 +99,9 @@ func run(c config) error {
 	}
 	if c.scratch && c.from != "" {
 		return errors.New("finetune: -from and -from-scratch exclude each other")
+	}
+	if c.stereo && !c.scratch {
+		return errors.New("finetune: -stereo goes with -from-scratch (otherwise the kind follows the starting weights)")
 	}
 	if c.checkpoint == "" {
 		c.checkpoint = c.out + ".ckpt"
@@ -159,6 +163,9 @@ func run(c config) error {
 		origin = "weights " + c.from
 	case c.scratch:
 		cfg := model.Config{}
+		if c.stereo {
+			cfg.Arch = model.StereoArchName
+		}
 		if ds.Rig != nil {
 			if cfg.DMax, err = model.DMaxFromRig(ds.Rig); err != nil {
 				return fmt.Errorf("finetune: d_max from %s: %w", filepath.Join(c.data, "rig.json"), err)

@@ -38,3 +38,7 @@ func benchmarkStep(b *testing.B, c model.Config, batch int) {
 
 func BenchmarkStep256x128N4(b *testing.B) { benchmarkStep(b, model.Config{}, 4) }
 func BenchmarkStepTinyN1(b *testing.B)    { benchmarkStep(b, tinyConfig, 1) }
+
+func BenchmarkStereoStep256x128N4(b *testing.B) {
+	benchmarkStep(b, model.Config{Arch: model.StereoArchName}, 4)
+}

@@ -5,6 +5,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/planar"
+	"github.com/parallaxdepth/parallax/warp"
 	G "gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
 )
@@ -26,7 +27,9 @@ type network struct {
 	Batch int
 	// Graph is the gorgonia graph holding the network.
 	Graph *G.ExprGraph
-	// Input is the (Batch, 3, H, W) image node.
+	// Input is the (Batch, 3, H, W) image node; for a stereo architecture
+	// it is (2·Batch, 3, H, W), the left views then the right views (see
+	// SetPair).
 	Input *G.Node
 	// Params are the learned tensors, in Arch.Params order.
 	Params []*G.Node
@@ -37,6 +40,7 @@ type network struct {
 	tensors map[string]*G.Node
 	params  map[string][]float32
 	input   []float32
+	match   *model.Matching
 }
 
 // buildNetwork adds the network of a for batches of batch images to g. The
@@ -54,9 +58,13 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 	}
 	net := &network{Arch: a, Batch: batch, Graph: g, tensors: map[string]*G.Node{}, params: map[string][]float32{}}
 	in := a.Input
-	net.input = make([]float32, batch*in.Len())
-	net.Input = G.NewTensor(g, tensor.Float32, 4, G.WithShape(batch, in.C, in.H, in.W), G.WithName(model.InputName),
-		G.WithValue(tensor.New(tensor.WithShape(batch, in.C, in.H, in.W), tensor.WithBacking(net.input))))
+	nb := batch
+	if a.IsStereo() {
+		nb = 2 * batch
+	}
+	net.input = make([]float32, nb*in.Len())
+	net.Input = G.NewTensor(g, tensor.Float32, 4, G.WithShape(nb, in.C, in.H, in.W), G.WithName(model.InputName),
+		G.WithValue(tensor.New(tensor.WithShape(nb, in.C, in.H, in.W), tensor.WithBacking(net.input))))
 	net.tensors[model.InputName] = net.Input
 	for _, p := range a.Params {
 		v := make([]float32, p.Len())
@@ -80,7 +88,7 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 	for i, l := range a.Layers {
 		if l.Op == model.OpConv && l.Act == model.ActSigmoid && uses[l.Name] == 1 && i+1 < len(a.Layers) {
 			next := a.Layers[i+1]
-			if next.Op == model.OpScale && len(next.Inputs) == 1 && next.Inputs[0] == l.Name {
+			if _, shift := next.ScaleShift(); next.Op == model.OpScale && shift == 0 && len(next.Inputs) == 1 && next.Inputs[0] == l.Name {
 				fused[l.Name] = true
 			}
 		}
@@ -120,7 +128,8 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 			switch {
 			case fused[l.Name]:
 				next := &a.Layers[i+1]
-				out, err = nodeSigmoidScale(next.Name, out, next.Factor)
+				f, _ := next.ScaleShift()
+				out, err = nodeSigmoidScale(next.Name, out, f)
 			case l.Act == model.ActELU:
 				out, err = nodeELU(l.Name, out)
 			case l.Act == model.ActSigmoid:
@@ -140,7 +149,21 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 		case model.OpConcat:
 			out, err = nodeConcat(l.Name, ins...)
 		case model.OpScale:
-			out, err = nodeScale(l.Name, ins[0], l.Factor)
+			if f, shift := l.ScaleShift(); shift == 0 {
+				out, err = nodeScale(l.Name, ins[0], f)
+			} else {
+				out, err = nodeScaleShift(l.Name, ins[0], f, shift)
+			}
+		case model.OpCorrelation:
+			out, err = nodeCorrelation(l.Name, ins[0], ins[1], l.Disps)
+		case model.OpWarp:
+			out, err = nodeWarpFeatures(l.Name, ins[0], ins[1], warp.RebuildLeft)
+		case model.OpAdd:
+			out, err = nodeAdd(l.Name, ins[0], ins[1])
+		case model.OpMatch:
+			out, err = net.matchNode(l)
+		case model.OpPairView:
+			out, err = nodePairView(l.Name, ins[0], l.View, ins[0] != net.Input)
 		default:
 			err = fmt.Errorf("train: network: layer %q has unknown operation %v", l.Name, l.Op)
 		}
@@ -161,6 +184,12 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 		if !ok {
 			return nil, fmt.Errorf("train: network: output %q is not computed", name)
 		}
+		if a.IsStereo() {
+			var err error
+			if n, err = nodePackPair(name+".pair", n, batch); err != nil {
+				return nil, err
+			}
+		}
 		net.Outputs[s] = n
 	}
 	return net, nil
@@ -174,6 +203,9 @@ func (net *network) Node(name string) *G.Node { return net.tensors[name] }
 // [0, 1], into the input node. It returns an error if img has the wrong
 // shape or holds NaN or Inf.
 func (net *network) SetInput(img *planar.Image) error {
+	if net.Arch.IsStereo() {
+		return fmt.Errorf("train: the network is a stereo network: give both views (SetPair)")
+	}
 	if err := img.Check("input image"); err != nil {
 		return fmt.Errorf("train: %w", err)
 	}
@@ -202,7 +234,7 @@ func (net *network) SetWeights(w *model.Weights) error {
 	if err != nil {
 		return fmt.Errorf("train: %w", err)
 	}
-	if len(a.Params) != len(net.Arch.Params) || a.Input != net.Arch.Input || a.Config.DMax != net.Arch.Config.DMax {
+	if a.Config.Arch != net.Arch.Config.Arch || len(a.Params) != len(net.Arch.Params) || a.Input != net.Arch.Input || a.Config.DMax != net.Arch.Config.DMax {
 		return fmt.Errorf("train: weights are for a different architecture (input %v, d_max %v; the network's %v, %v)",
 			a.Input, a.Config.DMax, net.Arch.Input, net.Arch.Config.DMax)
 	}

@@ -65,7 +65,11 @@ func NewSession(w *model.Weights, batch int, opts *loss.ObjectiveOptions, adam *
 // in the parameters, without a solver step. It returns the weighted terms
 // of the objective.
 func (s *Session) Forward(left, right *planar.Image) (loss.Terms, error) {
-	if err := s.net.SetInput(left); err != nil {
+	if s.net.Arch.IsStereo() {
+		if err := s.net.SetPair(left, right); err != nil {
+			return loss.Terms{}, err
+		}
+	} else if err := s.net.SetInput(left); err != nil {
 		return loss.Terms{}, err
 	}
 	if err := s.obj.SetImages(left, right); err != nil {

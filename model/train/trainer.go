@@ -182,7 +182,8 @@ const (
 
 // PrepareHeads readies freshly initialised weights (model.NewWeights) for
 // training from scratch: it multiplies the weights of the disparity heads
-// (the layers named headS) by 0.1 and sets their biases to −3, so that
+// (the layers named headS, and the stereo network's residual heads resS)
+// by 0.1 and sets the headS biases to −3, so that
 // every head starts near σ(−3)·d_max ≈ 0.047·d_max everywhere: small,
 // nearly uniform disparities whose sigmoid still passes gradients (σ′(−3)
 // ≈ 0.045). Our own choice, after a probe on 32 generated greenhouse
@@ -194,6 +195,14 @@ const (
 func PrepareHeads(w *model.Weights) int {
 	n := 0
 	for name, v := range w.Params {
+		if strings.HasPrefix(name, "res") && strings.HasSuffix(name, ".weight") {
+			// A stereo network's residual heads start near 0 (biases are 0).
+			for i := range v {
+				v[i] *= headWeightScale
+			}
+			n++
+			continue
+		}
 		if !strings.HasPrefix(name, "head") {
 			continue
 		}

@@ -1,0 +1,214 @@
+package model
+
+import (
+	"fmt"
+	"math"
+)
+
+// StereoArchName names the stereo architecture (both views in, see
+// buildStereo and the package documentation); it is stored with the weights
+// like ArchName.
+const StereoArchName = "parallax-stereo"
+
+// StereoArchVersion is the version of the stereo layer list.
+const StereoArchVersion = 1
+
+// StereoLevels is the number of resolutions of the stereo network: full,
+// ½, ¼ and ⅛. Its input sides must still be multiples of SizeStep (32).
+const StereoLevels = 4
+
+// StereoDisps is the number of shifts of the coarse matching cost, at ⅛
+// resolution: 8·StereoDisps = 192 pixels at the input's width. StereoRadius is the search radius of each refinement level, in
+// pixels of that level.
+const (
+	StereoDisps  = 24
+	StereoRadius = 2
+)
+
+// View selects the view of an OpPairView layer.
+type View int
+
+// The views of a stereo batch.
+const (
+	// ViewLeft is [left views; mirrored right views]: the left view of the
+	// N pairs, then of the N mirrored, swapped pairs.
+	ViewLeft View = iota
+	// ViewRight is [right views; mirrored left views].
+	ViewRight
+)
+
+var viewNames = map[View]string{ViewLeft: "left", ViewRight: "right"}
+
+// String returns the name of v.
+func (v View) String() string { return enumString(viewNames, v) }
+
+// Default widths of the stereo network. Encoder entry i belongs to
+// resolution 1/2^(i+1), decoder entry l to 1/2^l.
+var (
+	DefaultStereoEncoder = [StereoLevels - 1]int{16, 32, 64}
+	DefaultStereoDecoder = [StereoLevels]int{8, 16, 32, 64}
+)
+
+// stereoAggDilations are the dilations of the coarse aggregation
+// convolutions at ⅛ resolution: a receptive field of 33 coarse pixels that
+// carries matches into textureless areas.
+var stereoAggDilations = []int{1, 2, 4, 1}
+
+func (c Config) stereoDefaults() Config {
+	if c.Version == 0 {
+		c.Version = StereoArchVersion
+	}
+	if c.Width == 0 {
+		c.Width = DefaultWidth
+	}
+	if c.Height == 0 {
+		c.Height = DefaultHeight
+	}
+	if c.Encoder == nil {
+		c.Encoder = append([]int(nil), DefaultStereoEncoder[:]...)
+	} else {
+		c.Encoder = append([]int(nil), c.Encoder...)
+	}
+	if c.Decoder == nil {
+		c.Decoder = append([]int(nil), DefaultStereoDecoder[:]...)
+	} else {
+		c.Decoder = append([]int(nil), c.Decoder...)
+	}
+	if c.DMax == 0 {
+		c.DMax = DefaultDMax
+	}
+	return c
+}
+
+// validateStereo checks the fields of a stereo Config that Validate does
+// not check for both kinds.
+func (c Config) validateStereo() error {
+	for _, f := range []struct {
+		name string
+		v    []int
+		n    int
+	}{{"encoder", c.Encoder, StereoLevels - 1}, {"decoder", c.Decoder, StereoLevels}} {
+		if len(f.v) != f.n {
+			return fmt.Errorf("model: config: %s %s has %d widths, want %d", StereoArchName, f.name, len(f.v), f.n)
+		}
+		for i, v := range f.v {
+			if v < 1 || v > MaxChannels {
+				return fmt.Errorf("model: config: %s width %d at level %d is outside [1, %d]", f.name, v, i, MaxChannels)
+			}
+		}
+	}
+	if math.IsNaN(c.DMax) || c.DMax <= 0 || c.DMax > 1 {
+		return fmt.Errorf("model: config: d_max %v must be in (0, 1] (a fraction of the width)", c.DMax)
+	}
+	return nil
+}
+
+// IsStereo reports whether a is a stereo architecture: its input holds
+// both views and its outputs are one channel, walked on the pairs and their
+// mirror images (see the package documentation).
+func (a *Arch) IsStereo() bool { return a.Config.Arch == StereoArchName }
+
+// Kind returns "stereo" or "one-image", the kind of weights a names in
+// errors.
+func (a *Arch) Kind() string {
+	if a.IsStereo() {
+		return "stereo"
+	}
+	return "one-image"
+}
+
+// buildStereo lays out the stereo network for c (valid, defaults filled).
+//
+// The list is walked on a batch of 2N: InputName holds the N left images
+// then the N right images. One encoder computes the features of all 2N;
+// from then on the batch is the N pairs and the N mirrored, swapped pairs
+// (mirror(right), mirror(left)), whose left-view disparity is the mirror
+// image of the pair's d_R (OpPairView). Each output is one channel: the
+// first N images are d_L, the last N mirrored back are d_R (PackPair).
+func buildStereo(c Config) *Arch {
+	in := Shape{3, c.Height, c.Width}
+	a := &Arch{Config: c, Input: in, shapes: map[string]Shape{InputName: in}}
+	enc, dec := c.Encoder, c.Decoder
+
+	var left, right [StereoLevels]string
+	left[0] = a.pairView("view0.l", InputName, ViewLeft)
+	prev := InputName
+	for l := 1; l < StereoLevels; l++ {
+		prev = a.conv(fmt.Sprintf("f%da", l), prev, enc[l-1], 2, ActELU)
+		prev = a.conv(fmt.Sprintf("f%db", l), prev, enc[l-1], 1, ActELU)
+		left[l] = a.pairView(fmt.Sprintf("view%d.l", l), prev, ViewLeft)
+		right[l] = a.pairView(fmt.Sprintf("view%d.r", l), prev, ViewRight)
+	}
+
+	// Coarse cost at ⅛ and its aggregation with the matcher's estimate
+	// into a correction of that estimate, in pixels at ⅛: the network
+	// starts from the census-based semi-global match and learns where and
+	// how to change it.
+	top := StereoLevels - 1
+	corr := a.correlation("cost3", left[top], right[top], StereoDisps)
+	prev = a.concat("agg3.cat", []string{corr, left[top], a.match("match3", top, 2)})
+	for i, d := range stereoAggDilations {
+		prev = a.dilatedConv(fmt.Sprintf("agg3.%d", i), prev, dec[top], d, ActELU)
+	}
+	res := a.dilatedConv("res3", prev, 1, 1, ActNone)
+	resFrac := a.add(Layer{Name: "agg3.res", Op: OpScale, Inputs: []string{res}, Out: a.shapes[res], Factor: 1, PerWidth: true})
+	disp := a.add(Layer{Name: OutputName(top), Op: OpAdd, Inputs: []string{a.match("match3.d", top, 1), resFrac}, Out: a.shapes[res]})
+	a.Outputs[top] = disp
+
+	// Refinement: upsample the estimate, warp the right features by it
+	// (less StereoRadius pixels, so the local cost spans −R … R), match,
+	// and add a residual in pixels of the level. At full resolution the
+	// residual comes from the left image and the coarser features alone.
+	hidden := prev
+	for l := top - 1; l >= 0; l-- {
+		p := fmt.Sprintf("ref%d", l)
+		up := a.upsample(p+".up", disp, UpBilinear)
+		ctx := a.upsample(p+".ctx.up", a.conv(p+".ctx", hidden, dec[l], 1, ActELU), UpNearest)
+		parts := []string{left[l], ctx}
+		if l > 0 {
+			shifted := a.add(Layer{Name: p + ".shift", Op: OpScale, Inputs: []string{up}, Out: a.shapes[up],
+				Factor: 1, Shift: -StereoRadius})
+			warped := a.add(Layer{Name: p + ".warp", Op: OpWarp, Inputs: []string{right[l], shifted}, Out: a.shapes[right[l]]})
+			parts = append([]string{a.correlation(fmt.Sprintf("cost%d", l), left[l], warped, 2*StereoRadius+1)}, parts...)
+			// The matcher's estimate beside the current one, both in
+			// pixels of the level: their difference is the correction
+			// wherever the matcher is right.
+			px := a.add(Layer{Name: p + ".px", Op: OpScale, Inputs: []string{up}, Out: a.shapes[up], Factor: 1, TimesWidth: true})
+			parts = append(parts, a.match(fmt.Sprintf("match%d", l), l, 2), px)
+		}
+		prev = a.conv(p+".a", a.concat(p+".cat", parts), dec[l], 1, ActELU)
+		if l > 0 {
+			prev = a.dilatedConv(p+".b", prev, dec[l], 1, ActELU)
+		}
+		hidden = prev
+		res := a.dilatedConv(fmt.Sprintf("res%d", l), prev, 1, 1, ActNone)
+		resFrac := a.add(Layer{Name: p + ".res", Op: OpScale, Inputs: []string{res}, Out: a.shapes[res], Factor: 1, PerWidth: true})
+		disp = a.add(Layer{Name: OutputName(l), Op: OpAdd, Inputs: []string{up, resFrac}, Out: a.shapes[up]})
+		a.Outputs[l] = disp
+	}
+	return a
+}
+
+func (a *Arch) match(name string, level, c int) string {
+	in := a.Input
+	return a.add(Layer{Name: name, Op: OpMatch, Inputs: []string{InputName}, Out: Shape{c, in.H >> level, in.W >> level}})
+}
+
+func (a *Arch) pairView(name, in string, v View) string {
+	return a.add(Layer{Name: name, Op: OpPairView, Inputs: []string{in}, Out: a.shapes[in], View: v})
+}
+
+// dilatedConv adds a stride-1 3×3 convolution with its own parameters.
+func (a *Arch) dilatedConv(name, in string, out, dilation int, act Activation) string {
+	s := a.shapes[in]
+	a.Params = append(a.Params,
+		Param{Name: name + ".weight", Shape: []int{out, s.C, 3, 3}},
+		Param{Name: name + ".bias", Shape: []int{out}})
+	return a.add(Layer{Name: name, Op: OpConv, Inputs: []string{in}, Out: Shape{out, s.H, s.W},
+		Kernel: 3, Stride: 1, Pad: dilation, Dilation: dilation, Padding: PadReflect, Act: act})
+}
+
+func (a *Arch) correlation(name, left, right string, disps int) string {
+	s := a.shapes[left]
+	return a.add(Layer{Name: name, Op: OpCorrelation, Inputs: []string{left, right}, Out: Shape{disps, s.H, s.W}, Disps: disps})
+}

@@ -1,0 +1,169 @@
+package model
+
+import (
+	"context"
+	"fmt"
+	"image"
+	"math"
+
+	"github.com/parallaxdepth/parallax/sgm"
+)
+
+// MatchLevel is the resolution 1/2^MatchLevel at which an OpMatch layer
+// runs the semi-global matcher: half resolution, a quarter of the pixels
+// and half the disparities of the input, so about an eighth of the work.
+const MatchLevel = 1
+
+// Matching is the classical estimate of a stereo batch that OpMatch layers
+// read: package sgm's semi-global matcher (default options, holes filled
+// along the rows) on the pairs and on the mirrored, swapped pairs at
+// 1/2^MatchLevel resolution. It depends on the images alone, so training
+// passes no gradient through it. A Matching is not safe for concurrent use.
+type Matching struct {
+	n, h, w  int // pairs; size at the match level
+	maxDisp  int
+	matcher  *sgm.Matcher
+	gl, gr   *image.Gray
+	res      sgm.Result
+	disp     []float32 // 2n × h × w, pixels at the match level, pair-view layout
+	valid    []float32 // 1 where the matcher's own check passed, 0 where filled
+	computed bool
+}
+
+// NewMatching prepares the matching of n pairs of full-resolution size
+// width × height (multiples of 2^MatchLevel) whose disparities reach dMax of
+// the width. It returns an error if the sizes or dMax are out of range.
+func NewMatching(n, width, height int, dMax float64) (*Matching, error) {
+	s := 1 << MatchLevel
+	if n < 1 || width < 2*s || height < 2*s || width%s != 0 || height%s != 0 {
+		return nil, fmt.Errorf("model: matching: %d pairs of %dx%d (sides multiples of %d, at least %d)", n, width, height, s, 2*s)
+	}
+	h, w := height/s, width/s
+	if !(dMax > 0 && dMax <= 1) {
+		return nil, fmt.Errorf("model: matching: d_max %v must be in (0, 1]", dMax)
+	}
+	maxDisp := min(int(math.Ceil(dMax*float64(w))), w-1)
+	if maxDisp < 1 {
+		maxDisp = 1
+	}
+	m, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: maxDisp, MaxWorkers: 1})
+	if err != nil {
+		return nil, fmt.Errorf("model: matching: %w", err)
+	}
+	r := image.Rect(0, 0, w, h)
+	return &Matching{n: n, h: h, w: w, maxDisp: maxDisp, matcher: m,
+		gl: image.NewGray(r), gr: image.NewGray(r),
+		disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
+}
+
+// Invalidate marks the matching stale: the next Compute runs the matcher.
+func (m *Matching) Invalidate() { m.computed = false }
+
+// Compute runs the matcher on pairs, 2n full-resolution RGB images (the n
+// left views then the n right views, as a stereo network's input), unless it
+// has run since the last Invalidate.
+func (m *Matching) Compute(pairs []float32) error {
+	if m.computed {
+		return nil
+	}
+	s := 1 << MatchLevel
+	H, W := m.h*s, m.w*s
+	img := 3 * H * W
+	if len(pairs) != 2*m.n*img {
+		return fmt.Errorf("model: matching: %d input values, want %d", len(pairs), 2*m.n*img)
+	}
+	plane := m.h * m.w
+	for i := range m.n {
+		left, right := pairs[i*img:(i+1)*img], pairs[(m.n+i)*img:(m.n+i+1)*img]
+		for k, mirror := range []bool{false, true} {
+			// The mirrored, swapped pair: mirror(right) is its left view.
+			a, b := left, right
+			if mirror {
+				a, b = right, left
+			}
+			greyHalf(m.gl, a, H, W, mirror)
+			greyHalf(m.gr, b, H, W, mirror)
+			if err := m.matcher.MatchInto(context.Background(), &m.res, m.gl, m.gr); err != nil {
+				return fmt.Errorf("model: matching: %w", err)
+			}
+			o := (k*m.n + i) * plane
+			d := m.res.Disparity
+			for y := range m.h {
+				for x := range m.w {
+					m.valid[o+y*m.w+x] = float32(d.Mask[y*d.Stride+x])
+				}
+			}
+			if _, err := sgm.FillHoles(d); err != nil {
+				return fmt.Errorf("model: matching: %w", err)
+			}
+			for y := range m.h {
+				for x := range m.w {
+					v := d.Pix[y*d.Stride+x]
+					if d.Mask[y*d.Stride+x] == 0 {
+						v = 0
+					}
+					m.disp[o+y*m.w+x] = v
+				}
+			}
+		}
+	}
+	m.computed = true
+	return nil
+}
+
+// greyHalf writes the 8-bit grey image (luma weights 0.299, 0.587, 0.114,
+// ITU-R BT.601, as color.GrayModel) of the 2×2 means of rgb (3 × H × W in
+// [0, 1]), mirrored if asked.
+func greyHalf(dst *image.Gray, rgb []float32, H, W int, mirror bool) {
+	h, w := H/2, W/2
+	p := H * W
+	for y := range h {
+		for x := range w {
+			var v float32
+			for c, k := range [3]float32{0.299, 0.587, 0.114} {
+				o := c*p + 2*y*W + 2*x
+				v += k * (rgb[o] + rgb[o+1] + rgb[o+W] + rgb[o+W+1])
+			}
+			g := math.Round(float64(v) / 4 * 255)
+			xo := x
+			if mirror {
+				xo = w - 1 - x
+			}
+			dst.Pix[y*dst.Stride+xo] = uint8(min(max(g, 0), 255))
+		}
+	}
+}
+
+// Pool writes the matching at resolution 1/2^level (level ≥ MatchLevel) into
+// dst, 2n × c × H/2^level × W/2^level, as means over each block. With c = 2,
+// channel 0 is the disparity in pixels at that resolution and channel 1 the
+// fraction of the block the matcher found without filling; with c = 1, the
+// disparity as a fraction of the width.
+func (m *Matching) Pool(dst []float32, level, c int) {
+	f := 1 << (level - MatchLevel)
+	h, w := m.h/f, m.w/f
+	inv := 1 / float32(f*f)
+	unit := 1 / float32(f) // pixels at the match level → at this level
+	if c == 1 {
+		unit = 1 / float32(m.w)
+	}
+	for b := range 2 * m.n {
+		src, val := m.disp[b*m.h*m.w:(b+1)*m.h*m.w], m.valid[b*m.h*m.w:(b+1)*m.h*m.w]
+		od := dst[(c*b)*h*w : (c*b+1)*h*w]
+		for y := range h {
+			for x := range w {
+				var sd, sv float32
+				for yy := y * f; yy < (y+1)*f; yy++ {
+					for xx := x * f; xx < (x+1)*f; xx++ {
+						sd += src[yy*m.w+xx]
+						sv += val[yy*m.w+xx]
+					}
+				}
+				od[y*w+x] = sd * inv * unit
+				if c == 2 {
+					dst[(2*b+1)*h*w+y*w+x] = sv * inv
+				}
+			}
+		}
+	}
+}

@@ -1,0 +1,250 @@
+package model
+
+import (
+	"bytes"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/planar"
+	"github.com/parallaxdepth/parallax/safetensors"
+)
+
+var tinyStereoConfig = Config{Arch: StereoArchName, Width: 64, Height: 64, Encoder: []int{4, 6, 8}, Decoder: []int{3, 4, 6, 8}}
+
+func randomPlanar(rng *rand.Rand, n, c, h, w int) *planar.Image {
+	im := planar.New(n, c, h, w)
+	for i := range im.Pix {
+		im.Pix[i] = rng.Float32()
+	}
+	return im
+}
+
+// shiftedPair returns a random left view and a right view that is the left
+// one shifted by d pixels (right(x) = left(x + d)), edges repeated, so that
+// the true left disparity is d everywhere but the right border.
+func shiftedPair(rng *rand.Rand, h, w, d int) (left, right *planar.Image) {
+	left = planar.New(1, 3, h, w)
+	// Smooth-ish texture: random values blurred along the row, so the
+	// matcher's census has something to work with.
+	for c := range 3 {
+		for y := range h {
+			var acc float32
+			for x := range w {
+				acc = 0.6*acc + 0.4*rng.Float32()
+				left.Pix[(c*h+y)*w+x] = acc
+			}
+		}
+	}
+	right = planar.New(1, 3, h, w)
+	for c := range 3 {
+		for y := range h {
+			for x := range w {
+				right.Pix[(c*h+y)*w+x] = left.Pix[(c*h+y)*w+min(x+d, w-1)]
+			}
+		}
+	}
+	return left, right
+}
+
+// The default stereo network fits the issue's budget of 2 M parameters, and
+// its weights file names the architecture.
+func TestStereoDefaultConfig(t *testing.T) {
+	a, err := Build(Config{Arch: StereoArchName})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := a.NumParams(); n > 2_000_000 || n < 1000 {
+		t.Errorf("default stereo network has %d parameters, want at most 2,000,000", n)
+	}
+	if !a.IsStereo() || a.Kind() != "stereo" {
+		t.Errorf("IsStereo %v, Kind %q", a.IsStereo(), a.Kind())
+	}
+	w, err := NewWeights(tinyStereoConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := w.Encode(&buf, safetensors.F16); err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Contains(buf.Bytes(), []byte(`"arch":"`+StereoArchName+`"`)) {
+		t.Error("weights file does not name the stereo architecture in its metadata")
+	}
+	back, err := Decode(buf.Bytes())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if back.Config.Arch != StereoArchName {
+		t.Errorf("decoded arch %q", back.Config.Arch)
+	}
+}
+
+// The stereo network is fully convolutional: the same weights run at any
+// size that is a multiple of 32 (the weights' parameter shapes do not depend
+// on the size).
+func TestStereoAnySize(t *testing.T) {
+	w, err := NewWeights(tinyStereoConfig, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(1, 1))
+	for _, sz := range [][2]int{{64, 64}, {96, 64}, {160, 96}, {64, 128}} {
+		c := w.Config
+		c.Width, c.Height = sz[0], sz[1]
+		ws := &Weights{Config: c, Params: w.Params}
+		net, err := NewNet(ws, 1)
+		if err != nil {
+			t.Fatalf("%dx%d: %v", sz[0], sz[1], err)
+		}
+		l, r := shiftedPair(rng, sz[1], sz[0], 3)
+		out, err := net.ForwardPair(l, r)
+		if err != nil {
+			t.Fatalf("%dx%d: %v", sz[0], sz[1], err)
+		}
+		for s, o := range out {
+			if o.N != 1 || o.C != 2 || o.H != sz[1]>>s || o.W != sz[0]>>s {
+				t.Errorf("%dx%d scale %d: output %s", sz[0], sz[1], s, o.Shape())
+			}
+			if err := o.CheckFinite("output"); err != nil {
+				t.Errorf("%dx%d scale %d: %v", sz[0], sz[1], s, err)
+			}
+		}
+	}
+}
+
+// Fresh stereo weights (residual heads near zero, as train.PrepareHeads
+// leaves them; here scaled by hand) already output about the matcher's
+// estimate: on a pair shifted by 4 pixels, d_L·W is near 4 and d_R·W too.
+func TestStereoStartsFromTheMatcher(t *testing.T) {
+	w, err := NewWeights(tinyStereoConfig, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, v := range w.Params {
+		if strings.HasPrefix(name, "res") {
+			clear(v)
+		}
+	}
+	net, err := NewNet(w, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(4, 4))
+	l, r := shiftedPair(rng, 64, 64, 4)
+	out, err := net.ForwardPair(l, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := out[0]
+	p := d.H * d.W
+	for ch, name := range []string{"d_L", "d_R"} {
+		var sum float64
+		var n int
+		for y := 8; y < 56; y++ {
+			for x := 12; x < 52; x++ {
+				sum += math.Abs(float64(d.Pix[ch*p+y*d.W+x])*64 - 4)
+				n++
+			}
+		}
+		if mean := sum / float64(n); mean > 0.75 {
+			t.Errorf("%s: mean |d·W − 4| = %.3f px in the interior, want ≤ 0.75", name, mean)
+		} else {
+			t.Logf("%s: mean |d·W − 4| = %.3f px", name, mean)
+		}
+	}
+}
+
+// A one-image call on stereo weights and the reverse are errors naming the
+// kind.
+func TestStereoKindErrors(t *testing.T) {
+	ws, err := NewWeights(tinyStereoConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	stereo, err := NewNet(ws, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	img := planar.New(1, 3, 64, 64)
+	if _, err := stereo.Forward(img); err == nil || !strings.Contains(err.Error(), "stereo") {
+		t.Errorf("Forward on stereo weights: %v", err)
+	}
+	if _, err := stereo.ForwardPair(img, planar.New(1, 3, 64, 32)); err == nil || !strings.Contains(err.Error(), "right image") {
+		t.Errorf("ForwardPair with a right view of another size: %v", err)
+	}
+	w1, err := NewWeights(Config{Width: 64, Height: 64}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mono, err := NewNet(w1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := mono.ForwardPair(img, img); err == nil || !strings.Contains(err.Error(), "one-image") {
+		t.Errorf("ForwardPair on one-image weights: %v", err)
+	}
+}
+
+// PairView and PairViewBackward, PackPair and UnpackPair are each other's
+// transposes: <A x, y> = <x, Aᵀ y> on random vectors.
+func TestPairAdjoints(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	const n, c, h, w = 2, 3, 4, 5
+	dot := func(a, b []float32) float64 {
+		var s float64
+		for i := range a {
+			s += float64(a[i]) * float64(b[i])
+		}
+		return s
+	}
+	rnd := func(k int) []float32 {
+		v := make([]float32, k)
+		for i := range v {
+			v[i] = rng.Float32() - 0.5
+		}
+		return v
+	}
+	k := 2 * n * c * h * w
+	for _, v := range []View{ViewLeft, ViewRight} {
+		x, y := rnd(k), rnd(k)
+		ax, aty := make([]float32, k), make([]float32, k)
+		PairView(ax, x, v, n, c, h, w)
+		PairViewBackward(aty, y, v, n, c, h, w)
+		if a, b := dot(ax, y), dot(x, aty); math.Abs(a-b) > 1e-4 {
+			t.Errorf("PairView %v: <Ax,y> = %g, <x,Aᵀy> = %g", v, a, b)
+		}
+	}
+	kp := 2 * n * h * w
+	x, y := rnd(kp), rnd(kp)
+	px, uy := make([]float32, kp), make([]float32, kp)
+	PackPair(px, x, n, h, w)
+	UnpackPair(uy, y, n, h, w)
+	if a, b := dot(px, y), dot(x, uy); math.Abs(a-b) > 1e-4 {
+		t.Errorf("PackPair: <Ax,y> = %g, <x,Aᵀy> = %g", a, b)
+	}
+	// PairView of [a; b] with ViewLeft is [a; mirror(b)]: one hand case.
+	src := []float32{1, 2, 3, 4} // n = 1, c = 1, h = 1, w = 2: a = (1 2), b = (3 4)
+	dst := make([]float32, 4)
+	PairView(dst, src, ViewLeft, 1, 1, 1, 2)
+	if want := []float32{1, 2, 4, 3}; !equalF32(dst, want) {
+		t.Errorf("PairView left = %v, want %v", dst, want)
+	}
+	PairView(dst, src, ViewRight, 1, 1, 1, 2)
+	if want := []float32{3, 4, 2, 1}; !equalF32(dst, want) {
+		t.Errorf("PairView right = %v, want %v", dst, want)
+	}
+}
+
+func equalF32(a, b []float32) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
