@@ -55,3 +55,22 @@ func BenchmarkWriteDataset(b *testing.B) {
 		b.ReportMetric(float64(cpu1-cpu0)/float64(n*pairs), "cpu-ns/pair")
 	}
 }
+
+// BenchmarkGenerateFrame renders frames of a two-leg drive at 256×128, one
+// frame per iteration, on one goroutine (leg planning included).
+func BenchmarkGenerateFrame(b *testing.B) {
+	b.ReportAllocs()
+	d := &Drive{Seed: 1, Legs: []Leg{{Greenhouse, 8}, {Storage, 8}}}
+	opt := &Options{Width: 256, Height: 128}
+	cpu0, ok := processCPU()
+	n := 0
+	for b.Loop() {
+		if _, err := GenerateFrame(d, n%16, opt); err != nil {
+			b.Fatal(err)
+		}
+		n++
+	}
+	if cpu1, ok1 := processCPU(); ok && ok1 && n > 0 {
+		b.ReportMetric(float64(cpu1-cpu0)/float64(n), "cpu-ns/op")
+	}
+}

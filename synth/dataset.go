@@ -6,7 +6,6 @@ import (
 	"image"
 	"os"
 	"path/filepath"
-	"sync"
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
@@ -142,49 +141,11 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	} else if _, err := os.Stat(filepath.Join(dir, dataset.RigFile)); err == nil {
 		return fmt.Errorf("synth: %s already holds a data set of one rig (%s); write varied pairs, which have a rig each, into an empty folder", dir, dataset.RigFile)
 	}
-	jobs := make(chan int)
-	errs := make(chan error)
-	var wg sync.WaitGroup
-	stop := make(chan struct{})
-	for k := 0; k < min(o.Workers, max(n, 1)); k++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range jobs {
-				p, err := Generate(style, seed, i, &o)
-				if err == nil {
-					err = p.Save(dir, PairName(i))
-				}
-				select {
-				case errs <- err:
-				case <-stop:
-					return
-				}
-			}
-		}()
-	}
-	go func() {
-		defer close(jobs)
-		for i := 0; i < n; i++ {
-			select {
-			case jobs <- i:
-			case <-stop:
-				return
-			}
-		}
-	}()
-	var first error
-	for done := 0; done < n; done++ {
-		err := <-errs
+	return forEachPair(n, o, func(i int) error {
+		p, err := Generate(style, seed, i, &o)
 		if err != nil {
-			first = err
-			break
+			return err
 		}
-		if o.Progress != nil {
-			o.Progress(done+1, n)
-		}
-	}
-	close(stop)
-	wg.Wait()
-	return first
+		return p.Save(dir, PairName(i))
+	})
 }

@@ -22,6 +22,16 @@
 // of up to ±½ pixel of the right camera. The scene geometry is the
 // unvaried pair's. None of this changes the ground truth.
 //
+// Drives (Drive, GenerateFrame, WriteDrive) are sequences: one rig moves
+// along a continuous path through the scene of each leg in turn (for
+// example a greenhouse leg, then a storage leg), a frame at a time, with
+// the same exact truth per frame; the scene changes between the last frame
+// of one leg and the first of the next. A frame depends only on (drive,
+// frame, size, samples, variation). A varied drive keeps one capture (rig,
+// exposure, blur, misalignment) for all its frames and draws the noise per
+// frame. WriteDrive writes the frames in the data-set layout with one
+// rig.json, NAME = PairName(frame).
+//
 // Conventions:
 //
 //   - Rig. Pinhole and rectified: the right camera sits Rig.Baseline metres
