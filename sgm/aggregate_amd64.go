@@ -32,3 +32,40 @@ func darker(acc, n, c []uint8) {
 	}
 	darkerGeneric(acc[m:], n[m:], c[m:])
 }
+
+//go:noescape
+func winnersAVX2(sum *uint16, np, n, w int, best *int32, bestV, second *uint16)
+
+//go:noescape
+func rightWinnersAVX2(sum *uint16, np, n, w, lo int, rarg *int32, t, a *uint16)
+
+// winners is winnersGeneric with the fastest kernel.
+func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {
+	if !useAVX2 || np%16 != 0 || n < 1 || n > np {
+		winnersGeneric(sum, np, n, w, best, bestV, second)
+		return
+	}
+	_, _, _, _ = sum[w*np-1], best[w-1], bestV[w-1], second[w-1]
+	winnersAVX2(&sum[0], np, n, w, &best[0], &bestV[0], &second[0])
+}
+
+// rightWinners is rightWinnersGeneric with the fastest kernel; t and a
+// are scratch of np+vecPad values.
+func rightWinners(sum []uint16, np, n, w, lo int, rarg []int32, t, a []uint16) {
+	if !useAVX2 || np%16 != 0 || n < 1 || n > np {
+		rightWinnersGeneric(sum, np, n, w, lo, rarg)
+		return
+	}
+	_, _, _, _ = sum[w*np-1], rarg[w-1], t[np-1], a[np-1]
+	for i := range rarg[:w] {
+		rarg[i] = -1
+	}
+	rightWinnersAVX2(&sum[0], np, n, w, lo, &rarg[0], &t[0], &a[0])
+	// Lanes d < n−1 after the last pixel belong to right pixels no later
+	// left pixel sees.
+	for d := range n - 1 {
+		if xr := w - 1 - lo - d; xr >= 0 {
+			rarg[xr] = int32(a[d])
+		}
+	}
+}

@@ -115,3 +115,191 @@ loop:
 
 	VZEROUPPER
 	RET
+
+DATA lanes<>+0(SB)/8, $0x0003000200010000
+DATA lanes<>+8(SB)/8, $0x0007000600050004
+DATA lanes<>+16(SB)/8, $0x000b000a00090008
+DATA lanes<>+24(SB)/8, $0x000f000e000d000c
+GLOBL lanes<>(SB), RODATA|NOPTR, $32
+
+// func winnersAVX2(sum *uint16, np, n, w int, best *int32, bestV, second *uint16)
+//
+// winnersGeneric (select.go); np a multiple of 16, 1 ≤ n ≤ np.
+TEXT ·winnersAVX2(SB), NOSPLIT, $0-56
+	MOVQ sum+0(FP), SI
+	MOVQ np+8(FP), BX
+	MOVQ n+16(FP), AX
+	DECQ AX
+	MOVQ AX, X9
+	VPBROADCASTW X9, Y9            // n−1: lanes above it are unused
+	MOVQ w+24(FP), CX
+	MOVQ best+32(FP), R8
+	MOVQ bestV+40(FP), R9
+	MOVQ second+48(FP), R10
+	VMOVDQU lanes<>(SB), Y8        // 0 … 15
+	MOVQ $16, AX
+	MOVQ AX, X7
+	VPBROADCASTW X7, Y7            // 16
+	VPCMPEQW Y6, Y6, Y6            // noPath
+
+pixel:
+	// Pass 1: the smallest sum.
+	VMOVDQU Y6, Y12
+	VMOVDQU Y8, Y10                // lane levels
+	XORQ AX, AX
+min1:
+	VMOVDQU (SI)(AX*2), Y0
+	VPCMPGTW Y9, Y10, Y1
+	VPOR Y1, Y0, Y0
+	VPMINUW Y0, Y12, Y12
+	VPADDW Y7, Y10, Y10
+	ADDQ $16, AX
+	CMPQ AX, BX
+	JLT min1
+	VEXTRACTI128 $1, Y12, X0
+	VPMINUW X0, X12, X0
+	VPHMINPOSUW X0, X0
+	MOVQ X0, DX
+	MOVWLZX DX, DX                 // the smallest sum
+	MOVW DX, (R9)
+	MOVQ DX, X11
+	VPBROADCASTW X11, Y11
+
+	// Pass 2: its first level.
+	VMOVDQU Y8, Y10
+	XORQ AX, AX
+find:
+	VMOVDQU (SI)(AX*2), Y0
+	VPCMPEQW Y11, Y0, Y0
+	VPCMPGTW Y9, Y10, Y1
+	VPANDN Y0, Y1, Y0
+	VPMOVMSKB Y0, DX
+	TESTL DX, DX
+	JNZ found
+	VPADDW Y7, Y10, Y10
+	ADDQ $16, AX
+	CMPQ AX, BX
+	JLT find
+found:
+	BSFL DX, DX
+	SHRL $1, DX
+	ADDQ AX, DX                    // level of the smallest sum
+	MOVL DX, (R8)
+
+	// Pass 3: the smallest sum more than one level away.
+	LEAQ -2(DX), AX
+	MOVQ AX, X13
+	VPBROADCASTW X13, Y13          // best − 2
+	LEAQ 2(DX), AX
+	MOVQ AX, X14
+	VPBROADCASTW X14, Y14          // best + 2
+	VMOVDQU Y6, Y12
+	VMOVDQU Y8, Y10
+	XORQ AX, AX
+min2:
+	VMOVDQU (SI)(AX*2), Y0
+	VPCMPGTW Y9, Y10, Y1           // unused lane
+	VPCMPGTW Y13, Y10, Y2          // level > best − 2
+	VPCMPGTW Y10, Y14, Y3          // level < best + 2
+	VPAND Y3, Y2, Y2
+	VPOR Y2, Y1, Y1
+	VPOR Y1, Y0, Y0
+	VPMINUW Y0, Y12, Y12
+	VPADDW Y7, Y10, Y10
+	ADDQ $16, AX
+	CMPQ AX, BX
+	JLT min2
+	VEXTRACTI128 $1, Y12, X0
+	VPMINUW X0, X12, X0
+	VPHMINPOSUW X0, X0
+	MOVQ X0, DX
+	MOVW DX, (R10)
+
+	LEAQ (SI)(BX*2), SI
+	ADDQ $4, R8
+	ADDQ $2, R9
+	ADDQ $2, R10
+	DECQ CX
+	JNZ pixel
+
+	VZEROUPPER
+	RET
+
+// func rightWinnersAVX2(sum *uint16, np, n, w, lo int, rarg *int32, t, a *uint16)
+//
+// rightWinnersGeneric (select.go) by a sliding vector: after left pixel x,
+// lane d of t holds the best sum so far of right pixel x−lo−d over levels
+// ≤ d and lane d of a its level; lane n−1 is then final. Before each pixel
+// both shift up one lane. The caller sets rarg to −1 and writes the lanes
+// still open after the last pixel. np a multiple of 16, 1 ≤ n ≤ np.
+TEXT ·rightWinnersAVX2(SB), NOSPLIT, $0-64
+	MOVQ sum+0(FP), SI
+	MOVQ np+8(FP), BX
+	MOVQ n+16(FP), R11
+	MOVQ w+24(FP), CX
+	MOVQ lo+32(FP), R12
+	LEAQ -1(R12)(R11*1), R12       // lo + n − 1: right pixel of lane n−1 is x − R12
+	MOVQ rarg+40(FP), R8
+	MOVQ t+48(FP), DI
+	MOVQ a+56(FP), R9
+	VMOVDQU lanes<>(SB), Y8
+	MOVQ $16, AX
+	MOVQ AX, X7
+	VPBROADCASTW X7, Y7
+	VPCMPEQW Y6, Y6, Y6
+	VPXOR Y5, Y5, Y5
+	XORQ AX, AX
+clear:
+	VMOVDQU Y6, (DI)(AX*2)
+	VMOVDQU Y5, (R9)(AX*2)
+	ADDQ $16, AX
+	CMPQ AX, BX
+	JLT clear
+
+	XORQ R13, R13                  // x
+pixel:
+	// Vectors from the top down, so that each shift reads the vector below
+	// before it changes.
+	MOVQ BX, AX
+	SUBQ $16, AX                   // first lane of the top vector
+	MOVQ AX, DX
+	MOVQ DX, X10
+	VPBROADCASTW X10, Y10
+	VPADDW Y8, Y10, Y10            // its lane levels
+vector:
+	VMOVDQU (DI)(AX*2), Y0         // t lanes
+	VMOVDQU (R9)(AX*2), Y1         // a lanes
+	VMOVDQU Y6, Y2
+	VMOVDQU Y5, Y3
+	TESTQ AX, AX
+	JZ bottom
+	VMOVDQU -32(DI)(AX*2), Y2
+	VMOVDQU -32(R9)(AX*2), Y3
+bottom:
+	VPERM2I128 $0x21, Y0, Y2, Y2
+	VPALIGNR $14, Y2, Y0, Y2       // t shifted up one lane
+	VPERM2I128 $0x21, Y1, Y3, Y3
+	VPALIGNR $14, Y3, Y1, Y3       // a shifted up one lane
+	VMOVDQU (SI)(AX*2), Y4         // this pixel's sums
+	VPMINUW Y4, Y2, Y0
+	VPCMPEQW Y2, Y0, Y1            // no better: keep the older (smaller) level
+	VPBLENDVB Y1, Y3, Y10, Y1
+	VMOVDQU Y0, (DI)(AX*2)
+	VMOVDQU Y1, (R9)(AX*2)
+	VPSUBW Y7, Y10, Y10
+	SUBQ $16, AX
+	JGE vector
+
+	MOVQ R13, DX
+	SUBQ R12, DX                   // right pixel of lane n−1
+	JL next
+	MOVWLZX -2(R9)(R11*2), AX
+	MOVL AX, (R8)(DX*4)
+next:
+	LEAQ (SI)(BX*2), SI
+	INCQ R13
+	CMPQ R13, CX
+	JLT pixel
+
+	VZEROUPPER
+	RET

@@ -10,3 +10,11 @@ const hasAVX2 = false
 func (r *pathRun) runAVX2() { r.runGeneric() }
 
 func darker(acc, n, c []uint8) { darkerGeneric(acc, n, c) }
+
+func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {
+	winnersGeneric(sum, np, n, w, best, bestV, second)
+}
+
+func rightWinners(sum []uint16, np, n, w, lo int, rarg []int32, t, a []uint16) {
+	rightWinnersGeneric(sum, np, n, w, lo, rarg)
+}

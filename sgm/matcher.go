@@ -211,7 +211,8 @@ type worker struct {
 	rowVec    []uint16 // per row range: w path vectors
 	rowMin    []uint16 // per row range: w minima
 	rowP2     []uint16 // per row range: 2×w penalties
-	rowInt    []int32  // per row range: 3×w
+	rowInt    []int32  // per row range: 2×w
+	slide     []uint16 // per row range: 2 vectors for the right view's winners
 	lineVec   []uint16 // 2 (alternating rows) × lines path vectors
 	lineMin   []uint16 // 2 × lines minima
 	lineP2    []uint16 // per line: the penalty of its current step
@@ -269,7 +270,8 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	initSentinels(wk.rowVec, wk.np)
 	wk.rowMin = grow(wk.rowMin, ranges*w)
 	wk.rowP2 = grow(wk.rowP2, ranges*2*w)
-	wk.rowInt = grow(wk.rowInt, ranges*3*w)
+	wk.rowInt = grow(wk.rowInt, ranges*2*w)
+	wk.slide = grow(wk.slide, ranges*2*vs)
 	wk.censusAcc = grow(wk.censusAcc, (2*h+wk.rowGrain-1)/wk.rowGrain*8*w)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
@@ -523,30 +525,18 @@ const (
 func (wk *worker) selectRange(lo, hi int) {
 	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
 	o := wk.opt
-	scratch := wk.rowInt[(lo/wk.rowGrain)*3*w : (lo/wk.rowGrain+1)*3*w]
-	best, rmin, rarg := scratch[:w], scratch[w:2*w], scratch[2*w:]
+	ri := lo / wk.rowGrain
+	scratch := wk.rowInt[ri*2*w : (ri+1)*2*w]
+	best, rarg := scratch[:w], scratch[w:]
+	vals := wk.rowP2[ri*2*w : (ri+1)*2*w] // the penalties' scratch, free in this phase
+	bestV, second := vals[:w], vals[w:]
+	vs := np + vecPad
+	slide := wk.slide[ri*2*vs : (ri+1)*2*vs]
 	for y := lo; y < hi; y++ {
 		sum := wk.sum[y*w*np : (y+1)*w*np]
-		for i := range rmin {
-			rmin[i], rarg[i] = math.MaxInt32, -1
-		}
-		for x := range w {
-			v := sum[x*np : x*np+n]
-			bd, bv := 0, v[0]
-			for d, s := range v {
-				if s < bv {
-					bd, bv = d, s
-				}
-			}
-			best[x] = int32(bd)
-			// The right view's pixel x−dlo−d sees this cost at disparity
-			// dlo+d.
-			for d := 0; d < n && x-dlo-d >= 0; d++ {
-				xr := x - dlo - d
-				if int32(v[d]) < rmin[xr] {
-					rmin[xr], rarg[xr] = int32(v[d]), int32(d)
-				}
-			}
+		winners(sum, np, n, w, best, bestV, second)
+		if o.LRTolerance != Off {
+			rightWinners(sum, np, n, w, dlo, rarg, slide[:vs], slide[vs:])
 		}
 		disp := wk.disp[y*w : (y+1)*w]
 		valid := wk.valid[y*w : (y+1)*w]
@@ -561,20 +551,13 @@ func (wk *worker) selectRange(lo, hi int) {
 			if o.MinTexture > 0 && wk.texture(x, y) < o.MinTexture {
 				continue
 			}
-			v := sum[x*np : x*np+n]
-			bv := uint32(v[bd])
-			second := uint32(math.MaxUint32)
-			for d, s := range v {
-				if (d < bd-1 || d > bd+1) && uint32(s) < second {
-					second = uint32(s)
-				}
-			}
-			if second == math.MaxUint32 {
+			bv, sec := uint32(bestV[x]), uint32(second[x])
+			if sec == noPath {
 				conf[x] = 1
-			} else if second > 0 {
-				conf[x] = float32(second-bv) / float32(second)
+			} else if sec > 0 {
+				conf[x] = float32(sec-bv) / float32(sec)
 			}
-			if o.Uniqueness != Off && second != math.MaxUint32 && float64(second)*100 <= float64(bv)*(100+o.Uniqueness) {
+			if o.Uniqueness != Off && sec != noPath && float64(sec)*100 <= float64(bv)*(100+o.Uniqueness) {
 				continue
 			}
 			if o.LRTolerance != Off {
@@ -584,6 +567,7 @@ func (wk *worker) selectRange(lo, hi int) {
 			}
 			f := float32(dlo + bd)
 			if bd > 0 && bd < n-1 {
+				v := sum[x*np : x*np+n]
 				a, c := float32(v[bd-1]), float32(v[bd+1])
 				if den := a + c - 2*float32(bv); den > 0 {
 					f += (a - c) / (2 * den)

@@ -155,8 +155,8 @@ func (o Options) resolve() (Options, error) {
 	}
 	costMax := cw*ch - 1
 	// Each path's cost is at most costMax + P2, and the sum over paths
-	// must fit in 16 bits.
-	p2Max := 65535/o.Paths - costMax
+	// must fit in 16 bits below noPath.
+	p2Max := (noPath-1)/o.Paths - costMax
 	if o.P1 < 0 || o.P2 <= o.P1 || o.P2 > p2Max {
 		return o, fmt.Errorf("sgm: penalties P1 %d and P2 %d must satisfy 0 ≤ P1 < P2 ≤ %d", o.P1, o.P2, p2Max)
 	}
