@@ -2,7 +2,7 @@ package main
 
 import (
 	"bytes"
-	"github.com/parallaxdepth/parallax/model"
+	"context"
 	"image"
 	"image/png"
 	"math"
@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/model"
 )
 
 // TestDemoRun runs the command's default path (the demo image) into a
@@ -22,7 +23,7 @@ import (
 func TestDemoRun(t *testing.T) {
 	dir := t.TempDir()
 	var stdout, stderr bytes.Buffer
-	if err := run(options{out: dir, pfm: true, ply: true}, nil, &stdout, &stderr); err != nil {
+	if err := run(context.Background(), []string{"-out", dir, "-pfm", "-ply"}, &stdout, &stderr); err != nil {
 		t.Fatal(err)
 	}
 	base := filepath.Join(dir, "greenhouse_000000")
@@ -90,7 +91,7 @@ func TestDemoRun(t *testing.T) {
 	if _, err := os.Stat(base + ".depth-colour.png"); err != nil {
 		t.Error(err)
 	}
-	if err := run(options{out: dir}, []string{filepath.Join(dir, "missing.png")}, &stdout, &stderr); err == nil || !strings.HasPrefix(err.Error(), "estimate: ") {
+	if err := run(context.Background(), []string{"-out", dir, filepath.Join(dir, "missing.png")}, &stdout, &stderr); err == nil || !strings.HasPrefix(err.Error(), "estimate: ") {
 		t.Errorf("missing input: %v", err)
 	}
 }
@@ -101,12 +102,12 @@ func TestDemoRun(t *testing.T) {
 func TestRigAspect(t *testing.T) {
 	rig := filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")
 	var stdout, stderr bytes.Buffer
-	err := run(options{out: t.TempDir(), rig: rig, quiet: true}, nil, &stdout, &stderr)
+	err := run(context.Background(), []string{"-out", t.TempDir(), "-rig", rig, "-quiet"}, &stdout, &stderr)
 	if err == nil || !strings.HasPrefix(err.Error(), "estimate: ") || !strings.Contains(err.Error(), rig) || !strings.Contains(err.Error(), "aspect ratio") {
 		t.Errorf("demo image with a 741x500 rig: %v, want an aspect-ratio error naming %s", err, rig)
 	}
 	left := filepath.Join("..", "..", "testdata", "motorcycle", "left.png")
-	if err := run(options{out: t.TempDir(), rig: rig, quiet: true}, []string{left}, &stdout, &stderr); err != nil {
+	if err := run(context.Background(), []string{"-out", t.TempDir(), "-rig", rig, "-quiet", left}, &stdout, &stderr); err != nil {
 		t.Errorf("Motorcycle image with its rig: %v", err)
 	}
 }
@@ -116,8 +117,47 @@ func TestRigAspect(t *testing.T) {
 func TestHugeImageHeader(t *testing.T) {
 	path := filepath.Join("..", "..", "testdata", "infer", "huge_header.png") // made by make_huge_png.py there
 	var stdout, stderr bytes.Buffer
-	err := run(options{out: t.TempDir(), quiet: true}, []string{path}, &stdout, &stderr)
+	err := run(context.Background(), []string{"-out", t.TempDir(), "-quiet", path}, &stdout, &stderr)
 	if err == nil || !strings.HasPrefix(err.Error(), "estimate: ") || !strings.Contains(err.Error(), "60000x60000 is too large") || !strings.Contains(err.Error(), path) {
 		t.Errorf("huge header: %v", err)
+	}
+}
+
+// TestFolderProgressInFile: a folder of images with stderr going to a file
+// gets plain progress lines, no carriage return, and the bad flag and
+// -help paths behave (help is no error, an unknown flag is one).
+func TestFolderProgressInFile(t *testing.T) {
+	in := t.TempDir()
+	left := filepath.Join("..", "..", "testdata", "motorcycle", "left.png")
+	b, err := os.ReadFile(left)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, n := range []string{"a.png", "b.png"} {
+		if err := os.WriteFile(filepath.Join(in, n), b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	logf, err := os.Create(filepath.Join(t.TempDir(), "log.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer logf.Close()
+	var stdout bytes.Buffer
+	if err := run(context.Background(), []string{"-out", t.TempDir(), in}, &stdout, logf); err != nil {
+		t.Fatal(err)
+	}
+	log, _ := os.ReadFile(logf.Name())
+	if bytes.ContainsRune(log, '\r') || !bytes.Contains(log, []byte("2/2 images 100%")) {
+		t.Errorf("progress in a file:\n%q", log)
+	}
+	if !strings.Contains(stdout.String(), "2 images estimated") {
+		t.Errorf("stdout %q", stdout.String())
+	}
+	if err := run(context.Background(), []string{"-help"}, &stdout, &bytes.Buffer{}); err != nil {
+		t.Errorf("-help: %v", err)
+	}
+	if err := run(context.Background(), []string{"-no-such-flag"}, &stdout, &bytes.Buffer{}); err == nil || !strings.HasPrefix(err.Error(), "estimate: ") {
+		t.Errorf("unknown flag: %v", err)
 	}
 }
