@@ -14,9 +14,9 @@
 // Variation (Options.Vary). Greenhouse and storage pairs are rendered as
 // they always were unless asked; the other styles are varied by default.
 // A varied pair draws a Capture of its own: the rig's field of view (55°
-// to 95°) and baseline (0.04 to 0.16 m, capped so that the disparity at the
-// style's minimum depth stays below 0.28 of the width), material hues,
-// saturation, texture scales and now and then a random pattern, the light,
+// to 95°) and baseline (0.04 to 0.16 m, capped so that the disparity at
+// the style's minimum depth stays below MaxVariedDisparity, 0.28 of the
+// width), material hues, saturation, texture scales and now and then a random pattern, the light,
 // the exposure and white balance, a Gaussian blur, sensor noise, a gain
 // difference of up to ±6 % between the cameras and a vertical misalignment
 // of up to ±½ pixel of the right camera. The scene geometry is the

@@ -121,7 +121,7 @@ func buildOrchard(b *builder) {
 	}
 
 	x := b.uni(-0.15, 0.15) * rowGap / 2
-	y := b.uni(0.3, 0.8)
+	y := b.uni(0.4, 0.8) // the ground stays beyond 0.3 m up to square images
 	z := b.uni(-1.5, 0.5)
 	yaw := b.uni(-0.25, 0.25)
 	pitch := b.uni(-0.15, 0.08)

@@ -100,13 +100,19 @@ type Capture struct {
 	ReadNoise, ShotNoise float64
 }
 
+// MaxVariedDisparity bounds the disparity of varied pairs, as a fraction
+// of the width: each varied rig's baseline is capped so that
+// Fx·Baseline/MinDepth ≤ MaxVariedDisparity·Width, and the scenes keep
+// their surfaces beyond the rig's MinDepth at aspect ratios up to 1:1. A
+// set of varied pairs has no single rig.json; use this as its d_max.
+const MaxVariedDisparity = 0.28
+
 // Ranges of the capture draws (uniform unless said otherwise). They are
 // chosen for a small robot's stereo camera: wide to normal lenses, short
 // baselines, a shaky mount, cheap sensors.
 const (
 	varyHFOVLo, varyHFOVHi         = 55 * math.Pi / 180, 95 * math.Pi / 180
 	varyBaselineLo, varyBaselineHi = 0.04, 0.16 // log-uniform, metres
-	varyMaxDisparity               = 0.28       // of the width, at the style's minimum depth
 	varyRowShift                   = 0.5        // |RowShift| ≤ this, pixels
 	varyExposureLo, varyExposureHi = 0.55, 1.6  // log-uniform
 	varyWhiteBalance               = 0.1        // per-channel factor in [1−a, 1+a]
@@ -140,8 +146,8 @@ func logUniform(r *rand.Rand, lo, hi float64) float64 {
 func drawCapture(r *rand.Rand, minDepth float64) Capture {
 	var c Capture
 	c.HFOV = uniform(r, varyHFOVLo, varyHFOVHi)
-	// Disparity at minDepth: f·B/Z = W·B/(2·tan(hfov/2)·Z) ≤ varyMaxDisparity·W.
-	bMax := varyMaxDisparity * 2 * math.Tan(c.HFOV/2) * minDepth
+	// Disparity at minDepth: f·B/Z = W·B/(2·tan(hfov/2)·Z) ≤ MaxVariedDisparity·W.
+	bMax := MaxVariedDisparity * 2 * math.Tan(c.HFOV/2) * minDepth
 	c.Baseline = math.Min(logUniform(r, varyBaselineLo, varyBaselineHi), bMax)
 	c.RowShift = uniform(r, -varyRowShift, varyRowShift)
 	exposure := logUniform(r, varyExposureLo, varyExposureHi)

@@ -331,8 +331,8 @@ func TestVariedTruth(t *testing.T) {
 		if want := float64(r.Width) / 2 / math.Tan(c.HFOV/2); math.Abs(r.Fx-want) > 1e-9*want || r.Baseline != c.Baseline || r.Fy != r.Fx {
 			t.Errorf("%s: rig focal %v fy %v baseline %v, capture gives %v and %v", vp.name, r.Fx, r.Fy, r.Baseline, want, c.Baseline)
 		}
-		if dmax := r.Fx * r.Baseline / r.MinDepth / float64(r.Width); dmax > varyMaxDisparity*(1+1e-9) {
-			t.Errorf("%s: disparity at the minimum depth is %.4f of the width, above %v", vp.name, dmax, varyMaxDisparity)
+		if dmax := r.Fx * r.Baseline / r.MinDepth / float64(r.Width); dmax > MaxVariedDisparity*(1+1e-9) {
+			t.Errorf("%s: disparity at the minimum depth is %.4f of the width, above %v", vp.name, dmax, MaxVariedDisparity)
 		}
 		rigs[[2]float64{r.Fx, r.Baseline}] = true
 		fb := r.Fx * r.Baseline
@@ -359,19 +359,24 @@ func TestVariedTruth(t *testing.T) {
 
 // TestVariedDepthSpan: across pairs of the new styles, depths reach from
 // at most 0.35 m to at least 25 m (the span the styles are made for), and
-// every pair stays within its rig's range and below 0.3 of the width in
-// disparity.
+// every pair, at 2:1 and at 1:1 (where the view reaches closest to the
+// ground), stays within its rig's range and below MaxVariedDisparity of
+// the width in disparity.
 func TestVariedDepthSpan(t *testing.T) {
 	lo, hi := math.Inf(1), 0.0
 	for _, st := range []Style{Orchard, Workshop} {
-		for i := 0; i < 24; i++ {
-			p, err := Generate(st, 5, i, &Options{Width: 64, Height: 32})
+		for i := 0; i < 36; i++ {
+			size := &Options{Width: 64, Height: 32}
+			if i >= 24 {
+				size = &Options{Width: 48, Height: 48, Samples: 1}
+			}
+			p, err := Generate(st, 5, i, size)
 			if err != nil {
 				t.Fatal(err)
 			}
 			for j, z := range p.DepthLeft.Pix {
 				zz := float64(z)
-				if !(zz >= p.Rig.MinDepth && zz <= p.Rig.MaxDepth) || !(p.DispLeft.Pix[j] < 0.3) {
+				if !(zz >= p.Rig.MinDepth && zz <= p.Rig.MaxDepth) || !(float64(p.DispLeft.Pix[j]) <= MaxVariedDisparity) {
 					t.Fatalf("%s pair %d: depth %v m (rig range [%v, %v]), disparity %v of the width", st, i, zz, p.Rig.MinDepth, p.Rig.MaxDepth, p.DispLeft.Pix[j])
 				}
 				lo, hi = math.Min(lo, zz), math.Max(hi, zz)
