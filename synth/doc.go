@@ -6,21 +6,23 @@
 // The styles (see Style): a greenhouse aisle seen from a small rover, a
 // storage room with shelving seen by a different rig, an orchard alley seen
 // from a ground robot and an industrial hall seen from its aisle or from
-// above a workbench; the last two span depths from 0.3 m to about 30 m. A pair is
-// fixed by (style, seed, index, image size, samples, variation):
+// above a workbench; the last two span depths from 0.3 m to about 30 m. A
+// pair is fixed by (style, seed, index, image size, samples, variation):
 // Generate(style, seed, i, opt) returns the same pair whatever else is
 // generated, in any order and on any number of goroutines.
 //
 // Variation (Options.Vary). Greenhouse and storage pairs are rendered as
-// they always were unless asked; the other styles are varied by default.
-// A varied pair draws a Capture of its own: the rig's field of view (55°
-// to 95°) and baseline (0.04 to 0.16 m, capped so that the disparity at
-// the style's minimum depth stays below MaxVariedDisparity, 0.28 of the
-// width), material hues, saturation, texture scales and now and then a random pattern, the light,
-// the exposure and white balance, a Gaussian blur, sensor noise, a gain
-// difference of up to ±6 % between the cameras and a vertical misalignment
-// of up to ±½ pixel of the right camera. The scene geometry is the
-// unvaried pair's. None of this changes the ground truth.
+// they always were unless asked; the other styles are varied by default. A
+// varied pair draws a Capture of its own: the rig's field of view (55° to
+// 95°) and baseline (0.04 to 0.16 m, capped so that the disparity at the
+// style's minimum depth stays below MaxVariedDisparity, 0.28 of the width),
+// material hues, saturation, texture scales and now and then a random
+// pattern, the light, the exposure and white balance, a Gaussian blur,
+// sensor noise, a gain difference of up to ±6 % between the cameras and a
+// vertical misalignment of up to ±½ pixel of the right camera. The scene
+// geometry is the unvaried pair's. None of this changes the ground truth;
+// blur, like anti-aliasing, mixes colours across depth edges while the truth
+// stays that of the surface under the pixel centre.
 //
 // Drives (Drive, GenerateFrame, WriteDrive) are sequences: one rig moves
 // along a continuous path through the scene of each leg in turn (for
