@@ -360,5 +360,6 @@ func (e *Estimator) finish(wk *worker, width, height int, rig *depth.Rig) (*Esti
 			return nil, fmt.Errorf("model: %w", err)
 		}
 	}
+	e.applyValidity(est) // validity.go
 	return est, nil
 }

@@ -65,20 +65,29 @@ func TestEstimateMatchesNet(t *testing.T) {
 	if b := got.Disparity.Rect; b != image.Rect(0, 0, w, h) || got.Depth.Rect != b || got.Confidence.Rect != b {
 		t.Fatalf("bounds %v %v %v", b, got.Depth.Rect, got.Confidence.Rect)
 	}
-	lowConf := 0
+	lowConf, outOfRange := 0, 0
 	for y := range h {
 		for x := range w {
 			dl, dr := d.At(0, 0, y, x), d.At(0, 1, y, x)
 			v, ok := got.Disparity.At(x, y)
-			// 8-bit/255 (planar) against 16-bit/65535 (estimator): equal up
-			// to float32 rounding of the input, a few ulps at the output.
-			if !ok || math.Abs(float64(v)-float64(dl)*float64(w)) > 1e-4 {
-				t.Fatalf("disparity at (%d, %d): %v %v, want %v", x, y, v, ok, dl*float32(w))
-			}
-			z, ok := got.Depth.At(x, y)
-			want := rig.Fx * rig.Baseline / float64(v)
-			if !ok || math.Abs(float64(z)-want) > 1e-5*want {
-				t.Fatalf("depth at (%d, %d): %v, want %v", x, y, z, want)
+			// The rig's range of interest (validity.go): outside it both
+			// maps are invalid.
+			want := rig.Fx * rig.Baseline / (float64(dl) * float64(w))
+			if want < rig.MinDepth*(1-1e-5) || want > rig.MaxDepth*(1+1e-5) {
+				if _, zok := got.Depth.At(x, y); ok || zok {
+					t.Fatalf("(%d, %d): depth %v outside the rig's range [%v, %v] is valid", x, y, want, rig.MinDepth, rig.MaxDepth)
+				}
+				outOfRange++
+			} else {
+				// 8-bit/255 (planar) against 16-bit/65535 (estimator): equal up
+				// to float32 rounding of the input, a few ulps at the output.
+				if !ok || math.Abs(float64(v)-float64(dl)*float64(w)) > 1e-4 {
+					t.Fatalf("disparity at (%d, %d): %v %v, want %v", x, y, v, ok, dl*float32(w))
+				}
+				z, ok := got.Depth.At(x, y)
+				if !ok || math.Abs(float64(z)-want) > 1e-5*want {
+					t.Fatalf("depth at (%d, %d): %v, want %v", x, y, z, want)
+				}
 			}
 			// d̃_R by hand: linear interpolation of d_R at u = x − d_L·W.
 			u := float64(x) - float64(dl)*float64(w)
@@ -99,7 +108,7 @@ func TestEstimateMatchesNet(t *testing.T) {
 			}
 		}
 	}
-	t.Logf("%d of %d pixels have confidence below 0.5", lowConf, w*h)
+	t.Logf("%d of %d pixels have confidence below 0.5, %d outside the rig's range", lowConf, w*h, outOfRange)
 }
 
 // TestEstimateOtherSizes checks that any input size comes back at that
