@@ -256,8 +256,8 @@ func grayLevels(img image.Image, f func(x, y int, level uint16)) {
 // DisparityFromImage reads a disparity map stored as grey levels: the
 // disparity at a pixel is its 16-bit grey level (an 8-bit level v counts as
 // v·257) times scale, and level 0 is invalid. scale must be positive and
-// finite; for example 1/256.0 for 16-bit files that store 256 × disparity
-// (common practice in driving benchmarks). The map keeps img's bounds.
+// finite: a file that stores disparity in steps of 1/k pixel takes scale
+// 1/k. The map keeps img's bounds.
 func DisparityFromImage(img image.Image, scale float64) (*Disparity, error) {
 	if img == nil {
 		return nil, errors.New("depth: DisparityFromImage: image is nil")
