@@ -2,10 +2,20 @@ package loss
 
 import "math"
 
-// SmoothnessMeanEpsilon is added to the per-image mean disparity before
-// dividing by it, so that a zero mean does not divide by zero (the value
-// is common practice).
-const SmoothnessMeanEpsilon = 1e-7
+// SmoothnessMeanEpsilon is added to the per-image mean disparity (a
+// fraction of the width) before dividing by it: it keeps a map that
+// collapses towards zero disparity from dividing by zero and caps the
+// normalisation's gain at 1/ε, while leaving real maps of our scenario all
+// but exactly normalised. Our choice, from the synth cameras: the farthest
+// depth of interest gives the smallest disparity a scene can have, fx·B/Zmax
+// as a fraction of the width, B/(2·tan(hfov/2)·Zmax): 0.0041 for the
+// greenhouse rig (0.12 m, 72°, 20 m), 0.0072 for the storage room's (0.10 m,
+// 60°, 12 m) and 5.7e-4 at the extremes of a varied capture (0.04 m, 95°) in
+// the orchard (32 m); ε is just under 1 % of the smallest. The per-image
+// mean disparity of 100 generated pairs of each style (seed 1001) is at
+// least 0.029 (greenhouse), 0.019 (storage room) and 0.0068 (orchard,
+// varied captures), where ε moves the normalised map by at most 0.07 %.
+const SmoothnessMeanEpsilon = 5e-6
 
 // SmoothnessKernel computes the edge-aware smoothness of a disparity map
 // guided by its image, and the gradient with respect to the disparity:

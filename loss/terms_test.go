@@ -196,8 +196,22 @@ func TestSmoothnessByHand(t *testing.T) {
 	// 0.01·exp(0) and every y-term 0, so the value is the slope.
 	closeValue(t, "ramp on flat image", k.Eval(nil, ramp, flat, s, false), 0.01, 1e-9)
 	// Normalised: the mean is 0.01·(0+1+2+3)/4 = 0.015, so the slope
-	// becomes 0.01/(0.015 + 1e-7).
-	closeValue(t, "ramp on flat image, normalised", k.Eval(nil, ramp, flat, s, true), 0.01/(0.015+1e-7), 1e-6)
+	// becomes 0.01/(0.015 + 5e-6), ε = SmoothnessMeanEpsilon.
+	closeValue(t, "ramp on flat image, normalised", k.Eval(nil, ramp, flat, s, true), 0.01/(0.015+5e-6), 1e-6)
+	// A collapsed map (mean 1.5e-9, far below ε): the normalisation's gain
+	// is capped at 1/ε, so the value is about the slope times 1/ε and the
+	// gradient stays finite and of order 1/ε.
+	tiny := make([]float32, h*w)
+	for i := range tiny {
+		tiny[i] = 1e-9 * float32(i%w)
+	}
+	grad := make([]float32, h*w)
+	closeValue(t, "collapsed ramp, normalised", k.Eval(grad, tiny, flat, s, true), 1e-9/(1.5e-9+5e-6), 1e-9)
+	for i, g := range grad {
+		if math.IsNaN(float64(g)) || math.Abs(float64(g)) > 1/5e-6 {
+			t.Fatalf("collapsed ramp: gradient %g at %d, want |g| ≤ 1/ε", g, i)
+		}
+	}
 	// An edge of height 1 in every channel between columns 1 and 2 weighs
 	// that difference by exp(−1): (0.01 + 0.01·e⁻¹ + 0.01)/3 per row.
 	edge := append([]float32(nil), flat...)

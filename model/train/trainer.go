@@ -49,7 +49,7 @@ func LoaderSource(l *data.Loader) Source { return loaderSource{l} }
 // NewDatasetSource returns a Source over ds for the network configuration
 // c: images resized to c's input size, batches of batch pairs (a last
 // partial batch of an epoch is dropped), shuffled every epoch by seed, with
-// augmentation aug (nil for none; data.DefaultAugment is a common choice).
+// augmentation aug (nil for none; data.DefaultAugment is the project's choice).
 func NewDatasetSource(ds *dataset.Set, c model.Config, batch int, seed uint64, aug *data.Augment) (Source, error) {
 	c = c.WithDefaults()
 	l, err := data.NewLoader(ds, &data.Options{Width: c.Width, Height: c.Height, BatchSize: batch,

@@ -5,6 +5,10 @@
 #
 #     bash testdata/bench/side_by_side.sh > /tmp/figures.txt 2>&1
 #
+# With SMOKE=1 every step runs as briefly as it can (Go benchmarks once, the
+# PyTorch scripts stopped after 60 s), to check that the script runs to the
+# end; its figures mean nothing.
+#
 # PyTorch runs with glibc's allocator kept from returning memory and OpenMP
 # threads that do not spin (first-touch page faults and spinning threads
 # distort its timings on small VMs); Go reuses its buffers for the same reason.
@@ -14,6 +18,24 @@ export MALLOC_MMAP_THRESHOLD_=4000000000 MALLOC_TRIM_THRESHOLD_=4000000000
 py=/usr/bin/python3
 have_torch=0
 if $py -c 'import torch' 2>/dev/null; then have_torch=1; fi
+smoke=${SMOKE:-0}
+
+# gobench PKG PATTERN COUNT BENCHTIME [FLAGS...] runs Go benchmarks.
+gobench() {
+	local pkg=$1 pattern=$2 count=$3 benchtime=$4
+	shift 4
+	if [ "$smoke" = 1 ]; then count=1 benchtime=1x; fi
+	go test "$pkg" -run '^$' -bench "$pattern" -count "$count" -benchtime "$benchtime" "$@"
+}
+
+# torchrun SCRIPT runs a PyTorch timing script (60 s at most with SMOKE=1).
+torchrun() {
+	if [ "$smoke" = 1 ]; then
+		timeout 60 "$@" || [ $? = 124 ]
+	else
+		"$@"
+	fi
+}
 
 echo "== machine"
 go version
@@ -22,31 +44,33 @@ nproc
 uptime
 
 echo "== warp forward+backward, one core"
-go test ./warp -run '^$' -bench ForwardBackward -cpu 1 -count 5 -benchtime 200ms
+gobench ./warp ForwardBackward 5 200ms -cpu 1
 
 echo "== loss objective forward+backward, one core"
-go test ./loss -run '^$' -bench Objective -cpu 1 -count 5 -benchtime 20x
+gobench ./loss Objective 5 20x -cpu 1
 
 echo "== synthetic pair, one core"
-go test ./synth -run '^$' -bench . -cpu 1 -count 3 -benchtime 20x
+gobench ./synth . 3 20x -cpu 1
 
 echo "== conv and sgemm (Go), two cores"
-go test ./model/internal/cpu -run '^$' -bench 'Conv3x3|Sgemm' -count 3 -benchtime 1s
+gobench ./model/internal/cpu 'Conv3x3|Sgemm' 3 1s
 if [ $have_torch = 1 ]; then
 	echo "== conv and sgemm (PyTorch)"
-	$py testdata/cpu/conv/bench_torch.py
+	torchrun $py testdata/cpu/conv/bench_torch.py
 fi
 
 echo "== inference 256x128 (Go)"
-go test ./model -run '^$' -bench 'Estimate256x128|Forward256x128$' -count 3 -benchtime 30x
+gobench ./model 'Estimate256x128|Forward256x128$' 3 30x
 if [ $have_torch = 1 ]; then
 	echo "== inference 256x128 (PyTorch)"
-	OMP_WAIT_POLICY=PASSIVE $py testdata/infer/bench_torch.py
+	OMP_WAIT_POLICY=PASSIVE torchrun $py testdata/infer/bench_torch.py
 fi
 
 echo "== training step, batch 4, 256x128 (Go)"
-go test ./model/train -run '^$' -bench Step256x128N4 -count 3 -benchtime 5x
+gobench ./model/train Step256x128N4 3 5x
 if [ $have_torch = 1 ]; then
 	echo "== training step, batch 4, 256x128 (PyTorch)"
-	OMP_WAIT_POLICY=PASSIVE $py testdata/train/step_torch.py
+	OMP_WAIT_POLICY=PASSIVE torchrun $py testdata/train/step_torch.py
 fi
+
+echo "== done"

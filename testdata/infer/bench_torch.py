@@ -10,7 +10,7 @@ Run from the repository root (Debian python3-torch 1.13.1):
 The network is the layer-list walk of testdata/model/gen_st.py in float32
 (F.pad reflect + F.conv2d, F.elu, sigmoid, interpolate, cat) on 2 threads,
 batch 1, 256x128, under torch.no_grad. "flip" adds the forward pass of the
-mirrored image and the blend, as the Go estimator does. Prints the median
+mirrored image and the blend, as the Go estimator does (model.FlipBlend). Prints the median
 and the fastest of the timed runs in milliseconds.
 
 On a machine shared with other busy processes, libgomp's spinning threads
@@ -38,22 +38,32 @@ def main():
     meta, params = load_safetensors(path)
     with open(os.path.join(HERE, "default_arch.json")) as f:
         arch = json.load(f)
-    assert json.loads(meta["config"]) == arch["config"], "weights are not of the default architecture"
+    # The layer list is that of the default Config; d_max, which trained
+    # weights take from their rig, only sets the factor of the output
+    # scale layers, so it is taken from the weights.
+    cfg = json.loads(meta["config"])
+    same = {k: v for k, v in cfg.items() if k != "d_max"} == {k: v for k, v in arch["config"].items() if k != "d_max"}
+    assert same, "weights are not of the default architecture: %s" % meta["config"]
+    for layer in arch["layers"]:
+        if layer["op"] == "scale":
+            layer["factor"] = float(cfg["d_max"])
     c = arch["input"]
     x = torch.rand((1, c["c"], c["h"], c["w"]), generator=torch.Generator().manual_seed(3))
     w = c["w"]
-    u = torch.linspace(0, 1, w)
-    ramp = lambda v: 1 - torch.clamp((v - 0.05) / 0.05, 0, 1)
-    wl, wo = ramp(u), ramp(1 - u)
-    wl, wo = wl + (1 - wl - wo) / 2, wo + (1 - wl - wo) / 2
+    col = torch.arange(w, dtype=torch.float32)
 
     def plain():
         return forward(arch, params, x)[0]
 
     def flipped():
+        # model.FlipBlend: the mean, except where one prediction has no
+        # match in the other view (judged with the other's disparity).
         d = forward(arch, params, x)[0][:, 0]
-        m = forward(arch, params, torch.flip(x, [3]))[0][:, 0]
-        return wo * d + wl * torch.flip(m, [2])
+        m = torch.flip(forward(arch, params, torch.flip(x, [3]))[0][:, 0], [2])
+        orig_blind = col - m * w < 0
+        mirr_blind = col + d * w > w - 1
+        mean = (d + m) / 2
+        return torch.where(orig_blind & ~mirr_blind, m, torch.where(mirr_blind & ~orig_blind, d, mean))
 
     with torch.no_grad():
         for name, fn in (("forward", plain), ("forward+flip", flipped)):

@@ -78,7 +78,7 @@ func main() {
 	}
 	cw := csv.NewWriter(f)
 	cw.Write([]string{"step", "rate", "total", "appearance", "smoothness", "consistency", "steps_per_s"})
-	opt := &train.Options{Steps: *steps, Batch: *batch, Seed: *seed, Schedule: train.Schedule{Milestones: milestones}}
+	opt := &train.TrainerOptions{Steps: *steps, Batch: *batch, Seed: *seed, Schedule: train.Schedule{Milestones: milestones}}
 	opt.Progress = func(p train.Progress) {
 		g := func(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
 		cw.Write([]string{strconv.Itoa(p.Step), g(p.Rate), g(p.Terms.Total), g(p.Terms.Appearance), g(p.Terms.Smoothness), g(p.Terms.Consistency), g(p.StepsPerSec)})
