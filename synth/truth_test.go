@@ -259,8 +259,8 @@ func TestWarpRebuildsLeft(t *testing.T) {
 // threshold 1 px) to the ground truth. Outside occlusions it must pass
 // almost everywhere: it fails only where the bilinear sample straddles a
 // depth edge (measured 0.2–0.5 % of visible pixels in the greenhouse and
-// storage, 0.6–1.1 % in the orchard with its wires, stakes and leaves;
-// bound 2 %); where the two right pixels sampled agree within 1 px it
+// storage, 0.01–0.14 % in the workshop, bound 1 %; 0.6–1.1 % in the
+// orchard with its wires, stakes and leaves, bound 2 %); where the two right pixels sampled agree within 1 px it
 // fails only on structures thinner than a pixel that slip between the
 // right view's pixel centres, such as hangers and wires (measured 0–18
 // pixels, 0–0.06 %; bound 0.2 %), and the median difference is float32 rounding (measured 0,
@@ -276,13 +276,22 @@ func TestLeftRightConsistency(t *testing.T) {
 			frac := float64(s.pass) / float64(s.visible)
 			t.Logf("%s %d: %d of %d visible pixels within 1 px (%.4f), median %.2g px; %d of %d hidden pixels match a nearer surface",
 				st, i, s.pass, s.visible, frac, s.median, s.occludedNearer, s.occluded)
-			if frac < 0.98 || s.median > 1e-3 || float64(s.unexplained) > 0.002*float64(s.visible) {
-				t.Errorf("%s pair %d: %.4f of visible pixels pass the 1 px check (min 0.98), %d fail away from depth edges (max 0.2 %%), median %.3g px (max 1e-3)",
-					st, i, frac, s.unexplained, s.median)
+			if frac < minLRPass(st) || s.median > 1e-3 || float64(s.unexplained) > 0.002*float64(s.visible) {
+				t.Errorf("%s pair %d: %.4f of visible pixels pass the 1 px check (min %v), %d fail away from depth edges (max 0.2 %%), median %.3g px (max 1e-3)",
+					st, i, frac, minLRPass(st), s.unexplained, s.median)
 			}
 			if s.occluded == 0 || float64(s.occludedNearer) < 0.85*float64(s.occluded) {
 				t.Errorf("%s pair %d: %d of %d hidden pixels match a nearer surface (min 85 %%)", st, i, s.occludedNearer, s.occluded)
 			}
 		}
 	}
+}
+
+// minLRPass is the fraction of visible pixels that must pass the 1 px
+// left-right check (see TestLeftRightConsistency).
+func minLRPass(st Style) float64 {
+	if st == Orchard {
+		return 0.98
+	}
+	return 0.99
 }

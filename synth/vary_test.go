@@ -67,6 +67,7 @@ var variedStyles = []struct {
 
 type variedPair struct {
 	name         string
+	style        Style
 	clean, final *Pair // without and with blur, gain and noise
 }
 
@@ -98,7 +99,7 @@ func variedPairs(t *testing.T) []variedPair {
 					variedErr = err
 					return
 				}
-				variedCache = append(variedCache, variedPair{vs.style.String() + " " + string(rune('0'+i)), clean, final})
+				variedCache = append(variedCache, variedPair{vs.style.String() + " " + string(rune('0'+i)), vs.style, clean, final})
 			}
 		}
 	})
@@ -322,7 +323,10 @@ func leftRight2D(t *testing.T, p *Pair, rowShift float64) lrStats {
 // the pinhole relation d = f·B/Z at every pixel (common practice), the
 // disparity limit of the capture draws, and the left-right consistency of
 // the truth as in TestLeftRightConsistency (same bounds), with the right
-// disparity sampled at the true match (x − d_L, y + RowShift).
+// disparity sampled at the true match (x − d_L, y + RowShift). Measured at
+// 256×128, seed 11: 98.86–100 % of visible pixels pass, 0–24 fail away
+// from depth edges, median 4e-8 to 4e-7 px (sub-pixel bilinear samples of
+// float32 maps).
 func TestVariedTruth(t *testing.T) {
 	rigs := map[[2]float64]bool{}
 	for _, vp := range variedPairs(t) {
@@ -344,9 +348,10 @@ func TestVariedTruth(t *testing.T) {
 		}
 		s := leftRight2D(t, p, c.RowShift)
 		frac := float64(s.pass) / float64(s.visible)
-		if frac < 0.98 || s.median > 1e-3 || float64(s.unexplained) > 0.002*float64(s.visible) {
-			t.Errorf("%s: %.4f of visible pixels pass the 1 px check (min 0.98), %d fail away from depth edges, median %.3g px",
-				vp.name, frac, s.unexplained, s.median)
+		t.Logf("%s: %.4f of visible pixels pass the 1 px check, %d fail away from depth edges, median %.2g px", vp.name, frac, s.unexplained, s.median)
+		if frac < minLRPass(vp.style) || s.median > 1e-3 || float64(s.unexplained) > 0.002*float64(s.visible) {
+			t.Errorf("%s: %.4f of visible pixels pass the 1 px check (min %v), %d fail away from depth edges, median %.3g px",
+				vp.name, frac, minLRPass(vp.style), s.unexplained, s.median)
 		}
 		if s.occluded == 0 || float64(s.occludedNearer) < 0.85*float64(s.occluded) {
 			t.Errorf("%s: %d of %d hidden pixels match a nearer surface (min 85 %%)", vp.name, s.occludedNearer, s.occluded)
