@@ -36,13 +36,60 @@ type EstimatorOptions struct {
 	// network's input width. If 0 it is defaulted to 1.
 	ConfidenceScale float64
 	// MaxWorkers bounds the number of forward passes that run at once; each
-	// worker owns one Net (a few MB at the default size) and is created on
-	// first need. If 0 it is defaulted to runtime.GOMAXPROCS(0).
+	// worker owns a Net for each of the last four network sizes it ran at
+	// (a few MB each at the default size) and is created on first need. If 0 it is defaulted to runtime.GOMAXPROCS(0).
 	MaxWorkers int
 	// Resample scales the input image to the network's size. If nil it is
 	// defaulted to golang.org/x/image/draw.CatmullRom, the filter package
 	// model/data uses for training.
 	Resample xdraw.Interpolator
+	// MaxSide caps the longer side of the network's input (see
+	// NetworkSize). If 0 it is defaulted to DefaultMaxSide.
+	MaxSide int
+	// TrainingSize runs the network at the weights' own input size
+	// (Config.Width × Config.Height) for every image, squashing other
+	// aspect ratios, instead of at a size derived from each input.
+	// Default false.
+	TrainingSize bool
+}
+
+// DefaultMaxSide is the default cap on the longer side of the network's
+// input: 384 pixels, so that a 640×480 camera runs at 384×288 and the
+// 370×250 Motorcycle pair at 384×256. Our choice for speed on two cores:
+// the work grows with the pixel count, 3.4 times that of the 256×128
+// training size at 384×288.
+const DefaultMaxSide = 384
+
+// NetworkSize returns the network input size for an image of width ×
+// height with the longer side capped at maxSide (0 means DefaultMaxSide):
+// the image is scaled by s = min(1, maxSide / longer side), keeping its
+// aspect ratio, and each side is rounded to the nearest multiple of
+// SizeStep (32), at least MinSide (64), so a very small or very elongated
+// image changes its aspect ratio. The product of the sides is kept within
+// MaxNetPixels. It returns an error for sides that are not positive or
+// exceed planar's size limits, or a maxSide outside [MinSide,
+// MaxNetPixels/MinSide].
+func NetworkSize(width, height, maxSide int) (w, h int, err error) {
+	if maxSide == 0 {
+		maxSide = DefaultMaxSide
+	}
+	if maxSide < MinSide || maxSide > MaxNetPixels/MinSide {
+		return 0, 0, fmt.Errorf("model: maximum network side %d must be in [%d, %d]", maxSide, MinSide, MaxNetPixels/MinSide)
+	}
+	if err := planar.CheckSize(width, height); err != nil {
+		return 0, 0, fmt.Errorf("model: image: %w", err)
+	}
+	s := min(1, float64(maxSide)/float64(max(width, height)))
+	round := func(v float64) int {
+		return max(MinSide, int(math.Round(v/SizeStep))*SizeStep)
+	}
+	for {
+		w, h = round(float64(width)*s), round(float64(height)*s)
+		if w*h <= MaxNetPixels && max(w, h) <= max(maxSide, MinSide) {
+			return w, h, nil
+		}
+		s *= 0.97
+	}
 }
 
 // Estimate is the result of Estimator.Estimate for one image, at the
@@ -62,11 +109,16 @@ type Estimate struct {
 	Rig *depth.Rig
 }
 
-// Estimator turns single left images of any size into disparity,
-// confidence and metric depth with one set of weights.
+// Estimator turns images of any size into disparity, confidence and metric
+// depth with one set of weights of either kind: single left images with
+// one-image weights (Estimate), rectified pairs with stereo weights
+// (EstimatePair); each call of the other kind is an error naming the
+// weights' kind (Kind).
 //
-// Each image is resampled to the network's input size (EstimatorOptions.
-// Resample), run through the network, and its full-resolution disparities
+// Each image is resampled to a network size derived from it (NetworkSize:
+// aspect ratio kept, multiples of 32, the longer side capped by
+// EstimatorOptions.MaxSide), or to the weights' own size with TrainingSize,
+// run through the network, and its full-resolution disparities
 // d_L and d_R (fractions of the width) are post-processed at that size:
 // with Flip, d_L is blended with the mirrored image's prediction
 // (FlipBlend); the confidence compares d_L with d_R warped into the left
@@ -75,10 +127,11 @@ type Estimate struct {
 // disparity becomes pixels at the input's width, and depth follows from
 // the rig rescaled to the input's size.
 //
-// Concurrency: an Estimator is safe for
-// concurrent use by many goroutines: each call borrows a worker (a Net and
-// its scratch buffers) from a pool of at most MaxWorkers and returns it, so
-// calls beyond MaxWorkers wait (or give up when their context ends).
+// Concurrency: an Estimator is safe for concurrent use by many goroutines:
+// each call borrows a worker (a Net and its scratch buffers for each of the
+// last few network sizes it ran at) from a pool of at most MaxWorkers and
+// returns it, so calls beyond MaxWorkers wait (or give up when their
+// context ends).
 type Estimator struct {
 	weights    *Weights
 	arch       *Arch
@@ -87,17 +140,29 @@ type Estimator struct {
 	flip       bool
 	tau        float64
 	resize     xdraw.Interpolator
+	maxSide    int
+	fixed      bool
 	idle       chan *worker
 	tokens     chan struct{} // one per worker that may still be created
 }
 
-// worker holds everything one Estimate call writes at the network's size.
+// worker holds a Net and the buffers of one call for each network size it
+// has run at (at most maxStages, the least recently used dropped).
 type worker struct {
+	stages []*stage
+}
+
+const maxStages = 4
+
+// stage holds everything one call writes at one network size.
+type stage struct {
+	w, h     int
 	net      *Net
 	scaled   *image.RGBA64
 	in, flip *planar.Image
-	dl, dr   []float32 // blended left and original right disparity, fractions
-	mirrored []float32 // the mirrored prediction's channel 0, mirrored back
+	right    *planar.Image // stereo: the right view
+	dl, dr   []float32     // blended left and original right disparity, fractions
+	mirrored []float32     // the mirrored prediction's channel 0, mirrored back
 	warped   []float32
 	valid    []float32
 	conf     []float32
@@ -147,15 +212,22 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if o.Resample == nil {
 		o.Resample = xdraw.CatmullRom
 	}
+	if o.MaxSide == 0 {
+		o.MaxSide = DefaultMaxSide
+	}
+	if _, _, err := NetworkSize(MinSide, MinSide, o.MaxSide); err != nil {
+		return nil, err
+	}
 	e := &Estimator{weights: w, arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample,
+		maxSide: o.MaxSide, fixed: o.TrainingSize,
 		idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
 	for range o.MaxWorkers {
 		e.tokens <- struct{}{}
 	}
-	// Build the first worker now so that an engine error shows here, not on
-	// the first image.
-	wk, err := e.newWorker()
-	if err != nil {
+	// Build the first worker now, at the weights' size, so that an engine
+	// error shows here, not on the first image.
+	wk := &worker{}
+	if _, err := e.stage(wk, a.Input.W, a.Input.H); err != nil {
 		return nil, err
 	}
 	<-e.tokens
@@ -166,24 +238,57 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 // Weights returns the weights the Estimator runs (shared, not a copy).
 func (e *Estimator) Weights() *Weights { return e.weights }
 
-// InputSize returns the network's input size; images of other sizes are
-// resampled to it.
-func (e *Estimator) InputSize() (width, height int) { return e.arch.Input.W, e.arch.Input.H }
+// Kind returns the kind of the Estimator's weights: "stereo" (call
+// EstimatePair) or "one-image" (call Estimate).
+func (e *Estimator) Kind() string { return e.arch.Kind() }
 
-func (e *Estimator) newWorker() (*worker, error) {
-	net, err := NewNet(e.weights, 1)
+// NetworkSize returns the size the network runs at for an image of width ×
+// height: the weights' own size with EstimatorOptions.TrainingSize, else
+// the package function NetworkSize with the Estimator's MaxSide.
+func (e *Estimator) NetworkSize(width, height int) (w, h int, err error) {
+	if e.fixed {
+		if _, _, err := NetworkSize(width, height, e.maxSide); err != nil {
+			return 0, 0, err
+		}
+		return e.arch.Input.W, e.arch.Input.H, nil
+	}
+	return NetworkSize(width, height, e.maxSide)
+}
+
+// stage returns wk's buffers for the network size w × h, made on first
+// need; the least recently used size is dropped beyond maxStages.
+func (e *Estimator) stage(wk *worker, w, h int) (*stage, error) {
+	for i, st := range wk.stages {
+		if st.w == w && st.h == h {
+			copy(wk.stages[1:i+1], wk.stages[:i])
+			wk.stages[0] = st
+			return st, nil
+		}
+	}
+	c := e.weights.Config
+	c.Width, c.Height = w, h
+	net, err := NewNet(&Weights{Config: c, Params: e.weights.Params}, 1)
 	if err != nil {
 		return nil, err
 	}
-	h, w := e.arch.Input.H, e.arch.Input.W
 	n := h * w
-	return &worker{
-		net:    net,
+	st := &stage{
+		w: w, h: h, net: net,
 		scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
-		in:     planar.New(1, 3, h, w), flip: planar.New(1, 3, h, w),
-		dl: make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),
+		in:     planar.New(1, 3, h, w),
+		dl:     make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),
 		warped: make([]float32, n), valid: make([]float32, n), conf: make([]float32, n),
-	}, nil
+	}
+	if e.arch.IsStereo() {
+		st.right = planar.New(1, 3, h, w)
+	} else {
+		st.flip = planar.New(1, 3, h, w)
+	}
+	if len(wk.stages) == maxStages {
+		wk.stages = wk.stages[:maxStages-1]
+	}
+	wk.stages = append([]*stage{st}, wk.stages...)
+	return st, nil
 }
 
 func (e *Estimator) acquire(ctx context.Context) (*worker, error) {
@@ -196,12 +301,7 @@ func (e *Estimator) acquire(ctx context.Context) (*worker, error) {
 	case wk := <-e.idle:
 		return wk, nil
 	case <-e.tokens:
-		wk, err := e.newWorker()
-		if err != nil {
-			e.tokens <- struct{}{}
-			return nil, err
-		}
-		return wk, nil
+		return &worker{}, nil
 	case <-ctx.Done():
 		return nil, fmt.Errorf("model: %w", ctx.Err())
 	}
@@ -226,13 +326,48 @@ func checkImage(img image.Image) (image.Rectangle, error) {
 }
 
 // Estimate predicts the left view's disparity of img (any size, any
-// bounds), with its confidence and, if the Estimator has a rig, its metric
-// depth, all at img's resolution. The context is checked before the work
-// starts, while waiting for a worker and between the forward passes and the
-// post-processing; a cancelled call returns an error wrapping ctx.Err().
-// It returns an error for a nil, empty or oversized image.
+// bounds) with one-image weights, with its confidence and, if the Estimator
+// has a rig, its metric depth, all at img's resolution. The network runs at
+// the size NetworkSize gives for img. The context is checked before the
+// work starts, while waiting for a worker and between the forward passes
+// and the post-processing; a cancelled call returns an error wrapping
+// ctx.Err(). It returns an error for a nil, empty or oversized image, or
+// for stereo weights (use EstimatePair).
 func (e *Estimator) Estimate(ctx context.Context, img image.Image) (*Estimate, error) {
+	if e.arch.IsStereo() {
+		return nil, errors.New("model: these are stereo weights: give both views (EstimatePair)")
+	}
+	return e.estimate(ctx, img, nil)
+}
+
+// EstimatePair predicts the left view's disparity of the rectified pair
+// left, right (equal sizes, any bounds) with stereo weights, and returns the
+// same Estimate as Estimate: disparity, the left-right confidence of the
+// network's two outputs, metric depth with a rig, at the images'
+// resolution. Flip does not apply: the network already sees the mirrored
+// pair. Whether the pair is rectified is not checked. It returns an error
+// for a nil, empty or oversized image, views of different sizes, one-image
+// weights (use Estimate), or a cancelled ctx.
+func (e *Estimator) EstimatePair(ctx context.Context, left, right image.Image) (*Estimate, error) {
+	if !e.arch.IsStereo() {
+		return nil, errors.New("model: these are one-image weights: give the left image alone (Estimate)")
+	}
+	if right == nil {
+		return nil, errors.New("model: right image is nil")
+	}
+	if left != nil && left.Bounds().Size() != right.Bounds().Size() {
+		lb, rb := left.Bounds(), right.Bounds()
+		return nil, fmt.Errorf("model: the left image is %dx%d and the right %dx%d: the views must have the same size", lb.Dx(), lb.Dy(), rb.Dx(), rb.Dy())
+	}
+	return e.estimate(ctx, left, right)
+}
+
+func (e *Estimator) estimate(ctx context.Context, img, right image.Image) (*Estimate, error) {
 	b, err := checkImage(img)
+	if err != nil {
+		return nil, err
+	}
+	nw, nh, err := e.NetworkSize(b.Dx(), b.Dy())
 	if err != nil {
 		return nil, err
 	}
@@ -259,45 +394,74 @@ func (e *Estimator) Estimate(ctx context.Context, img image.Image) (*Estimate, e
 		return nil, err
 	}
 	defer e.release(wk)
-	if err := e.predict(ctx, wk, img); err != nil {
+	st, err := e.stage(wk, nw, nh)
+	if err != nil {
+		return nil, err
+	}
+	if right != nil {
+		err = e.predictPair(st, img, right)
+	} else {
+		err = e.predict(ctx, st, img)
+	}
+	if err != nil {
 		return nil, err
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, fmt.Errorf("model: %w", err)
 	}
-	return e.finish(wk, b.Dx(), b.Dy(), rig)
+	return e.finish(st, b.Dx(), b.Dy(), rig)
 }
 
-// predict fills wk.dl, wk.dr and wk.conf at the network's size.
-func (e *Estimator) predict(ctx context.Context, wk *worker, img image.Image) error {
-	if err := e.toInput(wk, img); err != nil {
+// predict fills st.dl, st.dr and st.conf at the network's size.
+func (e *Estimator) predict(ctx context.Context, st *stage, img image.Image) error {
+	if err := e.toInput(st, st.in, img); err != nil {
 		return err
 	}
-	if err := e.forward(wk, wk.in, wk.dl, wk.dr); err != nil {
+	if err := e.forward(st, st.in, st.dl, st.dr); err != nil {
 		return err
 	}
-	h, w := e.arch.Input.H, e.arch.Input.W
+	h, w := st.h, st.w
 	if e.flip {
 		if err := ctx.Err(); err != nil {
 			return fmt.Errorf("model: %w", err)
 		}
-		mirrorPlanes(wk.flip.Pix, wk.in.Pix, 3*h, w)
+		mirrorPlanes(st.flip.Pix, st.in.Pix, 3*h, w)
 		// The mirrored image's channel 0 is the disparity of its own
 		// pixels; mirrored back it estimates d_L (see FlipBlend).
-		if err := e.forward(wk, wk.flip, wk.mirrored, nil); err != nil {
+		if err := e.forward(st, st.flip, st.mirrored, nil); err != nil {
 			return err
 		}
-		mirrorPlanes(wk.warped, wk.mirrored, h, w)
-		FlipBlend(wk.dl, wk.dl, wk.warped, h, w)
+		mirrorPlanes(st.warped, st.mirrored, h, w)
+		FlipBlend(st.dl, st.dl, st.warped, h, w)
 	}
-	LRConfidence(wk.conf, wk.warped, wk.valid, wk.dl, wk.dr, h, w, e.tau)
+	LRConfidence(st.conf, st.warped, st.valid, st.dl, st.dr, h, w, e.tau)
+	return nil
+}
+
+// predictPair fills st.dl, st.dr and st.conf at the network's size from a
+// stereo network.
+func (e *Estimator) predictPair(st *stage, left, right image.Image) error {
+	if err := e.toInput(st, st.in, left); err != nil {
+		return err
+	}
+	if err := e.toInput(st, st.right, right); err != nil {
+		return err
+	}
+	outs, err := st.net.ForwardPair(st.in, st.right)
+	if err != nil {
+		return err
+	}
+	n := st.h * st.w
+	copy(st.dl, outs[0].Pix[:n])
+	copy(st.dr, outs[0].Pix[n:2*n])
+	LRConfidence(st.conf, st.warped, st.valid, st.dl, st.dr, st.h, st.w, e.tau)
 	return nil
 }
 
 // forward runs the Net on in and copies disp0's channels into left and, if
 // not nil, right.
-func (e *Estimator) forward(wk *worker, in *planar.Image, left, right []float32) error {
-	outs, err := wk.net.Forward(in)
+func (e *Estimator) forward(st *stage, in *planar.Image, left, right []float32) error {
+	outs, err := st.net.Forward(in)
 	if err != nil {
 		return err
 	}
@@ -310,17 +474,17 @@ func (e *Estimator) forward(wk *worker, in *planar.Image, left, right []float32)
 	return nil
 }
 
-// toInput resamples img to the network's size into wk.in, RGB in [0, 1]
-// with alpha divided out, as model/data does for training.
-func (e *Estimator) toInput(wk *worker, img image.Image) error {
-	dst := wk.scaled
+// toInput resamples img to the network's size into in, RGB in [0, 1] with
+// alpha divided out, as model/data does for training.
+func (e *Estimator) toInput(st *stage, in *planar.Image, img image.Image) error {
+	dst := st.scaled
 	b := img.Bounds()
 	if b.Dx() == dst.Rect.Dx() && b.Dy() == dst.Rect.Dy() {
 		draw.Draw(dst, dst.Rect, img, b.Min, draw.Src)
 	} else {
 		e.resize.Scale(dst, dst.Rect, img, b, xdraw.Src, nil)
 	}
-	if err := planar.FromImageInto(wk.in, dst); err != nil {
+	if err := planar.FromImageInto(in, dst); err != nil {
 		return fmt.Errorf("model: %w", err)
 	}
 	return nil
@@ -328,7 +492,7 @@ func (e *Estimator) toInput(wk *worker, img image.Image) error {
 
 // finish resamples the network-size results to width × height and builds
 // the maps.
-func (e *Estimator) finish(wk *worker, width, height int, rig *depth.Rig) (*Estimate, error) {
+func (e *Estimator) finish(st *stage, width, height int, rig *depth.Rig) (*Estimate, error) {
 	r := image.Rect(0, 0, width, height)
 	disp, err := depth.NewDisparity(r)
 	if err != nil {
@@ -338,9 +502,9 @@ func (e *Estimator) finish(wk *worker, width, height int, rig *depth.Rig) (*Esti
 	if err != nil {
 		return nil, fmt.Errorf("model: %w", err)
 	}
-	h, w := e.arch.Input.H, e.arch.Input.W
-	resizeBilinear(disp.Pix, wk.dl, w, h, width, height)
-	resizeBilinear(conf.Pix, wk.conf, w, h, width, height)
+	h, w := st.h, st.w
+	resizeBilinear(disp.Pix, st.dl, w, h, width, height)
+	resizeBilinear(conf.Pix, st.conf, w, h, width, height)
 	scale := float32(width)
 	for i, f := range disp.Pix {
 		px := f * scale

@@ -113,10 +113,12 @@ func TestEstimateMatchesNet(t *testing.T) {
 
 // TestEstimateOtherSizes checks that any input size comes back at that
 // size, that the disparity in pixels scales with the width (the network's
-// output is a fraction of the width) and that the rig is rescaled.
+// output is a fraction of the width) and that the rig is rescaled. The
+// network runs at the weights' size (TrainingSize) so that it sees the same
+// image for both inputs.
 func TestEstimateOtherSizes(t *testing.T) {
 	img, rig := demoInputs(t)
-	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig})
+	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig, TrainingSize: true})
 	if err != nil {
 		t.Fatal(err)
 	}

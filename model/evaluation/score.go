@@ -75,6 +75,13 @@ type estimator interface {
 	Estimate(ctx context.Context, img image.Image) (*model.Estimate, error)
 }
 
+// pairEstimator is the part of model.Estimator that scores stereo weights:
+// they read both views.
+type pairEstimator interface {
+	EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error)
+	Kind() string
+}
+
 // Score estimates every pair of set with the weights w (nil: the embedded
 // default weights) through model.Estimator, with the set's rig, and scores
 // the left view against the ground truth (see the package documentation).
@@ -143,7 +150,11 @@ func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions
 				if res.r, res.err = set.Read(i); res.err != nil {
 					return
 				}
-				res.e, res.err = est.Estimate(ctx, res.r.Left)
+				if pe, ok := est.(pairEstimator); ok && pe.Kind() == "stereo" {
+					res.e, res.err = pe.EstimatePair(ctx, res.r.Left, res.r.Right)
+				} else {
+					res.e, res.err = est.Estimate(ctx, res.r.Left)
+				}
 			}()
 		}
 		wg.Wait()
