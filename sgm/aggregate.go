@@ -31,16 +31,21 @@ func initSentinels(buf []uint16, np int) {
 	}
 }
 
-// pathStart sets cur (np values) to the costs, adds them to sum and returns
-// their minimum: the first pixel of a path.
-func pathStart(cur []uint16, cost []uint8, sum []uint16) uint16 {
+// pathStart sets cur (np values) to the costs, adds them to sum (or
+// stores them, if store) and returns their minimum: the first pixel of a
+// path.
+func pathStart(cur []uint16, cost []uint8, sum []uint16, store bool) uint16 {
 	cur = cur[:len(cost)]
 	sum = sum[:len(cost)]
 	m := uint16(noPath)
 	for d, c := range cost {
 		v := uint16(c)
 		cur[d] = v
-		sum[d] += v
+		if store {
+			sum[d] = v
+		} else {
+			sum[d] += v
+		}
 		m = min(m, v)
 	}
 	return m
@@ -53,7 +58,8 @@ func pathStart(cur []uint16, cost []uint8, sum []uint16) uint16 {
 // offsets, the large-jump penalty p2[j] and the previous vector's minimum
 // pmin[pminOff+j·pminStep]; it writes the new minimum to
 // cmin[cminOff+j·cminStep]. A step may read what an earlier step wrote
-// (a path: prev = cur one step back). It panics if a step would reach
+// (a path: prev = cur one step back). With store, the vectors are stored
+// in sum instead of added: the first path of a pixel. It panics if a step would reach
 // outside a slice or np is not a positive multiple of 16.
 type pathRun struct {
 	cur, prev                          []uint16
@@ -67,6 +73,7 @@ type pathRun struct {
 	cminOff, cminStep                  int
 	n, np                              int
 	p1                                 uint16
+	store                              bool
 }
 
 // check panics unless every step stays inside the slices.
@@ -111,7 +118,11 @@ func (r *pathRun) runGeneric() {
 			left = p
 			v += uint32(c) - prevMin
 			cur[d] = uint16(v)
-			sum[d] += uint16(v)
+			if r.store {
+				sum[d] = uint16(v)
+			} else {
+				sum[d] += uint16(v)
+			}
 			m = min(m, v)
 		}
 		r.cmin[r.cminOff+j*r.cminStep] = uint16(m)

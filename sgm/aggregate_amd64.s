@@ -2,13 +2,13 @@
 
 #include "textflag.h"
 
-// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16)
+// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
 //
 // The steps of pathRun (aggregate.go), 16 levels per instruction. The
 // neighbours d−1 and d+1 come from the aligned loads of the previous
 // vector by lane shifts (VPERM2I128 + VPALIGNR), so that a step reading the
 // vector the step before it stored gets it from the store buffer.
-TEXT ·pathRunAVX2(SB), NOSPLIT, $0-114
+TEXT ·pathRunAVX2(SB), NOSPLIT, $0-115
 	MOVQ cur+0(FP), DI
 	MOVQ prev+8(FP), SI
 	MOVQ curStep+16(FP), R13
@@ -56,8 +56,14 @@ level:
 	VPMOVZXBW (R8)(AX*1), Y3
 	VPADDW Y3, Y0, Y0
 	VMOVDQU Y0, (DI)(AX*2)
+	CMPB store+114(FP), $0
+	JNE stored
 	VPADDW (R9)(AX*2), Y0, Y1
 	VMOVDQU Y1, (R9)(AX*2)
+	JMP added
+stored:
+	VMOVDQU Y0, (R9)(AX*2)
+added:
 	VPMINUW Y0, Y12, Y12
 	VMOVDQU Y5, Y4
 	VMOVDQU Y6, Y5

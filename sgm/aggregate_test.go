@@ -82,8 +82,9 @@ func TestPathRunKernels(t *testing.T) {
 	}
 	r := rand.New(rand.NewPCG(4, 5))
 	for _, np := range []int{16, 32, 48, 80, 128} {
-		for _, mode := range []struct{ chained, backwards bool }{{true, false}, {true, true}, {false, false}} {
+		for _, mode := range []struct{ chained, backwards, store bool }{{true, false, false}, {true, true, false}, {false, false, false}, {true, false, true}, {false, false, true}} {
 			g := randomRun(r, np, 1+r.IntN(40), mode.chained, mode.backwards)
+			g.store = mode.store
 			a := cloneRun(g)
 			g.check()
 			g.runGeneric()

@@ -5,55 +5,43 @@ import (
 	"image/color"
 )
 
-// grey writes img's luma into dst (row-major, width img.Bounds().Dx()),
-// with the weights of color.GrayModel (ITU-R BT.601: 0.299, 0.587, 0.114 on
-// 16-bit values, rounded). *image.Gray, *image.RGBA, *image.NRGBA and
-// *image.YCbCr (its Y plane) are read directly; other types go through
-// color.GrayModel.
-func grey(dst []uint8, img image.Image) {
+// greyRow writes row y (counted from the top of its bounds) of img's luma
+// into dst, with the weights of color.GrayModel (ITU-R BT.601: 0.299,
+// 0.587, 0.114 on 16-bit values, rounded). *image.Gray, *image.RGBA,
+// *image.NRGBA and *image.YCbCr (its Y plane) are read directly; other types
+// go through color.GrayModel.
+func greyRow(dst []uint8, img image.Image, y int) {
 	b := img.Bounds()
-	w, h := b.Dx(), b.Dy()
+	w := b.Dx()
+	dst = dst[:w]
 	switch m := img.(type) {
 	case *image.Gray:
-		for y := range h {
-			i := m.PixOffset(b.Min.X, b.Min.Y+y)
-			copy(dst[y*w:(y+1)*w], m.Pix[i:i+w])
-		}
+		i := m.PixOffset(b.Min.X, b.Min.Y+y)
+		copy(dst, m.Pix[i:i+w])
 	case *image.YCbCr:
-		for y := range h {
-			i := m.YOffset(b.Min.X, b.Min.Y+y)
-			copy(dst[y*w:(y+1)*w], m.Y[i:i+w])
-		}
+		i := m.YOffset(b.Min.X, b.Min.Y+y)
+		copy(dst, m.Y[i:i+w])
 	case *image.RGBA:
-		for y := range h {
-			i := m.PixOffset(b.Min.X, b.Min.Y+y)
-			row := m.Pix[i : i+4*w]
-			out := dst[y*w : (y+1)*w]
-			for x := range out {
-				p := row[4*x : 4*x+3 : 4*x+3]
-				out[x] = luma8(uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101)
-			}
+		i := m.PixOffset(b.Min.X, b.Min.Y+y)
+		row := m.Pix[i : i+4*w]
+		for x := range dst {
+			p := row[4*x : 4*x+3 : 4*x+3]
+			dst[x] = luma8(uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101)
 		}
 	case *image.NRGBA:
-		for y := range h {
-			i := m.PixOffset(b.Min.X, b.Min.Y+y)
-			row := m.Pix[i : i+4*w]
-			out := dst[y*w : (y+1)*w]
-			for x := range out {
-				p := row[4*x : 4*x+4 : 4*x+4]
-				r, g, bl, a := uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101, uint32(p[3])*0x101
-				if a != 0xffff { // as color.NRGBA.RGBA premultiplies
-					r, g, bl = r*a/0xffff, g*a/0xffff, bl*a/0xffff
-				}
-				out[x] = luma8(r, g, bl)
+		i := m.PixOffset(b.Min.X, b.Min.Y+y)
+		row := m.Pix[i : i+4*w]
+		for x := range dst {
+			p := row[4*x : 4*x+4 : 4*x+4]
+			r, g, bl, a := uint32(p[0])*0x101, uint32(p[1])*0x101, uint32(p[2])*0x101, uint32(p[3])*0x101
+			if a != 0xffff { // as color.NRGBA.RGBA premultiplies
+				r, g, bl = r*a/0xffff, g*a/0xffff, bl*a/0xffff
 			}
+			dst[x] = luma8(r, g, bl)
 		}
 	default:
-		for y := range h {
-			out := dst[y*w : (y+1)*w]
-			for x := range out {
-				out[x] = color.GrayModel.Convert(img.At(b.Min.X+x, b.Min.Y+y)).(color.Gray).Y
-			}
+		for x := range dst {
+			dst[x] = color.GrayModel.Convert(img.At(b.Min.X+x, b.Min.Y+y)).(color.Gray).Y
 		}
 	}
 }

@@ -218,11 +218,14 @@ type worker struct {
 	lineP2    []uint16 // per line: the penalty of its current step
 	speckles  speckleScratch
 
-	censusFn, rowFn, bandFn, selectFn func(lo, hi int)
+	left, right image.Image // during the grey conversion
+
+	greyFn, censusFn, rowFn, bandFn, selectFn func(lo, hi int)
 }
 
 func newWorker(o *Options) *worker {
 	wk := &worker{opt: o}
+	wk.greyFn = wk.greyRange
 	wk.censusFn = wk.censusRange
 	wk.rowFn = wk.rowRange
 	wk.bandFn = wk.bandRange
@@ -280,8 +283,9 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.lineP2 = grow(wk.lineP2, lines)
 	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
 
-	grey(wk.greyL, left)
-	grey(wk.greyR, right)
+	wk.left, wk.right = left, right
+	parallelFor(2*h, wk.rowGrain, wk.greyFn)
+	wk.left, wk.right = nil, nil
 	padImage(wk.padL, wk.greyL, w, h, cw, ch)
 	padImage(wk.padR, wk.greyR, w, h, cw, ch)
 	parallelFor(2*h, wk.rowGrain, wk.censusFn)
@@ -344,6 +348,19 @@ func padImage(pad, g []uint8, w, h, cw, ch int) {
 	}
 }
 
+// greyRange converts rows [lo, hi) of the stacked left (rows 0 … h−1) and
+// right (h … 2h−1) images to grey.
+func (wk *worker) greyRange(lo, hi int) {
+	w, h := wk.w, wk.h
+	for r := lo; r < hi; r++ {
+		img, dst, y := wk.left, wk.greyL, r
+		if r >= h {
+			img, dst, y = wk.right, wk.greyR, r-h
+		}
+		greyRow(dst[y*w:(y+1)*w], img, y)
+	}
+}
+
 // censusRange computes census rows [lo, hi) of the stacked left (rows
 // 0 … h−1) and right (h … 2h−1) images.
 func (wk *worker) censusRange(lo, hi int) {
@@ -391,19 +408,18 @@ func (wk *worker) rowRange(lo, hi int) {
 				c[d] = costMax
 			}
 		}
-		clear(sum)
 		g := wk.greyL[y*w : (y+1)*w]
 		for x := 1; x < w; x++ {
 			p := wk.p2[absDiff(g[x], g[x-1])]
 			p2lr[x] = p
 			p2rl[w-1-x] = p
 		}
-		mins[0] = pathStart(vecs, cost[:np], sum[:np])
+		mins[0] = pathStart(vecs, cost[:np], sum[:np], true)
 		r := pathRun{cur: vecs, prev: vecs, curOff: vs, curStep: vs, prevOff: 0, prevStep: vs,
 			cost: cost, sum: sum, costOff: np, costStep: np, p2: p2lr[1:],
-			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1}
+			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1, store: true}
 		r.run()
-		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:])
+		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:], false)
 		r = pathRun{cur: vecs, prev: vecs, curOff: (w - 2) * vs, curStep: -vs, prevOff: (w - 1) * vs, prevStep: -vs,
 			cost: cost, sum: sum, costOff: (w - 2) * np, costStep: -np, p2: p2rl[:w-1],
 			pmin: mins, cmin: mins, pminOff: w - 1, pminStep: -1, cminOff: w - 2, cminStep: -1, n: w - 1, np: np, p1: wk.p1}
@@ -456,7 +472,7 @@ func (wk *worker) bandRange(lo, hi int) {
 			start := func(x int) {
 				i := x - s*y - wk.lineOff
 				o := (y*w + x) * np
-				curMin[i] = pathStart(curVec[i*vs:], wk.cost[o:o+np], wk.sum[o:o+np])
+				curMin[i] = pathStart(curVec[i*vs:], wk.cost[o:o+np], wk.sum[o:o+np], false)
 			}
 			if step == 0 {
 				for x := x0; x < x1; x++ {
