@@ -37,8 +37,8 @@ func BenchmarkMatch_Motorcycle_370x250_D48(b *testing.B) {
 	benchmarkMatch(b, Options{MaxDisparity: 47}, loadPNG(b, "testdata/motorcycle/left.png"), loadPNG(b, "testdata/motorcycle/right.png"))
 }
 
-func BenchmarkMatch_Motorcycle_370x250_D48_4paths(b *testing.B) {
-	benchmarkMatch(b, Options{MaxDisparity: 47, Paths: 4}, loadPNG(b, "testdata/motorcycle/left.png"), loadPNG(b, "testdata/motorcycle/right.png"))
+func BenchmarkMatch_Motorcycle_370x250_D48_8paths(b *testing.B) {
+	benchmarkMatch(b, Options{MaxDisparity: 47, Paths: 8}, loadPNG(b, "testdata/motorcycle/left.png"), loadPNG(b, "testdata/motorcycle/right.png"))
 }
 
 func BenchmarkMatch_Step_640x480_D80(b *testing.B) {
@@ -46,7 +46,7 @@ func BenchmarkMatch_Step_640x480_D80(b *testing.B) {
 	benchmarkMatch(b, Options{MaxDisparity: 79}, l, r)
 }
 
-func BenchmarkMatch_Step_640x480_D80_4paths(b *testing.B) {
+func BenchmarkMatch_Step_640x480_D80_8paths(b *testing.B) {
 	l, r := stepPair(640, 480, 300, 12, 50)
-	benchmarkMatch(b, Options{MaxDisparity: 79, Paths: 4}, l, r)
+	benchmarkMatch(b, Options{MaxDisparity: 79, Paths: 8}, l, r)
 }
