@@ -199,8 +199,8 @@ type Gradients struct {
 // respect to every disparity. It returns an error if there is no scale, an
 // image is nil, empty or holds NaN or Inf, shapes disagree within a scale,
 // a disparity has more than one channel, an option is out of range (a
-// weight negative other than Off or not finite, Alpha outside (0, 1] and
-// not Off, an unknown Border), or smoothness normalisation meets a
+// weight negative other than TermOff or not finite, Alpha outside (0, 1] and
+// not TermOff, an unknown Border), or smoothness normalisation meets a
 // disparity whose mean is not positive.
 func EvalObjective(scales []ScaleImages, opts *ObjectiveOptions) (Terms, []Gradients, error) {
 	const term = "objective"

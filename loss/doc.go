@@ -22,6 +22,8 @@
 //   - Scalar terms average over the whole batch (not per image, then over
 //     images), in float64, and return float64.
 //   - The subgradient of |v| at v = 0 is taken as 0.
+//   - Options: a nil *ObjectiveOptions means the defaults and so does each
+//     zero field; TermOff switches a weight off.
 //
 // Two levels of API. The kernels (SSIMKernel, AppearanceKernel,
 // SmoothnessKernel, ConsistencyKernel, Objective) work on caller-owned

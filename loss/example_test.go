@@ -71,7 +71,7 @@ func ExampleEvalObjective() {
 	}
 	scales := []loss.ScaleImages{{Left: left, Right: right, DispL: dl, DispR: dr}}
 	l1 := loss.DefaultObjectiveOptions()
-	l1.Alpha = loss.Off
+	l1.Alpha = loss.TermOff
 	for _, opts := range []*loss.ObjectiveOptions{&l1, nil} {
 		terms, grads, err := loss.EvalObjective(scales, opts)
 		if err != nil {

@@ -10,7 +10,7 @@ import (
 // ObjectiveOptions are the weights and settings of the combined objective.
 // A nil *ObjectiveOptions means the defaults, and so does each zero field:
 // ObjectiveOptions{} is DefaultObjectiveOptions(). A weight (and Alpha) set
-// to Off is 0: it switches its term (the SSIM share) off.
+// to TermOff is 0: it switches its term (the SSIM share) off.
 type ObjectiveOptions struct {
 	// Appearance weights the photometric appearance term of both views.
 	// If 0 it is defaulted to 1.
@@ -23,7 +23,7 @@ type ObjectiveOptions struct {
 	// Consistency weights the left-right consistency term. If 0 it is
 	// defaulted to 1.
 	Consistency float64
-	// Alpha is the SSIM share α of the appearance term, in (0, 1]; Off
+	// Alpha is the SSIM share α of the appearance term, in (0, 1]; TermOff
 	// gives L1 only. If 0 it is defaulted to DefaultAlpha (0.85).
 	Alpha float64
 	// RawSmoothness, if true, applies the smoothness term to the
@@ -37,9 +37,9 @@ type ObjectiveOptions struct {
 	Border warp.Border
 }
 
-// Off, as a weight of ObjectiveOptions or as its Alpha, stands for 0,
+// TermOff, as a weight of ObjectiveOptions or as its Alpha, stands for 0,
 // which the zero value cannot say (a zero field means its default).
-const Off = -1.0
+const TermOff = -1.0
 
 // DefaultObjectiveOptions returns the defaults, written out: appearance 1,
 // smoothness 0.1 (halved at each coarser scale), consistency 1, α = 0.85,
@@ -56,7 +56,7 @@ func DefaultObjectiveOptions() ObjectiveOptions {
 }
 
 // resolved returns the options in effect: the defaults for nil and for
-// every zero field, 0 for every Off. Other values are kept, so that
+// every zero field, 0 for every TermOff. Other values are kept, so that
 // EvalObjective can refuse them.
 func (o *ObjectiveOptions) resolved() ObjectiveOptions {
 	def := DefaultObjectiveOptions()
@@ -71,7 +71,7 @@ func (o *ObjectiveOptions) resolved() ObjectiveOptions {
 		switch *f.v {
 		case 0:
 			*f.v = *f.def
-		case Off:
+		case TermOff:
 			*f.v = 0
 		}
 	}
@@ -79,8 +79,8 @@ func (o *ObjectiveOptions) resolved() ObjectiveOptions {
 }
 
 // Validate returns an error naming the first option of o that is out of
-// range: a weight that is negative (other than Off) or not finite, an Alpha
-// outside (0, 1] that is not Off, or an unknown Border. A nil o is valid.
+// range: a weight that is negative (other than TermOff) or not finite, an Alpha
+// outside (0, 1] that is not TermOff, or an unknown Border. A nil o is valid.
 func (o *ObjectiveOptions) Validate() error {
 	r := o.resolved()
 	for _, w := range []struct {
@@ -88,11 +88,11 @@ func (o *ObjectiveOptions) Validate() error {
 		v    float64
 	}{{"appearance weight", r.Appearance}, {"smoothness weight", r.Smoothness}, {"consistency weight", r.Consistency}} {
 		if !(w.v >= 0) || math.IsInf(w.v, 0) {
-			return fmt.Errorf("loss: objective: %s %v must be finite and positive, or Off", w.name, w.v)
+			return fmt.Errorf("loss: objective: %s %v must be finite and positive, or TermOff", w.name, w.v)
 		}
 	}
 	if !(r.Alpha >= 0 && r.Alpha <= 1) {
-		return fmt.Errorf("loss: objective: alpha %v is outside (0, 1] and not Off", r.Alpha)
+		return fmt.Errorf("loss: objective: alpha %v is outside (0, 1] and not TermOff", r.Alpha)
 	}
 	if r.Border != warp.Zero && r.Border != warp.Clamp {
 		return fmt.Errorf("loss: objective: unknown border mode %v", r.Border)

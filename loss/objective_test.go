@@ -89,7 +89,7 @@ func TestObjectiveGradient(t *testing.T) {
 	scales := randomScales(rng, shapes, 0.01)
 	def := DefaultObjectiveOptions()
 	clampL1 := def
-	clampL1.Border, clampL1.Alpha, clampL1.RawSmoothness = warp.Clamp, Off, true
+	clampL1.Border, clampL1.Alpha, clampL1.RawSmoothness = warp.Clamp, TermOff, true
 	for name, opts := range map[string]ObjectiveOptions{"default": def, "clamp, L1, raw smoothness": clampL1} {
 		o := Objective{Options: &opts}
 		grads := make([]DispGrad, len(scales))
@@ -124,10 +124,10 @@ func TestObjectiveWeights(t *testing.T) {
 	var o Objective
 	base := make([]Terms, 2)
 	o.Eval(base, nil, scales)
-	// Doubling a weight doubles its term only; Off switches it off.
+	// Doubling a weight doubles its term only; TermOff switches it off.
 	opts := DefaultObjectiveOptions()
 	opts.Smoothness = 0.2
-	opts.Consistency = Off
+	opts.Consistency = TermOff
 	o2 := Objective{Options: &opts}
 	per := make([]Terms, 2)
 	o2.Eval(per, nil, scales)
@@ -197,7 +197,7 @@ func TestDownsampleAndPyramid(t *testing.T) {
 // TestObjectiveOptionsConvention checks the options convention: nil, the
 // zero value and DefaultObjectiveOptions give the same objective (a zero
 // field means its default, so a non-nil value is not taken literally);
-// Off and only Off switches a weight off; Validate names a bad field.
+// TermOff and only TermOff switches a weight off; Validate names a bad field.
 func TestObjectiveOptionsConvention(t *testing.T) {
 	rng := rand.New(rand.NewPCG(17, 18))
 	scales := randomScales(rng, []Shape{{N: 1, C: 3, H: 6, W: 8}, {N: 1, C: 3, H: 3, W: 4}}, 1e-3)
@@ -219,12 +219,12 @@ func TestObjectiveOptionsConvention(t *testing.T) {
 			t.Errorf("%s: terms %+v, nil options give %+v", name, got, want)
 		}
 	}
-	off := eval(&ObjectiveOptions{Smoothness: Off})
+	off := eval(&ObjectiveOptions{Smoothness: TermOff})
 	if off.Smoothness != 0 || off.Appearance != want.Appearance || off.Consistency != want.Consistency {
-		t.Errorf("smoothness Off: %+v, defaults %+v", off, want)
+		t.Errorf("smoothness TermOff: %+v, defaults %+v", off, want)
 	}
-	if l1 := eval(&ObjectiveOptions{Alpha: Off}); l1.Appearance == want.Appearance {
-		t.Error("Alpha Off (L1 only) gives the default appearance term")
+	if l1 := eval(&ObjectiveOptions{Alpha: TermOff}); l1.Appearance == want.Appearance {
+		t.Error("Alpha TermOff (L1 only) gives the default appearance term")
 	}
 	for _, tc := range []struct {
 		opts ObjectiveOptions

@@ -110,19 +110,19 @@ func enumString[K comparable](names map[K]string, k K) string {
 	return fmt.Sprintf("%T(%v)", k, any(k))
 }
 
-// Shape is the shape of one activation tensor of a single image: channels,
+// TensorShape is the shape of one activation tensor of a single image: channels,
 // height and width. A batch adds the leading N.
-type Shape struct {
+type TensorShape struct {
 	C int `json:"c"`
 	H int `json:"h"`
 	W int `json:"w"`
 }
 
 // Len returns C·H·W.
-func (s Shape) Len() int { return s.C * s.H * s.W }
+func (s TensorShape) Len() int { return s.C * s.H * s.W }
 
 // String formats the shape as "CxHxW".
-func (s Shape) String() string { return fmt.Sprintf("%dx%dx%d", s.C, s.H, s.W) }
+func (s TensorShape) String() string { return fmt.Sprintf("%dx%dx%d", s.C, s.H, s.W) }
 
 // Layer is one step of the network. Its output is the tensor named Name;
 // Inputs name tensors produced by earlier layers or the network input
@@ -132,7 +132,7 @@ type Layer struct {
 	Op     Op
 	Inputs []string
 	// Out is the output shape for one image.
-	Out Shape
+	Out TensorShape
 
 	// OpConv: kernel size (square), stride, padding width on each side,
 	// dilation, padding mode and activation. The parameters are
@@ -189,10 +189,10 @@ func (l Layer) MarshalJSON() ([]byte, error) {
 		Act      string `json:"act"`
 	}
 	v := struct {
-		Name   string   `json:"name"`
-		Op     string   `json:"op"`
-		Inputs []string `json:"inputs"`
-		Out    Shape    `json:"out"`
+		Name   string      `json:"name"`
+		Op     string      `json:"op"`
+		Inputs []string    `json:"inputs"`
+		Out    TensorShape `json:"out"`
 		*conv
 		Mode       string  `json:"mode,omitempty"`
 		Factor     float64 `json:"factor,omitempty"`
@@ -244,7 +244,7 @@ const InputName = "image"
 type Arch struct {
 	Config Config `json:"config"`
 	// Input is the shape of InputName.
-	Input Shape `json:"input"`
+	Input TensorShape `json:"input"`
 	// Layers in evaluation order: every input of a layer is InputName or
 	// the Name of an earlier layer.
 	Layers []Layer `json:"layers"`
@@ -255,7 +255,7 @@ type Arch struct {
 	// Params lists the learned tensors in layer order, weight before bias.
 	Params []Param `json:"params"`
 
-	shapes map[string]Shape
+	shapes map[string]TensorShape
 }
 
 // OutputName returns the tensor name of the disparity at scale s
@@ -272,7 +272,7 @@ func Build(c Config) (*Arch, error) {
 	if c.Arch == StereoArchName {
 		return buildStereo(c), nil
 	}
-	a := &Arch{Config: c, Input: Shape{3, c.Height, c.Width}, shapes: map[string]Shape{InputName: {3, c.Height, c.Width}}}
+	a := &Arch{Config: c, Input: TensorShape{3, c.Height, c.Width}, shapes: map[string]TensorShape{InputName: {3, c.Height, c.Width}}}
 
 	// Encoder: at each level a stride-2 convolution halves the resolution
 	// and a stride-1 convolution refines it.
@@ -320,7 +320,7 @@ func (a *Arch) add(l Layer) string {
 
 func (a *Arch) conv(name, in string, out, stride int, act Activation) string {
 	s := a.shapes[in]
-	o := Shape{out, s.H / stride, s.W / stride}
+	o := TensorShape{out, s.H / stride, s.W / stride}
 	a.Params = append(a.Params,
 		Param{Name: name + ".weight", Shape: []int{out, s.C, 3, 3}},
 		Param{Name: name + ".bias", Shape: []int{out}})
@@ -330,7 +330,7 @@ func (a *Arch) conv(name, in string, out, stride int, act Activation) string {
 
 func (a *Arch) upsample(name, in string, m Upsampling) string {
 	s := a.shapes[in]
-	return a.add(Layer{Name: name, Op: OpUpsample, Inputs: []string{in}, Out: Shape{s.C, 2 * s.H, 2 * s.W}, Mode: m})
+	return a.add(Layer{Name: name, Op: OpUpsample, Inputs: []string{in}, Out: TensorShape{s.C, 2 * s.H, 2 * s.W}, Mode: m})
 }
 
 func (a *Arch) concat(name string, ins []string) string {
@@ -349,11 +349,11 @@ func (a *Arch) scale(name, in string, f float64) string {
 	return a.add(Layer{Name: name, Op: OpScale, Inputs: []string{in}, Out: a.shapes[in], Factor: f})
 }
 
-// Shape returns the shape of the tensor called name (InputName or a layer
+// TensorShape returns the shape of the tensor called name (InputName or a layer
 // name) for one image, and whether it exists.
-func (a *Arch) Shape(name string) (Shape, bool) {
+func (a *Arch) Shape(name string) (TensorShape, bool) {
 	if a.shapes == nil {
-		a.shapes = map[string]Shape{InputName: a.Input}
+		a.shapes = map[string]TensorShape{InputName: a.Input}
 		for _, l := range a.Layers {
 			a.shapes[l.Name] = l.Out
 		}

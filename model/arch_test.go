@@ -64,11 +64,11 @@ func TestArchWiring(t *testing.T) {
 			in, _ := a.Shape(l.Inputs[0])
 			switch l.Op {
 			case OpConv:
-				if got := (Shape{l.Out.C, in.H / l.Stride, in.W / l.Stride}); got != l.Out {
+				if got := (TensorShape{l.Out.C, in.H / l.Stride, in.W / l.Stride}); got != l.Out {
 					t.Errorf("%s: conv %q: out %v, want %v", cfg.Shape(), l.Name, l.Out, got)
 				}
 			case OpUpsample:
-				if got := (Shape{in.C, 2 * in.H, 2 * in.W}); got != l.Out {
+				if got := (TensorShape{in.C, 2 * in.H, 2 * in.W}); got != l.Out {
 					t.Errorf("%s: upsample %q: out %v, want %v", cfg.Shape(), l.Name, l.Out, got)
 				}
 			case OpConcat:
@@ -87,7 +87,7 @@ func TestArchWiring(t *testing.T) {
 		}
 		for s, name := range a.Outputs {
 			sh, ok := a.Shape(name)
-			want := Shape{2, cfg.Height >> s, cfg.Width >> s}
+			want := TensorShape{2, cfg.Height >> s, cfg.Width >> s}
 			if !ok || sh != want || name != OutputName(s) {
 				t.Errorf("%s: output %d is %q %v, want %q %v", cfg.Shape(), s, name, sh, OutputName(s), want)
 			}
@@ -103,7 +103,10 @@ func TestArchWiring(t *testing.T) {
 	}
 }
 
-func (c Config) Shape() string { c = c.WithDefaults(); return Shape{3, c.Height, c.Width}.String() }
+func (c Config) Shape() string {
+	c = c.WithDefaults()
+	return TensorShape{3, c.Height, c.Width}.String()
+}
 
 func TestConfigValidate(t *testing.T) {
 	for _, tc := range []struct {

@@ -25,9 +25,9 @@ const Scales = 4
 
 // Default sizes and widths; see Config.
 const (
-	DefaultWidth  = 256
-	DefaultHeight = 128
-	DefaultDMax   = 0.3
+	DefaultNetWidth  = 256
+	DefaultNetHeight = 128
+	DefaultDMax      = 0.3
 )
 
 // DefaultEncoder and DefaultDecoder are the channel widths used when a Config
@@ -50,8 +50,7 @@ const (
 	// MaxNetPixels bounds Width·Height of a Config (524,288 pixels, e.g.
 	// 1024×512; the default is 256×128). A Net's buffers grow with it, so
 	// this bound is what keeps a weights file from choosing how much memory
-	// loading and running it takes (a file that claimed 4096×2048 made one
-	// Estimate allocate 12.6 GB).
+	// loading and running it takes.
 	MaxNetPixels = 1 << 19
 )
 
@@ -67,7 +66,7 @@ type Config struct {
 	// Width and Height are the input size in pixels, multiples of 32 and
 	// at least 64 (the coarsest level, 1/32, must be at least 2 pixels for
 	// reflect padding), with Width·Height at most MaxNetPixels. If 0 they
-	// are defaulted to DefaultWidth and DefaultHeight.
+	// are defaulted to DefaultNetWidth and DefaultNetHeight.
 	Width  int `json:"width"`
 	Height int `json:"height"`
 	// Encoder holds the output channels of the five encoder levels, from
@@ -96,10 +95,10 @@ func (c Config) WithDefaults() Config {
 		c.Version = ArchVersion
 	}
 	if c.Width == 0 {
-		c.Width = DefaultWidth
+		c.Width = DefaultNetWidth
 	}
 	if c.Height == 0 {
-		c.Height = DefaultHeight
+		c.Height = DefaultNetHeight
 	}
 	if c.Encoder == nil {
 		c.Encoder = append([]int(nil), DefaultEncoder[:]...)

@@ -34,7 +34,7 @@ type step struct {
 	layer  *Layer
 	out    int
 	in     []int
-	in0    Shape // shape of the first input
+	in0    TensorShape // shape of the first input
 	conv   *cpu.Conv2D
 	warp   warp.Shape
 	level  int // OpMatch

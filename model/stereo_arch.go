@@ -59,10 +59,10 @@ func (c Config) stereoDefaults() Config {
 		c.Version = StereoArchVersion
 	}
 	if c.Width == 0 {
-		c.Width = DefaultWidth
+		c.Width = DefaultNetWidth
 	}
 	if c.Height == 0 {
-		c.Height = DefaultHeight
+		c.Height = DefaultNetHeight
 	}
 	if c.Encoder == nil {
 		c.Encoder = append([]int(nil), DefaultStereoEncoder[:]...)
@@ -126,8 +126,8 @@ func (a *Arch) Kind() string {
 // image of the pair's d_R (OpPairView). Each output is one channel: the
 // first N images are d_L, the last N mirrored back are d_R (PackPair).
 func buildStereo(c Config) *Arch {
-	in := Shape{3, c.Height, c.Width}
-	a := &Arch{Config: c, Input: in, shapes: map[string]Shape{InputName: in}}
+	in := TensorShape{3, c.Height, c.Width}
+	a := &Arch{Config: c, Input: in, shapes: map[string]TensorShape{InputName: in}}
 	enc, dec := c.Encoder, c.Decoder
 
 	var left, right [StereoLevels]string
@@ -191,7 +191,7 @@ func buildStereo(c Config) *Arch {
 
 func (a *Arch) match(name string, level, c int) string {
 	in := a.Input
-	return a.add(Layer{Name: name, Op: OpMatch, Inputs: []string{InputName}, Out: Shape{c, in.H >> level, in.W >> level}})
+	return a.add(Layer{Name: name, Op: OpMatch, Inputs: []string{InputName}, Out: TensorShape{c, in.H >> level, in.W >> level}})
 }
 
 func (a *Arch) pairView(name, in string, v View) string {
@@ -204,11 +204,11 @@ func (a *Arch) dilatedConv(name, in string, out, dilation int, act Activation) s
 	a.Params = append(a.Params,
 		Param{Name: name + ".weight", Shape: []int{out, s.C, 3, 3}},
 		Param{Name: name + ".bias", Shape: []int{out}})
-	return a.add(Layer{Name: name, Op: OpConv, Inputs: []string{in}, Out: Shape{out, s.H, s.W},
+	return a.add(Layer{Name: name, Op: OpConv, Inputs: []string{in}, Out: TensorShape{out, s.H, s.W},
 		Kernel: 3, Stride: 1, Pad: dilation, Dilation: dilation, Padding: PadReflect, Act: act})
 }
 
 func (a *Arch) correlation(name, left, right string, disps int) string {
 	s := a.shapes[left]
-	return a.add(Layer{Name: name, Op: OpCorrelation, Inputs: []string{left, right}, Out: Shape{disps, s.H, s.W}, Disps: disps})
+	return a.add(Layer{Name: name, Op: OpCorrelation, Inputs: []string{left, right}, Out: TensorShape{disps, s.H, s.W}, Disps: disps})
 }

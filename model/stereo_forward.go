@@ -16,11 +16,11 @@ func checkPairLayer(a *Arch, l *Layer) error {
 	s1, _ := a.Shape(l.Inputs[1])
 	switch l.Op {
 	case OpCorrelation:
-		if s0 != s1 || l.Disps < 1 || l.Out != (Shape{l.Disps, s0.H, s0.W}) {
+		if s0 != s1 || l.Disps < 1 || l.Out != (TensorShape{l.Disps, s0.H, s0.W}) {
 			return fmt.Errorf("model: layer %q: correlation of %v and %v over %d shifts cannot give %v", l.Name, s0, s1, l.Disps, l.Out)
 		}
 	case OpWarp:
-		if s1 != (Shape{1, s0.H, s0.W}) || l.Out != s0 {
+		if s1 != (TensorShape{1, s0.H, s0.W}) || l.Out != s0 {
 			return fmt.Errorf("model: layer %q: warp of %v by a disparity %v cannot give %v", l.Name, s0, s1, l.Out)
 		}
 	case OpAdd:

@@ -402,11 +402,10 @@ func TestNilWeights(t *testing.T) {
 	}
 }
 
-// TestDecodeRefusesHugeInput is the hostile file of issue 12: the default
-// weights file edited to claim a 4096×2048 input (in the config and in the
-// plain fields) made one Estimate allocate 12.6 GB. It must be refused from
-// the metadata, with the numbers, allocating no more than parsing the file
-// takes.
+// TestDecodeRefusesHugeInput: the default weights file edited to claim a
+// 4096×2048 input (in the config and in the plain fields) would make every
+// Net allocate gigabytes. It must be refused from the metadata, with the
+// numbers, allocating no more than parsing the file takes.
 func TestDecodeRefusesHugeInput(t *testing.T) {
 	huge := rewrite(t, defaultWeights, func(h map[string]any) []byte {
 		m := meta(h)

@@ -206,9 +206,8 @@ func TestParseBoundedAllocation(t *testing.T) {
 	}
 }
 
-// TestParseManyTensors checks the header of 1.5 million empty tensors of
-// issue 12 (an 89 MB file that took 17 s and 3.4 GB of allocation to refuse):
-// it is refused at tensor MaxTensors+1, allocating a bounded amount (the
+// TestParseManyTensors: a header of 1.5 million empty tensors (an 89 MB
+// file) is refused at tensor MaxTensors+1, allocating a bounded amount (the
 // MaxTensors tensors read so far), and a header of exactly MaxTensors
 // tensors is accepted.
 func TestParseManyTensors(t *testing.T) {

@@ -176,7 +176,7 @@ func run(ctx context.Context, o options, ds *dataset.Set, stdout, stderr io.Writ
 }
 
 // adapt fine-tunes w on the pairs of ds (left and right images only).
-func adapt(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, stderr io.Writer) (*model.Weights, *train.Result, error) {
+func adapt(ctx context.Context, o options, ds *dataset.Set, w *model.Weights, stderr io.Writer) (*model.Weights, *train.RunResult, error) {
 	batch := min(o.batch, len(ds.Pairs))
 	// With -flip the estimate also runs on mirrored images: mirror half of
 	// the adaptation samples (and swap their views, see data.FlipSwap) so

@@ -95,8 +95,8 @@ type TrainerOptions struct {
 	Progress func(Progress)
 }
 
-// Result summarises a run of Trainer.Run.
-type Result struct {
+// RunResult summarises a run of Trainer.Run.
+type RunResult struct {
 	// Step is the number of steps done (skipped ones included), counted
 	// from the start of the training, not of this call.
 	Step int
@@ -297,8 +297,8 @@ func (t *Trainer) Resume(c *Checkpoint) error {
 // file, say) or of the graph end the run and are returned; after a data
 // source error past step 0 Run first writes a checkpoint of the completed
 // steps (if TrainerOptions.CheckpointPath is set) and names it in the error.
-func (t *Trainer) Run(ctx context.Context) (*Result, error) {
-	res := &Result{}
+func (t *Trainer) Run(ctx context.Context) (*RunResult, error) {
+	res := &RunResult{}
 	defer func() {
 		res.Step, res.Skips, res.First, res.Last = t.step, t.skips, t.first, t.last
 	}()
@@ -382,7 +382,7 @@ func (t *Trainer) Run(ctx context.Context) (*Result, error) {
 // state is the one after the last completed step: no step has begun on the
 // failed batch. It returns err, with the checkpoint named or its own
 // failure added.
-func (t *Trainer) saveOnDataError(res *Result, err error) error {
+func (t *Trainer) saveOnDataError(res *RunResult, err error) error {
 	if t.opt.CheckpointPath == "" || t.step == 0 {
 		return err
 	}
