@@ -69,3 +69,35 @@ func rightWinners(sum []uint16, np, n, w, lo int, rarg []int32, t, a []uint16) {
 		}
 	}
 }
+
+// useAVX512 selects the AVX-512 matching-cost kernel (VPOPCNTQ).
+var useAVX512 = hasAVX512
+
+var hasAVX512 = cpu.X86.HasAVX512F && cpu.X86.HasAVX512VPOPCNTDQ
+
+//go:noescape
+func costRowAVX512(cost *uint8, np int, cl, rev *uint64, w, lo int)
+
+// costRow is costRowGeneric with the fastest kernel; rev is scratch of
+// 2w+np words.
+func costRow(cost []uint8, cl, cr []uint64, w, lo, n, np int, costMax uint8, rev []uint64) {
+	if !useAVX512 || np%16 != 0 || lo >= w {
+		costRowGeneric(cost, cl, cr, w, lo, n, np, costMax)
+		return
+	}
+	// Right column x−lo−d is rev[w−1−x+lo+d]: increasing in d.
+	rev = rev[:w+lo+np]
+	for j := range w {
+		rev[j] = cr[w-1-j]
+	}
+	clear(rev[w:])
+	_, _ = cost[w*np-1], cl[w-1]
+	costRowAVX512(&cost[0], np, &cl[0], &rev[0], w, lo)
+	for x := range w {
+		k := max(min(n, x-lo+1), 0)
+		c := cost[x*np : (x+1)*np]
+		for d := k; d < np; d++ {
+			c[d] = costMax
+		}
+	}
+}

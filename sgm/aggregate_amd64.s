@@ -309,3 +309,41 @@ next:
 
 	VZEROUPPER
 	RET
+
+// func costRowAVX512(cost *uint8, np int, cl, rev *uint64, w, lo int)
+//
+// The Hamming distances of costRowGeneric (census.go) at every level
+// 0 … np−1, 8 at a time: rev holds the right row's census words reversed,
+// so that pixel x's levels read rev[w−1−x+lo …] upwards. The caller
+// overwrites the levels without a right pixel.
+TEXT ·costRowAVX512(SB), NOSPLIT, $0-48
+	MOVQ cost+0(FP), DI
+	MOVQ np+8(FP), BX
+	MOVQ cl+16(FP), R8
+	MOVQ rev+24(FP), SI
+	MOVQ w+32(FP), CX
+	MOVQ lo+40(FP), AX
+	LEAQ -1(CX)(AX*1), DX
+	LEAQ (SI)(DX*8), SI            // &rev[w−1+lo]: pixel 0's level 0
+
+pixel:
+	VPBROADCASTQ (R8), Z15
+	XORQ AX, AX
+level:
+	VMOVDQU64 (SI)(AX*8), Z0
+	VPXORQ Z15, Z0, Z0
+	VPOPCNTQ Z0, Z0
+	VPMOVQB Z0, X0
+	MOVQ X0, (DI)(AX*1)
+	ADDQ $8, AX
+	CMPQ AX, BX
+	JLT level
+
+	ADDQ BX, DI
+	ADDQ $8, R8
+	SUBQ $8, SI
+	DECQ CX
+	JNZ pixel
+
+	VZEROUPPER
+	RET

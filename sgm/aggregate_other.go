@@ -18,3 +18,11 @@ func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {
 func rightWinners(sum []uint16, np, n, w, lo int, rarg []int32, t, a []uint16) {
 	rightWinnersGeneric(sum, np, n, w, lo, rarg)
 }
+
+const hasAVX512 = false
+
+var useAVX512 = false
+
+func costRow(cost []uint8, cl, cr []uint64, w, lo, n, np int, costMax uint8, rev []uint64) {
+	costRowGeneric(cost, cl, cr, w, lo, n, np, costMax)
+}

@@ -104,8 +104,8 @@ func TestKernelsSameResult(t *testing.T) {
 	}
 	l, r := stepPair(130, 50, 60, 5, 13)
 	a := match(t, nil, l, r)
-	useAVX2 = false
-	defer func() { useAVX2 = hasAVX2 }()
+	useAVX2, useAVX512 = false, false
+	defer func() { useAVX2, useAVX512 = hasAVX2, hasAVX512 }()
 	if b := match(t, nil, l, r); !sameResult(a, b) {
 		t.Error("the portable kernel gives another result than the AVX2 one")
 	}

@@ -3,6 +3,7 @@ package sgm
 import (
 	"image"
 	"image/color"
+	"math/bits"
 )
 
 // greyRow writes row y (counted from the top of its bounds) of img's luma
@@ -99,5 +100,23 @@ func darkerGeneric(acc, n, c []uint8) {
 			bit = 1
 		}
 		acc[x] = acc[x]<<1 | bit
+	}
+}
+
+// costRowGeneric writes the matching costs of one row: for left pixel x and
+// level d, the Hamming distance between the census words cl[x] and
+// cr[x−lo−d] at cost[x·np+d], or costMax where x−lo−d < 0 and at the
+// levels n … np−1.
+func costRowGeneric(cost []uint8, cl, cr []uint64, w, lo, n, np int, costMax uint8) {
+	for x := range w {
+		c := cost[x*np : (x+1)*np]
+		k := max(min(n, x-lo+1), 0)
+		l := cl[x]
+		for d := range k {
+			c[d] = uint8(bits.OnesCount64(l ^ cr[x-lo-d]))
+		}
+		for d := k; d < np; d++ {
+			c[d] = costMax
+		}
 	}
 }

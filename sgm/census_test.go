@@ -32,3 +32,25 @@ func TestDarkerKernels(t *testing.T) {
 		useAVX2 = hasAVX2
 	}
 }
+
+// The AVX-512 matching costs equal the portable ones, border strip and
+// unused levels included.
+func TestCostRowKernels(t *testing.T) {
+	if !hasAVX512 {
+		t.Skip("no AVX-512 VPOPCNTQ kernel on this machine or build")
+	}
+	r := rand.New(rand.NewPCG(12, 13))
+	for _, c := range []struct{ w, lo, n, np int }{{40, 0, 16, 16}, {37, 3, 20, 32}, {100, 0, 48, 48}, {90, 10, 63, 64}, {20, 0, 80, 80}, {12, 11, 5, 16}} {
+		cl, cr := make([]uint64, c.w), make([]uint64, c.w)
+		for i := range cl {
+			cl[i], cr[i] = r.Uint64(), r.Uint64()
+		}
+		want := make([]uint8, c.w*c.np)
+		got := make([]uint8, c.w*c.np)
+		costRowGeneric(want, cl, cr, c.w, c.lo, c.n, c.np, 62)
+		costRow(got, cl, cr, c.w, c.lo, c.n, c.np, 62, make([]uint64, 2*c.w+c.np))
+		if !slices.Equal(got, want) {
+			t.Errorf("%+v: AVX-512 costs differ from the portable ones", c)
+		}
+	}
+}

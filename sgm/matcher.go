@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"image"
 	"math"
-	"math/bits"
 
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
@@ -213,6 +212,7 @@ type worker struct {
 	rowP2     []uint16 // per row range: 2×w penalties
 	rowInt    []int32  // per row range: 2×w
 	slide     []uint16 // per row range: 2 vectors for the right view's winners
+	rev       []uint64 // per row range: 2w+np census words of a right row, reversed
 	lineVec   []uint16 // 2 (alternating rows) × lines path vectors
 	lineMin   []uint16 // 2 × lines minima
 	lineP2    []uint16 // per line: the penalty of its current step
@@ -275,6 +275,7 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.rowP2 = grow(wk.rowP2, ranges*2*w)
 	wk.rowInt = grow(wk.rowInt, ranges*2*w)
 	wk.slide = grow(wk.slide, ranges*2*vs)
+	wk.rev = grow(wk.rev, ranges*(2*w+wk.np))
 	wk.censusAcc = grow(wk.censusAcc, (2*h+wk.rowGrain-1)/wk.rowGrain*8*w)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
@@ -395,19 +396,7 @@ func (wk *worker) rowRange(lo, hi int) {
 		cost := wk.cost[y*w*np : (y+1)*w*np]
 		sum := wk.sum[y*w*np : (y+1)*w*np]
 		cl, cr := wk.censL[y*w:(y+1)*w], wk.censR[y*w:(y+1)*w]
-		costMax := wk.costMax
-		for x := range w {
-			c := cost[x*np : (x+1)*np]
-			// Disparity lo+d matches right column x−lo−d.
-			k := max(min(n, x-wk.lo+1), 0)
-			l := cl[x]
-			for d := range k {
-				c[d] = uint8(bits.OnesCount64(l ^ cr[x-wk.lo-d]))
-			}
-			for d := k; d < np; d++ {
-				c[d] = costMax
-			}
-		}
+		costRow(cost, cl, cr, w, wk.lo, n, np, wk.costMax, wk.rev[ri*(2*w+np):(ri+1)*(2*w+np)])
 		g := wk.greyL[y*w : (y+1)*w]
 		for x := 1; x < w; x++ {
 			p := wk.p2[absDiff(g[x], g[x-1])]
