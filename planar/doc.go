@@ -17,4 +17,8 @@
 //   - Disparity is positive and expressed as a fraction of the image width;
 //     see package warp for its sign.
 //   - Masks hold 1 for a valid pixel and 0 for an invalid one.
+//   - Size limits for data from outside are the module's one set: MaxSide
+//     and MaxPixels bound an image or map (CheckSize), MaxValues bounds
+//     N·C·H·W of an Image. Packages that read files or images refer to
+//     them rather than defining their own.
 package planar

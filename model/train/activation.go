@@ -66,21 +66,22 @@ func nodeSigmoidScale(name string, x *G.Node, scale float64) (*G.Node, error) {
 	return apply(op, name, x)
 }
 
-// nodeScale adds factor·x, cpu.ScaleShift with no shift, as the node name.
-// It returns an error if factor is not finite.
-func nodeScale(name string, x *G.Node, factor float64) (*G.Node, error) {
+// nodeScale adds factor·x + shift, cpu.ScaleShift, as the node name (the
+// stereo network shifts a disparity by a constant number of pixels). It
+// returns an error if factor or shift is not finite.
+func nodeScale(name string, x *G.Node, factor, shift float64) (*G.Node, error) {
 	s, err := anyShape("scale "+name, x)
 	if err != nil {
 		return nil, err
 	}
-	if math.IsNaN(factor) || math.IsInf(factor, 0) {
-		return nil, fmt.Errorf("train: scale %q: factor %v is not finite", name, factor)
+	if math.IsNaN(factor) || math.IsInf(factor, 0) || math.IsNaN(shift) || math.IsInf(shift, 0) {
+		return nil, fmt.Errorf("train: scale %q: factor %v and shift %v must be finite", name, factor, shift)
 	}
-	k := float32(factor)
-	param := fmt.Sprintf("factor %v", k)
+	k, b := float32(factor), float32(shift)
+	param := fmt.Sprintf("factor %v shift %v", k, b)
 	op := newKernelOp("scale", name, param, s, s)
 	op.run = func(y []float32, in [][]float32) error {
-		cpu.ScaleShift(y, in[0], k, 0)
+		cpu.ScaleShift(y, in[0], k, b)
 		return nil
 	}
 	op.diff = []bool{true}

@@ -149,11 +149,8 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 		case model.OpConcat:
 			out, err = nodeConcat(l.Name, ins...)
 		case model.OpScale:
-			if f, shift := l.ScaleShift(); shift == 0 {
-				out, err = nodeScale(l.Name, ins[0], f)
-			} else {
-				out, err = nodeScaleShift(l.Name, ins[0], f, shift)
-			}
+			f, shift := l.ScaleShift()
+			out, err = nodeScale(l.Name, ins[0], f, shift)
 		case model.OpCorrelation:
 			out, err = nodeCorrelation(l.Name, ins[0], ins[1], l.Disps)
 		case model.OpWarp:

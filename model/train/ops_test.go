@@ -73,13 +73,15 @@ func TestOperatorGradients(t *testing.T) {
 			},
 		},
 		{
-			name:   "scale",
+			name:   "scale and shift",
 			shapes: []tensor.Shape{{1, 2, 3, 4}},
 			lo:     -1, hi: 1,
-			build: func(in []*G.Node) (*G.Node, error) { return nodeScale("k", in[0], -2.5) },
+			build: func(in []*G.Node) (*G.Node, error) { return nodeScale("k", in[0], -2.5, 0.75) },
 			want: func(in [][]float32) []float32 {
 				y := make([]float32, len(in[0]))
-				cpu.ScaleShift(y, in[0], -2.5, 0)
+				for i, v := range in[0] {
+					y[i] = -2.5*v + 0.75 // the definition
+				}
 				return y
 			},
 		},

@@ -2,7 +2,6 @@ package train
 
 import (
 	"fmt"
-	"math"
 
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/internal/cpu"
@@ -10,36 +9,6 @@ import (
 	G "gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
 )
-
-// nodeScaleShift adds factor·x + shift, cpu.ScaleShift, as the node name: the
-// stereo network's shift of a disparity by a constant number of pixels.
-func nodeScaleShift(name string, x *G.Node, factor, shift float64) (*G.Node, error) {
-	s, err := anyShape("scale "+name, x)
-	if err != nil {
-		return nil, err
-	}
-	if math.IsNaN(factor) || math.IsInf(factor, 0) || math.IsNaN(shift) || math.IsInf(shift, 0) {
-		return nil, fmt.Errorf("train: scale %q: factor %v and shift %v must be finite", name, factor, shift)
-	}
-	k, b := float32(factor), float32(shift)
-	param := fmt.Sprintf("factor %v shift %v", k, b)
-	op := newKernelOp("scaleshift", name, param, s, s)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.ScaleShift(y, in[0], k, b)
-		return nil
-	}
-	op.diff = []bool{true}
-	op.grad = func(_ G.Nodes, _, dy *G.Node) (G.Nodes, error) {
-		d := newKernelOp("scaleshift.dx", name, param, s, s)
-		d.run = func(out []float32, in [][]float32) error {
-			cpu.ScaleShift(out, in[0], k, 0)
-			return nil
-		}
-		g, err := apply(d, name+".dx", dy)
-		return G.Nodes{g}, err
-	}
-	return apply(op, name, x)
-}
 
 // nodeAdd adds a + b (equal shapes), cpu.Add, as the node name. The
 // gradient of each input is the upstream gradient itself, passed on by a
