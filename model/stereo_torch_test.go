@@ -5,6 +5,7 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"flag"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -84,6 +85,19 @@ func TestStereoTorchWalk(t *testing.T) {
 		"arch.json": append(archJSON, '\n'),
 		"input.bin": f32bytes(left, right),
 		"match.bin": f32bytes(match...),
+	}
+	// The default architecture at the two benchmark sizes, for
+	// bench_torch_stereo.py.
+	for _, sz := range [][2]int{{256, 128}, {384, 288}} {
+		da, err := Build(Config{Arch: StereoArchName, Width: sz[0], Height: sz[1]})
+		if err != nil {
+			t.Fatal(err)
+		}
+		j, err := json.MarshalIndent(da, "", " ")
+		if err != nil {
+			t.Fatal(err)
+		}
+		inputs[fmt.Sprintf("default_arch_%dx%d.json", sz[0], sz[1])] = append(j, '\n')
 	}
 	if *updateStereoTorch {
 		if err := w.Save(filepath.Join(dir, "weights.safetensors"), safetensors.F32); err != nil {
