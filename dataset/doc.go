@@ -10,6 +10,7 @@
 //	DIR/left/NAME.png     left image (PNG or JPEG: .png, .jpg, .jpeg)
 //	DIR/right/NAME.png    right image, same NAME and size as the left one
 //	DIR/rig.json          optional rig description (see depth.ReadRig), for the stored size
+//	DIR/rigs/NAME.json    or: each pair's own rig, for its stored size
 //	DIR/truth/disp_left/NAME.pfm   optional: left disparity, pixels, PFM float32
 //	DIR/truth/disp_right/NAME.pfm  optional: right disparity, pixels
 //	DIR/truth/depth_left/NAME.pfm  optional: left depth, metres
@@ -21,8 +22,10 @@
 // Files with other extensions and names starting with "." are ignored.
 // Every left image needs a right partner and every right image a left one;
 // a truth folder that exists must hold a file for every pair and nothing
-// else. Open reports each violation by file name; nothing is skipped
-// silently. Images whose sizes disagree, corrupt files and truth maps of
+// else. A set has one rig for every pair (rig.json), a rig for each pair
+// (rigs/, one file per pair and none of no pair), or none; a folder with
+// both is refused. Open reports each violation by file name; nothing is
+// skipped silently. Images whose sizes disagree, corrupt files and truth maps of
 // the wrong size are errors naming the file.
 //
 // # Conventions

@@ -21,8 +21,17 @@ const (
 // kinds lists the truth kinds in the order Set.Truth and WriteRecord use.
 var kinds = []Kind{DispLeft, DispRight, DepthLeft, OccLeft, OccRight}
 
-// RigFile is the rig's file name in a data-set folder.
+// RigFile is the rig's file name in a data-set folder whose pairs share
+// one rig.
 const RigFile = "rig.json"
+
+// RigsDir is the folder, in a data-set folder whose pairs have a rig each,
+// of the pairs' rigs: RigsDir/NAME.json (see Kind.Path for NAME). A set has
+// either RigFile or RigsDir, never both.
+const RigsDir = "rigs"
+
+// rigExt is the extension of the files in RigsDir.
+const rigExt = ".json"
 
 const (
 	leftDir  = "left"

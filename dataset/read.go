@@ -31,6 +31,9 @@ type Record struct {
 	// OccLeft and OccRight are the occlusion maps as decoded (grey, 255 =
 	// hidden in the other view), or nil.
 	OccLeft, OccRight image.Image
+	// Rig is the pair's rig at the stored size (PairFiles.Rig, a copy), or
+	// nil if the set has none. Set.Read fills it; WriteRecord ignores it.
+	Rig *depth.Rig
 }
 
 // Read decodes pair i of s and the ground truth the set has, at the stored
@@ -43,6 +46,10 @@ func (s *Set) Read(i int) (*Record, error) {
 	}
 	p := s.Pairs[i]
 	r := &Record{Name: p.Name}
+	if p.Rig != nil {
+		rig := *p.Rig
+		r.Rig = &rig
+	}
 	var err error
 	if r.Left, err = decodeFile(p.Left, p.Width, p.Height); err != nil {
 		return nil, err

@@ -24,6 +24,10 @@ type PairFiles struct {
 	Width, Height int
 	// Truth maps a truth kind to its file; kinds the set lacks are absent.
 	Truth map[Kind]string
+	// Rig is the pair's rig at the stored size: the set's rig (Set.Rig)
+	// or the pair's own (DIR/rigs/NAME.json), or nil if the set has none.
+	// Pairs of one set may share the pointer: do not modify it.
+	Rig *depth.Rig
 }
 
 // Set is a data set: pairs sorted by name, the truth kinds they all have
@@ -31,8 +35,10 @@ type PairFiles struct {
 type Set struct {
 	// Dir is the folder, or "" for a set made by FromFiles.
 	Dir string
-	// Rig is the rig at the stored size (DIR/rig.json, or the rig file
-	// given to FromFiles rescaled to the images), or nil if there is none.
+	// Rig is the rig every pair shares, at the stored size (DIR/rig.json,
+	// or the rig file given to FromFiles rescaled to the images), or nil if
+	// there is none or the pairs have a rig each (DIR/rigs/NAME.json). Each
+	// pair's rig, whichever the layout, is PairFiles.Rig.
 	Rig *depth.Rig
 	// Pairs, sorted by Name.
 	Pairs []PairFiles
@@ -44,14 +50,29 @@ type Set struct {
 // Has reports whether every pair of s has ground truth of kind k.
 func (s *Set) Has(k Kind) bool { return slices.Contains(s.Truth, k) }
 
+// HasRig reports whether every pair of s has a rig (PairFiles.Rig), from
+// a set-wide rig.json or from rigs/NAME.json.
+func (s *Set) HasRig() bool {
+	if len(s.Pairs) == 0 {
+		return false
+	}
+	for i := range s.Pairs {
+		if s.Pairs[i].Rig == nil {
+			return false
+		}
+	}
+	return true
+}
+
 // maxListed bounds the names quoted in one error message.
 const maxListed = 10
 
 // Open scans dir (see the package documentation for the layout) and reads
-// the header of every image to check sizes. It returns an error naming the
-// files if an image lacks its partner, sizes disagree, a header is corrupt
-// or too large, a truth folder is incomplete, or rig.json is invalid or for
-// another size.
+// the header of every image to check sizes, and the rigs. It returns an
+// error naming the files if an image lacks its partner, sizes disagree, a
+// header is corrupt or too large, a truth folder is incomplete, a rig file
+// is invalid or for another size, the folder holds both rig.json and
+// rigs/, or rigs/ lacks a pair's rig or holds one of no pair.
 func Open(dir string) (*Set, error) {
 	s := &Set{Dir: dir}
 	left, err := listStems(dir, leftDir, imageExts...)
@@ -122,18 +143,8 @@ func Open(dir string) (*Set, error) {
 		return nil, err
 	}
 
-	rigPath := filepath.Join(dir, RigFile)
-	if _, err := os.Stat(rigPath); err == nil {
-		rig, err := depth.LoadRig(rigPath)
-		if err != nil {
-			return nil, fmt.Errorf("dataset: %w", err)
-		}
-		for _, p := range s.Pairs {
-			if p.Width != rig.Width || p.Height != rig.Height {
-				return nil, fmt.Errorf("dataset: %s describes %d×%d images but %s is %d×%d", rigPath, rig.Width, rig.Height, rel(dir, p.Left), p.Width, p.Height)
-			}
-		}
-		s.Rig = rig
+	if err := s.readRigs(dir, left); err != nil {
+		return nil, err
 	}
 	return s, nil
 }
@@ -182,8 +193,67 @@ func FromFiles(left, right string, truth map[Kind]string, rigPath string) (*Set,
 		if s.Rig, err = rig.Scaled(p.Width, p.Height); err != nil {
 			return nil, fmt.Errorf("dataset: %s and %s: %w", left, rigPath, err)
 		}
+		s.Pairs[0].Rig = s.Rig
 	}
 	return s, nil
+}
+
+// readRigs reads the rigs of the set in dir, whose left images are left
+// (stems to paths): DIR/rig.json for every pair, or DIR/rigs/NAME.json for
+// each, never both, and each for its pair's stored size.
+func (s *Set) readRigs(dir string, left map[string]string) error {
+	rigPath := filepath.Join(dir, RigFile)
+	_, err := os.Stat(rigPath)
+	hasFile := err == nil
+	files, err := listStems(dir, RigsDir, rigExt)
+	hasDir := !errors.Is(err, fs.ErrNotExist)
+	if hasDir && err != nil {
+		return err
+	}
+	switch {
+	case hasFile && hasDir:
+		return fmt.Errorf("dataset: %s holds both %s (one rig for every pair) and %s/ (a rig for each pair); keep one", dir, RigFile, RigsDir)
+	case hasFile:
+		rig, err := depth.LoadRig(rigPath)
+		if err != nil {
+			return fmt.Errorf("dataset: %w", err)
+		}
+		for i := range s.Pairs {
+			p := &s.Pairs[i]
+			if p.Width != rig.Width || p.Height != rig.Height {
+				return fmt.Errorf("dataset: %s describes %d×%d images but %s is %d×%d", rigPath, rig.Width, rig.Height, rel(dir, p.Left), p.Width, p.Height)
+			}
+			p.Rig = rig
+		}
+		s.Rig = rig
+	case hasDir:
+		var problems []string
+		for i := range s.Pairs {
+			p := &s.Pairs[i]
+			path, ok := files[p.Name]
+			if !ok {
+				problems = append(problems, fmt.Sprintf("pair %q has no %s", p.Name, filepath.Join(RigsDir, p.Name+rigExt)))
+				continue
+			}
+			rig, err := depth.LoadRig(path)
+			if err != nil {
+				problems = append(problems, err.Error())
+				continue
+			}
+			if p.Width != rig.Width || p.Height != rig.Height {
+				problems = append(problems, fmt.Sprintf("%s describes %d×%d images but %s is %d×%d", rel(dir, path), rig.Width, rig.Height, rel(dir, p.Left), p.Width, p.Height))
+				continue
+			}
+			p.Rig = rig
+		}
+		for _, name := range sortedKeys(files) {
+			if _, ok := left[name]; !ok {
+				problems = append(problems, fmt.Sprintf("%s belongs to no pair", rel(dir, files[name])))
+			}
+		}
+		return report("problems with the pairs' rigs in "+RigsDir+"/", problems)
+	}
+	return nil
 }
 
 // pairSize reads the sizes of a pair's images from their headers and

@@ -17,7 +17,8 @@ import (
 // it creates dir, left/ and right/, and writes rig.json. If dir already
 // holds a rig.json for another rig, Create refuses to mix the two and
 // returns an error (a data set has one rig); with the same rig it leaves the
-// pairs already there in place.
+// pairs already there in place. It refuses a dir that holds rigs/ (pairs
+// with a rig each, see WritePairRig).
 func Create(dir string, rig *depth.Rig) error {
 	if rig == nil {
 		return errors.New("dataset: Create: nil rig")
@@ -26,6 +27,9 @@ func Create(dir string, rig *depth.Rig) error {
 		return fmt.Errorf("dataset: %w", err)
 	}
 	rigPath := filepath.Join(dir, RigFile)
+	if _, err := os.Stat(filepath.Join(dir, RigsDir)); err == nil {
+		return fmt.Errorf("dataset: %s already holds a data set whose pairs have a rig each (%s/); write a set of one rig into an empty folder", dir, RigsDir)
+	}
 	if _, err := os.Stat(rigPath); err == nil {
 		old, err := depth.LoadRig(rigPath)
 		if err != nil {
@@ -47,11 +51,43 @@ func Create(dir string, rig *depth.Rig) error {
 	return nil
 }
 
+// WritePairRig writes rig as the own rig of pair name in the data-set
+// folder dir: rigs/NAME.json (depth.SaveRig), atomically, for a set whose
+// pairs have a rig each. The rig is for the pair's stored size (Open checks
+// it). It returns an error if dir holds a rig.json (a set of one rig),
+// name is not a plain file name, or the rig is invalid.
+func WritePairRig(dir, name string, rig *depth.Rig) error {
+	if rig == nil {
+		return errors.New("dataset: WritePairRig: nil rig")
+	}
+	if err := checkName(name); err != nil {
+		return err
+	}
+	if _, err := os.Stat(filepath.Join(dir, RigFile)); err == nil {
+		return fmt.Errorf("dataset: %s already holds a data set of one rig (%s); write pairs that have a rig each into an empty folder", dir, RigFile)
+	}
+	if err := os.MkdirAll(filepath.Join(dir, RigsDir), 0o755); err != nil {
+		return fmt.Errorf("dataset: %w", err)
+	}
+	if err := depth.SaveRig(filepath.Join(dir, RigsDir, name+rigExt), rig); err != nil {
+		return fmt.Errorf("dataset: pair %s: %w", name, err)
+	}
+	return nil
+}
+
+func checkName(name string) error {
+	if name == "" || filepath.Base(name) != name || name[0] == '.' {
+		return fmt.Errorf("dataset: pair name %q must be a plain file name", name)
+	}
+	return nil
+}
+
 // WriteRecord writes r into the data-set folder dir under r.Name, in the layout
 // of the package documentation: the images as PNG (left/NAME.png,
 // right/NAME.png), disparities and depth as single-channel PFM (invalid
 // pixels as 0) and occlusion maps as PNG, for the truth r holds. It creates
-// the folders it needs; it does not write rig.json (Create does). Every file
+// the folders it needs; it writes no rig (Create writes rig.json,
+// WritePairRig a pair's own; r.Rig is not read). Every file
 // is written atomically. Write every pair of a set with the same truth
 // kinds: Open refuses a truth folder that lacks a pair. It returns an error
 // if r.Name is not a plain file name, an image is missing, or the sizes
@@ -60,8 +96,8 @@ func WriteRecord(dir string, r *Record) error {
 	if r == nil || r.Left == nil || r.Right == nil {
 		return errors.New("dataset: WriteRecord: nil record or image")
 	}
-	if r.Name == "" || filepath.Base(r.Name) != r.Name || r.Name[0] == '.' {
-		return fmt.Errorf("dataset: pair name %q must be a plain file name", r.Name)
+	if err := checkName(r.Name); err != nil {
+		return err
 	}
 	size := r.Left.Bounds().Size()
 	var steps []func() error

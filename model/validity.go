@@ -15,7 +15,10 @@ import (
 //
 //   - Range: with a rig, a pixel whose depth lies outside the rig's range of
 //     interest [MinDepth, MaxDepth] (depth.Rig.MaskRange) is invalid.
-func (e *Estimator) applyValidity(est *Estimate) {
+func (e *Estimator) applyValidity(est *Estimate) { applyValidity(est) }
+
+// applyValidity is Estimator.applyValidity, for Estimate.SetRig too.
+func applyValidity(est *Estimate) {
 	if est.Depth == nil || est.Rig == nil {
 		return
 	}

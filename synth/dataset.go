@@ -12,11 +12,6 @@ import (
 	"github.com/parallaxdepth/parallax/planar"
 )
 
-// DirRigs is the folder, in a data-set folder, of the rigs of varied pairs:
-// rigs/NAME.json (depth.SaveRig), written in place of dataset.RigFile
-// because each varied pair has a rig of its own.
-const DirRigs = "rigs"
-
 // PairName returns the file name stem of pair index: six digits, zero
 // padded ("000042"); more digits for indices of a million and beyond.
 func PairName(index int) string { return fmt.Sprintf("%06d", index) }
@@ -50,7 +45,7 @@ func (p *Pair) Record(name string) (*dataset.Record, error) {
 
 // Save writes p into the data-set folder dir under the stem name, through
 // dataset.WriteRecord (see Record for what is written), and for a varied pair
-// its rig as rigs/NAME.json. It does not write rig.json (WriteDataset
+// its rig as rigs/NAME.json (dataset.WritePairRig). It does not write rig.json (WriteDataset
 // does). Every file is written atomically.
 func (p *Pair) Save(dir, name string) error {
 	r, err := p.Record(name)
@@ -61,10 +56,7 @@ func (p *Pair) Save(dir, name string) error {
 		return fmt.Errorf("synth: saving pair %s: %w", name, err)
 	}
 	if p.Capture != nil {
-		if err := os.MkdirAll(filepath.Join(dir, DirRigs), 0o755); err != nil {
-			return fmt.Errorf("synth: %w", err)
-		}
-		if err := depth.SaveRig(filepath.Join(dir, DirRigs, name+".json"), p.Rig); err != nil {
+		if err := dataset.WritePairRig(dir, name, p.Rig); err != nil {
 			return fmt.Errorf("synth: saving pair %s: %w", name, err)
 		}
 	}

@@ -396,7 +396,7 @@ func TestVariedDepthSpan(t *testing.T) {
 
 // TestVariedDataset writes varied pairs and reads each pair's rig back
 // from rigs/NAME.json: it must be the pair's rig, no rig.json is written,
-// and package dataset opens the folder. A folder holding a one-rig data
+// and package dataset opens the folder with each pair's rig. A folder holding a one-rig data
 // set is refused.
 func TestVariedDataset(t *testing.T) {
 	dir := t.TempDir()
@@ -408,12 +408,14 @@ func TestVariedDataset(t *testing.T) {
 	if _, ok := files[dataset.RigFile]; ok {
 		t.Error("varied dataset has a rig.json")
 	}
-	// Package dataset reads the folder as a set without one rig.
-	if ds, err := dataset.Open(dir); err != nil || len(ds.Pairs) != 2 || ds.Rig != nil {
-		t.Errorf("dataset.Open: %v (want 2 pairs and no rig)", err)
+	// Package dataset reads the folder as a set without one rig, each
+	// pair with its own.
+	ds, err := dataset.Open(dir)
+	if err != nil || len(ds.Pairs) != 2 || ds.Rig != nil || !ds.HasRig() {
+		t.Fatalf("dataset.Open: %v (want 2 pairs, no set-wide rig, a rig each)", err)
 	}
 	for i := 0; i < 2; i++ {
-		got, err := depth.LoadRig(filepath.Join(dir, DirRigs, PairName(i)+".json"))
+		got, err := depth.LoadRig(filepath.Join(dir, dataset.RigsDir, PairName(i)+".json"))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -423,6 +425,9 @@ func TestVariedDataset(t *testing.T) {
 		}
 		if *got != *p.Rig {
 			t.Errorf("pair %d: rig file %+v, pair rig %+v", i, got, p.Rig)
+		}
+		if *ds.Pairs[i].Rig != *p.Rig {
+			t.Errorf("pair %d: dataset's rig %+v, pair rig %+v", i, ds.Pairs[i].Rig, p.Rig)
 		}
 	}
 	one := t.TempDir()

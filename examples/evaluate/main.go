@@ -131,8 +131,8 @@ func run(ctx context.Context, o options, ds *dataset.Set, stdout, stderr io.Writ
 		dir = o.source
 	}
 	hasDisp, hasDepth := evaluation.Scorable(ds)
-	if ds.Has(dataset.DepthLeft) && ds.Rig == nil {
-		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig.json: depth is not scored\n", dir)
+	if ds.Has(dataset.DepthLeft) && !ds.HasRig() {
+		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig.json nor rigs/: depth is not scored\n", dir)
 	}
 	if !hasDisp && !hasDepth {
 		return fmt.Errorf("evaluate: %s has no truth/disp_left or truth/depth_left to score against", dir)
@@ -283,7 +283,11 @@ func evaluate(ctx context.Context, o options, ds *dataset.Set, w *model.Weights,
 		if many {
 			s.AddDepth("mean", rep.Depth)
 		}
-		if err := print(stdout, fmt.Sprintf("depth (metres, no median scaling, ground truth within %.2f … %.2f m)", ds.Rig.MinDepth, ds.Rig.MaxDepth), &s, o.csv); err != nil {
+		within := "each pair's rig's range"
+		if ds.Rig != nil {
+			within = fmt.Sprintf("%.2f … %.2f m", ds.Rig.MinDepth, ds.Rig.MaxDepth)
+		}
+		if err := print(stdout, fmt.Sprintf("depth (metres, no median scaling, ground truth within %s)", within), &s, o.csv); err != nil {
 			return err
 		}
 	}

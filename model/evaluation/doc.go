@@ -7,11 +7,13 @@
 //
 //   - The left view's disparity against truth/disp_left: EPE and bad-1/2/3
 //     (depth.DisparityErrors), in pixels.
-//   - The left view's metric depth against truth/depth_left, if the set has
-//     a rig: abs rel, sq rel, RMSE, RMSE log and the δ thresholds
+//   - The left view's metric depth against truth/depth_left, if every pair
+//     has a rig (the set's rig.json, or the pair's own rigs/NAME.json for a
+//     set of varied pairs; each pair is converted with its own rig through
+//     model.Estimate.SetRig): abs rel, sq rel, RMSE, RMSE log and the δ thresholds
 //     (depth.DepthErrors) in metres, without median scaling (a calibrated
 //     rig gives metric depth), counting pixels whose truth lies inside the
-//     rig's depth range, with estimates clamped to it.
+//     pair's rig's depth range, with estimates clamped to it.
 //
 // # Resolution
 //

@@ -61,13 +61,13 @@ type Report struct {
 }
 
 // Scorable reports what Score scores on set: disparity if every pair has
-// truth/disp_left, metric depth if every pair has truth/depth_left and the
-// set has a rig.
+// truth/disp_left, metric depth if every pair has truth/depth_left and a
+// rig (the set's rig.json or its own rigs/NAME.json, dataset.Set.HasRig).
 func Scorable(set *dataset.Set) (disparity, metric bool) {
 	if set == nil {
 		return false, false
 	}
-	return set.Has(dataset.DispLeft), set.Has(dataset.DepthLeft) && set.Rig != nil
+	return set.Has(dataset.DispLeft), set.Has(dataset.DepthLeft) && set.HasRig()
 }
 
 // estimator is the part of model.Estimator that Score uses.
@@ -83,7 +83,8 @@ type pairEstimator interface {
 }
 
 // Score estimates every pair of set with the weights w (nil: the embedded
-// default weights) through model.Estimator, with the set's rig, and scores
+// default weights) through model.Estimator, with each pair's rig
+// (model.Estimate.SetRig), and scores
 // the left view against the ground truth (see the package documentation).
 // It returns an error if set has no pair or nothing Scorable, if a file
 // cannot be read (naming it), or if ctx ends.
@@ -104,7 +105,7 @@ func Score(ctx context.Context, w *model.Weights, set *dataset.Set, opt *ScoreOp
 	if disp, z := Scorable(set); !disp && !z {
 		return nil, fmt.Errorf("evaluation: %s has no truth/disp_left, nor truth/depth_left with a rig, to score against", name(set))
 	}
-	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: set.Rig, Flip: o.Flip, MaxWorkers: o.Workers})
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{Flip: o.Flip, MaxWorkers: o.Workers})
 	if err != nil {
 		return nil, fmt.Errorf("evaluation: %w", err)
 	}
@@ -130,10 +131,6 @@ type result struct {
 func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions) (*Report, error) {
 	rep := &Report{}
 	rep.HasDisparity, rep.HasDepth = Scorable(set)
-	var zopt depth.DepthOptions
-	if rep.HasDepth {
-		zopt.MinDepth, zopt.MaxDepth = set.Rig.MinDepth, set.Rig.MaxDepth
-	}
 	var dm depth.DisparityMean
 	var zm depth.DepthMean
 	n := len(set.Pairs)
@@ -154,6 +151,9 @@ func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions
 					res.e, res.err = pe.EstimatePair(ctx, res.r.Left, res.r.Right)
 				} else {
 					res.e, res.err = est.Estimate(ctx, res.r.Left)
+				}
+				if res.err == nil && rep.HasDepth && res.e.Depth == nil {
+					res.err = res.e.SetRig(res.r.Rig)
 				}
 			}()
 		}
@@ -181,6 +181,7 @@ func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions
 				if res.e.Depth == nil {
 					return nil, fmt.Errorf("evaluation: pair %s: the estimator gave no depth", p.Name)
 				}
+				zopt := depth.DepthOptions{MinDepth: res.r.Rig.MinDepth, MaxDepth: res.r.Rig.MaxDepth}
 				m, err := depth.DepthErrors(res.e.Depth, res.r.DepthLeft, &zopt)
 				switch {
 				case errors.Is(err, depth.ErrNoValidPixels):

@@ -200,7 +200,11 @@ func TestScoreErrors(t *testing.T) {
 		t.Fatal(err)
 	}
 	noTruth := &dataset.Set{Dir: "x", Pairs: set.Pairs, Rig: set.Rig}
-	depthNoRig := &dataset.Set{Dir: "y", Pairs: set.Pairs, Truth: []dataset.Kind{dataset.DepthLeft}}
+	unrigged := slices.Clone(set.Pairs)
+	for i := range unrigged {
+		unrigged[i].Rig = nil
+	}
+	depthNoRig := &dataset.Set{Dir: "y", Pairs: unrigged, Truth: []dataset.Kind{dataset.DepthLeft}}
 	for name, c := range map[string]struct {
 		set  *dataset.Set
 		opt  *ScoreOptions
