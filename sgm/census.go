@@ -79,13 +79,14 @@ func censusRow(dst []uint64, pad []uint8, w, cw, ch, y int, acc []uint8) {
 			k++
 		}
 	}
-	groups := (k + 7) / 8
-	for x := range out {
-		var c uint64
-		for g := range groups {
-			c |= uint64(acc[g*w+x]) << (8 * g)
+	for x, v := range acc[:w] {
+		out[x] = uint64(v)
+	}
+	for g := 1; g < (k+7)/8; g++ {
+		sh := uint(8 * g)
+		for x, v := range acc[g*w : (g+1)*w] {
+			out[x] |= uint64(v) << sh
 		}
-		out[x] = c
 	}
 }
 
