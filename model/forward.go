@@ -28,6 +28,9 @@ type Net struct {
 	pair  []float32
 	raw   [Scales][]float32
 	match *Matching
+	// matchFixed, if set (tests only), replaces the OpMatch layers'
+	// outputs, in layer order.
+	matchFixed [][]float32
 }
 
 type step struct {
@@ -38,6 +41,7 @@ type step struct {
 	conv   *cpu.Conv2D
 	warp   warp.Shape
 	level  int // OpMatch
+	nth    int // OpMatch: its index among the match layers
 	weight []float32
 	bias   []float32
 	srcs   [][]float32 // concat: filled from bufs on every call
@@ -140,6 +144,11 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 					return nil, err
 				}
 			}
+			for _, prev := range m.steps {
+				if prev.layer.Op == OpMatch {
+					s.nth++
+				}
+			}
 		case OpPairView:
 			if l.View != ViewLeft && l.View != ViewRight {
 				return nil, fmt.Errorf("model: layer %q has unknown view %v", l.Name, l.View)
@@ -236,6 +245,10 @@ func (m *Net) run(input []float32) error {
 		case OpPairView:
 			PairView(out, x, l.View, m.n, s.in0.C, s.in0.H, s.in0.W)
 		case OpMatch:
+			if m.matchFixed != nil {
+				copy(out, m.matchFixed[s.nth])
+				continue
+			}
 			if err := m.match.Compute(x); err != nil {
 				return err
 			}
