@@ -11,8 +11,9 @@ import (
 // an Estimator with that rig would have: the rig is rescaled to the
 // estimate's size with Rig.Scaled (so a rig of another aspect ratio than
 // the image, beyond depth.MaxAspectChange, is refused), Depth follows from
-// Disparity, and the validity rules are applied (pixels outside the rig's
-// depth range become invalid in both maps). It is for callers whose pairs
+// Disparity, and the range rule is applied (pixels outside the rig's
+// depth range become invalid in both maps; the other validity rules were
+// applied by Estimate). It is for callers whose pairs
 // have a rig each, such as a data set of varied pairs (dataset.PairFiles.Rig),
 // scored with one Estimator. It returns an error for a nil rig or
 // estimate, an estimate that already has a rig, or a rig that does not fit.
@@ -36,6 +37,6 @@ func (est *Estimate) SetRig(rig *depth.Rig) error {
 		return fmt.Errorf("model: %w", err)
 	}
 	est.Rig, est.Depth = r, z
-	applyValidity(est)
+	applyRange(est) // the other rules were applied by Estimate
 	return nil
 }

@@ -51,6 +51,11 @@ type EstimatorOptions struct {
 	// aspect ratios, instead of at a size derived from each input.
 	// Default false.
 	TrainingSize bool
+	// Validity sets the rules that mark pixels invalid: the rig's depth
+	// range, a confidence threshold and a texture threshold (see
+	// ValidityOptions; the zero value applies all three with their
+	// defaults).
+	Validity ValidityOptions
 }
 
 // DefaultMaxSide is the default cap on the longer side of the network's
@@ -142,6 +147,7 @@ type Estimator struct {
 	resize     xdraw.Interpolator
 	maxSide    int
 	fixed      bool
+	validity   ValidityOptions
 	idle       chan *worker
 	tokens     chan struct{} // one per worker that may still be created
 }
@@ -212,13 +218,16 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if o.Resample == nil {
 		o.Resample = xdraw.CatmullRom
 	}
+	if o.Validity, err = o.Validity.resolve(); err != nil {
+		return nil, err
+	}
 	if o.MaxSide == 0 {
 		o.MaxSide = DefaultMaxSide
 	}
 	if _, _, err := NetworkSize(MinSide, MinSide, o.MaxSide); err != nil {
 		return nil, err
 	}
-	e := &Estimator{weights: w, arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample,
+	e := &Estimator{weights: w, arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample, validity: o.Validity,
 		maxSide: o.MaxSide, fixed: o.TrainingSize,
 		idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
 	for range o.MaxWorkers {
@@ -524,6 +533,6 @@ func (e *Estimator) finish(st *stage, width, height int, rig *depth.Rig) (*Estim
 			return nil, fmt.Errorf("model: %w", err)
 		}
 	}
-	e.applyValidity(est) // validity.go
+	applyValidity(est, st.in, e.validity) // validity.go
 	return est, nil
 }

@@ -40,7 +40,8 @@ func demoInputs(t testing.TB) (image.Image, *depth.Rig) {
 // LRConfidence evaluated here pixel by pixel.
 func TestEstimateMatchesNet(t *testing.T) {
 	img, rig := demoInputs(t)
-	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig})
+	// The confidence and texture rules have their own tests (validity_test.go).
+	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig, Validity: ValidityOptions{MinConfidence: ValidityOff, MinTexture: ValidityOff}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -118,7 +119,7 @@ func TestEstimateMatchesNet(t *testing.T) {
 // image for both inputs.
 func TestEstimateOtherSizes(t *testing.T) {
 	img, rig := demoInputs(t)
-	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig, TrainingSize: true})
+	est, err := NewEstimator(nil, &EstimatorOptions{Rig: rig, TrainingSize: true, Validity: validityOff})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -312,7 +313,7 @@ func TestFlipEquivariant(t *testing.T) {
 		}
 	}
 	for _, flip := range []bool{true, false} {
-		est, err := NewEstimator(nil, &EstimatorOptions{Flip: flip})
+		est, err := NewEstimator(nil, &EstimatorOptions{Flip: flip, Validity: validityOff})
 		if err != nil {
 			t.Fatal(err)
 		}
