@@ -629,3 +629,29 @@ func TestLoaderDefaultSize(t *testing.T) {
 		t.Errorf("explicit size: %v", err)
 	}
 }
+
+// TestLoaderRefusesSmallPairs: with MinSide, a pair narrower or lower than
+// it is refused by name with its size and the minimum (issue 12 item 9: a
+// 1×1 pair was blown up to the training size and trained on silently).
+func TestLoaderRefusesSmallPairs(t *testing.T) {
+	ds, err := dataset.Open(writeDataset(t, fixture{w: 40, h: 24, d: 2}, "a"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	tiny, err := dataset.Open(writeDataset(t, fixture{w: 1, h: 1, d: 0}, "one"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := NewLoader(ds, &Options{Width: 64, Height: 64, MinSide: 24}); err != nil {
+		t.Errorf("40×24 with a minimum of 24: %v", err)
+	}
+	_, err = NewLoader(ds, &Options{Width: 64, Height: 64, MinSide: 25})
+	wantErr(t, err, `"a" is 40×24`, "at least 25×25")
+	_, err = NewLoader(tiny, &Options{Width: 64, Height: 64, MinSide: 64})
+	wantErr(t, err, `"one" is 1×1`, "at least 64×64")
+	if _, err := NewLoader(tiny, &Options{Width: 64, Height: 64}); err != nil {
+		t.Errorf("no minimum: %v", err)
+	}
+	_, err = NewLoader(ds, &Options{MinSide: -1})
+	wantErr(t, err, "minimum side -1")
+}

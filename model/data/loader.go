@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math/rand/v2"
+	"strings"
 	"sync"
 
 	"github.com/parallaxdepth/parallax/dataset"
@@ -35,6 +36,12 @@ type Options struct {
 	// DropPartial drops the last batch of an epoch if it is smaller than
 	// BatchSize.
 	DropPartial bool
+	// MinSide is the smallest stored width and height a pair may have:
+	// NewLoader refuses a set with a smaller pair, naming it and its size.
+	// A trainer sets it to the smallest input its network takes
+	// (model.MinSide), so that a 1×1 pair is not blown up to the training
+	// size. 0 means no minimum.
+	MinSide int
 }
 
 // Batch is BatchSize samples (fewer for the last batch of an epoch unless
@@ -62,8 +69,8 @@ type Loader struct {
 }
 
 // NewLoader returns a loader over ds. It returns an error for an empty
-// set, invalid options, or a zero Width or Height over pairs of different
-// stored sizes.
+// set, invalid options, a zero Width or Height over pairs of different
+// stored sizes, or a pair smaller than Options.MinSide.
 func NewLoader(ds *dataset.Set, opt *Options) (*Loader, error) {
 	var o Options
 	if opt != nil {
@@ -71,6 +78,22 @@ func NewLoader(ds *dataset.Set, opt *Options) (*Loader, error) {
 	}
 	if ds == nil || len(ds.Pairs) == 0 {
 		return nil, errors.New("data: the dataset has no pairs")
+	}
+	if o.MinSide < 0 {
+		return nil, fmt.Errorf("data: invalid options: minimum side %d", o.MinSide)
+	}
+	var small []string
+	for _, p := range ds.Pairs {
+		if p.Width < o.MinSide || p.Height < o.MinSide {
+			small = append(small, fmt.Sprintf("%q is %d×%d", p.Name, p.Width, p.Height))
+		}
+	}
+	if len(small) > 0 {
+		n := len(small)
+		if n > 5 {
+			small = append(small[:5], fmt.Sprintf("and %d more", n-5))
+		}
+		return nil, fmt.Errorf("data: %d pairs too small for the network, which needs at least %d×%d: %s", n, o.MinSide, o.MinSide, strings.Join(small, ", "))
 	}
 	if o.Width == 0 || o.Height == 0 {
 		p0 := ds.Pairs[0]

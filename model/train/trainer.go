@@ -50,10 +50,13 @@ func LoaderSource(l *data.Loader) Source { return loaderSource{l} }
 // c: images resized to c's input size, batches of batch pairs (a last
 // partial batch of an epoch is dropped), shuffled every epoch by seed, with
 // augmentation aug (nil for none; data.DefaultAugment is the project's choice).
+// It refuses a set with a pair smaller than model.MinSide on a side (the
+// smallest input the network takes), with an error naming the pair, its
+// size and the minimum.
 func NewDatasetSource(ds *dataset.Set, c model.Config, batch int, seed uint64, aug *data.Augment) (Source, error) {
 	c = c.WithDefaults()
 	l, err := data.NewLoader(ds, &data.Options{Width: c.Width, Height: c.Height, BatchSize: batch,
-		Shuffle: true, Seed: seed, Augment: aug, DropPartial: true})
+		Shuffle: true, Seed: seed, Augment: aug, DropPartial: true, MinSide: model.MinSide})
 	if err != nil {
 		return nil, fmt.Errorf("train: %w", err)
 	}
