@@ -46,7 +46,7 @@ func TestCheckpointRoundTrip(t *testing.T) {
 		t.Errorf("schedule %+v", got.Schedule)
 	}
 	for name, v := range c.Weights.Params {
-		if !equal32(v, got.Weights.Params[name]) || !equal32(c.Solver.M[name], got.Solver.M[name]) || !equal32(c.Solver.V[name], got.Solver.V[name]) {
+		if !slices.Equal(v, got.Weights.Params[name]) || !slices.Equal(c.Solver.M[name], got.Solver.M[name]) || !slices.Equal(c.Solver.V[name], got.Solver.V[name]) {
 			t.Fatalf("tensor %s changed in the round trip", name)
 		}
 	}
@@ -54,18 +54,6 @@ func TestCheckpointRoundTrip(t *testing.T) {
 	if ents, _ := os.ReadDir(filepath.Dir(path)); len(ents) != 1 {
 		t.Errorf("%d files in the checkpoint directory, want 1", len(ents))
 	}
-}
-
-func equal32(a, b []float32) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 func firstMoment(ts []safetensors.Tensor) int {
