@@ -32,5 +32,14 @@
 // (EmptyDisparity, EmptyDepth) and left out of the mean, never skipped
 // silently and never an error. A mean over no counted pair is NaN.
 //
+// # Methods and holes
+//
+// Score runs weights through model.Estimator; ScoreMethod scores any
+// Method, such as the semi-global matcher (SGM) or a stereo estimator, on
+// both images of each pair. ScoreOptions.Holes says how the disparity
+// measures count the pixels without an estimate: left out (the default;
+// N is then the coverage), as disparity 0, or filled along the scan line
+// (sgm.FillHoles). A report's tables should state which (Holes.String).
+//
 // Errors start with "evaluation: ".
 package evaluation

@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"image"
 	"math"
 	"sync"
 
@@ -19,6 +18,9 @@ type ScoreOptions struct {
 	// Flip enables flip post-processing (model.EstimatorOptions.Flip).
 	// Default false.
 	Flip bool
+	// Holes chooses how the disparity measures count the pixels where the
+	// estimate has no value. Default HolesExcluded.
+	Holes Holes
 	// Workers is the number of pairs read and estimated at once; 0 means 1.
 	// The report does not depend on it.
 	Workers int
@@ -70,18 +72,6 @@ func Scorable(set *dataset.Set) (disparity, metric bool) {
 	return set.Has(dataset.DispLeft), set.Has(dataset.DepthLeft) && set.HasRig()
 }
 
-// estimator is the part of model.Estimator that Score uses.
-type estimator interface {
-	Estimate(ctx context.Context, img image.Image) (*model.Estimate, error)
-}
-
-// pairEstimator is the part of model.Estimator that scores stereo weights:
-// they read both views.
-type pairEstimator interface {
-	EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error)
-	Kind() string
-}
-
 // Score estimates every pair of set with the weights w (nil: the embedded
 // default weights) through model.Estimator, with each pair's rig
 // (model.Estimate.SetRig), and scores
@@ -109,7 +99,7 @@ func Score(ctx context.Context, w *model.Weights, set *dataset.Set, opt *ScoreOp
 	if err != nil {
 		return nil, fmt.Errorf("evaluation: %w", err)
 	}
-	return score(ctx, est, set, &o)
+	return score(ctx, Monocular(est), set, &o)
 }
 
 func name(set *dataset.Set) string {
@@ -128,7 +118,7 @@ type result struct {
 
 // score runs est over set in chunks of o.Workers pairs and scores them in
 // order; o is resolved.
-func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions) (*Report, error) {
+func score(ctx context.Context, est Method, set *dataset.Set, o *ScoreOptions) (*Report, error) {
 	rep := &Report{}
 	rep.HasDisparity, rep.HasDepth = Scorable(set)
 	var dm depth.DisparityMean
@@ -147,11 +137,7 @@ func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions
 				if res.r, res.err = set.Read(i); res.err != nil {
 					return
 				}
-				if pe, ok := est.(pairEstimator); ok && pe.Kind() == "stereo" {
-					res.e, res.err = pe.EstimatePair(ctx, res.r.Left, res.r.Right)
-				} else {
-					res.e, res.err = est.Estimate(ctx, res.r.Left)
-				}
+				res.e, res.err = est.EstimatePair(ctx, res.r.Left, res.r.Right)
 				if res.err == nil && rep.HasDepth && res.e.Depth == nil {
 					res.err = res.e.SetRig(res.r.Rig)
 				}
@@ -165,7 +151,11 @@ func score(ctx context.Context, est estimator, set *dataset.Set, o *ScoreOptions
 			}
 			ps := PairScore{Name: p.Name}
 			if rep.HasDisparity {
-				m, err := depth.DisparityErrors(res.e.Disparity, res.r.DispLeft)
+				d, err := o.Holes.apply(res.e.Disparity)
+				if err != nil {
+					return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, err)
+				}
+				m, err := depth.DisparityErrors(d, res.r.DispLeft)
 				switch {
 				case errors.Is(err, depth.ErrNoValidPixels):
 					nan := math.NaN()

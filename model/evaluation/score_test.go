@@ -29,7 +29,7 @@ type fileEstimator struct {
 	calls atomic.Int32
 }
 
-func (f *fileEstimator) Estimate(ctx context.Context, img image.Image) (*model.Estimate, error) {
+func (f *fileEstimator) EstimatePair(ctx context.Context, img, _ image.Image) (*model.Estimate, error) {
 	f.calls.Add(1)
 	r, _, _, _ := img.At(0, 0).RGBA()
 	i := int(r >> 8)
@@ -77,11 +77,16 @@ type refMetrics struct {
 // reference is reference.json.
 type reference struct {
 	Pairs []struct {
-		Name             string
-		Disparity, Depth refMetrics
+		Name                 string
+		Disparity, Depth     refMetrics
+		DisparityZero        refMetrics `json:"disparity_zero"`
+		DisparityFilled      refMetrics `json:"disparity_filled"`
 	}
 	MeanDisparity  refMetrics `json:"mean_disparity"`
 	MeanDepth      refMetrics `json:"mean_depth"`
+	// The disparity measures with the estimate's holes as 0 and filled.
+	MeanDisparityZero   refMetrics `json:"mean_disparity_zero"`
+	MeanDisparityFilled refMetrics `json:"mean_disparity_filled"`
 	EmptyDisparity []string   `json:"empty_disparity"`
 	EmptyDepth     []string   `json:"empty_depth"`
 }

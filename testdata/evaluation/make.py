@@ -26,6 +26,12 @@ It writes, from a seeded numpy generator (numpy 1.24.2, Debian bookworm):
                 the rig, the estimate clamped to [min, max].
               A pair without a counted pixel is listed as empty and left out
               of the mean of that measure.
+              The disparity measures also with the estimate's holes scored
+              (every pixel with truth counts): "disparity_zero" with holes as
+              disparity 0, "disparity_filled" with each hole filled along its
+              row by the smaller of the nearest valid estimates to its left
+              and right (the one that exists at a row's end; a row without
+              any estimate as 0), and their per-pair means.
 PNGs are written with the standard library (zlib), PFMs by hand
 (little-endian "Pf", bottom row first).
 """
@@ -89,6 +95,33 @@ def disparity_metrics(e, g):
             "bad2": float((a > 2).mean()), "bad3": float((a > 3).mean())}
 
 
+def fill_rows(e):
+    """The scan-line hole fill, written here from its definition."""
+    e = e.copy()
+    ok = valid(e)
+    for y in range(e.shape[0]):
+        xs = np.flatnonzero(ok[y])
+        for x in range(e.shape[1]):
+            if ok[y, x]:
+                continue
+            lefts, rights = xs[xs < x], xs[xs > x]
+            cands = [e[y, lefts[-1]]] if len(lefts) else []
+            cands += [e[y, rights[0]]] if len(rights) else []
+            e[y, x] = min(cands) if cands else 0.0
+    return e
+
+
+def dense_disparity_metrics(e, g):
+    """Disparity measures over every pixel with truth, e's holes as given."""
+    m = valid(g)
+    n = int(m.sum())
+    if n == 0:
+        return {"n": 0}
+    a = np.abs(e[m].astype(np.float64) - g[m].astype(np.float64))
+    return {"n": n, "epe": float(a.mean()), "bad1": float((a > 1).mean()),
+            "bad2": float((a > 2).mean()), "bad3": float((a > 3).mean())}
+
+
 def depth_metrics(e, g):
     m = valid(e) & valid(g)
     m &= (g > ZMIN) & (g < ZMAX)
@@ -118,7 +151,7 @@ def main():
     rng = np.random.default_rng(20261202)
     names = ["a", "b", "c", "d"]
     write(os.path.join(HERE, "set", "rig.json"), (json.dumps(RIG, indent=2) + "\n").encode())
-    pairs, disp_rows, depth_rows = [], [], []
+    pairs, disp_rows, depth_rows, zero_rows, filled_rows = [], [], [], [], []
     for i, name in enumerate(names):
         left = rng.integers(0, 256, size=(H, W, 3))
         left[0, 0, 0] = i
@@ -152,12 +185,18 @@ def main():
         dm, zm = disparity_metrics(ed, gd), depth_metrics(ez, gz)
         disp_rows.append(dm)
         depth_rows.append(zm)
-        pairs.append({"name": name, "disparity": dm, "depth": zm})
+        dz = dense_disparity_metrics(np.where(valid(ed), ed, 0.0), gd)
+        df = dense_disparity_metrics(fill_rows(ed), gd)
+        zero_rows.append(dz)
+        filled_rows.append(df)
+        pairs.append({"name": name, "disparity": dm, "depth": zm, "disparity_zero": dz, "disparity_filled": df})
     ref = {
         "source": "numpy 1.24.2, testdata/evaluation/make.py",
         "pairs": pairs,
         "mean_disparity": mean(disp_rows),
         "mean_depth": mean(depth_rows),
+        "mean_disparity_zero": mean(zero_rows),
+        "mean_disparity_filled": mean(filled_rows),
         "empty_disparity": [p["name"] for p in pairs if p["disparity"]["n"] == 0],
         "empty_depth": [p["name"] for p in pairs if p["depth"]["n"] == 0],
     }
