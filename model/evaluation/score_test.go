@@ -77,18 +77,18 @@ type refMetrics struct {
 // reference is reference.json.
 type reference struct {
 	Pairs []struct {
-		Name                 string
-		Disparity, Depth     refMetrics
-		DisparityZero        refMetrics `json:"disparity_zero"`
-		DisparityFilled      refMetrics `json:"disparity_filled"`
+		Name             string
+		Disparity, Depth refMetrics
+		DisparityZero    refMetrics `json:"disparity_zero"`
+		DisparityFilled  refMetrics `json:"disparity_filled"`
 	}
-	MeanDisparity  refMetrics `json:"mean_disparity"`
-	MeanDepth      refMetrics `json:"mean_depth"`
+	MeanDisparity refMetrics `json:"mean_disparity"`
+	MeanDepth     refMetrics `json:"mean_depth"`
 	// The disparity measures with the estimate's holes as 0 and filled.
 	MeanDisparityZero   refMetrics `json:"mean_disparity_zero"`
 	MeanDisparityFilled refMetrics `json:"mean_disparity_filled"`
-	EmptyDisparity []string   `json:"empty_disparity"`
-	EmptyDepth     []string   `json:"empty_depth"`
+	EmptyDisparity      []string   `json:"empty_disparity"`
+	EmptyDepth          []string   `json:"empty_depth"`
 }
 
 func loadReference(t *testing.T) *reference {
