@@ -29,6 +29,8 @@ type Options struct {
 	// Unit names what is counted, in the plural ("pairs", "steps").
 	// Default "items".
 	Unit string
+	// Label, if not empty, starts every line ("adapting: ...").
+	Label string
 	// Mode chooses bar or lines. Default Auto.
 	Mode Mode
 	// Interval is the least time between two plain lines. Default 10 s.
@@ -45,6 +47,7 @@ type Reporter struct {
 	w        io.Writer
 	total    int
 	unit     string
+	label    string
 	bar      bool
 	off      bool
 	interval time.Duration
@@ -80,7 +83,7 @@ func New(w io.Writer, total int, opt *Options) *Reporter {
 	if opt != nil {
 		o = *opt
 	}
-	r := &Reporter{w: w, total: total, unit: o.Unit, interval: o.Interval, warmUp: o.WarmUp, now: o.now}
+	r := &Reporter{w: w, total: total, unit: o.Unit, label: o.Label, interval: o.Interval, warmUp: o.WarmUp, now: o.now}
 	if r.unit == "" {
 		r.unit = "items"
 	}
@@ -167,6 +170,9 @@ func (r *Reporter) show(done int, status string) {
 			b.WriteString(">" + strings.Repeat(" ", barWidth-fill-1))
 		}
 		b.WriteString("] ")
+	}
+	if r.label != "" {
+		b.WriteString(r.label + ": ")
 	}
 	fmt.Fprintf(&b, "%*d/%d %s %3.0f%%", len(fmt.Sprint(r.total)), done, r.total, r.unit, pct)
 	if r.rate > 0 {

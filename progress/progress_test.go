@@ -20,7 +20,7 @@ func fakeClock(step time.Duration) func() time.Time {
 // is always printed.
 func TestLinesNoCarriageReturn(t *testing.T) {
 	var buf bytes.Buffer
-	r := New(&buf, 10, &Options{Unit: "pairs", Interval: 3 * time.Second, now: fakeClock(time.Second)})
+	r := New(&buf, 10, &Options{Unit: "pairs", Label: "scoring", Interval: 3 * time.Second, now: fakeClock(time.Second)})
 	for i := 1; i <= 10; i++ {
 		r.Update(i, "")
 	}
@@ -34,7 +34,7 @@ func TestLinesNoCarriageReturn(t *testing.T) {
 	if len(lines) < 3 || len(lines) > 5 {
 		t.Fatalf("%d lines, want 3 to 5:\n%s", len(lines), out)
 	}
-	if !strings.HasPrefix(lines[len(lines)-1], "10/10 pairs 100%") {
+	if !strings.HasPrefix(lines[len(lines)-1], "scoring: 10/10 pairs 100%") {
 		t.Errorf("last line %q", lines[len(lines)-1])
 	}
 }

@@ -12,30 +12,34 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 )
 
 // TestRunSynthetic evaluates the committed synthetic greenhouse pairs, with
-// one adaptation step, and checks the output's structure and files.
+// one adaptation step, and checks the output's structure and files: titles
+// naming the weights, one before/after table with the change, error maps
+// before and after.
 func TestRunSynthetic(t *testing.T) {
 	dir := filepath.Join("..", "..", "testdata", "synth", "greenhouse")
 	errs := t.TempDir()
 	var out, log bytes.Buffer
-	o := options{errors: errs, adapt: 1, batch: 2, seed: 1, quiet: true}
-	ds, err := dataset.Open(dir)
+	if err := run(context.Background(), []string{"-errors", errs, "-adapt", "1", "-adapt-batch", "2", "-quiet", dir}, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	def, err := model.Default()
 	if err != nil {
 		t.Fatal(err)
 	}
-	if err := run(context.Background(), o, ds, &out, &log); err != nil {
-		t.Fatal(err)
-	}
 	s := out.String()
-	for _, want := range []string{"before adaptation", "after adaptation", "epe_px", "abs_rel", "000002", "mean", "adaptation: 1 steps"} {
+	for _, want := range []string{"before adaptation: weights embedded (" + def.Provenance[model.ProvenanceStatus] + ")", "after adaptation: weights embedded (train.batch=2",
+		"EPE px, holes as 0", "bad-3 %, holes filled along the scan line", "abs rel", "δ<1.25 %", "adaptation: 1 steps", "change", "points"} {
 		if !strings.Contains(s, want) {
 			t.Errorf("output lacks %q:\n%s", want, s)
 		}
+	}
+	if strings.Count(s, "measure") != 1 {
+		t.Errorf("want one before/after table:\n%s", s)
 	}
 	for _, p := range []string{"000000.disp-error.png", "000001.depth-error.png", filepath.Join("adapted", "000002.disp-error.png")} {
 		f, err := os.Open(filepath.Join(errs, p))
@@ -48,57 +52,120 @@ func TestRunSynthetic(t *testing.T) {
 			t.Errorf("%s: %v", p, err)
 		}
 	}
-	if err := main1(context.Background(), options{batch: 1}, t.TempDir(), true); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
-		t.Errorf("empty folder: %v", err)
+	for _, args := range [][]string{{"-quiet", t.TempDir()}, {"a", "b"}, {"-pair", "a,b"}, {"-rig", "r.json"}, {"-adapt", "-1"}, {"-method", "sgm", "-adapt", "2"}, {"-method", "other"}, {"-bad-flag"}} {
+		if err := run(context.Background(), args, &out, &log); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+			t.Errorf("%q: %v", args, err)
+		}
+	}
+	if err := run(context.Background(), []string{"-help"}, &out, &log); err != nil || !strings.Contains(log.String(), "usage: evaluate") {
+		t.Errorf("-help: %v", err)
 	}
 }
 
-// TestPairSet makes a set of the committed Motorcycle pair (Middlebury 2014,
+// TestPairSet evaluates the committed Motorcycle pair (Middlebury 2014,
 // shipped by Debian python3-skimage 0.19.3; see testdata/motorcycle) with
-// the rescaled rig and evaluates it.
+// its rescaled rig, and refuses a rig of another aspect ratio naming it.
 func TestPairSet(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
 	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
-	ds, err := pairSet(pair, filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if ds.Rig == nil || ds.Rig.Width != 370 || ds.Rig.Height != 250 {
-		t.Fatalf("rig %+v, want one for 370×250", ds.Rig)
-	}
 	var out, log bytes.Buffer
-	if err := run(context.Background(), options{quiet: true, batch: 1}, ds, &out, &log); err != nil {
+	if err := run(context.Background(), []string{"-quiet", "-pair", pair, "-rig", filepath.Join("..", "..", "testdata", "depth", "motorcycle_rig.json")}, &out, &log); err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(out.String(), "epe_px") || !strings.Contains(out.String(), "left ") {
+	if !strings.Contains(out.String(), "EPE px") || !strings.Contains(out.String(), "left ") {
 		t.Errorf("output:\n%s", out.String())
-	}
-	if _, err := pairSet("a,b", ""); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
-		t.Errorf("two files: %v", err)
 	}
 	// The greenhouse rig (256×128) is for another aspect ratio than 370×250.
 	other := filepath.Join("..", "..", "testdata", "synth", "greenhouse", "rig.json")
-	if _, err := pairSet(pair, other); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), "aspect ratio") || !strings.Contains(err.Error(), other) {
+	if err := run(context.Background(), []string{"-quiet", "-pair", pair, "-rig", other}, &out, &log); err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), "aspect ratio") || !strings.Contains(err.Error(), other) {
 		t.Errorf("rig of another aspect ratio: %v", err)
 	}
 }
 
-// TestPairErrorsNameUserFiles checks that an error about a -pair file names
-// the file the user gave.
-func TestPairErrorsNameUserFiles(t *testing.T) {
+// TestSGMBothWays scores the semi-global matcher on the Motorcycle pair:
+// the title says which method, both hole rules have a table, and the
+// filled score is the better one (sgm leaves holes at occlusions).
+func TestSGMBothWays(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
-	small := filepath.Join("..", "..", "model", "demo", "greenhouse_left.png") // 256×128, the pair is 370×250
-	notPFM := filepath.Join(m, "left.png")
-	for _, tc := range []struct{ pair, want string }{
-		{filepath.Join(m, "left.png") + "," + small + "," + filepath.Join(m, "disp_left.pfm"), small},
-		{filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + notPFM, notPFM},
-	} {
-		err := main1(context.Background(), options{quiet: true, batch: 1, pair: tc.pair}, "", false)
-		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") || !strings.Contains(err.Error(), tc.want) {
-			t.Errorf("-pair %s: %v, want an error naming %s", tc.pair, err, tc.want)
-		} else {
-			t.Logf("%v", err)
+	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
+	var out, log bytes.Buffer
+	if err := run(context.Background(), []string{"-quiet", "-method", "sgm", "-csv", "-pair", pair}, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(&out).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	epe := map[string]float64{}
+	for _, r := range recs[1:] {
+		if r[0] != "sgm" {
+			t.Fatalf("phase %q", r[0])
 		}
+		if r[2] == "left" {
+			epe[r[1]], _ = strconv.ParseFloat(r[4], 64)
+		}
+	}
+	if len(recs) != 1+2*2 || !(epe["holes filled along the scan line"] > 0) || !(epe["holes filled along the scan line"] < epe["holes as 0"]) {
+		t.Errorf("records %q", recs)
+	}
+	out.Reset()
+	if err := run(context.Background(), []string{"-quiet", "-method", "sgm", "-pair", pair}, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	if s := out.String(); !strings.Contains(s, "sgm: semi-global matching") || !strings.Contains(s, "disparity, holes as 0") || !strings.Contains(s, "disparity, holes filled") {
+		t.Errorf("text:\n%s", s)
+	}
+}
+
+// TestOutputToFiles runs with stdout and stderr redirected to files, as
+// "evaluate ... > log.txt 2> err.txt" does: neither holds a carriage
+// return, and the progress is there as plain lines.
+func TestOutputToFiles(t *testing.T) {
+	dir := t.TempDir()
+	stdout, err := os.Create(filepath.Join(dir, "log.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	stderr, err := os.Create(filepath.Join(dir, "err.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = run(context.Background(), []string{"-adapt", "2", "-adapt-batch", "1", filepath.Join("..", "..", "testdata", "evaluation", "set")}, stdout, stderr)
+	stdout.Close()
+	stderr.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []string{"log.txt", "err.txt"} {
+		b, err := os.ReadFile(filepath.Join(dir, f))
+		if err != nil || bytes.ContainsAny(b, "\r\x1b") {
+			t.Errorf("%s: %v, holds a carriage return or escape:\n%q", f, err, b)
+		}
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "err.txt"))
+	if !bytes.Contains(b, []byte("adapting: 2/2 steps 100%")) || !bytes.Contains(b, []byte("after adaptation: 4/4 pairs 100%")) {
+		t.Errorf("progress lines:\n%s", b)
+	}
+}
+
+// TestCSVAdapt: with -adapt, -csv prints one CSV table that encoding/csv
+// reads: one header, the same fields in every row, a phase column with
+// before and after, both hole rules, no prose.
+func TestCSVAdapt(t *testing.T) {
+	var out, log bytes.Buffer
+	if err := run(context.Background(), []string{"-quiet", "-csv", "-adapt", "1", "-adapt-batch", "1", filepath.Join("..", "..", "testdata", "evaluation", "set")}, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(bytes.NewReader(out.Bytes())).ReadAll() // a ragged row is an error
+	if err != nil {
+		t.Fatalf("%v in:\n%s", err, out.String())
+	}
+	seen := map[string]int{}
+	for _, r := range recs[1:] {
+		seen[r[0]+"/"+r[1]]++
+	}
+	if recs[0][0] != "phase" || len(recs) != 1+4*5 || seen["before adaptation/holes as 0"] != 5 || seen["after adaptation/holes filled along the scan line"] != 5 {
+		t.Errorf("header %v, %d records, phases %v", recs[0], len(recs), seen)
 	}
 }
 
@@ -219,80 +286,58 @@ func addRow(sum, row []float64) []float64 {
 	return sum
 }
 
-// parseTables reads the two CSV tables that -csv prints.
-func parseTables(t *testing.T, out string) []map[string][]string {
-	t.Helper()
-	var tables []map[string][]string
-	for _, block := range strings.Split(out, "\n\n")[1:] {
-		lines := strings.SplitN(block, "\n", 2)
-		if len(lines) < 2 {
-			continue
-		}
-		recs, err := csv.NewReader(strings.NewReader(lines[1])).ReadAll()
-		if err != nil {
-			t.Fatalf("%v in:\n%s", err, block)
-		}
-		m := map[string][]string{}
-		for _, r := range recs {
-			m[r[0]] = r[1:]
-		}
-		tables = append(tables, m)
-	}
-	return tables
-}
-
 // TestTablesMatchDirectComputation runs the command with -csv -flip on
 // testdata/evaluation/set (four 20×10 pairs made by make.py there, pair c
 // without any disparity truth, pair d without depth truth inside the rig's
-// range) and checks every number of both tables against directScores, to
-// 1e-9: the left view at each pair's resolution, flip passed on, the
-// columns in their order, the empty pairs shown with 0 pixels and left out
-// of the per-pair mean.
+// range) and checks every number of the holes-as-0 rows against
+// directScores, to 1e-9 (rates × 100): the left view at each pair's
+// resolution, flip passed on, the columns in their order, the empty pairs
+// shown with 0 pixels and left out of the per-pair mean.
 func TestTablesMatchDirectComputation(t *testing.T) {
 	dir := filepath.Join("..", "..", "testdata", "evaluation", "set")
-	ds, err := dataset.Open(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
 	var out, log bytes.Buffer
-	if err := run(context.Background(), options{csv: true, flip: true, quiet: true, batch: 1}, ds, &out, &log); err != nil {
+	if err := run(context.Background(), []string{"-csv", "-flip", "-quiet", dir}, &out, &log); err != nil {
 		t.Fatal(err)
 	}
 	if !strings.Contains(log.String(), "1 pairs have no pixel with a valid disparity estimate and truth") || !strings.Contains(log.String(), ": c\n") ||
 		!strings.Contains(log.String(), "valid depth estimate and truth") || !strings.Contains(log.String(), ": d\n") {
 		t.Errorf("stderr does not report the empty pairs:\n%s", log.String())
 	}
-	tables := parseTables(t, out.String())
-	if len(tables) != 2 {
-		t.Fatalf("%d tables in:\n%s", len(tables), out.String())
+	recs, err := csv.NewReader(&out).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	const columns = "phase,holes,pair,disparity_pixels,epe_px,bad1_pct,bad2_pct,bad3_pct,depth_pixels,abs_rel,sq_rel_m,rmse_m,rmse_log,delta1_pct,delta2_pct,delta3_pct"
+	if h := strings.Join(recs[0], ","); h != columns {
+		t.Fatalf("columns %s, want %s", h, columns)
 	}
 	wantDisp, wantDepth := directScores(t, dir, true)
-	for k, c := range []struct {
-		got     map[string][]string
-		want    map[string][]float64
-		columns string
-	}{{tables[0], wantDisp, "pixels,epe_px,bad1,bad2,bad3"}, {tables[1], wantDepth, "pixels,abs_rel,sq_rel,rmse,rmse_log,delta_1.25,delta_1.25^2,delta_1.25^3"}} {
-		if h := strings.Join(c.got["name"], ","); h != c.columns {
-			t.Fatalf("table %d columns %s, want %s", k, h, c.columns)
+	pct := []bool{false, false, true, true, true, false, false, false, false, false, true, true, true}
+	rows := 0
+	for _, r := range recs[1:] {
+		if r[1] != "holes as 0" {
+			continue
 		}
-		for _, name := range []string{"a", "b", "c", "d", "mean"} {
-			row := c.got[name]
-			want := c.want[name]
-			if len(row) != len(want) {
-				t.Fatalf("table %d row %s: %v, want %d values", k, name, row, len(want))
+		rows++
+		want := append(append([]float64{}, wantDisp[r[2]]...), wantDepth[r[2]]...)
+		if len(want) != len(r)-3 {
+			t.Fatalf("row %s: %v, want %d values", r[2], r, len(want))
+		}
+		for i, cell := range r[3:] {
+			v, err := strconv.ParseFloat(cell, 64)
+			if err != nil {
+				t.Fatalf("row %s: %q", r[2], cell)
 			}
-			for i, cell := range row {
-				v, err := strconv.ParseFloat(cell, 64)
-				if err != nil {
-					t.Fatalf("table %d row %s: %q", k, name, cell)
-				}
-				if w := want[i]; !(math.IsNaN(w) && math.IsNaN(v)) && !(math.Abs(v-w) <= 1e-9*math.Max(1, math.Abs(w))) {
-					t.Errorf("table %d row %s column %s: %v, direct computation %v", k, name, strings.Split(c.columns, ",")[i], v, w)
-				}
+			w := want[i]
+			if pct[i] {
+				w *= 100
+			}
+			if !(math.IsNaN(w) && math.IsNaN(v)) && !(math.Abs(v-w) <= 1e-9*math.Max(1, math.Abs(w))) {
+				t.Errorf("row %s column %s: %v, direct computation %v", r[2], recs[0][3+i], v, w)
 			}
 		}
 	}
-	if wantDisp["c"][0] != 0 || wantDepth["d"][0] != 0 || wantDisp["a"][0] == 0 || wantDepth["a"][0] == 0 {
-		t.Errorf("fixture: pair c has %v disparity pixels, d %v depth pixels", wantDisp["c"][0], wantDepth["d"][0])
+	if rows != 5 || wantDisp["c"][0] != 0 || wantDepth["d"][0] != 0 || wantDisp["a"][0] == 0 || wantDepth["a"][0] == 0 {
+		t.Errorf("%d rows; fixture: pair c has %v disparity pixels, d %v depth pixels", rows, wantDisp["c"][0], wantDepth["d"][0])
 	}
 }

@@ -5,6 +5,11 @@ import (
 	"errors"
 	"fmt"
 	"image"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
@@ -87,6 +92,95 @@ func ScoreMethod(ctx context.Context, method Method, set *dataset.Set, opt *Scor
 	return score(ctx, method, set, &o)
 }
 
+// ScoreRules scores method on every pair of set once, like ScoreMethod,
+// and reports the disparity measures under each of the hole rules:
+// reports[i] has rules[i] (opt.Holes is not used) and every report the same
+// depth measures. It is an error to give no rule. opt.Inspect sees the
+// scores under rules[0].
+func ScoreRules(ctx context.Context, method Method, set *dataset.Set, opt *ScoreOptions, rules ...Holes) ([]*Report, error) {
+	if len(rules) == 0 {
+		return nil, errors.New("evaluation: ScoreRules without a hole rule")
+	}
+	var o ScoreOptions
+	if opt != nil {
+		o = *opt
+	}
+	o.Holes = rules[0]
+	extra := make([]struct {
+		scores []depth.DisparityMetrics
+		empty  []string
+		mean   depth.DisparityMean
+	}, len(rules)-1)
+	inspect := o.Inspect
+	o.Inspect = func(s *PairScore, e *model.Estimate, r *dataset.Record) error {
+		for i := range extra {
+			if r.DispLeft == nil {
+				continue
+			}
+			d, err := rules[i+1].apply(e.Disparity)
+			if err != nil {
+				return fmt.Errorf("evaluation: pair %s: %w", s.Name, err)
+			}
+			m, empty, err := disparityScore(d, r.DispLeft)
+			if err != nil {
+				return fmt.Errorf("evaluation: pair %s: %w", s.Name, err)
+			}
+			if empty {
+				extra[i].empty = append(extra[i].empty, s.Name)
+			}
+			extra[i].scores = append(extra[i].scores, m)
+			extra[i].mean.Add(m)
+		}
+		if inspect != nil {
+			return inspect(s, e, r)
+		}
+		return nil
+	}
+	rep, err := ScoreMethod(ctx, method, set, &o)
+	if err != nil {
+		return nil, err
+	}
+	reps := []*Report{rep}
+	for i, x := range extra {
+		r := *rep
+		r.Holes, r.Pairs, r.EmptyDisparity = rules[i+1], slices.Clone(rep.Pairs), x.empty
+		if r.HasDisparity {
+			for k := range r.Pairs {
+				r.Pairs[k].Disparity = x.scores[k]
+			}
+			r.Disparity = x.mean.Mean()
+		}
+		reps = append(reps, &r)
+	}
+	return reps, nil
+}
+
+// disparityScore scores d against gt; a pair without any counted pixel is
+// empty, with NaN measures.
+func disparityScore(d, gt *depth.Disparity) (m depth.DisparityMetrics, empty bool, err error) {
+	m, err = depth.DisparityErrors(d, gt)
+	if errors.Is(err, depth.ErrNoValidPixels) {
+		nan := math.NaN()
+		return depth.DisparityMetrics{EPE: nan, Bad1: nan, Bad2: nan, Bad3: nan}, true, nil
+	}
+	return m, false, err
+}
+
+// Notes returns one line for each measure with empty pairs, naming them.
+func (r *Report) Notes() []string {
+	var out []string
+	for _, e := range []struct {
+		what  string
+		names []string
+	}{{"disparity", r.EmptyDisparity}, {"depth", r.EmptyDepth}} {
+		if len(e.names) > 0 {
+			out = append(out, fmt.Sprintf("%d pairs have no pixel with a valid %s estimate and truth (pixels 0, NaN in the tables; left out of the mean): %s",
+				len(e.names), e.what, strings.Join(e.names, ", ")))
+		}
+	}
+	return out
+}
+
 // Holes chooses how the disparity measures count the pixels where the
 // estimate has no value (a network's masked pixels, a matcher's failed
 // checks). Depth measures always count the pixels valid in both.
@@ -144,4 +238,65 @@ func (h Holes) apply(d *depth.Disparity) (*depth.Disparity, error) {
 		return nil, err
 	}
 	return c, nil
+}
+
+// NewMethod returns the Method named name: "network" runs the weights w
+// (nil: the embedded default) on the left image through model.Estimator,
+// with flip post-processing if flip; "sgm" runs the semi-global matcher with
+// its default options on both images. rig, if not nil, gives metric depth
+// (and the matcher its disparity range).
+func NewMethod(name string, w *model.Weights, rig *depth.Rig, flip bool) (Method, error) {
+	switch name {
+	case "network":
+		est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig, Flip: flip})
+		if err != nil {
+			return nil, fmt.Errorf("evaluation: %w", err)
+		}
+		return Monocular(est), nil
+	case "sgm":
+		if flip {
+			return nil, errors.New("evaluation: flip post-processing belongs to the network, not to sgm")
+		}
+		m, err := sgm.NewMatcher(&sgm.Options{Rig: rig})
+		if err != nil {
+			return nil, fmt.Errorf("evaluation: %w", err)
+		}
+		return SGM(m, rig), nil
+	}
+	return nil, fmt.Errorf("evaluation: unknown method %q (network or sgm)", name)
+}
+
+// ErrorMaps returns a ScoreOptions.Inspect function that writes the error
+// maps of each pair into the folder dir (created if missing), for the truth
+// the pair has: NAME.disp-error.png, |d̂ − d| over 0 … 3 px, and
+// NAME.depth-error.png, |ẑ − z|/z over 0 … 0.25, coloured with
+// depth.ColorError (bright = large, transparent = not scored). For an empty
+// dir it returns nil: no maps.
+func ErrorMaps(dir string) func(s *PairScore, e *model.Estimate, r *dataset.Record) error {
+	if dir == "" {
+		return nil
+	}
+	return func(s *PairScore, e *model.Estimate, r *dataset.Record) error { return saveErrorMaps(dir, s, e, r) }
+}
+
+func saveErrorMaps(dir string, s *PairScore, e *model.Estimate, r *dataset.Record) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("evaluation: %w", err)
+	}
+	save := func(est, gt *depth.Map, suffix string, relative bool, top float64) error {
+		img, err := depth.ColorError(est, gt, relative, top)
+		if err != nil {
+			return fmt.Errorf("evaluation: pair %s: %w", s.Name, err)
+		}
+		return depth.SavePNG(filepath.Join(dir, s.Name+suffix), img)
+	}
+	if r.DispLeft != nil && e.Disparity != nil {
+		if err := save(&e.Disparity.Map, &r.DispLeft.Map, ".disp-error.png", false, 3); err != nil {
+			return err
+		}
+	}
+	if r.DepthLeft != nil && e.Depth != nil {
+		return save(&e.Depth.Map, &r.DepthLeft.Map, ".depth-error.png", true, 0.25)
+	}
+	return nil
 }

@@ -2,6 +2,7 @@ package evaluation
 
 import (
 	"context"
+	"fmt"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -77,5 +78,36 @@ func TestSGMMethod(t *testing.T) {
 	t.Logf("Motorcycle, sgm defaults: filled EPE %.3f px bad-3 %.2f %%; holes as 0 EPE %.3f px bad-3 %.2f %%", f.EPE, 100*f.Bad3, z.EPE, 100*z.Bad3)
 	if f.N != z.N || f.EPE > 1.1 || f.Bad3 > 0.085 || z.EPE <= f.EPE {
 		t.Errorf("filled %+v, as 0 %+v", f, z)
+	}
+}
+
+// TestScoreRules: one scoring under both rules gives the same reports as
+// scoring under each rule alone (the numpy-checked path), with one
+// estimate per pair.
+func TestScoreRules(t *testing.T) {
+	set, err := dataset.Open(filepath.Join(fixtures, "set"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	names := []string{"a", "b", "c", "d"}
+	est := &fileEstimator{names: names}
+	reps, err := ScoreRules(context.Background(), est, set, &ScoreOptions{Workers: 3}, HolesFilled, HolesZero, HolesExcluded)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if est.calls.Load() != 4 || len(reps) != 3 {
+		t.Fatalf("%d estimates, %d reports", est.calls.Load(), len(reps))
+	}
+	for _, r := range reps {
+		alone, err := ScoreMethod(context.Background(), &fileEstimator{names: names}, set, &ScoreOptions{Holes: r.Holes})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if fmt.Sprint(alone) != fmt.Sprint(r) {
+			t.Errorf("%v: ScoreRules %+v, alone %+v", r.Holes, r, alone)
+		}
+	}
+	if len(reps[2].Notes()) != 2 || !strings.Contains(reps[2].Notes()[0], ": c") {
+		t.Errorf("notes %q", reps[2].Notes())
 	}
 }

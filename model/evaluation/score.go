@@ -51,6 +51,8 @@ type PairScore struct {
 type Report struct {
 	// Pairs holds every pair's score, in the set's order.
 	Pairs []PairScore
+	// Holes is the hole rule of the disparity measures (ScoreOptions.Holes).
+	Holes Holes
 	// HasDisparity and HasDepth report what was scored (see Scorable).
 	HasDisparity, HasDepth bool
 	// Disparity and Depth are the per-pair means over the pairs with
@@ -119,7 +121,7 @@ type result struct {
 // score runs est over set in chunks of o.Workers pairs and scores them in
 // order; o is resolved.
 func score(ctx context.Context, est Method, set *dataset.Set, o *ScoreOptions) (*Report, error) {
-	rep := &Report{}
+	rep := &Report{Holes: o.Holes}
 	rep.HasDisparity, rep.HasDepth = Scorable(set)
 	var dm depth.DisparityMean
 	var zm depth.DepthMean
@@ -155,14 +157,12 @@ func score(ctx context.Context, est Method, set *dataset.Set, o *ScoreOptions) (
 				if err != nil {
 					return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, err)
 				}
-				m, err := depth.DisparityErrors(d, res.r.DispLeft)
-				switch {
-				case errors.Is(err, depth.ErrNoValidPixels):
-					nan := math.NaN()
-					m = depth.DisparityMetrics{EPE: nan, Bad1: nan, Bad2: nan, Bad3: nan}
-					rep.EmptyDisparity = append(rep.EmptyDisparity, p.Name)
-				case err != nil:
+				m, empty, err := disparityScore(d, res.r.DispLeft)
+				if err != nil {
 					return nil, fmt.Errorf("evaluation: pair %s: %w", p.Name, err)
+				}
+				if empty {
+					rep.EmptyDisparity = append(rep.EmptyDisparity, p.Name)
 				}
 				ps.Disparity = m
 				dm.Add(m)
