@@ -176,8 +176,9 @@ func TestCSVAdapt(t *testing.T) {
 // left PNG (decoded with image/png) and the truth PFMs (read with
 // depth.LoadPFM), apart from package model/evaluation and its readers. Rows
 // are keyed by pair name and hold the pixel count, then the values in the
-// order of the CSV columns; the "mean" row averages the pairs with counted
-// pixels and holds their total pixel count.
+// order of the CSV columns; disparity holes count as disparity 0 (the
+// "holes as 0" rows); the "mean" row averages the pairs with counted pixels
+// and holds their total pixel count.
 func directScores(t *testing.T, dir string, flip bool) (disp, dep map[string][]float64) {
 	t.Helper()
 	rig, err := depth.LoadRig(filepath.Join(dir, "rig.json"))
@@ -218,7 +219,10 @@ func directScores(t *testing.T, dir string, flip bool) (disp, dep map[string][]f
 		var s, b1, b2, b3 float64
 		for i, g := range truth("disp_left") {
 			d := e.Disparity.Pix[i]
-			if !ok(g) || e.Disparity.Mask[i] == 0 {
+			if e.Disparity.Mask[i] == 0 {
+				d = 0 // a hole counts as disparity 0
+			}
+			if !ok(g) {
 				continue
 			}
 			a := math.Abs(float64(d) - float64(g))

@@ -24,18 +24,19 @@ type Method interface {
 	EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error)
 }
 
-type monocular struct{ e *model.Estimator }
+type network struct{ e *model.Estimator }
 
-func (m monocular) EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error) {
+func (m network) EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error) {
 	if m.e.Kind() == "stereo" {
 		return m.e.EstimatePair(ctx, left, right)
 	}
 	return m.e.Estimate(ctx, left)
 }
 
-// Monocular returns the Method that runs e on the left image alone (the
-// right image is not used).
-func Monocular(e *model.Estimator) Method { return monocular{e} }
+// Network returns the Method that runs e: one-image weights see the left
+// image alone (the right is not used), stereo weights both views
+// (Estimator.EstimatePair).
+func Network(e *model.Estimator) Method { return network{e} }
 
 type matcher struct {
 	m   *sgm.Matcher
@@ -252,7 +253,7 @@ func NewMethod(name string, w *model.Weights, rig *depth.Rig, flip bool) (Method
 		if err != nil {
 			return nil, fmt.Errorf("evaluation: %w", err)
 		}
-		return Monocular(est), nil
+		return Network(est), nil
 	case "sgm":
 		if flip {
 			return nil, errors.New("evaluation: flip post-processing belongs to the network, not to sgm")

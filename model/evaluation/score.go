@@ -101,7 +101,7 @@ func Score(ctx context.Context, w *model.Weights, set *dataset.Set, opt *ScoreOp
 	if err != nil {
 		return nil, fmt.Errorf("evaluation: %w", err)
 	}
-	return score(ctx, Monocular(est), set, &o)
+	return score(ctx, Network(est), set, &o)
 }
 
 func name(set *dataset.Set) string {

@@ -30,7 +30,7 @@ type AdaptOptions struct {
 // Adapt fine-tunes a copy of w on the pairs of set with the
 // self-supervised objective (left and right images only; ground truth is
 // never read) and returns the adapted weights and the run's result. When
-// ctx ends the weights reached so far come back with Result.Interrupted
+// ctx ends the weights reached so far come back with RunResult.Interrupted
 // set.
 func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOptions) (*model.Weights, *RunResult, error) {
 	o := AdaptOptions{Steps: 100, Batch: 4}
