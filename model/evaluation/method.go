@@ -242,14 +242,15 @@ func (h Holes) apply(d *depth.Disparity) (*depth.Disparity, error) {
 }
 
 // NewMethod returns the Method named name: "network" runs the weights w
-// (nil: the embedded default) on the left image through model.Estimator,
-// with flip post-processing if flip; "sgm" runs the semi-global matcher with
-// its default options on both images. rig, if not nil, gives metric depth
-// (and the matcher its disparity range).
+// (nil: the embedded default) through model.Estimator (see Network), with
+// flip post-processing if flip; "sgm" runs the semi-global matcher with its
+// default options on both images, its disparity range from rig if not nil.
+// Neither gives depth itself: scoring sets each pair's rig
+// (model.Estimate.SetRig).
 func NewMethod(name string, w *model.Weights, rig *depth.Rig, flip bool) (Method, error) {
 	switch name {
 	case "network":
-		est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig, Flip: flip})
+		est, err := model.NewEstimator(w, &model.EstimatorOptions{Flip: flip})
 		if err != nil {
 			return nil, fmt.Errorf("evaluation: %w", err)
 		}
@@ -262,7 +263,7 @@ func NewMethod(name string, w *model.Weights, rig *depth.Rig, flip bool) (Method
 		if err != nil {
 			return nil, fmt.Errorf("evaluation: %w", err)
 		}
-		return SGM(m, rig), nil
+		return SGM(m, nil), nil
 	}
 	return nil, fmt.Errorf("evaluation: unknown method %q (network or sgm)", name)
 }
