@@ -14,7 +14,7 @@ import (
 // weights alone and report two steps; a cancelled context still returns
 // weights with Interrupted; nil weights are an error.
 func TestAdapt(t *testing.T) {
-	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "evaluation", "set"))
+	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
 	if err != nil {
 		t.Fatal(err)
 	}
