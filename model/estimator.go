@@ -8,6 +8,7 @@ import (
 	"image/draw"
 	"math"
 	"runtime"
+	"sync/atomic"
 
 	xdraw "golang.org/x/image/draw"
 
@@ -138,7 +139,7 @@ type Estimate struct {
 // returns it, so calls beyond MaxWorkers wait (or give up when their
 // context ends).
 type Estimator struct {
-	weights    *Weights
+	weights    atomic.Pointer[Weights] // swapped whole by SetWeights (estimator_swap.go)
 	arch       *Arch
 	rig        *depth.Rig
 	stretchRig bool
@@ -164,6 +165,7 @@ const maxStages = 4
 type stage struct {
 	w, h     int
 	net      *Net
+	params   *Weights // the weights net was built from
 	scaled   *image.RGBA64
 	in, flip *planar.Image
 	right    *planar.Image // stereo: the right view
@@ -227,16 +229,17 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if _, _, err := NetworkSize(MinSide, MinSide, o.MaxSide); err != nil {
 		return nil, err
 	}
-	e := &Estimator{weights: w, arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample, validity: o.Validity,
+	e := &Estimator{arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample, validity: o.Validity,
 		maxSide: o.MaxSide, fixed: o.TrainingSize,
 		idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
+	e.weights.Store(w)
 	for range o.MaxWorkers {
 		e.tokens <- struct{}{}
 	}
 	// Build the first worker now, at the weights' size, so that an engine
 	// error shows here, not on the first image.
 	wk := &worker{}
-	if _, err := e.stage(wk, a.Input.W, a.Input.H); err != nil {
+	if _, err := e.stage(wk, w, a.Input.W, a.Input.H); err != nil {
 		return nil, err
 	}
 	<-e.tokens
@@ -245,7 +248,7 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 }
 
 // Weights returns the weights the Estimator runs (shared, not a copy).
-func (e *Estimator) Weights() *Weights { return e.weights }
+func (e *Estimator) Weights() *Weights { return e.weights.Load() }
 
 // Kind returns the kind of the Estimator's weights: "stereo" (call
 // EstimatePair) or "one-image" (call Estimate).
@@ -264,25 +267,30 @@ func (e *Estimator) NetworkSize(width, height int) (w, h int, err error) {
 	return NetworkSize(width, height, e.maxSide)
 }
 
-// stage returns wk's buffers for the network size w × h, made on first
-// need; the least recently used size is dropped beyond maxStages.
-func (e *Estimator) stage(wk *worker, w, h int) (*stage, error) {
+// stage returns wk's buffers for the network size w × h running the
+// weights p, made on first need (a stage built from other weights is
+// rebuilt); the least recently used size is dropped beyond maxStages.
+func (e *Estimator) stage(wk *worker, p *Weights, w, h int) (*stage, error) {
 	for i, st := range wk.stages {
+		if st.w == w && st.h == h && st.params != p {
+			wk.stages = append(wk.stages[:i], wk.stages[i+1:]...)
+			break
+		}
 		if st.w == w && st.h == h {
 			copy(wk.stages[1:i+1], wk.stages[:i])
 			wk.stages[0] = st
 			return st, nil
 		}
 	}
-	c := e.weights.Config
+	c := p.Config
 	c.Width, c.Height = w, h
-	net, err := NewNet(&Weights{Config: c, Params: e.weights.Params}, 1)
+	net, err := NewNet(&Weights{Config: c, Params: p.Params}, 1)
 	if err != nil {
 		return nil, err
 	}
 	n := h * w
 	st := &stage{
-		w: w, h: h, net: net,
+		w: w, h: h, net: net, params: p,
 		scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
 		in:     planar.New(1, 3, h, w),
 		dl:     make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),
@@ -403,7 +411,8 @@ func (e *Estimator) estimate(ctx context.Context, img, right image.Image) (*Esti
 		return nil, err
 	}
 	defer e.release(wk)
-	st, err := e.stage(wk, nw, nh)
+	// One load per call: the whole call runs one set of weights.
+	st, err := e.stage(wk, e.weights.Load(), nw, nh)
 	if err != nil {
 		return nil, err
 	}
