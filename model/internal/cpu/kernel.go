@@ -31,10 +31,10 @@ var kern = bestKernel()
 
 // genericKernel is the portable micro-kernel.
 var genericKernel = kernelInfo{
-	name: "generic", mr: 4, nr: 4, fn: kernelGeneric4x4, ind: indirectGeneric4x4,
+	name: "generic", mr: 1, nr: 6, fn: kernelGeneric1x6, ind: indirectGeneric1x6,
 	mo: 2, mk: 4, lanes: 4, dot: dotGeneric2x4,
 }
 
 // KernelName returns the name of the GEMM micro-kernel in use
-// ("avx512", "avx2" or "generic").
+// ("avx512", "avx2", "neon" or "generic").
 func KernelName() string { return kern.name }
