@@ -5,8 +5,8 @@ import "math"
 // ELU writes the exponential linear unit with alpha = 1 of src into dst:
 // x for x > 0, e^x − 1 otherwise, within 2^-22 relative of the exact value
 // (about 2 float32 ulps). dst may be src (in place); otherwise they must not
-// overlap. NaN stays NaN. On amd64 with AVX2 and FMA the loop runs 8 values
-// at a time in assembly. ELU does not allocate in steady state. It panics if
+// overlap. NaN stays NaN. On amd64 with AVX2 and FMA, and on arm64 with
+// ASIMD, the loop runs in assembly. ELU does not allocate in steady state. It panics if
 // the lengths differ.
 func ELU(dst, src []float32) {
 	opCheckLen("ELU", "src", src, len(dst))
@@ -18,9 +18,9 @@ func ELU(dst, src []float32) {
 func eluRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	s := t.a[lo:hi]
-	if activationAVX2 {
+	if activationSIMD {
 		n := len(d) &^ 7
-		eluAVX2(d[:n], s[:n])
+		eluSIMD(d[:n], s[:n])
 		d, s = d[n:], s[n:]
 	}
 	eluGo(d, s)
@@ -59,9 +59,9 @@ func eluBackwardRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	g := t.a[lo:hi]
 	y := t.b[lo:hi]
-	if activationAVX2 {
+	if activationSIMD {
 		n := len(d) &^ 7
-		eluBackwardAVX2(d[:n], g[:n], y[:n])
+		eluBackwardSIMD(d[:n], g[:n], y[:n])
 		d, g, y = d[n:], g[n:], y[n:]
 	}
 	eluBackwardGo(d, g, y)
@@ -109,9 +109,9 @@ func SigmoidScale(dst, src []float32, scale float32) {
 func sigmoidScaleRange(t *opTask, lo, hi int) {
 	d := t.dst[lo:hi]
 	s := t.a[lo:hi]
-	if activationAVX2 {
+	if activationSIMD {
 		n := len(d) &^ 7
-		sigmoidScaleAVX2(d[:n], s[:n], t.s)
+		sigmoidScaleSIMD(d[:n], s[:n], t.s)
 		d, s = d[n:], s[n:]
 	}
 	sigmoidScaleGo(d, s, t.s)

@@ -62,8 +62,8 @@ GLOBL actConst<>(SB), RODATA|NOPTR, $56
 	BCAST(10, Y14) \
 	BCAST(11, Y15)
 
-// func eluAVX2(dst, src []float32)
-TEXT ·eluAVX2(SB), NOSPLIT, $0-48
+// func eluSIMD(dst, src []float32)
+TEXT ·eluSIMD(SB), NOSPLIT, $0-48
 	MOVQ dst_base+0(FP), DI
 	MOVQ dst_len+8(FP), DX
 	MOVQ src_base+24(FP), SI
@@ -91,8 +91,8 @@ eluLoop:
 eluDone:
 	RET
 
-// func sigmoidScaleAVX2(dst, src []float32, scale float32)
-TEXT ·sigmoidScaleAVX2(SB), NOSPLIT, $0-52
+// func sigmoidScaleSIMD(dst, src []float32, scale float32)
+TEXT ·sigmoidScaleSIMD(SB), NOSPLIT, $0-52
 	MOVQ dst_base+0(FP), DI
 	MOVQ dst_len+8(FP), DX
 	MOVQ src_base+24(FP), SI
@@ -122,8 +122,8 @@ sigLoop:
 sigDone:
 	RET
 
-// func eluBackwardAVX2(dx, dy, y []float32)
-TEXT ·eluBackwardAVX2(SB), NOSPLIT, $0-72
+// func eluBackwardSIMD(dx, dy, y []float32)
+TEXT ·eluBackwardSIMD(SB), NOSPLIT, $0-72
 	MOVQ dx_base+0(FP), DI
 	MOVQ dx_len+8(FP), DX
 	MOVQ dy_base+24(FP), SI

@@ -1,14 +1,14 @@
-//go:build purego || !amd64
+//go:build purego || !(amd64 || arm64)
 
 package cpu
 
-// activationAVX2 is false where activation_amd64.s is not built.
-var activationAVX2 = false
+// activationSIMD is false where no assembly loops are built.
+var activationSIMD = false
 
-func eluAVX2(dst, src []float32) { panic("cpu: eluAVX2 without amd64 assembly") }
+func eluSIMD(dst, src []float32) { panic("cpu: eluSIMD without assembly") }
 
-func sigmoidScaleAVX2(dst, src []float32, scale float32) {
-	panic("cpu: sigmoidScaleAVX2 without amd64 assembly")
+func sigmoidScaleSIMD(dst, src []float32, scale float32) {
+	panic("cpu: sigmoidScaleSIMD without assembly")
 }
 
-func eluBackwardAVX2(dx, dy, y []float32) { panic("cpu: eluBackwardAVX2 without amd64 assembly") }
+func eluBackwardSIMD(dx, dy, y []float32) { panic("cpu: eluBackwardSIMD without assembly") }

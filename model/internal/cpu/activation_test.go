@@ -7,15 +7,15 @@ import (
 )
 
 // activationPaths runs f with the Go loops and, where the CPU has them,
-// with the AVX2 loops.
+// with the SIMD loops (AVX2 or ASIMD).
 func activationPaths(t *testing.T, f func(t *testing.T)) {
-	saved := activationAVX2
-	defer func() { activationAVX2 = saved }()
-	activationAVX2 = false
+	saved := activationSIMD
+	defer func() { activationSIMD = saved }()
+	activationSIMD = false
 	t.Run("go", f)
 	if saved {
-		activationAVX2 = true
-		t.Run("avx2", f)
+		activationSIMD = true
+		t.Run("simd", f)
 	}
 }
 
@@ -110,18 +110,18 @@ func TestExpNonPosAccuracy(t *testing.T) {
 	}
 }
 
-// TestActivationsAVX2MatchesGo compares the two loops over every length up
+// TestActivationsSIMDMatchesGo compares the two loops over every length up
 // to 40 (the SIMD body and the Go tail) and a wide range of values.
-func TestActivationsAVX2MatchesGo(t *testing.T) {
-	if !activationAVX2 {
-		t.Skip("no AVX2 loops on this CPU or build")
+func TestActivationsSIMDMatchesGo(t *testing.T) {
+	if !activationSIMD {
+		t.Skip("no SIMD loops on this CPU or build")
 	}
-	defer func() { activationAVX2 = true }()
+	defer func() { activationSIMD = true }()
 	x := opsRandom(1<<16, 30, 15)
 	copy(x, []float32{0, float32(math.Copysign(0, -1)), -87, -87.01, -86.99, -1e-30, 1e-30, -200, 200,
 		float32(math.NaN()), float32(math.Inf(1)), float32(math.Inf(-1)), -0.3466, -0.3467})
 	run := func(avx bool, f func(y, x []float32)) []float32 {
-		activationAVX2 = avx
+		activationSIMD = avx
 		y := make([]float32, len(x))
 		for n := 0; n <= 40; n++ {
 			f(y[:n], x[:n])
@@ -147,7 +147,7 @@ func TestActivationsAVX2MatchesGo(t *testing.T) {
 			}
 			if math.IsNaN(float64(g[i])) != math.IsNaN(float64(a[i])) ||
 				(!math.IsNaN(float64(g[i])) && !(math.Abs(float64(g[i]-a[i])) <= 0x1p-22*math.Abs(float64(g[i]))+1e-38)) {
-				t.Fatalf("%s(%v): Go %v, AVX2 %v", k.name, x[i], g[i], a[i])
+				t.Fatalf("%s(%v): Go %v, SIMD %v", k.name, x[i], g[i], a[i])
 			}
 		}
 	}

@@ -21,8 +21,8 @@
 #define FADD2(d, n, m) WORD $(0x0E20D400 | (m)<<16 | (n)<<5 | (d))
 // FADDP4: pairwise add, Vd.4S = (n0+n1, n2+n3, m0+m1, m2+m3).
 #define FADDP4(d, n, m) WORD $(0x6E20D400 | (m)<<16 | (n)<<5 | (d))
-// FCMGE4: Vd.4S = all ones where Vn.4S >= Vm.4S, else 0 (false for NaN).
-#define FCMGE4(d, n, m) WORD $(0x6E20E400 | (m)<<16 | (n)<<5 | (d))
 // CMLT0: Vd.4S = all ones where the signed integer Vn.4S < 0, that is
 // where the float's sign bit is set.
 #define CMLT0(d, n) WORD $(0x4EA0A800 | (n)<<5 | (d))
+// FCMGT4: Vd.4S = all ones where Vn.4S > Vm.4S, else 0 (false for NaN).
+#define FCMGT4(d, n, m) WORD $(0x6EA0E400 | (m)<<16 | (n)<<5 | (d))

@@ -48,11 +48,11 @@ func upBilinearRows(t *opTask, lo, hi int) {
 // upsampling of the row ¾·a + ¼·b.
 func upBilinearRow(out, a, b []float32) {
 	j := 0
-	if upsampleAVX2 && len(a) >= 10 {
+	if upsampleSIMD && len(a) >= 10 {
 		// Columns 1 … k in assembly, 8 at a time; each block reads one
 		// column either side, so column 0 and the last one stay in Go.
 		k := (len(a) - 2) &^ 7
-		upBilinearRowAVX2(out[2:2+2*k], a[:k+2], b[:k+2])
+		upBilinearRowSIMD(out[2:2+2*k], a[:k+2], b[:k+2])
 		m0 := 0.75*a[0] + 0.25*b[0]
 		out[0] = 0.75*m0 + 0.25*m0
 		out[1] = 0.75*m0 + 0.25*(0.75*a[1]+0.25*b[1])
@@ -130,11 +130,11 @@ func upBilinearBackwardRows(t *opTask, lo, hi int) {
 // standing in for s[−1] and s[2w].
 func upBilinearBackwardRow(g, r0, r1, ru, rd []float32) {
 	j := 0
-	if upsampleAVX2 && len(g) >= 10 {
+	if upsampleSIMD && len(g) >= 10 {
 		// Columns 1 … k in assembly, 8 at a time; column 0 and the last
 		// ones stay in Go (each block reads one column pair either side).
 		k := (len(g) - 2) &^ 7
-		upBilinearBackRowAVX2(g[1:1+k], r0, r1, ru, rd)
+		upBilinearBackRowSIMD(g[1:1+k], r0, r1, ru, rd)
 		j = k + 1
 		upBilinearBackCols(g[:1], r0, r1, ru, rd, 0)
 	}

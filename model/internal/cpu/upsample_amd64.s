@@ -13,8 +13,8 @@ GLOBL upConst<>(SB), RODATA|NOPTR, $8
 	VMOVUPS off(SI)(CX*4), Y13 \
 	VFMADD231PS Y14, Y13, reg
 
-// func upBilinearRowAVX2(out, a, b []float32)
-TEXT ·upBilinearRowAVX2(SB), NOSPLIT, $0-72
+// func upBilinearRowSIMD(out, a, b []float32)
+TEXT ·upBilinearRowSIMD(SB), NOSPLIT, $0-72
 	MOVQ out_base+0(FP), DI
 	MOVQ out_len+8(FP), DX
 	MOVQ a_base+24(FP), SI
@@ -66,8 +66,8 @@ upDone:
 	VSHUFPS $0xDD, hi, lo, reg \
 	VPERMPD $0xD8, reg, reg
 
-// func upBilinearBackRowAVX2(g, r0, r1, ru, rd []float32)
-TEXT ·upBilinearBackRowAVX2(SB), NOSPLIT, $0-120
+// func upBilinearBackRowSIMD(g, r0, r1, ru, rd []float32)
+TEXT ·upBilinearBackRowSIMD(SB), NOSPLIT, $0-120
 	MOVQ g_base+0(FP), DI
 	MOVQ g_len+8(FP), DX
 	MOVQ r0_base+24(FP), R8

@@ -6,8 +6,6 @@ import (
 	"testing"
 )
 
-// upsamplePaths runs f with the Go loops and, where the CPU has them,
-// with the AVX2 loops.
 // blocksPaths runs f with the Go loops and, where the CPU has them, with
 // the AVX2 loops for 2×2 blocks (nearest upsampling).
 func blocksPaths(t *testing.T, f func(t *testing.T)) {
@@ -21,14 +19,16 @@ func blocksPaths(t *testing.T, f func(t *testing.T)) {
 	}
 }
 
+// upsamplePaths runs f with the Go loops and, where the CPU has them,
+// with the SIMD loops (AVX2 or ASIMD).
 func upsamplePaths(t *testing.T, f func(t *testing.T)) {
-	saved := upsampleAVX2
-	defer func() { upsampleAVX2 = saved }()
-	upsampleAVX2 = false
+	saved := upsampleSIMD
+	defer func() { upsampleSIMD = saved }()
+	upsampleSIMD = false
 	t.Run("go", f)
 	if saved {
-		upsampleAVX2 = true
-		t.Run("avx2", f)
+		upsampleSIMD = true
+		t.Run("simd", f)
 	}
 }
 
