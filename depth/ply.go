@@ -29,6 +29,13 @@ type PointCloud struct {
 	// Color reports whether the points carry colour; without it R, G and B
 	// are 0 and WritePLY writes no colour properties.
 	Color bool
+	// Width and Height, if not 0, make the cloud organised: Points holds
+	// Width·Height points in row-major pixel order, and a pixel without
+	// depth is a point whose X, Y and Z are NaN (see OrganizedPointCloud).
+	// WritePLY states the grid in the header as "obj_info num_cols W" and
+	// "obj_info num_rows H" (the convention of the Point Cloud Library's PLY
+	// files, from memory); ReadPLY reads it back.
+	Width, Height int
 }
 
 // PointCloudFromDepth back-projects every valid pixel of z through the left
@@ -115,7 +122,14 @@ func (pc *PointCloud) WritePLY(w io.Writer, format PLYFormat) error {
 	if format != PLYBinary && format != PLYASCII {
 		return fmt.Errorf("depth: unknown PLY format %d", format)
 	}
+	organized := pc.Width != 0 || pc.Height != 0
+	if organized && (pc.Width < 1 || pc.Height < 1 || pc.Width > planar.MaxSide || pc.Height > planar.MaxSide || pc.Width*pc.Height != len(pc.Points)) {
+		return fmt.Errorf("depth: an organised cloud of %dx%d has %d points", pc.Width, pc.Height, len(pc.Points))
+	}
 	for i, p := range pc.Points {
+		if organized && isNaN32(p.X) && isNaN32(p.Y) && isNaN32(p.Z) {
+			continue
+		}
 		if !finite32(p.X) || !finite32(p.Y) || !finite32(p.Z) {
 			return fmt.Errorf("depth: point %d has a non-finite coordinate", i)
 		}
@@ -125,7 +139,11 @@ func (pc *PointCloud) WritePLY(w io.Writer, format PLYFormat) error {
 	if format == PLYASCII {
 		enc = "ascii"
 	}
-	fmt.Fprintf(bw, "ply\nformat %s 1.0\ncomment parallax depth point cloud, metres, x right y down z forward\nelement vertex %d\nproperty float x\nproperty float y\nproperty float z\n", enc, len(pc.Points))
+	fmt.Fprintf(bw, "ply\nformat %s 1.0\ncomment parallax depth point cloud, metres, x right y down z forward\n", enc)
+	if organized {
+		fmt.Fprintf(bw, "comment organised: one point per pixel, row-major, NaN where there is no depth\nobj_info num_cols %d\nobj_info num_rows %d\n", pc.Width, pc.Height)
+	}
+	fmt.Fprintf(bw, "element vertex %d\nproperty float x\nproperty float y\nproperty float z\n", len(pc.Points))
 	if pc.Color {
 		bw.WriteString("property uchar red\nproperty uchar green\nproperty uchar blue\n")
 	}
@@ -163,6 +181,8 @@ func (pc *PointCloud) WritePLY(w io.Writer, format PLYFormat) error {
 }
 
 func finite32(v float32) bool { return !math.IsNaN(float64(v)) && !math.IsInf(float64(v), 0) }
+
+func isNaN32(v float32) bool { return v != v }
 
 // SavePLY writes pc to path as PLY (see WritePLY), atomically.
 func SavePLY(path string, pc *PointCloud, format PLYFormat) error {
@@ -220,6 +240,8 @@ func ReadPLY(r io.Reader) (*PointCloud, error) {
 		props     []plyProperty
 		inVertex  bool
 		headerEnd bool
+		cols      int // obj_info num_cols and num_rows of an organised cloud
+		rows      int
 	)
 	for lines := 0; !headerEnd; lines++ {
 		if lines == maxPLYHeaderLines {
@@ -250,7 +272,17 @@ func ReadPLY(r io.Reader) (*PointCloud, error) {
 			default:
 				return fail("unknown encoding %q", truncate(f[1]))
 			}
-		case "comment", "obj_info":
+		case "comment":
+		case "obj_info":
+			if len(f) == 3 {
+				n, err := strconv.Atoi(f[2])
+				switch {
+				case f[1] == "num_cols" && err == nil && n > 0 && n <= planar.MaxSide:
+					cols = n
+				case f[1] == "num_rows" && err == nil && n > 0 && n <= planar.MaxSide:
+					rows = n
+				}
+			}
 		case "element":
 			if len(f) != 3 {
 				return fail("bad element line %q", truncate(line))
@@ -369,6 +401,9 @@ func ReadPLY(r io.Reader) (*PointCloud, error) {
 			p.R, p.G, p.B = uint8(vals[ir]), uint8(vals[ig]), uint8(vals[ib])
 		}
 		pc.Points = append(pc.Points, p)
+	}
+	if cols > 0 && rows > 0 && cols*rows == len(pc.Points) {
+		pc.Width, pc.Height = cols, rows
 	}
 	return pc, nil
 }

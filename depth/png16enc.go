@@ -9,13 +9,14 @@ import (
 	"io"
 )
 
-// encodeGray16 writes img as a 16-bit greyscale PNG (ISO/IEC 15948). It
+// encodeGray16 writes img as a 16-bit greyscale PNG (ISO/IEC 15948), with
+// a tEXt chunk for each keyword and text of texts before the data. It
 // exists because image/png converts every pixel of a Gray16 through
 // image.Image.At, one allocation per pixel; this encoder works on the rows
 // directly. Each row takes the filter among the five of the standard that
 // minimises the sum of absolute byte differences, the heuristic the PNG
 // specification suggests and image/png also uses.
-func encodeGray16(w io.Writer, img *image.Gray16) error {
+func encodeGray16(w io.Writer, img *image.Gray16, texts [][2]string) error {
 	width, height := img.Rect.Dx(), img.Rect.Dy()
 	bw := bufio.NewWriterSize(w, 1<<16)
 	bw.WriteString("\x89PNG\r\n\x1a\n")
@@ -24,6 +25,9 @@ func encodeGray16(w io.Writer, img *image.Gray16) error {
 	binary.BigEndian.PutUint32(ihdr[4:], uint32(height))
 	ihdr[8], ihdr[9] = 16, 0 // bit depth 16, colour type 0 (greyscale)
 	writeChunk(bw, "IHDR", ihdr[:])
+	for _, t := range texts {
+		writeChunk(bw, "tEXt", append(append([]byte(t[0]), 0), t[1]...))
+	}
 
 	cw := &chunkWriter{w: bw}
 	zw, err := zlib.NewWriterLevel(cw, zlib.DefaultCompression)

@@ -34,7 +34,7 @@ func TestEncodeGray16(t *testing.T) {
 				}
 			}
 			var buf bytes.Buffer
-			if err := encodeGray16(&buf, img); err != nil {
+			if err := encodeGray16(&buf, img, nil); err != nil {
 				t.Fatal(err)
 			}
 			dec, err := png.Decode(&buf)
