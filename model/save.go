@@ -15,16 +15,39 @@ import (
 // *SaveOptions writes only the PNG files.
 type SaveOptions struct {
 	// PFM also writes BASE.disparity.pfm (pixels), BASE.depth.pfm (metres)
-	// and BASE.confidence.pfm.
+	// and BASE.confidence.pfm, NaN where there is no estimate.
 	PFM bool
 	// PLY also writes BASE.points.ply, a point cloud in metres coloured
 	// from left (binary little-endian).
 	PLY bool
+	// OrganizedPLY writes the point cloud with one point per pixel, NaN
+	// where there is no depth (see depth.OrganizedPointCloud), instead of
+	// the valid pixels only. Default false.
+	OrganizedPLY bool
+}
+
+// FileUnits returns what the file Save wrote under name holds and in which
+// unit, by its suffix, for summaries; "" for a name Save does not write.
+func FileUnits(name string) string {
+	for _, f := range []struct{ suffix, what string }{
+		{".depth-mm.png", "depth, 16-bit grey, 1 level = 1 mm, 0 = no depth (text chunks: unit, scale, rig)"},
+		{".depth-colour.png", "colour picture of inverse depth (near bright), not for measurement"},
+		{".disparity.pfm", "disparity in pixels at the image's width, float32, NaN = no estimate"},
+		{".depth.pfm", "depth in metres, float32, NaN = no depth"},
+		{".confidence.pfm", "left-right confidence in [0, 1], float32"},
+		{".points.ply", "point cloud, metres, camera frame x right y down z forward"},
+		{".summary.txt", "this summary"},
+	} {
+		if strings.HasSuffix(name, f.suffix) {
+			return f.what
+		}
+	}
+	return ""
 }
 
 // Save writes e's files, each atomically, with names that start with base:
-// BASE.depth-mm.png (16-bit depth in millimetres, 0 = no estimate, see
-// depth.SavePNG16) and, when any pixel is valid, BASE.depth-colour.png
+// BASE.depth-mm.png (16-bit depth in millimetres, 0 = no estimate, its
+// unit and the rig in text chunks, see depth.SavePNG16Rig) and, when any pixel is valid, BASE.depth-colour.png
 // (coloured linearly in disparity, i.e. inverse depth, so that near detail
 // shows and a few far outliers cannot wash the picture out), plus the
 // files of opt. It returns the file names written (without the folder) and
@@ -42,7 +65,7 @@ func (e *Estimate) Save(base string, left image.Image, opt *SaveOptions) (files 
 	if e.Depth == nil {
 		return nil, 0, errors.New("model: the estimate has no depth (an Estimator without a rig)")
 	}
-	if dropped, err = depth.SavePNG16(name(".depth-mm.png"), e.Depth); err != nil {
+	if dropped, err = depth.SavePNG16Rig(name(".depth-mm.png"), e.Depth, e.Rig); err != nil {
 		return nil, 0, err
 	}
 	if e.Depth.Valid() > 0 {
@@ -59,13 +82,17 @@ func (e *Estimate) Save(base string, left image.Image, opt *SaveOptions) (files 
 			suffix string
 			m      *depth.Map
 		}{{".disparity.pfm", &e.Disparity.Map}, {".depth.pfm", &e.Depth.Map}, {".confidence.pfm", &e.Confidence.Map}} {
-			if err := depth.SavePFM(name(m.suffix), m.m.Pix, m.m.Rect.Dx(), m.m.Rect.Dy(), 1); err != nil {
+			if err := depth.SaveMapPFM(name(m.suffix), m.m); err != nil {
 				return nil, 0, err
 			}
 		}
 	}
 	if o.PLY {
-		pc, err := depth.PointCloudFromDepth(e.Depth, left, e.Rig)
+		build := depth.PointCloudFromDepth
+		if o.OrganizedPLY {
+			build = depth.OrganizedPointCloud
+		}
+		pc, err := build(e.Depth, left, e.Rig)
 		if err != nil {
 			return nil, 0, err
 		}
@@ -122,8 +149,15 @@ func (e *Estimate) Describe(info EstimateInfo) string {
 		fmt.Fprintf(&s, "note         %d pixels outside 1 mm … 65.535 m are 0 in the 16-bit PNG\n", info.Dropped)
 	}
 	fmt.Fprintf(&s, "confidence   %d of %d pixels below 0.5 (left-right disagreement)\n", e.Confidence.CountBelow(0.5), e.Confidence.Valid())
-	if len(info.Files) > 0 {
-		fmt.Fprintf(&s, "files        %s\n", strings.Join(info.Files, ", "))
+	for i, f := range info.Files {
+		key := ""
+		if i == 0 {
+			key = "files"
+		}
+		if u := FileUnits(f); u != "" {
+			f += "  (" + u + ")"
+		}
+		fmt.Fprintf(&s, "%-12s %s\n", key, f)
 	}
 	return s.String()
 }
