@@ -62,5 +62,8 @@
 //     (end-point error, bad-1/2/3 rates, Scharstein & Szeliski, IJCV 2002),
 //     DisparityMean and DepthMean for per-pair means over a data set (empty
 //     pairs counted apart), and Summary for text tables and CSV.
-//   - png16.go, pfm.go, ply.go, cubehelix.go: the files people open.
+//   - png16.go, pfm.go, ply.go, cubehelix.go: the files people open;
+//     png16text.go: the 16-bit PNG's text chunks (unit, scale, invalid
+//     level, rig); invalid.go: one invalid pixel everywhere (0 in the PNG,
+//     NaN in PFM, no point or a NaN point in an organised PLY cloud).
 package depth
