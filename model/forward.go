@@ -11,9 +11,11 @@ import (
 
 // Net runs the network on the CPU, without a training graph, for batches of
 // a fixed size. It walks the Arch's layer list with the kernels of package
-// cpu. A Net owns one buffer per tensor, so Forward does not allocate after
-// the first call. A Net is not safe for concurrent use; its kernels use
-// several goroutines themselves.
+// cpu. A Net made by NewNet keeps only the activations still needed: tensors
+// share buffers by a liveness plan over the layer list (liveness.go), and
+// its convolutions hold no gradient workspaces. Forward does not allocate
+// after the first call. A Net is not safe for concurrent use; its kernels
+// use several goroutines themselves.
 type Net struct {
 	arch  *Arch
 	n     int         // images (or pairs) per call
@@ -31,6 +33,8 @@ type Net struct {
 	// matchFixed, if set (tests only), replaces the OpMatch layers'
 	// outputs, in layer order.
 	matchFixed [][]float32
+
+	keepAll bool // NewInspectNet: a buffer per tensor
 }
 
 type step struct {
@@ -48,14 +52,22 @@ type step struct {
 	chans  []int
 }
 
-// NewNet returns a Net for batches of batch images with the weights w. It
-// keeps references to w's parameter slices (changing them changes the
+// NewNet returns a Net for batches of batch images with the weights w, whose
+// tensors share buffers by the liveness plan: Tensor gives only the
+// outputs. It keeps references to w's parameter slices (changing them changes the
 // network). It returns an error if w does not fit its architecture or the
 // batch size is not positive or so large that a tensor would exceed
 // planar.MaxValues values. Sizes are checked before anything is allocated:
 // the input size comes from the Config in a weights file and does not change
 // the file's size.
-func NewNet(w *Weights, batch int) (*Net, error) {
+func NewNet(w *Weights, batch int) (*Net, error) { return newNet(w, batch, false) }
+
+// NewInspectNet is NewNet with a buffer of its own for every tensor, so
+// that Tensor gives every layer's output of the last call (for tests and
+// inspection; it takes several times NewNet's memory).
+func NewInspectNet(w *Weights, batch int) (*Net, error) { return newNet(w, batch, true) }
+
+func newNet(w *Weights, batch int, keepAll bool) (*Net, error) {
 	if w == nil {
 		return nil, errors.New("model: weights are nil")
 	}
@@ -87,7 +99,8 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 			return nil, fmt.Errorf("model: tensor %q of %d×%v values exceeds %d values", l.Name, nb, l.Out, planar.MaxValues)
 		}
 	}
-	m := &Net{arch: a, n: batch, nb: nb, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}}
+	m := &Net{arch: a, n: batch, nb: nb, index: map[string]int{InputName: 0}, bufs: [][]float32{nil}, keepAll: keepAll}
+	sizes := []int{0}
 	if a.IsStereo() {
 		m.pair = make([]float32, nb*a.Input.Len())
 	}
@@ -103,7 +116,8 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 		}
 		s.in0, _ = a.Shape(l.Inputs[0])
 		m.index[l.Name] = len(m.bufs)
-		m.bufs = append(m.bufs, make([]float32, nb*l.Out.Len()))
+		m.bufs = append(m.bufs, nil)
+		sizes = append(sizes, nb*l.Out.Len())
 		switch l.Op {
 		case OpConv:
 			pad := cpu.ZeroPad
@@ -111,7 +125,7 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 				pad = cpu.ReflectPad
 			}
 			s.conv, err = cpu.NewConv2D(cpu.ConvParams{InC: s.in0.C, OutC: l.Out.C, Kernel: l.Kernel, Stride: l.Stride,
-				Dilation: l.Dilation, Pad: l.Pad, Padding: pad}, nb, s.in0.H, s.in0.W)
+				Dilation: l.Dilation, Pad: l.Pad, Padding: pad, ForwardOnly: true}, nb, s.in0.H, s.in0.W)
 			if err != nil {
 				return nil, fmt.Errorf("model: layer %q: %w", l.Name, err)
 			}
@@ -159,6 +173,13 @@ func NewNet(w *Weights, batch int) (*Net, error) {
 		}
 		m.steps = append(m.steps, s)
 	}
+	keep := map[int]bool{}
+	for _, name := range a.Outputs {
+		if k, ok := m.index[name]; ok {
+			keep[k] = true
+		}
+	}
+	m.bufs = planBuffers(m.steps, sizes, keep, keepAll)
 	for sc, name := range a.Outputs {
 		sh, _ := a.Shape(name)
 		k, ok := m.index[name]
@@ -260,11 +281,12 @@ func (m *Net) run(input []float32) error {
 
 // Tensor returns the buffer of the tensor called name from the last
 // Forward call (N × C × H × W, see Arch.Shape), or nil if there is no such
-// layer. It is meant for inspection and tests; the slice is overwritten by
+// layer. Only a Net made by NewInspectNet keeps every tensor; a NewNet's
+// buffers are shared, so it returns the outputs and nil for the others. It is meant for inspection and tests; the slice is overwritten by
 // the next call.
 func (m *Net) Tensor(name string) []float32 {
 	k, ok := m.index[name]
-	if !ok || m.bufs[k] == nil {
+	if !ok || m.bufs[k] == nil || !m.owns(k) {
 		return nil
 	}
 	return m.bufs[k]

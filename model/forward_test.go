@@ -70,7 +70,7 @@ func TestForwardAgainstTorch(t *testing.T) {
 
 func TestForwardNoAllocAndErrors(t *testing.T) {
 	w := tinyWeights(t)
-	net, err := NewNet(w, 1)
+	net, err := NewInspectNet(w, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -59,7 +59,7 @@ func f32bytes(vs ...[]float32) []byte {
 func TestStereoTorchWalk(t *testing.T) {
 	dir := filepath.Join("..", "testdata", "stereo", "net")
 	w, left, right := stereoTorchInputs(t)
-	net, err := NewNet(w, 1)
+	net, err := NewInspectNet(w, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -37,7 +37,7 @@ func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 		}
 	}
 	img := randomImage(rng, batch, 3, 64, 64)
-	ref, err := model.NewNet(w, batch)
+	ref, err := model.NewInspectNet(w, batch)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -99,7 +99,7 @@ func TestSessionGradients(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer s.Close()
-	ref, err := model.NewNet(w, batch)
+	ref, err := model.NewInspectNet(w, batch)
 	if err != nil {
 		t.Fatal(err)
 	}

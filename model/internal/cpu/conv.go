@@ -46,6 +46,10 @@ type ConvParams struct {
 	// Padding is how the padded pixels are filled; the zero value is
 	// ZeroPad.
 	Padding Padding
+	// ForwardOnly makes a plan for Forward alone, without the workspaces
+	// of the gradients (inference: about half of a plan's memory at the
+	// network's shapes). Backward on such a plan panics. Default false.
+	ForwardOnly bool
 }
 
 // Conv2D is a convolution plan for one input shape (N, InC, H, W): it
@@ -225,7 +229,9 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 	if !c.ident && !im2colOnly {
 		c.fd = newDirect(p.InC, p.OutC, h, w, p.Kernel, p.Stride, p.Dilation, p.Pad, p.Padding == ReflectPad, n)
 		span := (p.Kernel - 1) * p.Dilation
-		if p.Stride == 1 {
+		if p.ForwardOnly {
+			// no gradient workspaces
+		} else if p.Stride == 1 {
 			c.bd = newDirect(p.OutC, p.InC, ho, wo, p.Kernel, 1, p.Dilation, span, false, n)
 		} else {
 			fd, s := c.fd, p.Stride
@@ -238,7 +244,9 @@ func NewConv2D(p ConvParams, n, h, w int) (*Conv2D, error) {
 				}
 			}
 		}
-		c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+		if !p.ForwardOnly {
+			c.dxpad = make([]float32, n*p.InC*c.fd.plane)
+		}
 	}
 	c.makeWorkers()
 	return c, nil
@@ -274,7 +282,9 @@ func (c *Conv2D) makeWorkers() {
 	c.free = make(chan *convWorker, procs)
 	dcolLen, cbufLen := c.dxBlock*kk2*blockN, 0
 	c.dwPart = nil
-	if c.fd == nil {
+	if c.p.ForwardOnly {
+		dcolLen = 0
+	} else if c.fd == nil {
 		// Weight gradient: split the pixels (the reduction) into stripes.
 		c.dwStripe = max(blockK, (c.pix+fixed-1)/fixed)
 		c.dwPieces = c.n * ((c.pix + c.dwStripe - 1) / c.dwStripe)
@@ -285,7 +295,7 @@ func (c *Conv2D) makeWorkers() {
 	}
 	if c.fd != nil {
 		c.fd.size(procs)
-		if c.gg == nil || c.gg.mo != kern.mo || c.gg.mk != kern.mk || c.gg.lanes != kern.lanes {
+		if !c.p.ForwardOnly && (c.gg == nil || c.gg.mo != kern.mo || c.gg.mk != kern.mk || c.gg.lanes != kern.lanes) {
 			c.gg = newGradGrid(c.fd)
 		}
 		cbufLen = c.fd.mpad * c.fd.ncb

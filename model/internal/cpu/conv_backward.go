@@ -6,8 +6,12 @@ package cpu
 // dx (shape of x), dweight (OIHW) and dbias (OutC values) are overwritten;
 // any of them may be nil to skip that gradient.
 //
-// Backward panics if a slice length disagrees with the plan's shapes.
+// Backward panics if a slice length disagrees with the plan's shapes, or
+// on a ForwardOnly plan.
 func (c *Conv2D) Backward(dx, dweight, dbias, x, weight, dy []float32) {
+	if c.p.ForwardOnly {
+		panic("cpu: Backward on a ForwardOnly Conv2D")
+	}
 	inLen, outLen := c.n*c.p.InC*c.g.h*c.g.w, c.n*c.p.OutC*c.pix
 	c.check("Backward", dy, outLen, "dy")
 	if dbias != nil {
