@@ -186,3 +186,56 @@ func TestEstimatePairConcurrent(t *testing.T) {
 		t.Error(err)
 	}
 }
+// benchmarkPair times EstimatePair on a textured pair of width × height
+// with the embedded stereo weights: both images resampled to the network
+// size (NetworkSize with the default cap), the matcher, the network on the
+// pair and its mirrored copy, confidence and the maps at the input's size.
+func benchmarkPair(b *testing.B, width, height int) {
+	w, err := DefaultStereo()
+	if err != nil {
+		b.Fatal(err)
+	}
+	est, err := NewEstimator(w, &EstimatorOptions{MaxWorkers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	l, r := pairImages(rand.New(rand.NewPCG(1, 2)), width, height, width/32)
+	ctx := context.Background()
+	if _, err := est.EstimatePair(ctx, l, r); err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for range b.N {
+		if _, err := est.EstimatePair(ctx, l, r); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// benchmarkOne times Estimate with the embedded one-image weights on an
+// image of width × height, at the network size NetworkSize gives.
+func benchmarkOne(b *testing.B, width, height int) {
+	est, err := NewEstimator(nil, &EstimatorOptions{MaxWorkers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	l, _ := pairImages(rand.New(rand.NewPCG(1, 2)), width, height, 0)
+	ctx := context.Background()
+	if _, err := est.Estimate(ctx, l); err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for range b.N {
+		if _, err := est.Estimate(ctx, l); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// Stereo and one-image estimates at 256×128 (network 256×128) and 640×480
+// (network 384×288).
+func BenchmarkEstimatePair256x128(b *testing.B) { benchmarkPair(b, 256, 128) }
+func BenchmarkEstimatePair640x480(b *testing.B) { benchmarkPair(b, 640, 480) }
+func BenchmarkEstimateOne640x480(b *testing.B)  { benchmarkOne(b, 640, 480) }

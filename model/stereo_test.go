@@ -248,3 +248,24 @@ func equalF32(a, b []float32) bool {
 	}
 	return true
 }
+
+// The embedded stereo weights decode, are of the stereo kind, fit the
+// issue's size budget (F16, at most 8 MB) and say how far they are trained.
+func TestDefaultStereo(t *testing.T) {
+	w, err := DefaultStereo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w.Config.Arch != StereoArchName {
+		t.Errorf("embedded stereo weights have architecture %q", w.Config.Arch)
+	}
+	if len(defaultStereoWeights) > 8<<20 {
+		t.Errorf("embedded stereo weights take %d bytes, want at most 8 MB", len(defaultStereoWeights))
+	}
+	if len(defaultStereoWeights)+len(defaultWeights) > 12<<20 {
+		t.Errorf("embedded weights take %d bytes together, want at most 12 MB", len(defaultStereoWeights)+len(defaultWeights))
+	}
+	if w.Provenance[ProvenanceStatus] == "" {
+		t.Errorf("the embedded stereo weights' provenance has no %q: %v", ProvenanceStatus, w.Provenance)
+	}
+}
