@@ -1,0 +1,434 @@
+package adapt
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"image"
+	"math"
+	"math/rand/v2"
+	"sync"
+	"time"
+
+	"github.com/parallaxdepth/parallax/loss"
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/train"
+	"github.com/parallaxdepth/parallax/planar"
+)
+
+// Options configures an Adapter. A nil *Options means the zero value,
+// which is valid; a zero field means its documented default. None of the
+// defaults was tuned on a measured drive yet.
+type Options struct {
+	// StepsPerSecond caps the training steps per second of Run (the CPU
+	// budget). If 0 it is defaulted to 2.
+	StepsPerSecond float64
+	// Buffer is the replay buffer's capacity in pairs, held-out frames
+	// included; the oldest pair leaves first. If 0 it is defaulted to 32.
+	Buffer int
+	// HoldOut is the number of newest admitted pairs held back to score
+	// candidates. If 0 it is defaulted to 4; it must be below Buffer.
+	HoldOut int
+	// StepsPerCheck is the number of steps between two checks (and
+	// possible swaps). If 0 it is defaulted to 10.
+	StepsPerCheck int
+	// Margin is how much worse, relatively, a candidate may score on the
+	// held-out frames than the weights in service and still be swapped
+	// in. Default 0: no worse.
+	Margin float64
+	// MaxDrift bounds the relative L2 distance of a candidate from the
+	// starting weights. If 0 it is defaulted to 0.05; DriftOff turns the
+	// bound off.
+	MaxDrift float64
+	// LearningRate is Adam's step size. If 0 it is defaulted to 1e-4, a
+	// third of train.DefaultRate: the weights in service are already
+	// trained.
+	LearningRate float64
+	// MinChange is the smallest mean absolute luma difference (RGB in
+	// [0, 1], Rec. 601 luma, at the training size) between a pair's left
+	// view and the last admitted one for the pair to count as new. If 0
+	// it is defaulted to 0.003, a third of the smallest difference we saw
+	// between consecutive frames of a synthetic greenhouse drive at 5 cm a
+	// frame (0.0086 to 0.012 at 128×64, synth seed 3; TestGates). A
+	// camera's noise alone may exceed it; raise it to the noise of a
+	// standing robot. GateOff admits near-duplicates.
+	MinChange float64
+	// MinContrast is the smallest standard deviation of the left view's
+	// luma for a pair to be admitted (a black, blown-out or covered
+	// camera fails it). If 0 it is defaulted to 0.02; GateOff turns the
+	// test off.
+	MinContrast float64
+	// KeepSwapped turns off the view-order test (see the package doc).
+	// Default false: pairs whose views look swapped are refused.
+	KeepSwapped bool
+	// Seed seeds the choice of training pairs.
+	Seed uint64
+	// Objective sets the self-supervised objective; nil means
+	// loss.DefaultObjectiveOptions.
+	Objective *loss.ObjectiveOptions
+}
+
+// GateOff, as Options.MinChange or MinContrast, turns that gate off;
+// DriftOff, as Options.MaxDrift, turns the drift bound off.
+const (
+	GateOff  = -1
+	DriftOff = -1
+)
+
+func (o *Options) resolved() (Options, error) {
+	var r Options
+	if o != nil {
+		r = *o
+	}
+	def := func(v *float64, d float64) {
+		if *v == 0 {
+			*v = d
+		}
+	}
+	def(&r.StepsPerSecond, 2)
+	def(&r.MaxDrift, 0.05)
+	def(&r.LearningRate, 1e-4)
+	def(&r.MinChange, 0.003)
+	def(&r.MinContrast, 0.02)
+	if r.Buffer == 0 {
+		r.Buffer = 32
+	}
+	if r.HoldOut == 0 {
+		r.HoldOut = 4
+	}
+	if r.StepsPerCheck == 0 {
+		r.StepsPerCheck = 10
+	}
+	for _, f := range []struct {
+		name string
+		v    float64
+	}{{"StepsPerSecond", r.StepsPerSecond}, {"LearningRate", r.LearningRate}, {"Margin", r.Margin + 1}} {
+		if !(f.v > 0) || math.IsInf(f.v, 0) {
+			return r, fmt.Errorf("adapt: %s %v must be positive and finite", f.name, f.v)
+		}
+	}
+	if r.Margin < 0 {
+		return r, fmt.Errorf("adapt: Margin %v must not be negative", r.Margin)
+	}
+	if r.Buffer < 2 || r.Buffer > 4096 || r.HoldOut < 1 || r.HoldOut >= r.Buffer {
+		return r, fmt.Errorf("adapt: Buffer %d and HoldOut %d must satisfy 1 <= HoldOut < Buffer <= 4096", r.Buffer, r.HoldOut)
+	}
+	if r.StepsPerCheck < 1 {
+		return r, fmt.Errorf("adapt: StepsPerCheck %d must be positive", r.StepsPerCheck)
+	}
+	for _, v := range []float64{r.MaxDrift, r.MinChange, r.MinContrast} {
+		if math.IsNaN(v) || math.IsInf(v, 0) || (v < 0 && v != -1) {
+			return r, fmt.Errorf("adapt: thresholds must be positive and finite or -1 (off), got %v", v)
+		}
+	}
+	if r.Objective != nil {
+		if err := r.Objective.Validate(); err != nil {
+			return r, fmt.Errorf("adapt: %w", err)
+		}
+	}
+	return r, nil
+}
+
+// Status is what an Adapter has done so far.
+type Status struct {
+	// Offered counts Offer calls; Replaced the offered pairs replaced by a
+	// newer one before the adapter took them.
+	Offered, Replaced int
+	// Admitted, Duplicates, LowContrast and Swapped count the taken pairs
+	// by the gate's verdict.
+	Admitted, Duplicates, LowContrast, Swapped int
+	// Steps, Checks, Swaps, Refused and Rollbacks count training steps,
+	// checks, swaps into the Estimator, refused candidates and roll-backs
+	// (every refusal is one, and so is every non-finite value).
+	Steps, Checks, Swaps, Refused, Rollbacks int
+	// Paused is set by a non-finite value; Reason says why, or why the
+	// last candidate was refused.
+	Paused bool
+	Reason string
+	// ServingLoss and CandidateLoss are the last check's mean objective
+	// on the held-out frames; Drift is the last candidate's relative L2
+	// distance from the starting weights.
+	ServingLoss, CandidateLoss, Drift float64
+}
+
+// ErrPaused is returned by Step while the adapter is paused; ErrTooFewFrames
+// while the buffer holds no pair beyond the held-out ones.
+var (
+	ErrPaused       = errors.New("adapt: paused (see Status.Reason; Resume continues)")
+	ErrTooFewFrames = errors.New("adapt: too few admitted pairs to train on")
+)
+
+// Adapter adapts a running Estimator's weights to the pairs it is
+// offered. Offer, Status, Snapshot and Resume are safe for concurrent
+// use with each other and with Run or Step; Step and Run take turns.
+type Adapter struct {
+	est   *model.Estimator
+	opt   Options
+	w, h  int // training size
+	shift int // the view-order test's largest shift, pixels
+
+	mu       sync.Mutex // guards pending, status and serving
+	pending  [2]image.Image
+	hasPend  bool
+	status   Status
+	serving  *model.Weights
+	notify   chan struct{} // a pair is pending
+	resumed  chan struct{} // Resume was called
+	stepping sync.Mutex    // one Step at a time; guards what follows
+
+	start     *model.Weights
+	startNorm float64
+	sess      *train.Session // the candidate, trained
+	judge     *train.Session // always holds the serving weights
+	frames    []*frame       // oldest first
+	last      []float32      // luma of the last admitted left view
+	rng       *rand.Rand
+	since     int // steps since the last check
+}
+
+// New returns an Adapter for est, starting from the weights it runs now.
+// It builds two training graphs (batch 1) at the weights' own input size.
+// It returns an error for a nil Estimator, invalid options or weights the
+// training graph cannot take.
+func New(est *model.Estimator, opt *Options) (*Adapter, error) {
+	if est == nil {
+		return nil, errors.New("adapt: estimator is nil")
+	}
+	o, err := opt.resolved()
+	if err != nil {
+		return nil, err
+	}
+	w0 := copyWeights(est.Weights())
+	a := &Adapter{est: est, opt: o, w: w0.Config.Width, h: w0.Config.Height, start: w0, serving: est.Weights(),
+		notify: make(chan struct{}, 1), resumed: make(chan struct{}, 1),
+		rng: rand.New(rand.NewPCG(o.Seed, 0x61646170))}
+	a.shift = max(1, int(math.Ceil(w0.Config.DMax*float64(a.w))))
+	if a.startNorm = math.Sqrt(sqDist(w0, nil)); a.startNorm == 0 {
+		a.startNorm = 1 // all-zero start: the drift is absolute
+	}
+	if a.sess, err = train.NewSession(w0, 1, o.Objective, &train.AdamConfig{LearningRate: o.LearningRate}); err != nil {
+		return nil, err
+	}
+	if a.judge, err = train.NewSession(w0, 1, o.Objective, nil); err != nil {
+		a.sess.Close()
+		return nil, err
+	}
+	return a, nil
+}
+
+// Close releases the training graphs. Call it after Run has returned.
+func (a *Adapter) Close() error {
+	return errors.Join(a.sess.Close(), a.judge.Close())
+}
+
+// Offer hands the adapter a rectified pair (equal sizes, any size) and
+// returns at once: the pair waits until the adapting goroutine takes it,
+// replacing a pair that still waits. The adapter reads the images later,
+// so the caller must not change them after Offer. It returns an error
+// for nil or empty images or views of different sizes.
+func (a *Adapter) Offer(left, right image.Image) error {
+	if left == nil || right == nil {
+		return errors.New("adapt: offered image is nil")
+	}
+	lb, rb := left.Bounds(), right.Bounds()
+	if lb.Empty() || lb.Size() != rb.Size() {
+		return fmt.Errorf("adapt: offered views are %dx%d and %dx%d: they must have the same, non-empty size", lb.Dx(), lb.Dy(), rb.Dx(), rb.Dy())
+	}
+	if err := planar.CheckSize(lb.Dx(), lb.Dy()); err != nil {
+		return fmt.Errorf("adapt: offered image: %w", err)
+	}
+	a.mu.Lock()
+	a.status.Offered++
+	if a.hasPend {
+		a.status.Replaced++
+	}
+	a.pending, a.hasPend = [2]image.Image{left, right}, true
+	a.mu.Unlock()
+	select {
+	case a.notify <- struct{}{}:
+	default:
+	}
+	return nil
+}
+
+// Status returns a copy of the adapter's counters and last check.
+func (a *Adapter) Status() Status {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	return a.status
+}
+
+// Snapshot returns a copy of the weights in service (the Estimator's).
+func (a *Adapter) Snapshot() *model.Weights {
+	a.mu.Lock()
+	w := a.serving
+	a.mu.Unlock()
+	return copyWeights(w)
+}
+
+// Resume clears a pause; training continues from the weights in service.
+func (a *Adapter) Resume() {
+	a.mu.Lock()
+	a.status.Paused = false
+	a.mu.Unlock()
+	select {
+	case a.resumed <- struct{}{}:
+	default:
+	}
+}
+
+// Run adapts until ctx ends, then returns nil: it takes offered pairs as
+// they come and runs Step at most Options.StepsPerSecond times a second,
+// waits for pairs while there are too few and for Resume while paused. It
+// returns the first other error of Step.
+func (a *Adapter) Run(ctx context.Context) error {
+	interval := time.Duration(float64(time.Second) / a.opt.StepsPerSecond)
+	next := time.Now()
+	timer := time.NewTimer(0)
+	defer timer.Stop()
+	for {
+		timer.Reset(time.Until(next))
+		waiting := true
+		for waiting {
+			select {
+			case <-ctx.Done():
+				return nil
+			case <-a.notify:
+				a.stepping.Lock()
+				a.ingest()
+				a.stepping.Unlock()
+			case <-timer.C:
+				waiting = false
+			}
+		}
+		err := a.Step(ctx)
+		switch {
+		case err == nil:
+		case errors.Is(err, ErrTooFewFrames):
+			select {
+			case <-ctx.Done():
+				return nil
+			case <-a.notify:
+				a.stepping.Lock()
+				a.ingest()
+				a.stepping.Unlock()
+			}
+		case errors.Is(err, ErrPaused):
+			select {
+			case <-ctx.Done():
+				return nil
+			case <-a.resumed:
+			}
+		case ctx.Err() != nil:
+			return nil
+		default:
+			return err
+		}
+		next = next.Add(interval)
+		if now := time.Now(); next.Before(now) {
+			next = now // no burst to catch up after a slow step or a wait
+		}
+	}
+}
+
+// Step takes the pending pair if there is one, then runs one training
+// step and, every Options.StepsPerCheck steps, the check that swaps the
+// candidate in or rolls it back. It returns ErrPaused while paused,
+// ErrTooFewFrames while there is nothing to train on, and an error for a
+// cancelled ctx or a failed graph run; a non-finite value is no error: it
+// rolls back and pauses (see Status).
+func (a *Adapter) Step(ctx context.Context) error {
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("adapt: %w", err)
+	}
+	a.stepping.Lock()
+	defer a.stepping.Unlock()
+	a.ingest()
+	a.mu.Lock()
+	paused := a.status.Paused
+	a.mu.Unlock()
+	if paused {
+		return ErrPaused
+	}
+	pool := len(a.frames) - a.opt.HoldOut
+	if pool < 1 {
+		return ErrTooFewFrames
+	}
+	f := a.frames[a.rng.IntN(pool)]
+	if err := errors.Join(f.left.CheckFinite("adapt: left view"), f.right.CheckFinite("adapt: right view")); err != nil {
+		return a.rollback(true, err.Error())
+	}
+	t, err := a.sess.Step(f.left, f.right)
+	if errors.Is(err, train.ErrNonFiniteGradient) || (err == nil && !finite(t.Total)) {
+		return a.rollback(true, fmt.Sprintf("non-finite training step (loss %v): %v", t.Total, err))
+	}
+	if err != nil {
+		return err
+	}
+	a.mu.Lock()
+	a.status.Steps++
+	a.mu.Unlock()
+	if a.since++; a.since >= a.opt.StepsPerCheck {
+		a.since = 0
+		return a.check()
+	}
+	return nil
+}
+
+// ingest takes the pending pair through the gates into the buffer.
+// Called with a.stepping held.
+func (a *Adapter) ingest() {
+	a.mu.Lock()
+	p, ok := a.pending, a.hasPend
+	a.pending, a.hasPend = [2]image.Image{}, false
+	a.mu.Unlock()
+	if !ok {
+		return
+	}
+	g, f := a.admit(p[0], p[1])
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	switch g {
+	case gateLowContrast:
+		a.status.LowContrast++
+	case gateDuplicate:
+		a.status.Duplicates++
+	case gateSwapped:
+		a.status.Swapped++
+	default:
+		a.status.Admitted++
+		if len(a.frames) == a.opt.Buffer {
+			a.frames = append(a.frames[:0], a.frames[1:]...)
+		}
+		a.frames = append(a.frames, f)
+		a.last = f.grey
+	}
+}
+
+// admit resizes a pair and runs the gates on it.
+func (a *Adapter) admit(left, right image.Image) (gate, *frame) {
+	l, err := toPlanar(left, a.w, a.h)
+	if err != nil {
+		return gateLowContrast, nil // unreachable for checked sizes
+	}
+	r, err := toPlanar(right, a.w, a.h)
+	if err != nil {
+		return gateLowContrast, nil
+	}
+	f := &frame{left: l, right: r, grey: luma(l)}
+	return a.judgeFrame(f), f
+}
+
+// judgeFrame applies the contrast, duplicate and view-order gates.
+func (a *Adapter) judgeFrame(f *frame) gate {
+	if a.opt.MinContrast != GateOff && stdDev(f.grey) < a.opt.MinContrast {
+		return gateLowContrast
+	}
+	if a.opt.MinChange != GateOff && a.last != nil && meanAbsDiff(f.grey, a.last) < a.opt.MinChange {
+		return gateDuplicate
+	}
+	if !a.opt.KeepSwapped && viewsSwapped(f.grey, luma(f.right), a.w, a.h, a.shift) {
+		return gateSwapped
+	}
+	return gateOK
+}

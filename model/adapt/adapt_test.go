@@ -1,0 +1,379 @@
+package adapt
+
+import (
+	"context"
+	"errors"
+	"image"
+	"math"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/synth"
+)
+
+// testConfig is a narrow one-image network at 128×64, so steps are quick.
+var testConfig = model.Config{Width: 128, Height: 64, Encoder: []int{4, 4, 8, 8, 8}, Decoder: []int{4, 4, 4, 8, 8}, DMax: 0.25}
+
+type pair struct{ left, right image.Image }
+
+var (
+	driveOnce  sync.Once
+	drivePairs []pair
+	driveErr   error
+)
+
+// drive returns the first n ≤ 16 frames of a greenhouse drive rendered by
+// synth at 128×64 (consecutive frames 5 cm apart).
+func drive(t *testing.T, n int) []pair {
+	t.Helper()
+	driveOnce.Do(func() {
+		d := &synth.Drive{Legs: []synth.Leg{{Style: synth.Greenhouse, Frames: 16}}, Seed: 3}
+		for i := range 16 {
+			p, err := synth.GenerateFrame(d, i, &synth.Options{Width: 128, Height: 64, Samples: 1})
+			if err != nil {
+				driveErr = err
+				return
+			}
+			drivePairs = append(drivePairs, pair{p.Left.ToNRGBA(0), p.Right.ToNRGBA(0)})
+		}
+	})
+	if driveErr != nil {
+		t.Fatal(driveErr)
+	}
+	return drivePairs[:n]
+}
+
+func newAdapter(t *testing.T, opt *Options) (*Adapter, *model.Estimator) {
+	t.Helper()
+	w, err := model.NewWeights(testConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{TrainingSize: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(est, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { a.Close() })
+	return a, est
+}
+
+// offerAll offers each pair and takes it in (a Step would; ingest alone
+// keeps the test's step count exact).
+func offerAll(t *testing.T, a *Adapter, ps []pair) {
+	t.Helper()
+	for _, p := range ps {
+		if err := a.Offer(p.left, p.right); err != nil {
+			t.Fatal(err)
+		}
+		a.stepping.Lock()
+		a.ingest()
+		a.stepping.Unlock()
+	}
+}
+
+func sameWeights(a, b *model.Weights) bool {
+	if len(a.Params) != len(b.Params) {
+		return false
+	}
+	for k, va := range a.Params {
+		vb := b.Params[k]
+		if len(va) != len(vb) {
+			return false
+		}
+		for i := range va {
+			if math.Float32bits(va[i]) != math.Float32bits(vb[i]) {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+func black(w, h int) image.Image { return image.NewRGBA(image.Rect(0, 0, w, h)) }
+
+// TestGates: consecutive drive frames (5 cm apart) are all admitted in
+// the right view order and all refused with the views swapped; the same
+// pair twice is a duplicate; a black frame has no contrast. It catches a
+// gate that refuses good frames or lets the bad ones into the buffer.
+func TestGates(t *testing.T) {
+	ps := drive(t, 12)
+	a, _ := newAdapter(t, nil)
+	offerAll(t, a, ps)
+	swapped := make([]pair, len(ps))
+	for i, p := range ps {
+		swapped[i] = pair{p.right, p.left}
+	}
+	offerAll(t, a, swapped)
+	offerAll(t, a, []pair{ps[11]})
+	offerAll(t, a, []pair{{black(128, 64), black(128, 64)}, {black(640, 320), black(640, 320)}})
+	s := a.Status()
+	want := Status{Offered: 27, Admitted: 12, Swapped: 12, Duplicates: 1, LowContrast: 2}
+	if s.Offered != want.Offered || s.Admitted != want.Admitted || s.Swapped != want.Swapped || s.Duplicates != want.Duplicates || s.LowContrast != want.LowContrast {
+		t.Errorf("status %+v, want the counts of %+v", s, want)
+	}
+	if len(a.frames) != 12 {
+		t.Errorf("buffer holds %d pairs, want 12", len(a.frames))
+	}
+	if err := a.Offer(ps[0].left, black(64, 64)); err == nil {
+		t.Error("views of different sizes were accepted")
+	}
+	if err := a.Offer(nil, ps[0].right); err == nil {
+		t.Error("a nil view was accepted")
+	}
+}
+
+// TestBufferBounded: the buffer never holds more than Options.Buffer
+// pairs, the oldest leaving first.
+func TestBufferBounded(t *testing.T) {
+	ps := drive(t, 12)
+	a, _ := newAdapter(t, &Options{Buffer: 5, HoldOut: 2})
+	offerAll(t, a, ps)
+	if len(a.frames) != 5 {
+		t.Fatalf("buffer holds %d pairs, want 5", len(a.frames))
+	}
+	if meanAbsDiff(a.frames[4].grey, a.last) != 0 {
+		t.Error("the newest pair is not last in the buffer")
+	}
+}
+
+// TestNaNBatchRollsBackAndPauses injects NaN into every pair that can be
+// trained on: the step must roll back, pause with a reason, leave the
+// Estimator's weights as they were, and resume cleanly.
+func TestNaNBatchRollsBackAndPauses(t *testing.T) {
+	ps := drive(t, 8)
+	a, est := newAdapter(t, &Options{HoldOut: 2, StepsPerCheck: 1})
+	before := copyWeights(est.Weights())
+	offerAll(t, a, ps)
+	for _, f := range a.frames[:len(a.frames)-2] {
+		f.left.Pix[100] = float32(math.NaN())
+	}
+	if err := a.Step(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	s := a.Status()
+	if !s.Paused || !strings.Contains(s.Reason, "non-finite") || s.Rollbacks != 1 || s.Swaps != 0 {
+		t.Fatalf("after a NaN batch: %+v; want paused, non-finite reason, one roll-back, no swap", s)
+	}
+	if !sameWeights(est.Weights(), before) || !sameWeights(a.Snapshot(), before) {
+		t.Error("the weights in service changed after a NaN batch")
+	}
+	if err := a.Step(context.Background()); !errors.Is(err, ErrPaused) {
+		t.Errorf("Step while paused: %v, want ErrPaused", err)
+	}
+	for _, f := range a.frames {
+		f.left.Pix[100] = 0.5
+	}
+	a.Resume()
+	if err := a.Step(context.Background()); err != nil {
+		t.Fatalf("Step after Resume: %v", err)
+	}
+	if s := a.Status(); s.Paused || s.Steps != 1 {
+		t.Errorf("after Resume: %+v; want not paused, one step", s)
+	}
+}
+
+// TestWorseCandidateRefused trains with a step size 5000 times too large,
+// which wrecks the weights: every check must refuse (or pause on a
+// non-finite value) and the Estimator keep its weights bit for bit.
+func TestWorseCandidateRefused(t *testing.T) {
+	ps := drive(t, 8)
+	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 2, LearningRate: 0.5, MaxDrift: DriftOff})
+	before := copyWeights(est.Weights())
+	offerAll(t, a, ps)
+	for range 6 {
+		if err := a.Step(context.Background()); errors.Is(err, ErrPaused) {
+			break
+		} else if err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	t.Logf("status %+v", s)
+	if s.Swaps != 0 || s.Refused == 0 {
+		t.Errorf("with a wrecking step size: %d swaps, %d refusals; want none and some", s.Swaps, s.Refused)
+	}
+	if !sameWeights(est.Weights(), before) {
+		t.Error("the weights in service changed")
+	}
+}
+
+// TestDriftBound: with a bound of 1e-6, no candidate is swapped in and the
+// refusal names the drift.
+func TestDriftBound(t *testing.T) {
+	ps := drive(t, 8)
+	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 2, MaxDrift: 1e-6, LearningRate: 1e-3})
+	before := copyWeights(est.Weights())
+	offerAll(t, a, ps)
+	for range 2 {
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	if s.Swaps != 0 || !strings.Contains(s.Reason, "drift") || !(s.Drift > 1e-6) {
+		t.Errorf("status %+v; want a refusal for drift", s)
+	}
+	if !sameWeights(est.Weights(), before) {
+		t.Error("the weights in service changed")
+	}
+}
+
+// run adapts a fresh adapter on the drive with fixed calls and returns its
+// snapshot and status.
+func run(t *testing.T) (*model.Weights, Status) {
+	ps := drive(t, 12)
+	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff, Seed: 7})
+	offerAll(t, a, ps[:8])
+	for i := range 12 {
+		if i%3 == 0 && 8+i/3 < len(ps) {
+			offerAll(t, a, ps[8+i/3:9+i/3])
+		}
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if !sameWeights(est.Weights(), a.Snapshot()) {
+		t.Error("Snapshot differs from the Estimator's weights")
+	}
+	return a.Snapshot(), a.Status()
+}
+
+// TestReproducible: with a fixed seed and one adapting goroutine, two
+// runs give the same weights bit for bit, and the run did swap weights in
+// (else the check would be empty).
+func TestReproducible(t *testing.T) {
+	w1, s1 := run(t)
+	w2, s2 := run(t)
+	t.Logf("status %+v", s1)
+	if s1.Swaps == 0 {
+		t.Fatalf("no swap in the run: %+v", s1)
+	}
+	if !sameWeights(w1, w2) || s1 != s2 {
+		t.Errorf("two runs differ: %+v and %+v", s1, s2)
+	}
+	start, _ := model.NewWeights(testConfig, 1)
+	if sameWeights(w1, start) {
+		t.Error("the swapped weights equal the starting weights")
+	}
+}
+
+// TestRunConcurrent runs the adapter in the background at a high rate
+// while the frame loop offers pairs and estimates on the same Estimator,
+// then cancels: Run must return nil promptly. Under -race it checks
+// Offer, Status, Snapshot and the swaps against inference.
+func TestRunConcurrent(t *testing.T) {
+	ps := drive(t, 12)
+	a, est := newAdapter(t, &Options{HoldOut: 2, StepsPerCheck: 2, StepsPerSecond: 100, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff})
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- a.Run(ctx) }()
+	deadline := time.Now().Add(2 * time.Minute)
+	for i := 0; time.Now().Before(deadline); i++ {
+		p := ps[i%len(ps)]
+		if err := a.Offer(p.left, p.right); err != nil {
+			t.Fatal(err)
+		}
+		if _, err := est.Estimate(ctx, p.left); err != nil {
+			t.Fatal(err)
+		}
+		_ = a.Snapshot()
+		if a.Status().Checks >= 2 {
+			break
+		}
+	}
+	cancel()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Errorf("Run: %v", err)
+		}
+	case <-time.After(time.Minute):
+		t.Fatal("Run did not return after the context ended")
+	}
+	if s := a.Status(); s.Checks < 2 {
+		t.Errorf("status %+v: fewer than 2 checks in 2 minutes", s)
+	}
+}
+
+func TestOptionsRefused(t *testing.T) {
+	for _, o := range []Options{{HoldOut: 32}, {Buffer: 1}, {Margin: -0.1}, {StepsPerSecond: -1}, {MaxDrift: math.NaN()}, {MinChange: -2}, {StepsPerCheck: -1}} {
+		if _, err := o.resolved(); err == nil {
+			t.Errorf("options %+v were accepted", o)
+		}
+	}
+}
+
+// TestNaNLossPauses scales the training graph's weights by 1e15 (finite,
+// so the graph takes them), which overflows the activations to ±Inf and
+// the sums to NaN, as a diverging run would: the step must roll back, pause with a reason,
+// swap nothing in, and leave the graph on the weights in service.
+func TestNaNLossPauses(t *testing.T) {
+	a, est := newAdapter(t, &Options{HoldOut: 2, StepsPerCheck: 1})
+	before := est.Weights()
+	offerAll(t, a, drive(t, 6))
+	bad := copyWeights(before)
+	for _, v := range bad.Params {
+		for i := range v {
+			v[i] *= 1e15
+		}
+	}
+	if err := a.sess.SetWeights(bad); err != nil {
+		t.Fatal(err)
+	}
+	if err := a.Step(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	if s := a.Status(); !s.Paused || !strings.Contains(s.Reason, "non-finite") || s.Swaps != 0 || s.Rollbacks != 1 {
+		t.Errorf("status %+v; want paused on a non-finite step, one roll-back, no swap", s)
+	}
+	if est.Weights() != before {
+		t.Error("the Estimator's weights were replaced")
+	}
+	if !sameWeights(a.sess.Weights(), before) {
+		t.Error("the training graph was not rolled back to the weights in service")
+	}
+}
+
+// TestBadBurstNoSwap: while the adapter trains, a burst of black frames
+// and of pairs with swapped views reaches it; none may enter the replay
+// buffer (so none is trained on or scores a candidate), and training goes
+// on with the good pairs.
+func TestBadBurstNoSwap(t *testing.T) {
+	ps := drive(t, 8)
+	a, _ := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 2, LearningRate: 1e-3, Margin: 0.05})
+	offerAll(t, a, ps)
+	buffer := append([]*frame(nil), a.frames...)
+	for i := range 8 {
+		p := ps[i]
+		if i%2 == 0 {
+			p = pair{black(128, 64), black(128, 64)}
+		} else {
+			p = pair{p.right, p.left}
+		}
+		if err := a.Offer(p.left, p.right); err != nil {
+			t.Fatal(err)
+		}
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	if s.LowContrast != 4 || s.Swapped != 4 || s.Steps != 8 || s.Paused {
+		t.Errorf("status %+v; want 4 black and 4 swapped pairs refused, 8 steps, no pause", s)
+	}
+	if len(a.frames) != len(buffer) {
+		t.Fatalf("buffer holds %d pairs, want %d", len(a.frames), len(buffer))
+	}
+	for i := range buffer {
+		if a.frames[i] != buffer[i] {
+			t.Errorf("buffer pair %d was replaced by a bad pair", i)
+		}
+	}
+}

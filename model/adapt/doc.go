@@ -1,0 +1,39 @@
+// Package adapt keeps a running model.Estimator learning on the live
+// stereo stream: self-supervised fine-tuning in the background with
+// bounded cost, checked before every swap and rolled back on trouble.
+//
+// The caller's frame loop hands each rectified pair to Adapter.Offer,
+// which never blocks: it keeps the latest pair until the adapting
+// goroutine (Adapter.Run, or Adapter.Step called by hand) takes it. A
+// taken pair is resized to the weights' training size (RGB in [0, 1],
+// Catmull-Rom as in model/data) and admitted to a bounded replay buffer
+// unless a frame gate refuses it (see Options): too little contrast (a
+// black or blown-out frame), too close to the last admitted frame (the
+// robot stands still), or views that look swapped.
+//
+// The newest Options.HoldOut admitted frames are held back: they are
+// never trained on and score every candidate. Steps draw one older frame
+// at a time, uniformly with a generator seeded by Options.Seed, and run
+// train.Session.Step with the existing self-supervised objective. Every
+// Options.StepsPerCheck steps the candidate weights are checked, and
+// swapped into the Estimator (model.Estimator.SetWeights) only if
+//
+//   - every weight and every loss is finite,
+//   - their relative L2 distance from the starting weights,
+//     ‖w − w₀‖ / ‖w₀‖ over all parameters, is within Options.MaxDrift,
+//   - their mean objective on the held-out frames is at most
+//     (1 + Options.Margin) times that of the weights in service, scored
+//     on the same frames at the same moment.
+//
+// A refused candidate is discarded: training restarts from the weights
+// in service with a fresh solver (a roll-back). A non-finite value
+// anywhere also pauses the adapter, with the reason in Status, until
+// Resume. The Estimator therefore only ever runs its starting weights or
+// weights that passed every check.
+//
+// Cost: one goroutine steps at most Options.StepsPerSecond times a
+// second; the kernels' own parallelism follows GOMAXPROCS, as inference
+// does. With the same seed, the same weights, the same offered frames in
+// the same order and the same calls, the weights are the same bits (the
+// kernels are deterministic; see DEVELOPERS.md).
+package adapt
