@@ -26,6 +26,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 	"syscall"
 	"time"
@@ -40,6 +41,7 @@ import (
 
 type config struct {
 	data, out, from, checkpoint, logPath, plotPath string
+	milestones                                     string
 	scratch, stereo, resume, noAugment, quiet, f16 bool
 	steps, batch, warmup, every, evalBatch         int
 	lr, val                                        float64
@@ -56,7 +58,8 @@ func main() {
 	flag.BoolVar(&c.stereo, "stereo", false, "with -from-scratch: the stereo network, which reads both views (otherwise the kind follows the starting weights)")
 	flag.IntVar(&c.steps, "steps", 1000, "number of training steps (one batch each)")
 	flag.IntVar(&c.batch, "batch", 4, "stereo pairs per step")
-	flag.Float64Var(&c.lr, "lr", train.DefaultRate, "base learning rate of Adam; it warms up linearly, then halves at 60% and 80% of the steps")
+	flag.Float64Var(&c.lr, "lr", train.DefaultRate, "base learning rate of Adam; it warms up linearly, then stays (see -milestones)")
+	flag.StringVar(&c.milestones, "milestones", "", "comma-separated fractions of the steps at which the learning rate halves, e.g. 0.6,0.8, or none\n(default: none; with -resume, the checkpoint's)")
 	flag.IntVar(&c.warmup, "warmup", 0, "warm-up steps (0: 2% of the steps, at most 200; -1: none)")
 	flag.StringVar(&c.checkpoint, "checkpoint", "", "checkpoint file (default: the -out path with .ckpt added); without -resume it must not exist yet")
 	flag.IntVar(&c.every, "every", 100, "write the checkpoint every this many steps (0: only at the end and on Ctrl-C)")
@@ -153,6 +156,9 @@ func run(c config) error {
 			return fmt.Errorf("finetune: -resume: %w", err)
 		}
 		w, origin = ck.Weights, fmt.Sprintf("checkpoint %s at step %d", c.checkpoint, ck.Step)
+		if c.milestones == "" {
+			c.milestones = formatMilestones(ck.Schedule.Milestones)
+		}
 		if note := scheduleNote(ck, c); note != "" {
 			fmt.Fprintln(os.Stderr, note)
 		}
@@ -214,10 +220,14 @@ func run(c config) error {
 			return err
 		}
 	}
+	milestones, err := parseMilestones(c.milestones)
+	if err != nil {
+		return err
+	}
 	bar := newProgressBar(os.Stderr, c.quiet)
 	opt := &train.TrainerOptions{
 		Steps: c.steps, Batch: c.batch, Seed: c.seed,
-		Schedule:       train.Schedule{Rate: c.lr, Warmup: c.warmup},
+		Schedule:       train.Schedule{Rate: c.lr, Warmup: c.warmup, Milestones: milestones},
 		CheckpointPath: c.checkpoint, CheckpointEvery: c.every,
 	}
 	opt.Progress = func(p train.Progress) {
@@ -271,6 +281,7 @@ func run(c config) error {
 	out.Provenance["train.start"] = origin
 	out.Provenance["train.date"] = time.Now().UTC().Format(time.RFC3339)
 	out.Provenance["train.lr"] = fmt.Sprint(c.lr)
+	out.Provenance["train.milestones"] = formatMilestones(milestones)
 	out.Provenance["train.command"] = "finetune " + strings.Join(os.Args[1:], " ")
 	delete(out.Provenance, model.ProvenanceStatus)
 	dtype := safetensors.F32
@@ -326,11 +337,44 @@ func run(c config) error {
 // steps or base rate: the run continues, but its learning-rate schedule
 // changes from the checkpoint on, so it is not the uninterrupted run.
 func scheduleNote(ck *train.Checkpoint, c config) string {
-	if ck.Steps == c.steps && ck.Schedule.Rate == c.lr {
+	was := formatMilestones(ck.Schedule.Milestones)
+	if ms, err := parseMilestones(c.milestones); err == nil {
+		c.milestones = formatMilestones(ms)
+	}
+	if ck.Steps == c.steps && ck.Schedule.Rate == c.lr && was == c.milestones {
 		return ""
 	}
-	return fmt.Sprintf("finetune: note: the checkpoint's run had -steps %d -lr %v, this one -steps %d -lr %v: the learning-rate schedule changes from step %d on, so the result differs from the uninterrupted run",
-		ck.Steps, ck.Schedule.Rate, c.steps, c.lr, ck.Step)
+	return fmt.Sprintf("finetune: note: the checkpoint's run had -steps %d -lr %v -milestones %s, this one -steps %d -lr %v -milestones %s: the learning-rate schedule changes from step %d on, so the result differs from the uninterrupted run",
+		ck.Steps, ck.Schedule.Rate, was, c.steps, c.lr, c.milestones, ck.Step)
+}
+
+// parseMilestones reads -milestones: "" or "none" for no decay, else
+// comma-separated fractions (train.Schedule checks their range).
+func parseMilestones(s string) ([]float64, error) {
+	if s == "" || s == "none" {
+		return nil, nil
+	}
+	var ms []float64
+	for _, f := range strings.Split(s, ",") {
+		v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil {
+			return nil, fmt.Errorf("finetune: -milestones %q: %q is not a number", s, f)
+		}
+		ms = append(ms, v)
+	}
+	return ms, nil
+}
+
+// formatMilestones writes milestones as -milestones takes them.
+func formatMilestones(ms []float64) string {
+	if len(ms) == 0 {
+		return "none"
+	}
+	parts := make([]string, len(ms))
+	for i, m := range ms {
+		parts[i] = strconv.FormatFloat(m, 'g', -1, 64)
+	}
+	return strings.Join(parts, ",")
 }
 
 func printEval(w io.Writer, n int, before, after *evaluation.Report) {

@@ -164,11 +164,22 @@ func TestScheduleNote(t *testing.T) {
 	if n := scheduleNote(ck, c); n != "" {
 		t.Errorf("same schedule: %q", n)
 	}
-	for _, edit := range []func(*config){func(c *config) { c.steps = 200 }, func(c *config) { c.lr = 1e-4 }} {
+	for _, edit := range []func(*config){func(c *config) { c.steps = 200 }, func(c *config) { c.lr = 1e-4 }, func(c *config) { c.milestones = "0.6,0.8" }} {
 		d := c
 		edit(&d)
 		if n := scheduleNote(ck, d); !strings.HasPrefix(n, "finetune: note: ") || !strings.Contains(n, "from step 40") {
 			t.Errorf("config %+v: note %q", d, n)
+		}
+	}
+	// A checkpoint with milestones resumed with the same ones, written
+	// another way, is the same schedule.
+	ck.Schedule.Milestones = []float64{0.6, 0.8}
+	if n := scheduleNote(ck, config{steps: 100, lr: train.DefaultRate, milestones: "0.60, 0.8"}); n != "" {
+		t.Errorf("same milestones: %q", n)
+	}
+	for _, bad := range []string{"0.6,x", "0.6,,0.8"} {
+		if _, err := parseMilestones(bad); err == nil || !strings.HasPrefix(err.Error(), "finetune: ") {
+			t.Errorf("-milestones %q: error %v", bad, err)
 		}
 	}
 }

@@ -60,7 +60,7 @@
 // Trainer runs a whole training or fine-tuning run over a Source of
 // batches (NewDatasetSource serves a dataset.Set): the learning rate of
 // a Schedule at every step (default 3e-4 after a linear warm-up over 2%
-// of the steps, ×0.5 at 60% and 80%), Adam, a Progress report after every
+// of the steps, no decay unless Schedule.Milestones asks), Adam, a Progress report after every
 // step (step, weighted terms, rate, steps/s and pairs/s), and checkpoints
 // (SaveCheckpoint, LoadCheckpoint; safetensors with the weights, Adam's
 // moments and the data position) every TrainerOptions.CheckpointEvery steps, at

@@ -14,8 +14,14 @@ import (
 // The defaults are our own choice: a base rate of 3e-4 (a probe of these
 // losses with Adam at 1e-3 collapsed to a constant disparity on one pair
 // and left a bias on another, while 3e-4 converged), 2% of the steps of
-// warm-up (at least 1 and at most 200 steps), and ×0.5 at 60% and 80% of
-// the steps.
+// warm-up (at least 1 and at most 200 steps), and no decay. Four runs of
+// 1,500 steps at 128×64 on generated greenhouse pairs, alike but for their
+// milestones, scored on 100 held-out pairs a mean EPE of 0.900 px without
+// decay, 0.935 with ×0.5 at 80 % and 90 %, 0.960 at 60 % and 80 %, and
+// 0.974 at 50 % and 75 %, although every decay lowered the training loss
+// (training/schedule, with the logs). Runs of other lengths were not
+// compared; the default weights' run (training/default) used 60 % and
+// 80 %.
 type Schedule struct {
 	// Rate is the base learning rate. If it is 0 it is defaulted to 3e-4.
 	Rate float64
@@ -25,8 +31,8 @@ type Schedule struct {
 	// means no warm-up.
 	Warmup int
 	// Milestones are fractions in (0, 1) of the total steps at which the
-	// rate is multiplied by Decay. If nil they are defaulted to 0.6 and
-	// 0.8; an empty non-nil slice means no decay.
+	// rate is multiplied by Decay. Nil or empty means no decay, the
+	// default.
 	Milestones []float64
 	// Decay is the factor applied at each milestone. If it is 0 it is
 	// defaulted to 0.5.
@@ -51,10 +57,7 @@ func (s Schedule) withDefaults(steps int) (Schedule, error) {
 	case s.Warmup < 0:
 		s.Warmup = 0
 	}
-	if s.Milestones == nil {
-		s.Milestones = []float64{0.6, 0.8}
-	}
-	s.Milestones = append([]float64(nil), s.Milestones...)
+	s.Milestones = append([]float64{}, s.Milestones...)
 	for _, m := range s.Milestones {
 		if !(m > 0 && m < 1) {
 			return s, fmt.Errorf("train: schedule: milestone %v must be a fraction in (0, 1)", m)

@@ -479,7 +479,7 @@ func TestScheduleDefaults(t *testing.T) {
 		want float64
 	}{
 		{0, 3e-4 / 21}, {9, 3e-4 * 10 / 21}, {19, 3e-4 * 20 / 21}, {20, 3e-4}, {599, 3e-4},
-		{600, 1.5e-4}, {799, 1.5e-4}, {800, 0.75e-4}, {999, 0.75e-4},
+		{600, 3e-4}, {999, 3e-4}, // no decay by default
 	}
 	for _, c := range cases {
 		if got := s.At(c.step, steps); math.Abs(got-c.want) > 1e-15 {
@@ -488,6 +488,17 @@ func TestScheduleDefaults(t *testing.T) {
 	}
 	if got := (Schedule{Warmup: -1, Milestones: []float64{}}).At(0, 10); got != 3e-4 {
 		t.Errorf("no warm-up, no decay: %v", got)
+	}
+	// Milestones as given, in any order, each multiplying by Decay (0.5 by
+	// default) from its step on.
+	ms := Schedule{Milestones: []float64{0.8, 0.6}}
+	for _, c := range []struct {
+		step int
+		want float64
+	}{{599, 3e-4}, {600, 1.5e-4}, {799, 1.5e-4}, {800, 0.75e-4}, {999, 0.75e-4}} {
+		if got := ms.At(c.step, steps); math.Abs(got-c.want) > 1e-15 {
+			t.Errorf("milestones 0.6, 0.8: rate at step %d: %v, want %v", c.step, got, c.want)
+		}
 	}
 	for _, bad := range []Schedule{{Rate: -1}, {Milestones: []float64{1.5}}, {Decay: math.NaN()}, {Rate: math.Inf(1)}} {
 		if _, err := bad.withDefaults(10); err == nil || !strings.HasPrefix(err.Error(), "train: ") {
