@@ -186,6 +186,7 @@ func TestEstimatePairConcurrent(t *testing.T) {
 		t.Error(err)
 	}
 }
+
 // benchmarkPair times EstimatePair on a textured pair of width × height
 // with the embedded stereo weights: both images resampled to the network
 // size (NetworkSize with the default cap), the matcher, the network on the
