@@ -27,7 +27,7 @@ var (
 
 // drive returns the first n ≤ 16 frames of a greenhouse drive rendered by
 // synth at 128×64 (consecutive frames 5 cm apart).
-func drive(t *testing.T, n int) []pair {
+func drive(t testing.TB, n int) []pair {
 	t.Helper()
 	driveOnce.Do(func() {
 		d := &synth.Drive{Legs: []synth.Leg{{Style: synth.Greenhouse, Frames: 16}}, Seed: 3}
@@ -374,6 +374,59 @@ func TestBadBurstNoSwap(t *testing.T) {
 	for i := range buffer {
 		if a.frames[i] != buffer[i] {
 			t.Errorf("buffer pair %d was replaced by a bad pair", i)
+		}
+	}
+}
+
+// TestStereoWeights adapts stereo weights (both views reach the network)
+// and swaps them into the Estimator, whose EstimatePair then runs the
+// snapshot's weights.
+func TestStereoWeights(t *testing.T) {
+	c := model.Config{Arch: model.StereoArchName, Width: 128, Height: 64, Encoder: []int{4, 6, 8}, Decoder: []int{3, 4, 6, 8}}
+	w, err := model.NewWeights(c, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{TrainingSize: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(est, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer a.Close()
+	ps := drive(t, 10)
+	offerAll(t, a, ps)
+	for range 9 {
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	t.Logf("status %+v", s)
+	if s.Swaps == 0 {
+		t.Fatalf("no stereo candidate was swapped in: %+v", s)
+	}
+	snap := a.Snapshot()
+	if !sameWeights(est.Weights(), snap) || sameWeights(snap, w) {
+		t.Error("the Estimator does not run the adapted snapshot")
+	}
+	ref, err := model.NewEstimator(snap, &model.EstimatorOptions{TrainingSize: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := est.EstimatePair(context.Background(), ps[0].left, ps[0].right)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := ref.EstimatePair(context.Background(), ps[0].left, ps[0].right)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range want.Disparity.Pix {
+		if math.Float32bits(got.Disparity.Pix[i]) != math.Float32bits(want.Disparity.Pix[i]) {
+			t.Fatalf("pixel %d: swapped Estimator %v, fresh Estimator on the snapshot %v", i, got.Disparity.Pix[i], want.Disparity.Pix[i])
 		}
 	}
 }
