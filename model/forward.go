@@ -180,6 +180,9 @@ func newNet(w *Weights, batch int, keepAll bool) (*Net, error) {
 		}
 	}
 	m.bufs = planBuffers(m.steps, sizes, keep, keepAll)
+	if !keepAll {
+		shareConvScratch(m.steps)
+	}
 	for sc, name := range a.Outputs {
 		sh, _ := a.Shape(name)
 		k, ok := m.index[name]

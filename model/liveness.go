@@ -7,8 +7,8 @@ package model
 // smallest that is large enough, else a new one) before the buffers of its
 // inputs that die at that step are freed, so an output never shares a
 // buffer with one of its own inputs. Only the activations still needed
-// are kept: at 256×128 the default network holds about a third of its
-// tensors' values at once.
+// are kept: 8.3 MB at 256×128 for the default network, against 14.7 MB
+// for a buffer per tensor.
 
 // planBuffers gives every tensor of m (bufs[1:], in step order) a buffer.
 // keep lists tensor indices that live to the end; keepAll keeps every
@@ -98,4 +98,26 @@ func (m *Net) owns(k int) bool {
 		}
 	}
 	return false
+}
+
+// shareConvScratch gives the convolutions of steps, which run one after
+// another, one padded-input buffer and one packed-weight buffer, each the
+// size of the largest a layer needs, instead of a pair each.
+func shareConvScratch(steps []step) {
+	var nx, nw int
+	for _, s := range steps {
+		if s.conv != nil {
+			x, w := s.conv.ForwardScratch()
+			nx, nw = max(nx, x), max(nw, w)
+		}
+	}
+	if nx == 0 && nw == 0 {
+		return
+	}
+	xpad, wpack := make([]float32, nx), make([]float32, nw)
+	for _, s := range steps {
+		if s.conv != nil {
+			s.conv.ShareForwardScratch(xpad, wpack)
+		}
+	}
 }

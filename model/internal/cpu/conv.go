@@ -101,6 +101,7 @@ type Conv2D struct {
 	// the flipped weights, into dxpad. Other strides take the input
 	// gradient through im2col and the GEMM.
 	fd, bd *direct
+	shared bool // fd's xpad and wpack come from ShareForwardScratch
 	gg     *gradGrid
 	dxpad  []float32
 	// For strides above 1, phases compute the phase planes of dxpad from
@@ -311,9 +312,12 @@ func (c *Conv2D) makeWorkers() {
 	}
 	for i := range c.workers {
 		wk := &convWorker{
-			ws:   newWorkspace(),
 			dcol: make([]float32, dcolLen),
 			cbuf: make([]float32, cbufLen),
+		}
+		if !c.p.ForwardOnly || c.fd == nil {
+			// The padded-grid forward pass needs no GEMM workspace.
+			wk.ws = newWorkspace()
 		}
 		wk.col.g, wk.colT.g = &c.g, &c.g
 		wk.op.fn = nil
@@ -327,6 +331,37 @@ func (c *Conv2D) refresh() {
 	if c.mr != kern.mr || c.nr != kern.nr || len(c.workers) < runtime.GOMAXPROCS(0) {
 		c.makeWorkers()
 	}
+}
+
+// ForwardScratch returns the lengths of the two forward workspaces of the
+// plan, its padded input and its packed weights (0, 0 for a plan without
+// them), for ShareForwardScratch.
+func (c *Conv2D) ForwardScratch() (xpad, wpack int) {
+	if c.fd == nil {
+		return 0, 0
+	}
+	return len(c.fd.xpad), len(c.fd.wpack)
+}
+
+// ShareForwardScratch makes a ForwardOnly plan use xpad and wpack (at least
+// the lengths ForwardScratch gives) as its forward workspaces, so that the
+// plans of a network, which run one after another, share one pair of
+// buffers; Forward then clears them before use. Plans that share buffers
+// must not run at the same time. It panics on a plan that is not
+// ForwardOnly or on buffers that are too short.
+func (c *Conv2D) ShareForwardScratch(xpad, wpack []float32) {
+	if !c.p.ForwardOnly {
+		panic("cpu: ShareForwardScratch on a plan that is not ForwardOnly")
+	}
+	if c.fd == nil {
+		return
+	}
+	c.refresh()
+	nx, nw := c.ForwardScratch()
+	if len(xpad) < nx || len(wpack) < nw {
+		panic(fmt.Sprintf("cpu: ShareForwardScratch: buffers of %d and %d values, the plan needs %d and %d", len(xpad), len(wpack), nx, nw))
+	}
+	c.fd.xpad, c.fd.wpack, c.shared = xpad[:nx], wpack[:nw], true
 }
 
 // OutShape returns the output shape (N, OutC, Ho, Wo).
@@ -368,6 +403,12 @@ func (c *Conv2D) Forward(y, x, weight, bias []float32) {
 	}
 	c.refresh()
 	if c.fd != nil {
+		if c.shared {
+			// Another plan used them: padding rows and the slack past the
+			// planes must read as zeros, as in a buffer of our own.
+			clear(c.fd.xpad)
+			clear(c.fd.wpack)
+		}
 		c.fd.packWeights(weight, false)
 		c.fd.bias, c.fd.dst = bias, y
 		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
