@@ -66,8 +66,15 @@ if [ $have_torch = 1 ]; then
 	OMP_WAIT_POLICY=PASSIVE torchrun $py testdata/infer/bench_torch.py
 fi
 
+echo "== stereo inference: pairs of 256x128 and 640x480 (network 256x128 and 384x288), beside the one-image network at 640x480 (Go)"
+gobench ./model 'EstimatePair|EstimateOne640x480' 3 10x
+if [ $have_torch = 1 ]; then
+	echo "== stereo network alone at 256x128 and 384x288 (PyTorch; the matcher has no PyTorch counterpart)"
+	OMP_WAIT_POLICY=PASSIVE torchrun $py testdata/stereo/net/bench_torch_stereo.py
+fi
+
 echo "== training step, batch 4, 256x128 (Go)"
-gobench ./model/train Step256x128N4 3 5x
+gobench ./model/train 'Step256x128N4' 3 5x
 if [ $have_torch = 1 ]; then
 	echo "== training step, batch 4, 256x128 (PyTorch)"
 	OMP_WAIT_POLICY=PASSIVE torchrun $py testdata/train/step_torch.py
