@@ -5,9 +5,29 @@ import (
 	"math"
 )
 
-// StereoArchName names the stereo architecture (both views in, see
-// buildStereo and the package documentation); it is stored with the weights
-// like ArchName.
+// StereoArchName names the stereo architecture; it is stored with the
+// weights like ArchName. The network reads both rectified views:
+//
+//	image [left; right] 3×H×W ── f1a s2, f1b ── f2a s2, f2b ── f3a s2, f3b   (one encoder, both views)
+//	 ⅛: cost3 = correlation(left f3, right f3) over StereoDisps shifts,
+//	    cat(cost3, left f3, match3 = the matcher's estimate and validity)
+//	    → agg3.0 … agg3.3 (dilations 1 2 4 1) → res3;
+//	    disp3 = match3.d (the matcher's estimate) + res3 pixels
+//	 ¼, ½: up = disp×2 bilinear; right f warped by up − StereoRadius px;
+//	    cost = correlation(left f, warped) over 2·StereoRadius+1 shifts;
+//	    cat(cost, left f, context from the coarser level, match, up in pixels)
+//	    → refL.a, refL.b → resL; dispL = up + resL pixels
+//	 1: up = disp1×2; cat(left image, context) → ref0.a → res0; disp0 = up + res0
+//
+// The matcher is package sgm on the half-resolution grey pair (Matching),
+// holes filled along the rows; it has no gradient. The layers run on a
+// batch of 2N: the N pairs and the N mirrored, swapped pairs (OpPairView),
+// so each output dispS packs d_L (channel 0) and d_R mirrored back
+// (channel 1), as the one-image network's outputs do. Residuals are in
+// pixels of their level and every disparity a fraction of the width, so
+// the weights run at any multiple of 32 (Estimator picks the size from the
+// input). Freshly initialised weights prepared by train.PrepareHeads start
+// at the matcher's estimate; training teaches the corrections.
 const StereoArchName = "parallax-stereo"
 
 // StereoArchVersion is the version of the stereo layer list.
