@@ -83,10 +83,18 @@ type ColorOptions struct {
 	// outside are clamped. If both are 0 the range of the map's valid values
 	// is used.
 	Min, Max float64
+	// Unit labels the scale bar; "" means "px" for ColorDisparity and "m"
+	// for ColorDepth.
+	Unit string
+	// NoScaleBar leaves out the scale bar (see ScaleBarHeight), so the
+	// image has the map's bounds. Default false: maps at least 64 pixels
+	// wide get a bar under them.
+	NoScaleBar bool
 }
 
-// colorMap renders m with near (large disparity, small depth) bright.
-func colorMap(m *Map, opt *ColorOptions, nearIsLarge bool) (*image.NRGBA, error) {
+// colorMap renders m with near (large disparity, small depth) bright;
+// inverse colours 1/value linearly (depth as inverse depth).
+func colorMap(m *Map, opt *ColorOptions, inverse bool, unit string) (*image.NRGBA, error) {
 	if err := m.Check("map"); err != nil {
 		return nil, err
 	}
@@ -104,8 +112,17 @@ func colorMap(m *Map, opt *ColorOptions, nearIsLarge bool) (*image.NRGBA, error)
 		pairs(m, m, func(v, _ float64) {
 			lo, hi = math.Min(lo, v), math.Max(hi, v)
 		})
-	} else if math.IsNaN(lo) || math.IsNaN(hi) || math.IsInf(lo, 0) || math.IsInf(hi, 0) || hi <= lo {
-		return nil, fmt.Errorf("depth: colour range [%v, %v] is invalid: want finite Min < Max", lo, hi)
+	} else if math.IsNaN(lo) || math.IsNaN(hi) || math.IsInf(lo, 0) || math.IsInf(hi, 0) || hi <= lo || (inverse && lo <= 0) {
+		return nil, fmt.Errorf("depth: colour range [%v, %v] is invalid: want finite Min < Max (Min > 0 for depth)", lo, hi)
+	}
+	if o.Unit != "" {
+		unit = o.Unit
+	}
+	bar := scaleBar{scheme: scheme, at0: lo, at1: hi, unit: unit}
+	if inverse {
+		// λ runs from the far end (1/hi) to the near end (1/lo).
+		bar = scaleBar{scheme: scheme, at0: hi, at1: lo, inverse: true, unit: unit}
+		lo, hi = 1/hi, 1/lo
 	}
 	img := image.NewNRGBA(m.Rect)
 	w := m.Rect.Dx()
@@ -124,36 +141,46 @@ func colorMap(m *Map, opt *ColorOptions, nearIsLarge bool) (*image.NRGBA, error)
 			if mask[x] == 0 {
 				continue // transparent
 			}
+			fv := float64(v)
+			if inverse {
+				fv = 1 / fv
+			}
 			lambda := 1.0
 			if span > 0 {
-				lambda = clip01((float64(v) - lo) / span)
-			}
-			if !nearIsLarge {
-				lambda = 1 - lambda
+				lambda = clip01((fv - lo) / span)
 			}
 			c := lut[int(math.Round(lambda*(levels-1)))]
 			out[4*x], out[4*x+1], out[4*x+2], out[4*x+3] = c.R, c.G, c.B, c.A
 		}
 	}
-	return img, nil
+	if o.NoScaleBar || !(bar.at0 < math.Inf(1)) || !(bar.at1 > math.Inf(-1)) {
+		return img, nil
+	}
+	return withScaleBar(img, bar), nil
 }
 
-// ColorDisparity renders a disparity map with a colour scheme: the largest
-// disparity (nearest) is the bright end, invalid pixels are transparent.
+// ColorDisparity renders a disparity map with a colour scheme, linearly in
+// disparity: the largest disparity (nearest) is the bright end, invalid
+// pixels are transparent, and a scale bar in pixels sits under the map
+// unless opt.NoScaleBar.
 func ColorDisparity(d *Disparity, opt *ColorOptions) (*image.NRGBA, error) {
 	if d == nil {
 		return nil, fmt.Errorf("depth: ColorDisparity: disparity is nil")
 	}
-	return colorMap(&d.Map, opt, true)
+	return colorMap(&d.Map, opt, false, "px")
 }
 
-// ColorDepth renders a depth map with a colour scheme: the smallest depth
-// (nearest) is the bright end, invalid pixels are transparent.
+// ColorDepth renders a depth map with a colour scheme, linearly in inverse
+// depth 1/Z between 1/Max and 1/Min (the same picture as ColorDisparity of
+// the same scene, so a few far outliers cannot wash it out as a linear
+// depth scale would): the smallest depth (nearest) is the bright end,
+// invalid pixels are transparent, and a scale bar labelled in metres sits
+// under the map unless opt.NoScaleBar.
 func ColorDepth(z *Depth, opt *ColorOptions) (*image.NRGBA, error) {
 	if z == nil {
 		return nil, fmt.Errorf("depth: ColorDepth: depth is nil")
 	}
-	return colorMap(&z.Map, opt, false)
+	return colorMap(&z.Map, opt, true, "m")
 }
 
 // SavePNG encodes img as PNG to path, atomically; use it for the images of

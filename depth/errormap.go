@@ -9,7 +9,8 @@ import (
 // ColorError renders the error of est against truth gt: |est − gt|, or
 // |est − gt| / gt if relative, of the pixels valid in both, coloured with
 // DefaultCubehelix over [0, top] (bright = large error, larger errors
-// clamped); other pixels are transparent. est and gt must have the same
+// clamped), with a scale bar (labelled "px error" or "relative error"); other
+// pixels are transparent. est and gt must have the same
 // bounds and pass Map.Check; top must be positive.
 func ColorError(est, gt *Map, relative bool, top float64) (*image.NRGBA, error) {
 	if err := checkPair(est, gt); err != nil {
@@ -38,5 +39,9 @@ func ColorError(est, gt *Map, relative bool, top float64) (*image.NRGBA, error) 
 			em.Set(x, y, float32(max(e, 1e-30)))
 		}
 	}
-	return ColorDisparity(em, &ColorOptions{Min: 0, Max: top})
+	unit := "px"
+	if relative {
+		unit = "relative"
+	}
+	return ColorDisparity(em, &ColorOptions{Min: 0, Max: top, Unit: unit + " error"})
 }

@@ -31,7 +31,7 @@ type SaveOptions struct {
 func FileUnits(name string) string {
 	for _, f := range []struct{ suffix, what string }{
 		{".depth-mm.png", "depth, 16-bit grey, 1 level = 1 mm, 0 = no depth (text chunks: unit, scale, rig)"},
-		{".depth-colour.png", "colour picture of inverse depth (near bright), not for measurement"},
+		{".depth-colour.png", "colour picture, linear in inverse depth (near bright), scale bar in metres"},
 		{".disparity.pfm", "disparity in pixels at the image's width, float32, NaN = no estimate"},
 		{".depth.pfm", "depth in metres, float32, NaN = no depth"},
 		{".confidence.pfm", "left-right confidence in [0, 1], float32"},
@@ -69,7 +69,7 @@ func (e *Estimate) Save(base string, left image.Image, opt *SaveOptions) (files 
 		return nil, 0, err
 	}
 	if e.Depth.Valid() > 0 {
-		colour, err := depth.ColorDisparity(e.Disparity, nil)
+		colour, err := depth.ColorDepth(e.Depth, nil)
 		if err != nil {
 			return nil, 0, err
 		}
