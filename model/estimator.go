@@ -47,7 +47,15 @@ type EstimatorOptions struct {
 	// model/data uses for training.
 	Resample xdraw.Interpolator
 	// MaxSide caps the longer side of the network's input (see
-	// NetworkSize). If 0 it is defaulted to DefaultMaxSide.
+	// NetworkSize). If 0 it is defaulted to DefaultMaxSide. A network size
+	// far from the weights' training size costs accuracy: the stereo
+	// weights of training/stereo at step 150 (trained at 256×128), on 20
+	// varied greenhouse and orchard pairs rendered at 512×256, scored
+	// 2.82 and 2.24 px EPE at MaxSide 256 (the images halved), 2.71 and
+	// 1.91 at 384, 2.46 and 1.74 at 512 (native): at a size above the
+	// training size the stereo network still gains from the detail, while
+	// the one-image default weights, which learned one rig's scenes, scored
+	// 9.5 to 20 px on these varied rigs at every MaxSide.
 	MaxSide int
 	// TrainingSize runs the network at the weights' own input size
 	// (Config.Width × Config.Height) for every image, squashing other
