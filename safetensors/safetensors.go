@@ -76,8 +76,9 @@ type stEntry struct {
 // header order and its metadata (nil if the file has none). It accepts F32
 // and F16 tensors and returns an error naming the tensor or field if the
 // file is truncated, the header length runs past the file or beyond
-// MaxHeaderSize, the header is not one JSON object, repeats a key or lists
-// more than MaxTensors tensors, a dtype is unsupported, a rank exceeds
+// MaxHeaderSize, the header is not one JSON object, repeats a key (at any
+// level), gives a tensor a field other than dtype, shape and data_offsets
+// (names match exactly), lists more than MaxTensors tensors, a dtype is unsupported, a rank exceeds
 // MaxDims, a shape does not match its byte span, or the tensors do not tile
 // the data section exactly (overlaps, gaps, bytes out of range or after
 // the last tensor). Its allocation is a small multiple of len(b), whatever
@@ -125,17 +126,17 @@ func Parse(b []byte) ([]Tensor, map[string]string, error) {
 		}
 		seen[name] = true
 		if name == MetadataKey {
-			if err := dec.Decode(&meta); err != nil {
-				return nil, nil, fmt.Errorf("safetensors: header: %s must map strings to strings: %v", MetadataKey, err)
+			if meta, err = decodeMetadata(dec); err != nil {
+				return nil, nil, err
 			}
 			continue
 		}
 		if len(ts) == MaxTensors {
 			return nil, nil, fmt.Errorf("safetensors: header lists more than %d tensors (MaxTensors)", MaxTensors)
 		}
-		var e stEntry
-		if err := dec.Decode(&e); err != nil {
-			return nil, nil, fmt.Errorf("safetensors: header: tensor %q: %v", name, err)
+		e, err := decodeEntry(dec, name)
+		if err != nil {
+			return nil, nil, err
 		}
 		t, err := checkEntry(name, e, uint64(len(data)))
 		if err != nil {
@@ -196,6 +197,82 @@ func Parse(b []byte) ([]Tensor, map[string]string, error) {
 		}
 	}
 	return ts, meta, nil
+}
+
+// decodeObject reads one JSON object from dec, calling value for each key
+// to read its value; a repeated key is an error. encoding/json would keep
+// the last of two equal keys and match field names regardless of case, so
+// the header is read token by token instead.
+func decodeObject(dec *json.Decoder, what string, value func(key string) error) error {
+	tok, err := dec.Token()
+	if err != nil {
+		return fmt.Errorf("safetensors: header: %s: %v", what, err)
+	}
+	if d, ok := tok.(json.Delim); !ok || d != '{' {
+		return fmt.Errorf("safetensors: header: %s must be a JSON object", what)
+	}
+	seen := map[string]bool{}
+	for dec.More() {
+		tok, err := dec.Token()
+		if err != nil {
+			return fmt.Errorf("safetensors: header: %s: %v", what, err)
+		}
+		key, _ := tok.(string) // object keys are always strings
+		if seen[key] {
+			return fmt.Errorf("safetensors: header: %s: key %q appears twice", what, key)
+		}
+		seen[key] = true
+		if err := value(key); err != nil {
+			return err
+		}
+	}
+	if _, err := dec.Token(); err != nil {
+		return fmt.Errorf("safetensors: header: %s: %v", what, err)
+	}
+	return nil
+}
+
+// decodeMetadata reads the metadata object: string keys to string values.
+func decodeMetadata(dec *json.Decoder) (map[string]string, error) {
+	meta := map[string]string{}
+	err := decodeObject(dec, MetadataKey, func(key string) error {
+		tok, err := dec.Token()
+		if err != nil {
+			return fmt.Errorf("safetensors: header: %s: %v", MetadataKey, err)
+		}
+		v, ok := tok.(string)
+		if !ok {
+			return fmt.Errorf("safetensors: header: %s must map strings to strings; %q is not a string", MetadataKey, key)
+		}
+		meta[key] = v
+		return nil
+	})
+	return meta, err
+}
+
+// decodeEntry reads one tensor's entry; its keys are exactly dtype, shape
+// and data_offsets, each at most once.
+func decodeEntry(dec *json.Decoder, name string) (stEntry, error) {
+	var e stEntry
+	what := fmt.Sprintf("tensor %q", name)
+	err := decodeObject(dec, what, func(key string) error {
+		var dst any
+		switch key {
+		case "dtype":
+			dst = &e.Dtype
+		case "shape":
+			dst = &e.Shape
+		case "data_offsets":
+			dst = &e.DataOffsets
+		default:
+			return fmt.Errorf("safetensors: header: %s has an unknown field %q (fields are dtype, shape, data_offsets)", what, key)
+		}
+		if err := dec.Decode(dst); err != nil {
+			return fmt.Errorf("safetensors: header: %s: %s: %v", what, key, err)
+		}
+		return nil
+	})
+	return e, err
 }
 
 func checkEntry(name string, e stEntry, dataLen uint64) (Tensor, error) {

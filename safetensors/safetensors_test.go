@@ -413,6 +413,10 @@ func FuzzParse(f *testing.F) {
 	f.Add([]byte{})
 	f.Add(rawHeader("{}", nil))
 	f.Add(rawHeader(`{"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4]}}`, []byte{1, 2, 3, 4}))
+	// Found by the fuzzer: header order not sorted by name, field names in
+	// another case and a repeated metadata key.
+	f.Add(rawHeader(`{"__metadata__":{"0000":"a","0000":"b"},"000000000":{"dAtA_offsets":[0,4],"dtYpe":"F16","shApe":[2]},"000000 0000":{"data_offsets":[4,6],"dtype":"F16","shape":[]}}`, []byte{1, 2, 3, 4, 5, 6}))
+	f.Add(rawHeader(`{"b":{"dtype":"F16","shape":[1],"data_offsets":[0,2]},"a":{"dtype":"F16","shape":[1],"data_offsets":[2,4]}}`, []byte{1, 2, 3, 4}))
 	f.Fuzz(func(t *testing.T, b []byte) {
 		var got []Tensor
 		var gotMeta map[string]string
@@ -436,9 +440,14 @@ func FuzzParse(f *testing.F) {
 		if len(again) != len(got) || len(againMeta) != len(gotMeta) {
 			t.Fatalf("%d tensors and %d metadata keys became %d and %d", len(got), len(gotMeta), len(again), len(againMeta))
 		}
-		for i, g := range got {
-			a := again[i]
-			if a.Name != g.Name || !slices.Equal(a.Shape, g.Shape) || !slices.Equal(math32bits(a.Data), math32bits(g.Data)) {
+		// Write lists the header by name, so the order may change; match by name.
+		byName := map[string]Tensor{}
+		for _, a := range again {
+			byName[a.Name] = a
+		}
+		for _, g := range got {
+			a, ok := byName[g.Name]
+			if !ok || !slices.Equal(a.Shape, g.Shape) || !slices.Equal(math32bits(a.Data), math32bits(g.Data)) {
 				t.Fatalf("tensor %q changed in a round trip", g.Name)
 			}
 		}
@@ -451,4 +460,31 @@ func math32bits(v []float32) []uint32 {
 		b[i] = math.Float32bits(x)
 	}
 	return b
+}
+
+// TestParseStrictHeader checks that the header is read exactly: JSON allows
+// repeated keys and encoding/json matches field names regardless of case,
+// so either would let a file say one thing to us and another to other
+// readers (the safetensors format lists the fields dtype, shape and
+// data_offsets; from the format's documentation, common practice).
+func TestParseStrictHeader(t *testing.T) {
+	data := []byte{1, 2, 3, 4}
+	for _, c := range []struct{ name, header, want string }{
+		{"repeated metadata key", `{"__metadata__":{"k":"a","k":"b"},"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4]}}`, `key "k" appears twice`},
+		{"field in another case", `{"a":{"dType":"F16","shape":[2],"data_offsets":[0,4]}}`, `unknown field "dType"`},
+		{"unknown field", `{"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4],"extra":1}}`, `unknown field "extra"`},
+		{"repeated field", `{"a":{"dtype":"F16","dtype":"F32","shape":[2],"data_offsets":[0,4]}}`, `key "dtype" appears twice`},
+		{"metadata not an object", `{"__metadata__":["a"],"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4]}}`, `must be a JSON object`},
+		{"metadata value not a string", `{"__metadata__":{"k":1},"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4]}}`, `"k" is not a string`},
+	} {
+		_, _, err := Parse(rawHeader(c.header, data))
+		if err == nil || !strings.Contains(err.Error(), c.want) || !strings.HasPrefix(err.Error(), "safetensors: ") {
+			t.Errorf("%s: got %v, want an error containing %q", c.name, err, c.want)
+		}
+	}
+	// The same header written correctly parses.
+	ts, meta, err := Parse(rawHeader(`{"__metadata__":{"k":"a"},"a":{"dtype":"F16","shape":[2],"data_offsets":[0,4]}}`, data))
+	if err != nil || len(ts) != 1 || meta["k"] != "a" {
+		t.Fatalf("valid header: %v, %d tensors, meta %v", err, len(ts), meta)
+	}
 }
