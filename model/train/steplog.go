@@ -1,4 +1,4 @@
-package main
+package train
 
 import (
 	"bytes"
@@ -11,14 +11,13 @@ import (
 
 	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/loss"
-	"github.com/parallaxdepth/parallax/model/train"
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 )
 
-// logHeader names the CSV columns; the terms are the weighted loss terms
-// of the objective (see loss.Terms).
+// logHeader names the CSV columns of a StepLog; the terms are the weighted
+// loss terms of the objective (see loss.Terms).
 var logHeader = []string{"step", "epoch", "batch", "learning_rate", "appearance", "smoothness", "consistency", "total",
 	"skipped", "disparity_spread", "mean_disparity_px", "steps_per_s", "pairs_per_s", "elapsed_s"}
 
@@ -33,37 +32,44 @@ type logRow struct {
 	elapsed      float64
 }
 
-// stepLog keeps one row per step and writes them as CSV, atomically, at
-// every checkpoint and at the end.
-type stepLog struct {
-	path string
+// StepLog keeps one row per training step (from Progress) and writes them
+// as CSV, atomically: step, epoch, batch, learning_rate, the weighted loss
+// terms, skipped (0 or 1), disparity_spread, mean_disparity_px,
+// steps_per_s, pairs_per_s, elapsed_s. The zero value is an empty log for
+// Path.
+type StepLog struct {
+	// Path is the CSV file.
+	Path string
 	rows []logRow
 }
 
-func (l *stepLog) add(p train.Progress) {
+// Add appends the row of one step.
+func (l *StepLog) Add(p Progress) {
 	l.rows = append(l.rows, logRow{p.Step, p.Epoch, p.Batch, p.Rate, p.Terms, p.Skipped, p.Spread, p.MeanDisparity,
 		p.StepsPerSec, p.PairsPerSec, p.Elapsed.Seconds()})
 }
 
-// load reads the log of an interrupted run, keeping the rows up to step.
-func (l *stepLog) load(step int) error {
-	b, err := os.ReadFile(l.path)
+// Load reads the log of an interrupted run from Path, keeping the rows up
+// to step (a resumed run continues from its checkpoint's step). A missing
+// file is an empty log.
+func (l *StepLog) Load(step int) error {
+	b, err := os.ReadFile(l.Path)
 	if os.IsNotExist(err) {
 		return nil
 	}
 	if err != nil {
-		return fmt.Errorf("finetune: log: %w", err)
+		return fmt.Errorf("train: log: %w", err)
 	}
 	recs, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
 	if err != nil {
-		return fmt.Errorf("finetune: log %s: %w", l.path, err)
+		return fmt.Errorf("train: log %s: %w", l.Path, err)
 	}
 	for i, r := range recs {
 		if i == 0 {
 			continue
 		}
 		if len(r) != len(logHeader) {
-			return fmt.Errorf("finetune: log %s line %d: %d fields, want %d", l.path, i+1, len(r), len(logHeader))
+			return fmt.Errorf("train: log %s line %d: %d fields, want %d", l.Path, i+1, len(r), len(logHeader))
 		}
 		var v [14]float64
 		for k, s := range r {
@@ -71,7 +77,7 @@ func (l *stepLog) load(step int) error {
 				continue
 			}
 			if v[k], err = strconv.ParseFloat(s, 64); err != nil {
-				return fmt.Errorf("finetune: log %s line %d: %v", l.path, i+1, err)
+				return fmt.Errorf("train: log %s line %d: %v", l.Path, i+1, err)
 			}
 		}
 		if int(v[0]) > step {
@@ -84,7 +90,8 @@ func (l *stepLog) load(step int) error {
 	return nil
 }
 
-func (l *stepLog) save() error {
+// Save writes the log to Path atomically.
+func (l *StepLog) Save() error {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(logHeader)
@@ -99,12 +106,15 @@ func (l *stepLog) save() error {
 			skip, g(r.spread), g(r.mpx), g(r.sps), g(r.pps), g(r.elapsed)})
 	}
 	w.Flush()
-	return atomicfile.WriteBytes(l.path, "finetune: log", buf.Bytes())
+	return atomicfile.WriteBytes(l.Path, "train: log", buf.Bytes())
 }
 
-// window returns the mean terms of the first and of the last n steps that
+// Len returns the number of rows.
+func (l *StepLog) Len() int { return len(l.rows) }
+
+// Window returns the mean terms of the first and of the last n steps that
 // were not skipped.
-func (l *stepLog) window(n int) (first, last loss.Terms) {
+func (l *StepLog) Window(n int) (first, last loss.Terms) {
 	var ok []loss.Terms
 	for _, r := range l.rows {
 		if !r.skipped {
@@ -128,9 +138,10 @@ func (l *stepLog) window(n int) (first, last loss.Terms) {
 	return mean(ok[:n]), mean(ok[len(ok)-n:])
 }
 
-// savePlot draws the weighted loss terms against the step, one line per
-// term, and writes the PNG atomically.
-func savePlot(path string, rows []logRow) error {
+// SavePlot draws the log's weighted loss terms against the step, one line
+// per term, and writes the PNG to path atomically.
+func (l *StepLog) SavePlot(path string) error {
+	rows := l.rows
 	p := plot.New()
 	p.Title.Text = "training loss"
 	p.X.Label.Text = "step"
@@ -158,7 +169,7 @@ func savePlot(path string, rows []logRow) error {
 		}
 		line, err := plotter.NewLine(xy)
 		if err != nil {
-			return fmt.Errorf("finetune: plot: %w", err)
+			return fmt.Errorf("train: plot: %w", err)
 		}
 		line.Color = s.col
 		line.Width = vg.Points(1)
@@ -168,11 +179,11 @@ func savePlot(path string, rows []logRow) error {
 	p.Legend.Top = true
 	wt, err := p.WriterTo(8*vg.Inch, 4.5*vg.Inch, "png")
 	if err != nil {
-		return fmt.Errorf("finetune: plot: %w", err)
+		return fmt.Errorf("train: plot: %w", err)
 	}
 	var buf bytes.Buffer
 	if _, err := wt.WriteTo(&buf); err != nil {
-		return fmt.Errorf("finetune: plot: %w", err)
+		return fmt.Errorf("train: plot: %w", err)
 	}
-	return atomicfile.WriteBytes(path, "finetune: plot", buf.Bytes())
+	return atomicfile.WriteBytes(path, "train: plot", buf.Bytes())
 }

@@ -1,0 +1,6 @@
+//go:build !unix
+
+package train
+
+// freeBytes cannot read the free space here.
+func freeBytes(string) (int64, bool) { return 0, false }
