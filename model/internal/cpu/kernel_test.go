@@ -2,6 +2,7 @@ package cpu
 
 import (
 	"math/rand/v2"
+	"os"
 	"testing"
 )
 
@@ -82,4 +83,22 @@ func TestMicroKernels(t *testing.T) {
 			compare(t, "dotKernel", out, want, 1e-5*float64(n+1))
 		}
 	})
+}
+
+// TestKernelSelection checks the micro-kernel chosen at start against
+// PARALLAX_WANT_KERNEL when it is set: CI sets it for each build and CPU
+// it runs (for example "generic" under -tags purego, or on amd64 with
+// GODEBUG=cpu.avx2=off,cpu.avx512f=off,cpu.fma=off; "neon" on arm64).
+func TestKernelSelection(t *testing.T) {
+	want := os.Getenv("PARALLAX_WANT_KERNEL")
+	if want == "" {
+		t.Skipf("PARALLAX_WANT_KERNEL not set; the kernel in use is %q", KernelName())
+	}
+	if got := KernelName(); got != want {
+		t.Errorf("KernelName() = %q, want %q", got, want)
+	}
+	simd := activationSIMD || upsampleSIMD
+	if want == "generic" && simd {
+		t.Errorf("the portable kernel is selected but the elementwise SIMD loops are on")
+	}
 }
