@@ -71,6 +71,19 @@ func SGM(m *sgm.Matcher, rig *depth.Rig) Method { return matcher{m, rig} }
 // ScoreMethod scores method on every pair of set like Score does for
 // weights; opt.Flip is not used (it belongs to the weights' Estimator).
 func ScoreMethod(ctx context.Context, method Method, set *dataset.Set, opt *ScoreOptions) (*Report, error) {
+	if method == nil {
+		return nil, errors.New("evaluation: the method is nil")
+	}
+	o, err := resolve(set, opt)
+	if err != nil {
+		return nil, err
+	}
+	return score(ctx, method, set, &o)
+}
+
+// resolve returns opt with its defaults, or an error for bad options or a
+// set with nothing to score.
+func resolve(set *dataset.Set, opt *ScoreOptions) (ScoreOptions, error) {
 	var o ScoreOptions
 	if opt != nil {
 		o = *opt
@@ -79,18 +92,15 @@ func ScoreMethod(ctx context.Context, method Method, set *dataset.Set, opt *Scor
 		o.Workers = 1
 	}
 	if o.Workers < 0 {
-		return nil, fmt.Errorf("evaluation: %d workers: want at least 1", o.Workers)
-	}
-	if method == nil {
-		return nil, errors.New("evaluation: the method is nil")
+		return o, fmt.Errorf("evaluation: %d workers: want at least 1", o.Workers)
 	}
 	if set == nil || len(set.Pairs) == 0 {
-		return nil, errors.New("evaluation: the data set has no pairs")
+		return o, errors.New("evaluation: the data set has no pairs")
 	}
 	if disp, z := Scorable(set); !disp && !z {
-		return nil, fmt.Errorf("evaluation: %s has no truth/disp_left, nor truth/depth_left with a rig, to score against", name(set))
+		return o, fmt.Errorf("evaluation: %s has no truth/disp_left, nor truth/depth_left with a rig, to score against", name(set))
 	}
-	return score(ctx, method, set, &o)
+	return o, nil
 }
 
 // ScoreRules scores method on every pair of set once, like ScoreMethod,

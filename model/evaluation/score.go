@@ -81,21 +81,9 @@ func Scorable(set *dataset.Set) (disparity, metric bool) {
 // It returns an error if set has no pair or nothing Scorable, if a file
 // cannot be read (naming it), or if ctx ends.
 func Score(ctx context.Context, w *model.Weights, set *dataset.Set, opt *ScoreOptions) (*Report, error) {
-	var o ScoreOptions
-	if opt != nil {
-		o = *opt
-	}
-	if o.Workers == 0 {
-		o.Workers = 1
-	}
-	if o.Workers < 0 {
-		return nil, fmt.Errorf("evaluation: %d workers: want at least 1", o.Workers)
-	}
-	if set == nil || len(set.Pairs) == 0 {
-		return nil, errors.New("evaluation: the data set has no pairs")
-	}
-	if disp, z := Scorable(set); !disp && !z {
-		return nil, fmt.Errorf("evaluation: %s has no truth/disp_left, nor truth/depth_left with a rig, to score against", name(set))
+	o, err := resolve(set, opt)
+	if err != nil {
+		return nil, err
 	}
 	est, err := model.NewEstimator(w, &model.EstimatorOptions{Flip: o.Flip, MaxWorkers: o.Workers})
 	if err != nil {
