@@ -48,8 +48,8 @@ func FlipBlend(dst, orig, mirrored []float32, h, w int) {
 		o, m, d := orig[y*w:(y+1)*w], mirrored[y*w:(y+1)*w], dst[y*w:(y+1)*w]
 		for x := range d {
 			fx := float32(x)
-			origBlind := fx-m[x]*fw < 0
-			mirrBlind := fx+o[x]*fw > last
+			origBlind := fx-float32(m[x]*fw) < 0 // rounded first: a fused multiply-add (arm64) would move the edge
+			mirrBlind := fx+float32(o[x]*fw) > last
 			switch {
 			case origBlind && !mirrBlind:
 				d[x] = m[x]
