@@ -117,6 +117,16 @@ func TestStereoTorchWalk(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		// The input images are computed (interpolation of a shifted
+		// texture), so where the compiler fuses a multiply-add (arm64)
+		// their last bit may differ; allow one rounding, then run the
+		// walk on the committed values.
+		if name == "input.bin" {
+			if !closeF32Bytes(got, want, 1e-6) {
+				t.Fatalf("testdata/stereo/net/%s is stale: rerun with -update-stereo-torch and the script", name)
+			}
+			continue
+		}
 		if !bytes.Equal(got, want) {
 			t.Fatalf("testdata/stereo/net/%s is stale: rerun with -update-stereo-torch and the script", name)
 		}
@@ -126,10 +136,21 @@ func TestStereoTorchWalk(t *testing.T) {
 		t.Fatal(err)
 	}
 	for name, v := range w.Params {
-		if !equalF32(fw.Params[name], v) {
+		if !closeF32(fw.Params[name], v, 1e-6) {
 			t.Fatalf("weights.safetensors %s differs from the seeded weights", name)
 		}
+		copy(v, fw.Params[name]) // the network holds w's slices
 	}
+	committed, err := os.ReadFile(filepath.Join(dir, "input.bin"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := make([]float32, len(committed)/4)
+	if err := binary.Read(bytes.NewReader(committed), binary.LittleEndian, in); err != nil {
+		t.Fatal(err)
+	}
+	copy(l.Pix, in[:len(l.Pix)])
+	copy(r.Pix, in[len(l.Pix):])
 	// The matcher's output is an input of the walk, as Go computed it when
 	// the fixture was made; package sgm may change its bits since, so the
 	// network runs on the committed one.
@@ -183,4 +204,29 @@ func TestStereoTorchWalk(t *testing.T) {
 	if off != len(want) {
 		t.Errorf("torch_out.bin has %d values, the outputs %d", len(want), off)
 	}
+}
+
+// closeF32 reports whether a and b have the same length and differ by at
+// most tol·max(1, |b|) everywhere.
+func closeF32(a, b []float32, tol float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if math.Abs(float64(a[i])-float64(b[i])) > tol*math.Max(1, math.Abs(float64(b[i]))) {
+			return false
+		}
+	}
+	return true
+}
+
+// closeF32Bytes is closeF32 over little-endian float32 files.
+func closeF32Bytes(a, b []byte, tol float64) bool {
+	if len(a) != len(b) || len(a)%4 != 0 {
+		return false
+	}
+	fa, fb := make([]float32, len(a)/4), make([]float32, len(b)/4)
+	binary.Read(bytes.NewReader(a), binary.LittleEndian, fa)
+	binary.Read(bytes.NewReader(b), binary.LittleEndian, fb)
+	return closeF32(fa, fb, tol)
 }
