@@ -67,6 +67,20 @@ type EstimatorOptions struct {
 	// ValidityOptions; the zero value applies all three with their
 	// defaults).
 	Validity ValidityOptions
+	// MaxScratchBytes caps the memory all workers hold together: their
+	// Nets and per-call buffers, not the result maps handed to the caller
+	// nor the input images. A worker is counted at the network size that
+	// needs the most among those the Estimator may run (MaxSide, or the
+	// weights' size with TrainingSize; see Estimator.WorkerBytes, which
+	// follows the heap a worker takes within a few per cent), so the pool
+	// has at most MaxScratchBytes / WorkerBytes workers, fewer than
+	// MaxWorkers if need be, and each worker keeps only as many network
+	// sizes as fit in WorkerBytes. A worker of the default network is
+	// counted at 28 MiB at MaxSide 256 (a 256×256 network), 59 MiB at the
+	// default 384 and 157 MiB at 640 (logged by TestMaxScratchBytes).
+	// NewEstimator returns an error giving both figures and the network
+	// size if one worker does not fit. If 0 there is no cap.
+	MaxScratchBytes int64
 }
 
 // DefaultMaxSide is the default cap on the longer side of the network's
@@ -161,10 +175,16 @@ type Estimator struct {
 	validity   ValidityOptions
 	idle       chan *worker
 	tokens     chan struct{} // one per worker that may still be created
+	workers    int           // the pool's size
+	// workerBytes is what one worker may hold (largestStage); with
+	// capped set, a worker's stages stay within it.
+	workerBytes int64
+	capped      bool
 }
 
 // worker holds a Net and the buffers of one call for each network size it
-// has run at (at most maxStages, the least recently used dropped).
+// has run at (at most maxStages, the least recently used dropped, and
+// within Estimator.workerBytes under MaxScratchBytes).
 type worker struct {
 	stages []*stage
 }
@@ -174,6 +194,7 @@ const maxStages = 4
 // stage holds everything one call writes at one network size.
 type stage struct {
 	w, h     int
+	bytes    int64 // stageBytes
 	net      *Net
 	params   *Weights // the weights net was built from
 	scaled   *image.RGBA64
@@ -239,11 +260,26 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if _, _, err := NetworkSize(MinSide, MinSide, o.MaxSide); err != nil {
 		return nil, err
 	}
+	if o.MaxScratchBytes < 0 {
+		return nil, fmt.Errorf("model: MaxScratchBytes %d must not be negative (0 means no cap)", o.MaxScratchBytes)
+	}
 	e := &Estimator{arch: a, rig: o.Rig, stretchRig: o.StretchRig, flip: o.Flip, tau: o.ConfidenceScale, resize: o.Resample, validity: o.Validity,
-		maxSide: o.MaxSide, fixed: o.TrainingSize,
-		idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
+		maxSide: o.MaxSide, fixed: o.TrainingSize, workers: o.MaxWorkers, capped: o.MaxScratchBytes > 0}
+	lw, lh, need, err := e.largestStage(a.Config)
+	if err != nil {
+		return nil, err
+	}
+	e.workerBytes = need
+	if e.capped {
+		if need > o.MaxScratchBytes {
+			return nil, fmt.Errorf("model: one worker needs %s (%d bytes) of scratch at network size %dx%d, the largest this Estimator may run, more than MaxScratchBytes %s (%d bytes); lower MaxSide or raise the cap",
+				mib(need), need, lw, lh, mib(o.MaxScratchBytes), o.MaxScratchBytes)
+		}
+		e.workers = int(min(int64(o.MaxWorkers), o.MaxScratchBytes/need))
+	}
+	e.idle, e.tokens = make(chan *worker, e.workers), make(chan struct{}, e.workers)
 	e.weights.Store(w)
-	for range o.MaxWorkers {
+	for range e.workers {
 		e.tokens <- struct{}{}
 	}
 	// Build the first worker now, at the weights' size, so that an engine
@@ -256,6 +292,19 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	e.idle <- wk
 	return e, nil
 }
+
+// Workers returns the most forward passes the Estimator runs at once:
+// MaxWorkers, or fewer under MaxScratchBytes.
+func (e *Estimator) Workers() int { return e.workers }
+
+// WorkerBytes returns the scratch memory one worker is counted to need: its
+// Net and per-call buffers at the network size that needs the most among
+// those the Estimator may run (including the weights' own size, at which
+// NewEstimator builds the first worker). It is counted from the
+// architecture (the liveness plan's buffers, the engine's workspaces, and
+// for stereo weights the classical matcher's), whether or not
+// MaxScratchBytes is set.
+func (e *Estimator) WorkerBytes() int64 { return e.workerBytes }
 
 // Weights returns the weights the Estimator runs (shared, not a copy).
 func (e *Estimator) Weights() *Weights { return e.weights.Load() }
@@ -294,13 +343,32 @@ func (e *Estimator) stage(wk *worker, p *Weights, w, h int) (*stage, error) {
 	}
 	c := p.Config
 	c.Width, c.Height = w, h
+	a, err := Build(c)
+	if err != nil {
+		return nil, err
+	}
+	bytes := stageBytes(a)
+	if e.capped {
+		// Make room within the worker's share before allocating.
+		held := bytes
+		for _, st := range wk.stages {
+			held += st.bytes
+		}
+		for len(wk.stages) > 0 && held > e.workerBytes {
+			held -= wk.stages[len(wk.stages)-1].bytes
+			wk.stages = wk.stages[:len(wk.stages)-1]
+		}
+		if held > e.workerBytes {
+			return nil, fmt.Errorf("model: network size %dx%d needs %s of scratch, more than the %s a worker may hold", w, h, mib(bytes), mib(e.workerBytes))
+		}
+	}
 	net, err := NewNet(&Weights{Config: c, Params: p.Params}, 1)
 	if err != nil {
 		return nil, err
 	}
 	n := h * w
 	st := &stage{
-		w: w, h: h, net: net, params: p,
+		w: w, h: h, bytes: bytes, net: net, params: p,
 		scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
 		in:     planar.New(1, 3, h, w),
 		dl:     make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),

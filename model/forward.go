@@ -120,12 +120,7 @@ func newNet(w *Weights, batch int, keepAll bool) (*Net, error) {
 		sizes = append(sizes, nb*l.Out.Len())
 		switch l.Op {
 		case OpConv:
-			pad := cpu.ZeroPad
-			if l.Padding == PadReflect {
-				pad = cpu.ReflectPad
-			}
-			s.conv, err = cpu.NewConv2D(cpu.ConvParams{InC: s.in0.C, OutC: l.Out.C, Kernel: l.Kernel, Stride: l.Stride,
-				Dilation: l.Dilation, Pad: l.Pad, Padding: pad, ForwardOnly: true}, nb, s.in0.H, s.in0.W)
+			s.conv, err = cpu.NewConv2D(convParams(l, s.in0), nb, s.in0.H, s.in0.W)
 			if err != nil {
 				return nil, fmt.Errorf("model: layer %q: %w", l.Name, err)
 			}
@@ -197,6 +192,17 @@ func newNet(w *Weights, batch int, keepAll bool) (*Net, error) {
 		m.outs[sc] = &planar.Image{N: batch, C: sh.C, H: sh.H, W: sh.W, Pix: m.bufs[k]}
 	}
 	return m, nil
+}
+
+// convParams returns the forward-only engine plan's parameters of the
+// convolution l on an input of shape in0.
+func convParams(l *Layer, in0 TensorShape) cpu.ConvParams {
+	pad := cpu.ZeroPad
+	if l.Padding == PadReflect {
+		pad = cpu.ReflectPad
+	}
+	return cpu.ConvParams{InC: in0.C, OutC: l.Out.C, Kernel: l.Kernel, Stride: l.Stride,
+		Dilation: l.Dilation, Pad: l.Pad, Padding: pad, ForwardOnly: true}
 }
 
 // Arch returns the architecture the Net runs.

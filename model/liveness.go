@@ -23,39 +23,59 @@ func planBuffers(steps []step, sizes []int, keep map[int]bool, keepAll bool) [][
 		}
 		return bufs
 	}
+	slot, slotLen := planSlots(steps, sizes, keep)
+	slots := make([][]float32, len(slotLen))
+	for j, n := range slotLen {
+		slots[j] = make([]float32, n)
+	}
+	for k := 1; k < len(sizes); k++ {
+		if slot[k] >= 0 {
+			bufs[k] = slots[slot[k]][:sizes[k]]
+		}
+	}
+	return bufs
+}
+
+// planSlots is the liveness plan without the memory: slot[k] is the buffer
+// tensor k is written to (-1 for the input, index 0) and slotLen[j] the
+// length of buffer j.
+func planSlots(steps []step, sizes []int, keep map[int]bool) (slot, slotLen []int) {
+	slot = make([]int, len(sizes))
+	slot[0] = -1
 	last := make([]int, len(sizes))
 	for i, s := range steps {
 		for _, k := range s.in {
 			last[k] = i
 		}
 	}
-	var free [][]float32
+	var free []int // slots no live tensor holds
 	for i, s := range steps {
 		need := sizes[s.out]
 		best := -1
 		for j, b := range free {
-			if cap(b) >= need && (best < 0 || cap(b) < cap(free[best])) {
+			if slotLen[b] >= need && (best < 0 || slotLen[b] < slotLen[free[best]]) {
 				best = j
 			}
 		}
 		if best >= 0 {
-			bufs[s.out] = free[best][:need]
+			slot[s.out] = free[best]
 			free = append(free[:best], free[best+1:]...)
 		} else {
-			bufs[s.out] = make([]float32, need)
+			slot[s.out] = len(slotLen)
+			slotLen = append(slotLen, need)
 		}
 		if !keep[s.out] && last[s.out] < i {
 			// Written and never read (not an output): free at once.
-			free = append(free, bufs[s.out][:cap(bufs[s.out])])
+			free = append(free, slot[s.out])
 		}
 		for n, k := range s.in {
 			if k == 0 || keep[k] || last[k] != i || containsBefore(s.in, k, n) {
 				continue
 			}
-			free = append(free, bufs[k][:cap(bufs[k])])
+			free = append(free, slot[k])
 		}
 	}
-	return bufs
+	return slot, slotLen
 }
 
 // containsBefore reports whether k appears in in[:n] (a step that reads a

@@ -536,3 +536,39 @@ func TestConvNaN(t *testing.T) {
 		}
 	}
 }
+
+// TestForwardOnlySize checks ForwardOnlySize against the buffers of built
+// ForwardOnly plans: the network's 3×3 shapes (strides 1 and 2, a dilated
+// one, reflection padding) and a 1×1 layer on the im2col path.
+func TestForwardOnlySize(t *testing.T) {
+	for _, c := range []struct {
+		p       ConvParams
+		n, h, w int
+	}{
+		{ConvParams{InC: 3, OutC: 32, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad}, 1, 128, 256},
+		{ConvParams{InC: 96, OutC: 64, Kernel: 3, Pad: 1, Padding: ReflectPad}, 2, 32, 64},
+		{ConvParams{InC: 16, OutC: 24, Kernel: 3, Dilation: 2, Pad: 2}, 1, 20, 36},
+		{ConvParams{InC: 40, OutC: 8, Kernel: 1}, 3, 9, 14},
+	} {
+		c.p.ForwardOnly = true
+		conv, err := NewConv2D(c.p, c.n, c.h, c.w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		xpad, wpack, own := ForwardOnlySize(c.p, c.n, c.h, c.w)
+		gx, gw := conv.ForwardScratch()
+		var got int64
+		for _, wk := range conv.workers {
+			got += 4 * int64(cap(wk.dcol)+cap(wk.cbuf))
+			if wk.ws != nil {
+				got += 4 * int64(cap(wk.ws.apack)+cap(wk.ws.bpack)+cap(wk.ws.tile))
+			}
+		}
+		if conv.fd != nil {
+			got += 8 * int64(cap(conv.fd.offs))
+		}
+		if xpad != gx || wpack != gw || own != got {
+			t.Errorf("%+v on %dx%dx%d: ForwardOnlySize gives (%d, %d, %d), the plan holds (%d, %d, %d)", c.p, c.n, c.h, c.w, xpad, wpack, own, gx, gw, got)
+		}
+	}
+}
