@@ -126,8 +126,8 @@ func (c Config) Validate() error {
 			return fmt.Errorf("model: config: unsupported architecture version %d (want %d)", c.Version, ArchVersion)
 		}
 	case StereoArchName:
-		if c.Version != StereoArchVersion {
-			return fmt.Errorf("model: config: unsupported %s version %d (want %d)", StereoArchName, c.Version, StereoArchVersion)
+		if c.Version != 1 && c.Version != StereoArchVersion {
+			return fmt.Errorf("model: config: unsupported %s version %d (want 1 or %d)", StereoArchName, c.Version, StereoArchVersion)
 		}
 	default:
 		return fmt.Errorf("model: config: unknown architecture %q (want %q or %q)", c.Arch, ArchName, StereoArchName)

@@ -143,13 +143,14 @@ func newNet(w *Weights, batch int, keepAll bool) (*Net, error) {
 			if l.Inputs[0] != InputName || !a.IsStereo() || (l.Out.C != 1 && l.Out.C != 2) {
 				return nil, fmt.Errorf("model: layer %q: a match reads the input of a stereo network and gives 1 or 2 channels", l.Name)
 			}
-			for s.level = MatchLevel; a.Input.H>>s.level > l.Out.H; s.level++ {
+			ml := a.Config.MatchLevel()
+			for s.level = ml; a.Input.H>>s.level > l.Out.H; s.level++ {
 			}
 			if a.Input.H>>s.level != l.Out.H || a.Input.W>>s.level != l.Out.W {
-				return nil, fmt.Errorf("model: layer %q: %v is not the input %v at 1/2^k, k ≥ %d", l.Name, l.Out, a.Input, MatchLevel)
+				return nil, fmt.Errorf("model: layer %q: %v is not the input %v at 1/2^k, k ≥ %d", l.Name, l.Out, a.Input, ml)
 			}
 			if m.match == nil {
-				if m.match, err = NewMatching(batch, a.Input.W, a.Input.H, a.Config.DMax); err != nil {
+				if m.match, err = NewMatching(batch, a.Input.W, a.Input.H, a.Config.DMax, ml); err != nil {
 					return nil, err
 				}
 			}

@@ -19,7 +19,8 @@ import (
 //	    → refL.a, refL.b → resL; dispL = up + resL pixels
 //	 1: up = disp1×2; cat(left image, context) → ref0.a → res0; disp0 = up + res0
 //
-// The matcher is package sgm on the half-resolution grey pair (Matching),
+// The matcher is package sgm on the grey pair (Matching) at full resolution
+// (version 2; version 1 weights match at half resolution, Config.MatchLevel),
 // holes filled along the rows; it has no gradient. The layers run on a
 // batch of 2N: the N pairs and the N mirrored, swapped pairs (OpPairView),
 // so each output dispS packs d_L (channel 0) and d_R mirrored back
@@ -30,8 +31,11 @@ import (
 // at the matcher's estimate; training teaches the corrections.
 const StereoArchName = "parallax-stereo"
 
-// StereoArchVersion is the version of the stereo layer list.
-const StereoArchVersion = 1
+// StereoArchVersion is the version of the stereo architecture that new
+// weights get: 2, whose matcher runs at full resolution. Version 1 weights
+// (matcher at half resolution, see Config.MatchLevel) still load and run as
+// they were trained; the layer lists of both are the same.
+const StereoArchVersion = 2
 
 // StereoLevels is the number of resolutions of the stereo network: full,
 // ½, ¼ and ⅛. Its input sides must still be multiples of SizeStep (32).

@@ -9,18 +9,29 @@ import (
 	"github.com/parallaxdepth/parallax/sgm"
 )
 
-// MatchLevel is the resolution 1/2^MatchLevel at which an OpMatch layer
-// runs the semi-global matcher: half resolution, a quarter of the pixels
-// and half the disparities of the input, so about an eighth of the work.
-const MatchLevel = 1
+// MatchLevel returns the resolution 1/2^level at which the OpMatch layers
+// of a stereo network of config c run the semi-global matcher. Version 1 of
+// the stereo architecture matched at half resolution (a quarter of the
+// pixels and half the disparities, an eighth of the work); version 2 matches
+// at the network's full resolution and pools the result to each layer's
+// level. On our synthetic validation pairs (seed 2002) the full-resolution
+// matcher is the more accurate input (see training/stereo/STATUS.md), so
+// version 2 is the default; the layer list and parameters are the same.
+func (c Config) MatchLevel() int {
+	if c.Arch == StereoArchName && c.Version == 1 {
+		return 1
+	}
+	return 0
+}
 
 // Matching is the classical estimate of a stereo batch that OpMatch layers
 // read: package sgm's semi-global matcher (default options, holes filled
 // along the rows) on the pairs and on the mirrored, swapped pairs at
-// 1/2^MatchLevel resolution. It depends on the images alone, so training
+// 1/2^level resolution (Config.MatchLevel). It depends on the images alone, so training
 // passes no gradient through it. A Matching is not safe for concurrent use.
 type Matching struct {
 	n, h, w  int // pairs; size at the match level
+	level    int // the match level: 1/2^level of the input's resolution
 	maxDisp  int
 	matcher  *sgm.Matcher
 	gl, gr   *image.Gray
@@ -31,10 +42,14 @@ type Matching struct {
 }
 
 // NewMatching prepares the matching of n pairs of full-resolution size
-// width × height (multiples of 2^MatchLevel) whose disparities reach dMax of
-// the width. It returns an error if the sizes or dMax are out of range.
-func NewMatching(n, width, height int, dMax float64) (*Matching, error) {
-	s := 1 << MatchLevel
+// width × height (multiples of 2^level) whose disparities reach dMax of the
+// width, matched at 1/2^level resolution (level 0 or 1, see
+// Config.MatchLevel). It returns an error if an argument is out of range.
+func NewMatching(n, width, height int, dMax float64, level int) (*Matching, error) {
+	if level < 0 || level > 1 {
+		return nil, fmt.Errorf("model: matching: level %d (want 0 or 1)", level)
+	}
+	s := 1 << level
 	if n < 1 || width < 2*s || height < 2*s || width%s != 0 || height%s != 0 {
 		return nil, fmt.Errorf("model: matching: %d pairs of %dx%d (sides multiples of %d, at least %d)", n, width, height, s, 2*s)
 	}
@@ -51,7 +66,7 @@ func NewMatching(n, width, height int, dMax float64) (*Matching, error) {
 		return nil, fmt.Errorf("model: matching: %w", err)
 	}
 	r := image.Rect(0, 0, w, h)
-	return &Matching{n: n, h: h, w: w, maxDisp: maxDisp, matcher: m,
+	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, matcher: m,
 		gl: image.NewGray(r), gr: image.NewGray(r),
 		disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
 }
@@ -66,7 +81,7 @@ func (m *Matching) Compute(pairs []float32) error {
 	if m.computed {
 		return nil
 	}
-	s := 1 << MatchLevel
+	s := 1 << m.level
 	H, W := m.h*s, m.w*s
 	img := 3 * H * W
 	if len(pairs) != 2*m.n*img {
@@ -81,8 +96,8 @@ func (m *Matching) Compute(pairs []float32) error {
 			if mirror {
 				a, b = right, left
 			}
-			greyHalf(m.gl, a, H, W, mirror)
-			greyHalf(m.gr, b, H, W, mirror)
+			greyBlocks(m.gl, a, H, W, s, mirror)
+			greyBlocks(m.gr, b, H, W, s, mirror)
 			if err := m.matcher.MatchInto(context.Background(), &m.res, m.gl, m.gr); err != nil {
 				return fmt.Errorf("model: matching: %w", err)
 			}
@@ -111,20 +126,27 @@ func (m *Matching) Compute(pairs []float32) error {
 	return nil
 }
 
-// greyHalf writes the 8-bit grey image (luma weights 0.299, 0.587, 0.114,
-// ITU-R BT.601, as color.GrayModel) of the 2×2 means of rgb (3 × H × W in
-// [0, 1]), mirrored if asked.
-func greyHalf(dst *image.Gray, rgb []float32, H, W int, mirror bool) {
-	h, w := H/2, W/2
+// greyBlocks writes the 8-bit grey image (luma weights 0.299, 0.587, 0.114,
+// ITU-R BT.601, as color.GrayModel) of the s×s block means of rgb (3 × H × W
+// in [0, 1]), mirrored if asked.
+func greyBlocks(dst *image.Gray, rgb []float32, H, W, s int, mirror bool) {
+	h, w := H/s, W/s
 	p := H * W
+	inv := 1 / float64(s*s)
 	for y := range h {
 		for x := range w {
 			var v float32
 			for c, k := range [3]float32{0.299, 0.587, 0.114} {
-				o := c*p + 2*y*W + 2*x
-				v += k * (rgb[o] + rgb[o+1] + rgb[o+W] + rgb[o+W+1])
+				var sum float32
+				for yy := s * y; yy < s*(y+1); yy++ {
+					o := c*p + yy*W + s*x
+					for xx := range s {
+						sum += rgb[o+xx]
+					}
+				}
+				v += k * sum
 			}
-			g := math.Round(float64(v) / 4 * 255)
+			g := math.Round(float64(v) * inv * 255)
 			xo := x
 			if mirror {
 				xo = w - 1 - x
@@ -134,13 +156,13 @@ func greyHalf(dst *image.Gray, rgb []float32, H, W int, mirror bool) {
 	}
 }
 
-// Pool writes the matching at resolution 1/2^level (level ≥ MatchLevel) into
+// Pool writes the matching at resolution 1/2^level (level ≥ the match level) into
 // dst, 2n × c × H/2^level × W/2^level, as means over each block. With c = 2,
 // channel 0 is the disparity in pixels at that resolution and channel 1 the
 // fraction of the block the matcher found without filling; with c = 1, the
 // disparity as a fraction of the width.
 func (m *Matching) Pool(dst []float32, level, c int) {
-	f := 1 << (level - MatchLevel)
+	f := 1 << (level - m.level)
 	h, w := m.h/f, m.w/f
 	inv := 1 / float32(f*f)
 	unit := 1 / float32(f) // pixels at the match level → at this level

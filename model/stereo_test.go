@@ -269,3 +269,49 @@ func TestDefaultStereo(t *testing.T) {
 		t.Errorf("the embedded stereo weights' provenance has no %q: %v", ProvenanceStatus, w.Provenance)
 	}
 }
+
+// Version 1 stereo weights match at half resolution and version 2 at full
+// resolution; both give about the true shift when pooled to the same level,
+// and other versions and levels are refused.
+func TestMatchLevels(t *testing.T) {
+	for v, want := range map[int]int{1: 1, 2: 0, 0: 0} {
+		c := tinyStereoConfig
+		c.Version = v
+		if got := c.WithDefaults().MatchLevel(); got != want {
+			t.Errorf("version %d: match level %d, want %d", v, got, want)
+		}
+	}
+	if err := (Config{Arch: StereoArchName, Version: 3}).Validate(); err == nil {
+		t.Error("stereo version 3 accepted")
+	}
+	if _, err := NewMatching(1, 64, 64, 0.3, 2); err == nil {
+		t.Error("match level 2 accepted")
+	}
+	rng := rand.New(rand.NewPCG(5, 5))
+	const shift = 6 // pixels at full resolution
+	l, r := shiftedPair(rng, 64, 96, shift)
+	pairs := append(append([]float32(nil), l.Pix...), r.Pix...)
+	for level := range 2 {
+		m, err := NewMatching(1, 96, 64, 0.3, level)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := m.Compute(pairs); err != nil {
+			t.Fatal(err)
+		}
+		h, w := 64>>1, 96>>1
+		dst := make([]float32, 2*2*h*w)
+		m.Pool(dst, 1, 2) // channel 0: pixels at ½ resolution
+		var sum float64
+		var n int
+		for y := 4; y < h-4; y++ {
+			for x := 8; x < w-8; x++ {
+				sum += math.Abs(float64(dst[y*w+x]) - shift/2)
+				n++
+			}
+		}
+		if mean := sum / float64(n); mean > 0.25 {
+			t.Errorf("level %d: mean |d − %v| = %.3f px at ½ resolution, want ≤ 0.25", level, shift/2.0, mean)
+		}
+	}
+}

@@ -117,7 +117,7 @@ func (net *network) matchNode(l *model.Layer) (*G.Node, error) {
 	if len(l.Inputs) != 1 || l.Inputs[0] != model.InputName || !a.IsStereo() || (l.Out.C != 1 && l.Out.C != 2) {
 		return nil, fmt.Errorf("train: network: layer %q: a match reads the input of a stereo network and gives 1 or 2 channels", l.Name)
 	}
-	level := model.MatchLevel
+	level := a.Config.MatchLevel()
 	for a.Input.H>>level > l.Out.H {
 		level++
 	}
@@ -126,7 +126,7 @@ func (net *network) matchNode(l *model.Layer) (*G.Node, error) {
 	}
 	if net.match == nil {
 		var err error
-		if net.match, err = model.NewMatching(net.Batch, a.Input.W, a.Input.H, a.Config.DMax); err != nil {
+		if net.match, err = model.NewMatching(net.Batch, a.Input.W, a.Input.H, a.Config.DMax, a.Config.MatchLevel()); err != nil {
 			return nil, fmt.Errorf("train: %w", err)
 		}
 	}
