@@ -444,6 +444,12 @@ func TestSplit(t *testing.T) {
 	if _, _, err := Split(&dataset.Set{Pairs: ds.Pairs[:1]}, 0.5, 1); err == nil {
 		t.Error("split of one pair accepted")
 	}
+	if tr, va, err := Split(ds, 0, 1); err != nil || va != nil || len(tr.Pairs) != len(ds.Pairs) {
+		t.Errorf("fraction 0: %v, %d training pairs of %d, validation %v", err, len(tr.Pairs), len(ds.Pairs), va)
+	}
+	if _, _, err := Split(ds, -0.1, 1); err == nil {
+		t.Error("a negative fraction was accepted")
+	}
 	if _, _, err := Split(ds, 1, 1); err == nil {
 		t.Error("fraction 1 accepted")
 	}

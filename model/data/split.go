@@ -11,7 +11,8 @@ import (
 // shuffled by seed and the first round(valFraction·len) go to validation,
 // each set keeping name order. valFraction must be in [0, 1); a non-zero
 // fraction leaves at least one pair in each set, so it returns an error for
-// a set of one pair.
+// a set of one pair. A zero fraction returns all pairs for training and a
+// nil validation set.
 func Split(ds *dataset.Set, valFraction float64, seed uint64) (train, val *dataset.Set, err error) {
 	if !(valFraction >= 0 && valFraction < 1) {
 		return nil, nil, fmt.Errorf("data: validation fraction %v must be in [0, 1)", valFraction)
@@ -23,6 +24,9 @@ func Split(ds *dataset.Set, valFraction float64, seed uint64) (train, val *datas
 	}
 	if nv >= n && nv > 0 {
 		return nil, nil, fmt.Errorf("data: cannot split %d pairs into training and validation by %v", n, valFraction)
+	}
+	if nv == 0 {
+		return &dataset.Set{Dir: ds.Dir, Rig: ds.Rig, Truth: ds.Truth, Pairs: ds.Pairs}, nil, nil
 	}
 	perm := permutation(n, rand.New(rand.NewPCG(seed, splitStream)))
 	isVal := make([]bool, n)

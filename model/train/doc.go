@@ -69,6 +69,13 @@
 // uninterrupted run's, bit for bit on any number of threads (see
 // Determinism below).
 //
+// Job is a Trainer on files, as the finetune command runs it: Files (the
+// weights, the checkpoint, the CSV log of StepLog and its loss-curve PNG)
+// are probed and their free space checked before step 1, the run starts
+// from the embedded weights, a weights file, a checkpoint or scratch
+// (Start), and the trained weights are saved with their provenance
+// (RunInfo), also when the run is interrupted.
+//
 // Safety: a step whose batch, loss or gradient holds NaN or Inf is skipped
 // before any weight or moment changes, counted, and reported through
 // Progress; it never reaches a checkpoint. A disparity map whose spatial

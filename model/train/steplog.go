@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"strconv"
+	"strings"
 
 	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/loss"
@@ -136,6 +137,20 @@ func (l *StepLog) Window(n int) (first, last loss.Terms) {
 		return
 	}
 	return mean(ok[:n]), mean(ok[len(ok)-n:])
+}
+
+// summary writes a table of the mean weighted loss terms of the first and
+// of the last n steps that were not skipped (Window) to b.
+func (l *StepLog) summary(b *strings.Builder, n int) {
+	first, last := l.Window(n)
+	fmt.Fprintf(b, "loss (mean of the first and last %d steps)   start      end\n", min(n, l.Len()))
+	for _, t := range []struct {
+		name     string
+		from, to float64
+	}{{"appearance", first.Appearance, last.Appearance}, {"smoothness", first.Smoothness, last.Smoothness},
+		{"consistency", first.Consistency, last.Consistency}, {"total", first.Total, last.Total}} {
+		fmt.Fprintf(b, "  %-42s %9.5f %9.5f\n", t.name, t.from, t.to)
+	}
 }
 
 // SavePlot draws the log's weighted loss terms against the step, one line
