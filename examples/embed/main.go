@@ -1,47 +1,88 @@
-// Command embed is the frame loop to copy: depth per image, nearest point ahead.
+// Command embed is the frame loop to copy into your own program: metric
+// depth for each image of a folder (name order), and the nearest point in
+// the central third of the view.
+//
+//	go run ./examples/embed [-rig rig.json] [-weights W.safetensors] [folder]
+//
+// Without a folder it runs on the bundled demo image. Estimated depth is
+// not a safety-rated sensor.
 package main
 
 import (
 	"context"
+	"errors"
+	"flag"
 	"fmt"
-	"log"
-	"math"
+	"io"
 	"os"
 
 	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/demo"
 )
 
 func main() {
+	if err := run(context.Background(), os.Args[1:], os.Stdout, os.Stderr); err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+}
+
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	fs := flag.NewFlagSet("embed", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	rigPath := fs.String("rig", "", "rig JSON file of your cameras (see depth.ReadRig); default: the bundled demo's rig")
+	weights := fs.String("weights", "", "weights file (safetensors, see package model); default: the embedded weights")
+	fs.Usage = func() { fmt.Fprint(stderr, "usage: embed [flags] [folder]\n\nPrints the nearest point ahead for each image of folder (default: the bundled demo image). Flags:\n"); fs.PrintDefaults() }
+	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
+		return nil
+	} else if err != nil {
+		return fmt.Errorf("embed: %w", err)
+	} else if fs.NArg() > 1 {
+		return fmt.Errorf("embed: one folder at most, got %d arguments", fs.NArg())
+	}
 	rig, err := demo.Rig() // your cameras: depth.LoadRig("rig.json")
-	must(err)
-	est, err := model.NewEstimator(nil, &model.EstimatorOptions{Rig: rig}) // nil: the embedded weights
-	must(err)
-	frames := dataset.Frames(append(os.Args[1:], "")[0]) // the images of a folder, in name order
-	if len(os.Args) < 2 {
-		// No folder: the demo image.
+	if *rigPath != "" {
+		rig, err = depth.LoadRig(*rigPath)
+	}
+	if err != nil {
+		return fmt.Errorf("embed: %w", err)
+	}
+	w, err := model.LoadOrDefault(*weights) // "": the embedded weights
+	if err != nil {
+		return fmt.Errorf("embed: %w", err)
+	}
+	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig})
+	if err != nil {
+		return fmt.Errorf("embed: %w", err)
+	}
+	frames := dataset.Frames(fs.Arg(0)) // the images of a folder, in name order
+	if fs.NArg() == 0 {
 		img, err := demo.Left()
 		frames = func(yield func(dataset.Frame, error) bool) { yield(dataset.Frame{Name: demo.Name, Image: img}, err) }
 	}
 	for f, err := range frames {
-		must(err)
-		e, err := est.Estimate(context.Background(), f.Image)
-		must(err)
-		b, near := e.Depth.Rect, float32(math.Inf(1)) // nearest valid depth in the central third
+		if err != nil {
+			return fmt.Errorf("embed: %w", err)
+		}
+		e, err := est.Estimate(ctx, f.Image)
+		if err != nil {
+			return fmt.Errorf("embed: %s: %w", f.Name, err)
+		}
+		b, near, found := e.Depth.Rect, float32(0), false // nearest valid depth in the central third
 		for y := b.Dy() / 3; y < 2*b.Dy()/3; y++ {
 			for x := b.Dx() / 3; x < 2*b.Dx()/3; x++ {
-				if z, ok := e.Depth.At(x, y); ok {
-					near = min(near, z)
+				if z, ok := e.Depth.At(x, y); ok && (!found || z < near) {
+					near, found = z, true
 				}
 			}
 		}
-		fmt.Printf("%s: nearest point ahead %.2f m (estimated depth is not a safety-rated sensor)\n", f.Name, near)
+		if !found {
+			fmt.Fprintf(stdout, "%s: no valid depth ahead\n", f.Name)
+			continue
+		}
+		fmt.Fprintf(stdout, "%s: nearest point ahead %.2f m (estimated depth is not a safety-rated sensor)\n", f.Name, near)
 	}
-}
-
-func must(err error) {
-	if err != nil {
-		log.Fatal(err)
-	}
+	return nil
 }

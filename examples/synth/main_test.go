@@ -1,16 +1,30 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 )
 
+// runArgs runs the command with a small image size, then extra flags (a
+// later flag overrides an earlier one).
+func runArgs(out string, extra ...string) (stdout string, err error) {
+	var o, e bytes.Buffer
+	err = run(context.Background(), append([]string{"-out", out, "-width", "32", "-height", "16", "-samples", "2", "-workers", "2", "-n", "2"}, extra...), &o, &e)
+	return o.String(), err
+}
+
 func TestRun(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "out")
-	if err := run("storage", "default", 2, 1, dir, 32, 16, 2, 2, true); err != nil {
+	stdout, err := runArgs(dir, "-style", "storage")
+	if err != nil {
 		t.Fatal(err)
+	}
+	if want := "wrote 2 storage pairs of 32x16 to " + dir; !strings.Contains(stdout, want) {
+		t.Errorf("stdout %q, want %q", stdout, want)
 	}
 	for _, f := range []string{"rig.json", "left/000001.png", "right/000000.png", "truth/disp_left/000001.pfm", "truth/occ_right/000001.png"} {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
@@ -18,7 +32,7 @@ func TestRun(t *testing.T) {
 		}
 	}
 	varied := filepath.Join(t.TempDir(), "varied")
-	if err := run("orchard", "default", 2, 1, varied, 32, 16, 2, 2, true); err != nil {
+	if _, err := runArgs(varied, "-style", "orchard", "-quiet"); err != nil {
 		t.Fatal(err)
 	}
 	for _, f := range []string{"rigs/000000.json", "rigs/000001.json", "left/000001.png"} {
@@ -27,22 +41,30 @@ func TestRun(t *testing.T) {
 		}
 	}
 	for _, c := range []struct {
-		name string
-		err  error
-		want string
+		name  string
+		extra []string
+		want  string
 	}{
-		{"no -out", run("storage", "default", 1, 1, "", 32, 16, 2, 1, true), "-out DIR is required"},
-		{"bad style", run("garden", "default", 1, 1, dir, 32, 16, 2, 1, true), "unknown style"},
-		{"no pairs", run("storage", "default", 0, 1, dir, 32, 16, 2, 1, true), "-n 0"},
-		{"tiny", run("storage", "default", 1, 1, dir, 1, 16, 2, 1, true), "at least 2×1"},
-		{"workers", run("storage", "default", 1, 1, dir, 32, 16, 2, 0, true), "-workers 0"},
-		{"samples", run("storage", "default", 1, 1, dir, 32, 16, 99, 1, true), "samples"},
-		{"other rig", run("greenhouse", "default", 1, 1, dir, 32, 16, 2, 1, true), "another rig"},
-		{"bad variation", run("storage", "some", 1, 1, dir, 32, 16, 2, 1, true), "unknown variation"},
-		{"varied into one rig", run("orchard", "default", 1, 1, dir, 32, 16, 2, 1, true), "one rig"},
+		{"no -out", []string{"-out", ""}, "-out DIR is required"},
+		{"bad style", []string{"-style", "garden"}, "unknown style"},
+		{"no pairs", []string{"-n", "0"}, "-n 0"},
+		{"tiny", []string{"-width", "1"}, "at least 2×1"},
+		{"workers", []string{"-workers", "0"}, "-workers 0"},
+		{"samples", []string{"-samples", "99"}, "samples"},
+		{"other rig", []string{"-style", "greenhouse"}, "another rig"},
+		{"bad variation", []string{"-vary", "some"}, "unknown variation"},
+		{"varied into one rig", []string{"-style", "orchard"}, "one rig"},
+		{"unknown flag", []string{"-colour", "red"}, "flag provided but not defined: -colour"},
+		{"bad number", []string{"-n", "many"}, "invalid value \"many\" for flag -n"},
+		{"argument", []string{"extra"}, "unexpected argument \"extra\""},
 	} {
-		if c.err == nil || !strings.HasPrefix(c.err.Error(), "synth: ") || !strings.Contains(c.err.Error(), c.want) {
-			t.Errorf("%s: error %v, want one starting with \"synth: \" that mentions %q", c.name, c.err, c.want)
+		_, err := runArgs(dir, append([]string{"-style", "storage", "-quiet"}, c.extra...)...)
+		if err == nil || !strings.HasPrefix(err.Error(), "synth: ") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one starting with \"synth: \" that mentions %q", c.name, err, c.want)
 		}
+	}
+	var stderr bytes.Buffer
+	if err := run(context.Background(), []string{"-help"}, &bytes.Buffer{}, &stderr); err != nil || !strings.Contains(stderr.String(), "usage: synth -out DIR") {
+		t.Errorf("-help: %v, stderr %q", err, stderr.String())
 	}
 }
