@@ -65,7 +65,7 @@ func netBytes(a *Arch) int64 {
 	// maps (16 bytes) and its worker: per pixel the cost volume and the
 	// path sums (1 + 2 bytes per stored level, levels padded to 16), the
 	// census words (16 bytes) and about 17 bytes of rows and maps.
-	w, h := a.Input.W>>MatchLevel, a.Input.H>>MatchLevel
+	w, h := a.Input.W>>a.Config.MatchLevel(), a.Input.H>>a.Config.MatchLevel()
 	levels := min(int(math.Ceil(a.Config.DMax*float64(w))), w-1) + 1
 	stored := (levels + 15) &^ 15
 	return n + int64(w*h)*int64(2+16+16+3*stored+16+17)
