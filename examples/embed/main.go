@@ -34,7 +34,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs.SetOutput(stderr)
 	rigPath := fs.String("rig", "", "rig JSON file of your cameras (see depth.ReadRig); default: the bundled demo's rig")
 	weights := fs.String("weights", "", "weights file (safetensors, see package model); default: the embedded weights")
-	fs.Usage = func() { fmt.Fprint(stderr, "usage: embed [flags] [folder]\n\nPrints the nearest point ahead for each image of folder (default: the bundled demo image). Flags:\n"); fs.PrintDefaults() }
+	fs.Usage = func() {
+		fmt.Fprint(stderr, "usage: embed [flags] [folder]\n\nPrints the nearest point ahead for each image of folder (default: the bundled demo image). Flags:\n")
+		fs.PrintDefaults()
+	}
 	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
 		return nil
 	} else if err != nil {
