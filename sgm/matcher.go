@@ -203,7 +203,7 @@ type worker struct {
 	censL     []uint64
 	censR     []uint64
 	censusAcc []uint8  // per row range: 8×w
-	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each
+	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each (with MinTexture only)
 	cost      []uint8  // w×h×np
 	sum       []uint16 // w×h×np
 	rowGrain  int      // rows per range of the row-wise phases
@@ -220,7 +220,7 @@ type worker struct {
 
 	left, right image.Image // during the grey conversion
 
-	greyFn, censusFn, rowFn, bandFn, selectFn func(lo, hi int)
+	greyFn, censusFn, rowFn, bandFn, selectFn, writeFn func(lo, hi int)
 }
 
 func newWorker(o *Options) *worker {
@@ -230,6 +230,7 @@ func newWorker(o *Options) *worker {
 	wk.rowFn = wk.rowRange
 	wk.bandFn = wk.bandRange
 	wk.selectFn = wk.selectRange
+	wk.writeFn = wk.writeRange
 	return wk
 }
 
@@ -263,7 +264,9 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	npad := (w + cw - 1) * (h + ch - 1)
 	wk.padL, wk.padR = grow(wk.padL, npad), grow(wk.padR, npad)
 	wk.censL, wk.censR = grow(wk.censL, wh), grow(wk.censR, wh)
-	wk.texPre = grow(wk.texPre, h*(w+1))
+	if o.MinTexture > 0 {
+		wk.texPre = grow(wk.texPre, h*(w+1))
+	}
 	wk.cost = grow(wk.cost, wh*wk.np)
 	wk.sum = grow(wk.sum, wh*wk.np)
 	vs := wk.np + vecPad
@@ -296,23 +299,32 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 		wk.band(1)
 		wk.band(-1)
 	}
+	if o.SpeckleSize != Off {
+		wk.speckles.reset(wh)
+	}
 	parallelFor(h, wk.rowGrain, wk.selectFn)
 	if o.SpeckleSize != Off {
-		wk.speckles.remove(wk.disp, wk.valid, w, h, o.SpeckleSize, float32(o.SpeckleJump))
+		for y := wk.rowGrain; y < h; y += wk.rowGrain {
+			wk.speckles.merge(wk.disp, wk.valid, w, y, float32(o.SpeckleJump))
+		}
+	}
+	parallelFor(h, wk.rowGrain, wk.writeFn)
+}
+
+// writeRange finishes rows [lo, hi): the speckle sweep, the hole fill, and
+// the copy of the disparity, validity and confidence into dst.
+func (wk *worker) writeRange(lo, hi int) {
+	w, o := wk.w, wk.opt
+	if o.SpeckleSize != Off {
+		wk.speckles.sweep(wk.valid, w, lo, hi, o.SpeckleSize)
 	}
 	if o.FillHoles {
-		for y := range h {
+		for y := lo; y < hi; y++ {
 			fillRow(wk.disp[y*w:(y+1)*w], wk.valid[y*w:(y+1)*w], filled)
 		}
 	}
-	wk.write()
-}
-
-// write copies the disparity, validity and confidence into dst.
-func (wk *worker) write() {
-	w := wk.w
 	d, c := wk.dst.Disparity, wk.dst.Confidence
-	for y := range wk.h {
+	for y := lo; y < hi; y++ {
 		dp, dm := d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w]
 		cp, cm := c.Pix[y*c.Stride:y*c.Stride+w], c.Mask[y*c.Stride:y*c.Stride+w]
 		disp, valid, conf := wk.disp[y*w:(y+1)*w], wk.valid[y*w:(y+1)*w], wk.conf[y*w:(y+1)*w]
@@ -370,6 +382,9 @@ func (wk *worker) censusRange(lo, hi int) {
 	for r := lo; r < hi; r++ {
 		if r < h {
 			censusRow(wk.censL[r*w:(r+1)*w], wk.padL, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r, acc)
+			if wk.opt.MinTexture == 0 {
+				continue
+			}
 			g, pre := wk.greyL[r*w:(r+1)*w], wk.texPre[r*(w+1):(r+1)*(w+1)]
 			pre[0] = 0
 			for x := range w - 1 {
@@ -526,7 +541,7 @@ const (
 // selectRange picks each pixel's disparity in rows [lo, hi): winner takes
 // all over the aggregated costs, the uniqueness and left-right checks, and
 // a parabola through the best cost and its neighbours for the sub-pixel
-// position.
+// position; then it labels the band's speckle regions (speckle.go).
 func (wk *worker) selectRange(lo, hi int) {
 	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
 	o := wk.opt
@@ -580,5 +595,8 @@ func (wk *worker) selectRange(lo, hi int) {
 			}
 			disp[x], valid[x] = f, matched
 		}
+	}
+	if o.SpeckleSize != Off {
+		wk.speckles.label(wk.disp, wk.valid, w, lo, hi, float32(o.SpeckleJump))
 	}
 }
