@@ -31,20 +31,23 @@ func initSentinels(buf []uint16, np int) {
 	}
 }
 
-// pathStart sets cur (np values) to the costs, adds them to sum (or
-// stores them, if store) and returns their minimum: the first pixel of a
-// path.
-func pathStart(cur []uint16, cost []uint8, sum []uint16, store bool) uint16 {
+// pathStart sets cur (np values) to the costs, writes them plus base to
+// sum (base may be sum; nil stores the costs alone) and returns their
+// minimum: the first pixel of a path.
+func pathStart(cur []uint16, cost []uint8, sum, base []uint16) uint16 {
 	cur = cur[:len(cost)]
 	sum = sum[:len(cost)]
+	if base != nil {
+		base = base[:len(cost)]
+	}
 	m := uint16(noPath)
 	for d, c := range cost {
 		v := uint16(c)
 		cur[d] = v
-		if store {
+		if base == nil {
 			sum[d] = v
 		} else {
-			sum[d] += v
+			sum[d] = base[d] + v
 		}
 		m = min(m, v)
 	}
@@ -59,13 +62,15 @@ func pathStart(cur []uint16, cost []uint8, sum []uint16, store bool) uint16 {
 // pmin[pminOff+j·pminStep]; it writes the new minimum to
 // cmin[cminOff+j·cminStep]. A step may read what an earlier step wrote
 // (a path: prev = cur one step back). With store, the vectors are stored
-// in sum instead of added: the first path of a pixel. It panics if a step would reach
-// outside a slice or np is not a positive multiple of 16.
+// in sum instead of added: the first path of a pixel. With base (and not
+// store), sum receives base plus the vector: base holds the other paths'
+// sums at the same offsets, and sum is scratch. It panics if a step would
+// reach outside a slice or np is not a positive multiple of 16.
 type pathRun struct {
 	cur, prev                          []uint16
 	curOff, curStep, prevOff, prevStep int
 	cost                               []uint8
-	sum                                []uint16
+	sum, base                          []uint16
 	costOff, costStep                  int
 	p2                                 []uint16
 	pmin, cmin                         []uint16
@@ -94,6 +99,9 @@ func (r *pathRun) check() {
 	span("prev", r.prevOff, r.prevStep, r.np+vecPad, len(r.prev))
 	span("cost", r.costOff, r.costStep, r.np, len(r.cost))
 	span("sum", r.costOff, r.costStep, r.np, len(r.sum))
+	if r.base != nil {
+		span("base", r.costOff, r.costStep, r.np, len(r.base))
+	}
 	span("p2", 0, 1, 1, len(r.p2))
 	span("pmin", r.pminOff, r.pminStep, 1, len(r.pmin))
 	span("cmin", r.cminOff, r.cminStep, 1, len(r.cmin))
@@ -108,6 +116,10 @@ func (r *pathRun) runGeneric() {
 		prev := r.prev[r.prevOff+j*r.prevStep:][:np+1]
 		cost := r.cost[r.costOff+j*r.costStep:][:np]
 		sum := r.sum[r.costOff+j*r.costStep:][:np]
+		base := sum
+		if r.base != nil {
+			base = r.base[r.costOff+j*r.costStep:][:np]
+		}
 		prevMin := uint32(r.pmin[r.pminOff+j*r.pminStep])
 		jump := min(prevMin+uint32(r.p2[j]), noPath)
 		m := uint32(noPath)
@@ -121,7 +133,7 @@ func (r *pathRun) runGeneric() {
 			if r.store {
 				sum[d] = uint16(v)
 			} else {
-				sum[d] += uint16(v)
+				sum[d] = base[d] + uint16(v)
 			}
 			m = min(m, v)
 		}

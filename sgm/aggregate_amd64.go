@@ -11,10 +11,14 @@ var useAVX2 = hasAVX2
 var hasAVX2 = cpu.X86.HasAVX2
 
 //go:noescape
-func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
 
 func (r *pathRun) runAVX2() {
-	pathRunAVX2(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], r.costStep,
+	base := &r.sum[r.costOff]
+	if r.base != nil && !r.store {
+		base = &r.base[r.costOff]
+	}
+	pathRunAVX2(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
 		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store)
 }
 

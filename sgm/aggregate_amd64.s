@@ -2,13 +2,13 @@
 
 #include "textflag.h"
 
-// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
 //
 // The steps of pathRun (aggregate.go), 16 levels per instruction. The
 // neighbours d−1 and d+1 come from the aligned loads of the previous
 // vector by lane shifts (VPERM2I128 + VPALIGNR), so that a step reading the
 // vector the step before it stored gets it from the store buffer.
-TEXT ·pathRunAVX2(SB), NOSPLIT, $0-115
+TEXT ·pathRunAVX2(SB), NOSPLIT, $0-123
 	MOVQ cur+0(FP), DI
 	MOVQ prev+8(FP), SI
 	MOVQ curStep+16(FP), R13
@@ -17,13 +17,13 @@ TEXT ·pathRunAVX2(SB), NOSPLIT, $0-115
 	SHLQ $1, R14
 	MOVQ cost+32(FP), R8
 	MOVQ sum+40(FP), R9
-	MOVQ costStep+48(FP), DX
-	MOVQ p2+56(FP), R10
-	MOVQ pmin+64(FP), R11
-	MOVQ cmin+80(FP), R12
-	MOVQ n+96(FP), CX
-	MOVQ np+104(FP), BX
-	MOVWLZX p1+112(FP), AX
+	MOVQ base+48(FP), DX
+	MOVQ p2+64(FP), R10
+	MOVQ pmin+72(FP), R11
+	MOVQ cmin+88(FP), R12
+	MOVQ n+104(FP), CX
+	MOVQ np+112(FP), BX
+	MOVWLZX p1+120(FP), AX
 	MOVQ AX, X15
 	VPBROADCASTW X15, Y15          // P1
 	VPCMPEQW Y11, Y11, Y11         // noPath in every lane
@@ -56,9 +56,9 @@ level:
 	VPMOVZXBW (R8)(AX*1), Y3
 	VPADDW Y3, Y0, Y0
 	VMOVDQU Y0, (DI)(AX*2)
-	CMPB store+114(FP), $0
+	CMPB store+122(FP), $0
 	JNE stored
-	VPADDW (R9)(AX*2), Y0, Y1
+	VPADDW (DX)(AX*2), Y0, Y1
 	VMOVDQU Y1, (R9)(AX*2)
 	JMP added
 stored:
@@ -79,12 +79,14 @@ added:
 
 	ADDQ R13, DI
 	ADDQ R14, SI
-	ADDQ DX, R8
-	LEAQ (R9)(DX*2), R9
+	MOVQ costStep+56(FP), AX
+	ADDQ AX, R8
+	LEAQ (R9)(AX*2), R9
+	LEAQ (DX)(AX*2), DX
 	ADDQ $2, R10
-	MOVQ pminStep+72(FP), AX
+	MOVQ pminStep+80(FP), AX
 	LEAQ (R11)(AX*2), R11
-	MOVQ cminStep+88(FP), AX
+	MOVQ cminStep+96(FP), AX
 	LEAQ (R12)(AX*2), R12
 	DECQ CX
 	JNZ step

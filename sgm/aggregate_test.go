@@ -75,16 +75,24 @@ func cloneRun(a *pathRun) *pathRun {
 }
 
 // The AVX2 kernel gives the portable kernel's values, for chained paths in
-// both directions and for independent lines.
+// both directions and for independent lines, adding to sum, storing, and
+// adding to a separate base.
 func TestPathRunKernels(t *testing.T) {
 	if !useAVX2 {
 		t.Skip("no AVX2 kernel on this machine or build")
 	}
 	r := rand.New(rand.NewPCG(4, 5))
 	for _, np := range []int{16, 32, 48, 80, 128} {
-		for _, mode := range []struct{ chained, backwards, store bool }{{true, false, false}, {true, true, false}, {false, false, false}, {true, false, true}, {false, false, true}} {
+		for _, mode := range []struct{ chained, backwards, store, base bool }{{true, false, false, false}, {true, true, false, false}, {false, false, false, false},
+			{true, false, true, false}, {false, false, true, false}, {true, false, false, true}, {true, true, false, true}, {false, false, false, true}} {
 			g := randomRun(r, np, 1+r.IntN(40), mode.chained, mode.backwards)
 			g.store = mode.store
+			if mode.base {
+				g.base = make([]uint16, len(g.sum))
+				for i := range g.base {
+					g.base[i] = uint16(r.IntN(20000))
+				}
+			}
 			a := cloneRun(g)
 			g.check()
 			g.runGeneric()

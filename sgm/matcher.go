@@ -176,7 +176,7 @@ func (m *Matcher) release(wk *worker) { m.idle <- wk }
 // Parallel work is split by the problem's size only.
 const (
 	maxRowRanges = 16 // ranges of rows in the row-wise phases (each holds a row of path vectors)
-	bandLines    = 16 // path lines per range in the vertical and diagonal phases
+	bandLines    = 64 // path lines per range in the vertical and diagonal phases
 )
 
 // worker holds one call's buffers, grown as needed and reused.
@@ -205,7 +205,8 @@ type worker struct {
 	censusAcc []uint8  // per row range: 8×w
 	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each (with MinTexture only)
 	cost      []uint8  // w×h×np
-	sum       []uint16 // w×h×np
+	sum       []uint16 // w×h×np: the vertical (and diagonal) paths' sums
+	rowSum    []uint16 // per row range: w×np, a row's sums with the horizontal paths
 	rowGrain  int      // rows per range of the row-wise phases
 	rowVec    []uint16 // per row range: w path vectors
 	rowMin    []uint16 // per row range: w minima
@@ -220,7 +221,11 @@ type worker struct {
 
 	left, right image.Image // during the grey conversion
 
-	greyFn, censusFn, rowFn, bandFn, selectFn, writeFn func(lo, hi int)
+	// inPlace (tests) adds the horizontal paths into sum, which then holds
+	// the final sums, instead of into rowSum.
+	inPlace bool
+
+	greyFn, censusFn, rowFn, bandFn, writeFn func(lo, hi int)
 }
 
 func newWorker(o *Options) *worker {
@@ -229,7 +234,6 @@ func newWorker(o *Options) *worker {
 	wk.censusFn = wk.censusRange
 	wk.rowFn = wk.rowRange
 	wk.bandFn = wk.bandRange
-	wk.selectFn = wk.selectRange
 	wk.writeFn = wk.writeRange
 	return wk
 }
@@ -279,7 +283,8 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.rowInt = grow(wk.rowInt, ranges*2*w)
 	wk.slide = grow(wk.slide, ranges*2*vs)
 	wk.rev = grow(wk.rev, ranges*(2*w+wk.np))
-	wk.censusAcc = grow(wk.censusAcc, (2*h+wk.rowGrain-1)/wk.rowGrain*8*w)
+	wk.censusAcc = grow(wk.censusAcc, ranges*8*w)
+	wk.rowSum = grow(wk.rowSum, ranges*w*wk.np)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
 	initSentinels(wk.lineVec, wk.np)
@@ -292,8 +297,7 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.left, wk.right = nil, nil
 	padImage(wk.padL, wk.greyL, w, h, cw, ch)
 	padImage(wk.padR, wk.greyR, w, h, cw, ch)
-	parallelFor(2*h, wk.rowGrain, wk.censusFn)
-	parallelFor(h, wk.rowGrain, wk.rowFn)
+	parallelFor(h, wk.rowGrain, wk.censusFn)
 	wk.band(0)
 	if o.Paths == 8 {
 		wk.band(1)
@@ -302,7 +306,7 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	if o.SpeckleSize != Off {
 		wk.speckles.reset(wh)
 	}
-	parallelFor(h, wk.rowGrain, wk.selectFn)
+	parallelFor(h, wk.rowGrain, wk.rowFn)
 	if o.SpeckleSize != Off {
 		for y := wk.rowGrain; y < h; y += wk.rowGrain {
 			wk.speckles.merge(wk.disp, wk.valid, w, y, float32(o.SpeckleJump))
@@ -374,33 +378,36 @@ func (wk *worker) greyRange(lo, hi int) {
 	}
 }
 
-// censusRange computes census rows [lo, hi) of the stacked left (rows
-// 0 … h−1) and right (h … 2h−1) images.
+// censusRange computes the census rows [lo, hi) of both images and the
+// rows' matching costs.
 func (wk *worker) censusRange(lo, hi int) {
-	w, h := wk.w, wk.h
-	acc := wk.censusAcc[(lo/wk.rowGrain)*8*w : (lo/wk.rowGrain+1)*8*w]
-	for r := lo; r < hi; r++ {
-		if r < h {
-			censusRow(wk.censL[r*w:(r+1)*w], wk.padL, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r, acc)
-			if wk.opt.MinTexture == 0 {
-				continue
-			}
-			g, pre := wk.greyL[r*w:(r+1)*w], wk.texPre[r*(w+1):(r+1)*(w+1)]
-			pre[0] = 0
-			for x := range w - 1 {
-				pre[x+1] = pre[x] + int32(absDiff(g[x+1], g[x]))
-			}
-			pre[w] = pre[w-1]
-		} else {
-			censusRow(wk.censR[(r-h)*w:(r-h+1)*w], wk.padR, w, wk.opt.CensusWidth, wk.opt.CensusHeight, r-h, acc)
+	w, np := wk.w, wk.np
+	cw, ch := wk.opt.CensusWidth, wk.opt.CensusHeight
+	ri := lo / wk.rowGrain
+	acc := wk.censusAcc[ri*8*w : (ri+1)*8*w]
+	for y := lo; y < hi; y++ {
+		cl, cr := wk.censL[y*w:(y+1)*w], wk.censR[y*w:(y+1)*w]
+		censusRow(cl, wk.padL, w, cw, ch, y, acc)
+		censusRow(cr, wk.padR, w, cw, ch, y, acc)
+		costRow(wk.cost[y*w*np:(y+1)*w*np], cl, cr, w, wk.lo, wk.n, np, wk.costMax, wk.rev[ri*(2*w+np):(ri+1)*(2*w+np)])
+		if wk.opt.MinTexture == 0 {
+			continue
 		}
+		g, pre := wk.greyL[y*w:(y+1)*w], wk.texPre[y*(w+1):(y+1)*(w+1)]
+		pre[0] = 0
+		for x := range w - 1 {
+			pre[x+1] = pre[x] + int32(absDiff(g[x+1], g[x]))
+		}
+		pre[w] = pre[w-1]
 	}
 }
 
-// rowRange computes the matching costs of rows [lo, hi) and aggregates them
-// along the two horizontal paths, which start the sums.
+// rowRange finishes rows [lo, hi): it adds the two horizontal paths to
+// each row's sums from the other paths, in a row of scratch (or in sum
+// itself, with inPlace), and selects the row's disparities from them;
+// then it labels the range's speckle regions (speckle.go).
 func (wk *worker) rowRange(lo, hi int) {
-	w, np, n := wk.w, wk.np, wk.n
+	w, np := wk.w, wk.np
 	vs := np + vecPad
 	ri := lo / wk.rowGrain
 	vecs := wk.rowVec[ri*w*vs : (ri+1)*w*vs]
@@ -409,25 +416,31 @@ func (wk *worker) rowRange(lo, hi int) {
 	p2rl := wk.rowP2[(2*ri+1)*w : (2*ri+2)*w]
 	for y := lo; y < hi; y++ {
 		cost := wk.cost[y*w*np : (y+1)*w*np]
-		sum := wk.sum[y*w*np : (y+1)*w*np]
-		cl, cr := wk.censL[y*w:(y+1)*w], wk.censR[y*w:(y+1)*w]
-		costRow(cost, cl, cr, w, wk.lo, n, np, wk.costMax, wk.rev[ri*(2*w+np):(ri+1)*(2*w+np)])
+		base := wk.sum[y*w*np : (y+1)*w*np]
+		sum := base
+		if !wk.inPlace {
+			sum = wk.rowSum[ri*w*np : (ri+1)*w*np]
+		}
 		g := wk.greyL[y*w : (y+1)*w]
 		for x := 1; x < w; x++ {
 			p := wk.p2[absDiff(g[x], g[x-1])]
 			p2lr[x] = p
 			p2rl[w-1-x] = p
 		}
-		mins[0] = pathStart(vecs, cost[:np], sum[:np], true)
+		mins[0] = pathStart(vecs, cost[:np], sum[:np], base[:np])
 		r := pathRun{cur: vecs, prev: vecs, curOff: vs, curStep: vs, prevOff: 0, prevStep: vs,
-			cost: cost, sum: sum, costOff: np, costStep: np, p2: p2lr[1:],
-			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1, store: true}
+			cost: cost, sum: sum, base: base, costOff: np, costStep: np, p2: p2lr[1:],
+			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1}
 		r.run()
-		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:], false)
+		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:], sum[(w-1)*np:])
 		r = pathRun{cur: vecs, prev: vecs, curOff: (w - 2) * vs, curStep: -vs, prevOff: (w - 1) * vs, prevStep: -vs,
 			cost: cost, sum: sum, costOff: (w - 2) * np, costStep: -np, p2: p2rl[:w-1],
 			pmin: mins, cmin: mins, pminOff: w - 1, pminStep: -1, cminOff: w - 2, cminStep: -1, n: w - 1, np: np, p1: wk.p1}
 		r.run()
+		wk.selectRow(y, sum)
+	}
+	if o := wk.opt; o.SpeckleSize != Off {
+		wk.speckles.label(wk.disp, wk.valid, w, lo, hi, float32(o.SpeckleJump))
 	}
 }
 
@@ -460,6 +473,7 @@ func (wk *worker) bandRange(lo, hi int) {
 	vs := np + vecPad
 	lines := len(wk.lineMin) / 2
 	for _, down := range [2]bool{true, false} {
+		store := down && s == 0 // the first path of every pixel
 		for step := range h {
 			y, py, px := step, step-1, -s // previous pixel at (x+px, py)
 			if !down {
@@ -476,7 +490,11 @@ func (wk *worker) bandRange(lo, hi int) {
 			start := func(x int) {
 				i := x - s*y - wk.lineOff
 				o := (y*w + x) * np
-				curMin[i] = pathStart(curVec[i*vs:], wk.cost[o:o+np], wk.sum[o:o+np], false)
+				var base []uint16 // nil: store
+				if !store {
+					base = wk.sum[o : o+np]
+				}
+				curMin[i] = pathStart(curVec[i*vs:], wk.cost[o:o+np], wk.sum[o:o+np], base)
 			}
 			if step == 0 {
 				for x := x0; x < x1; x++ {
@@ -506,7 +524,7 @@ func (wk *worker) bandRange(lo, hi int) {
 			}
 			r := pathRun{cur: curVec, prev: prevVec, curOff: ia * vs, curStep: vs, prevOff: ia * vs, prevStep: vs,
 				cost: wk.cost, sum: wk.sum, costOff: (y*w + a) * np, costStep: np, p2: p2,
-				pmin: prevMin, cmin: curMin, pminOff: ia, pminStep: 1, cminOff: ia, cminStep: 1, n: b - a, np: np, p1: wk.p1}
+				pmin: prevMin, cmin: curMin, pminOff: ia, pminStep: 1, cminOff: ia, cminStep: 1, n: b - a, np: np, p1: wk.p1, store: store}
 			r.run()
 		}
 	}
@@ -538,65 +556,59 @@ const (
 	filled  = 2
 )
 
-// selectRange picks each pixel's disparity in rows [lo, hi): winner takes
-// all over the aggregated costs, the uniqueness and left-right checks, and
-// a parabola through the best cost and its neighbours for the sub-pixel
-// position; then it labels the band's speckle regions (speckle.go).
-func (wk *worker) selectRange(lo, hi int) {
+// selectRow picks the disparities of row y from its summed costs: winner
+// takes all, the uniqueness and left-right checks, and a parabola through
+// the best cost and its neighbours for the sub-pixel position. It uses the
+// scratch of the row range, after the horizontal paths.
+func (wk *worker) selectRow(y int, sum []uint16) {
 	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
 	o := wk.opt
-	ri := lo / wk.rowGrain
+	ri := y / wk.rowGrain
 	scratch := wk.rowInt[ri*2*w : (ri+1)*2*w]
 	best, rarg := scratch[:w], scratch[w:]
-	vals := wk.rowP2[ri*2*w : (ri+1)*2*w] // the penalties' scratch, free in this phase
+	vals := wk.rowP2[ri*2*w : (ri+1)*2*w] // the penalties' scratch, free after the row's paths
 	bestV, second := vals[:w], vals[w:]
 	vs := np + vecPad
 	slide := wk.slide[ri*2*vs : (ri+1)*2*vs]
-	for y := lo; y < hi; y++ {
-		sum := wk.sum[y*w*np : (y+1)*w*np]
-		winners(sum, np, n, w, best, bestV, second)
-		if o.LRTolerance != Off {
-			rightWinners(sum, np, n, w, dlo, rarg, slide[:vs], slide[vs:])
-		}
-		disp := wk.disp[y*w : (y+1)*w]
-		valid := wk.valid[y*w : (y+1)*w]
-		conf := wk.conf[y*w : (y+1)*w]
-		for x := range w {
-			disp[x], valid[x], conf[x] = 0, invalid, 0
-			bd := int(best[x])
-			xr := x - dlo - bd
-			if xr < 0 {
-				continue // the match lies outside the right image
-			}
-			if o.MinTexture > 0 && wk.texture(x, y) < o.MinTexture {
-				continue
-			}
-			bv, sec := uint32(bestV[x]), uint32(second[x])
-			if sec == noPath {
-				conf[x] = 1
-			} else if sec > 0 {
-				conf[x] = float32(sec-bv) / float32(sec)
-			}
-			if o.Uniqueness != Off && sec != noPath && float64(sec)*100 <= float64(bv)*(100+o.Uniqueness) {
-				continue
-			}
-			if o.LRTolerance != Off {
-				if dr := int(rarg[xr]); dr < 0 || dr-bd > o.LRTolerance || bd-dr > o.LRTolerance {
-					continue
-				}
-			}
-			f := float32(dlo + bd)
-			if bd > 0 && bd < n-1 {
-				v := sum[x*np : x*np+n]
-				a, c := float32(v[bd-1]), float32(v[bd+1])
-				if den := a + c - 2*float32(bv); den > 0 {
-					f += (a - c) / (2 * den)
-				}
-			}
-			disp[x], valid[x] = f, matched
-		}
+	winners(sum, np, n, w, best, bestV, second)
+	if o.LRTolerance != Off {
+		rightWinners(sum, np, n, w, dlo, rarg, slide[:vs], slide[vs:])
 	}
-	if o.SpeckleSize != Off {
-		wk.speckles.label(wk.disp, wk.valid, w, lo, hi, float32(o.SpeckleJump))
+	disp := wk.disp[y*w : (y+1)*w]
+	valid := wk.valid[y*w : (y+1)*w]
+	conf := wk.conf[y*w : (y+1)*w]
+	for x := range w {
+		disp[x], valid[x], conf[x] = 0, invalid, 0
+		bd := int(best[x])
+		xr := x - dlo - bd
+		if xr < 0 {
+			continue // the match lies outside the right image
+		}
+		if o.MinTexture > 0 && wk.texture(x, y) < o.MinTexture {
+			continue
+		}
+		bv, sec := uint32(bestV[x]), uint32(second[x])
+		if sec == noPath {
+			conf[x] = 1
+		} else if sec > 0 {
+			conf[x] = float32(sec-bv) / float32(sec)
+		}
+		if o.Uniqueness != Off && sec != noPath && float64(sec)*100 <= float64(bv)*(100+o.Uniqueness) {
+			continue
+		}
+		if o.LRTolerance != Off {
+			if dr := int(rarg[xr]); dr < 0 || dr-bd > o.LRTolerance || bd-dr > o.LRTolerance {
+				continue
+			}
+		}
+		f := float32(dlo + bd)
+		if bd > 0 && bd < n-1 {
+			v := sum[x*np : x*np+n]
+			a, c := float32(v[bd-1]), float32(v[bd+1])
+			if den := a + c - 2*float32(bv); den > 0 {
+				f += (a - c) / (2 * den)
+			}
+		}
+		disp[x], valid[x] = f, matched
 	}
 }

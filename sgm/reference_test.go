@@ -145,6 +145,7 @@ func TestSumsMatchDefinition(t *testing.T) {
 		}
 		lo, hi := o.MinDisparity, o.MaxDisparity
 		wk := newWorker(&o)
+		wk.inPlace = true // keep the final sums
 		var res Result
 		m, _ := NewMatcher(&c)
 		if err := m.MatchInto(t.Context(), &res, l, r); err != nil { // allocates the maps
