@@ -130,13 +130,27 @@ def tiny_weights():
     return arch, tensors
 
 
-def forward(arch, params, x):
-    """Walk the layer list the way package model's Net does."""
+def scale_shift(l, w):
+    """The factor and shift of a scale layer at output width w: factor
+    (divided by w if per_width, times w if times_width) and shift/w."""
+    f = l.get("factor", 0.0)
+    if l.get("per_width"):
+        f = f / w
+    if l.get("times_width"):
+        f = f * w
+    return f, l.get("shift", 0.0) / w
+
+
+def forward(arch, params, x, ops=None):
+    """Walk the layer list the way package model's Net does. ops maps the
+    names of further ops (the stereo network's) to functions of the layer
+    and its inputs; the output shape of every layer is checked."""
     import torch.nn.functional as F
     t = {"image": x}
     for l in arch["layers"]:
         ins = [t[n] for n in l["inputs"]]
         op = l["op"]
+        o = l["out"]
         if op == "conv":
             v = ins[0]
             p = l["pad"]
@@ -154,10 +168,15 @@ def forward(arch, params, x):
         elif op == "concat":
             v = torch.cat(ins, dim=1)
         elif op == "scale":
-            v = ins[0] * l["factor"]
+            f, s = scale_shift(l, o["w"])
+            v = ins[0] * f
+            if s:
+                v = v + s
+        elif ops and op in ops:
+            v = ops[op](l, ins)
         else:
             raise ValueError("unknown op " + op)
-        assert list(v.shape[1:]) == [l["out"]["c"], l["out"]["h"], l["out"]["w"]], l["name"]
+        assert list(v.shape[1:]) == [o["c"], o["h"], o["w"]], (l["name"], v.shape)
         t[l["name"]] = v
     return [t[n] for n in arch["outputs"]]
 

@@ -27,16 +27,9 @@ import torch.nn.functional as F
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, "..", "..", "infer"))
+sys.path.insert(0, os.path.join(HERE, "..", "..", "model"))
 from torch_forward import load_safetensors  # noqa: E402
-
-
-def scale_shift(l, w):
-    f = l.get("factor", 0.0)
-    if l.get("per_width"):
-        f = f / w
-    if l.get("times_width"):
-        f = f * w
-    return f, l.get("shift", 0.0) / w
+from gen_st import forward as walk  # noqa: E402  the layer-list walker of the model fixtures
 
 
 def correlation(a, b, disps):
@@ -67,49 +60,19 @@ def pair_view(x, view):
 
 
 def forward(arch, params, pair, matches):
-    t = {"image": pair}
-    mi = 0
-    for l in arch["layers"]:
-        ins = [t[n] for n in l["inputs"]]
-        op = l["op"]
-        o = l["out"]
-        if op == "conv":
-            v = ins[0]
-            p = l["pad"]
-            if p:
-                mode = {"reflect": "reflect", "zero": "constant"}[l["padding"]]
-                v = F.pad(v, (p, p, p, p), mode=mode)
-            v = F.conv2d(v, params[l["name"] + ".weight"], params[l["name"] + ".bias"],
-                         stride=l["stride"], dilation=l["dilation"])
-            v = {"elu": F.elu, "sigmoid": torch.sigmoid, "none": lambda z: z}[l["act"]](v)
-        elif op == "upsample":
-            if l["mode"] == "bilinear":
-                v = F.interpolate(ins[0], scale_factor=2, mode="bilinear", align_corners=False)
-            else:
-                v = F.interpolate(ins[0], scale_factor=2, mode="nearest")
-        elif op == "concat":
-            v = torch.cat(ins, dim=1)
-        elif op == "scale":
-            f, s = scale_shift(l, o["w"])
-            v = ins[0] * f + s
-        elif op == "correlation":
-            v = correlation(ins[0], ins[1], l["disps"])
-        elif op == "warp":
-            v = warp_left(ins[0], ins[1])
-        elif op == "add":
-            v = ins[0] + ins[1]
-        elif op == "pairview":
-            v = pair_view(ins[0], l["view"])
-        elif op == "match":
-            v = matches[mi]
-            mi += 1
-        else:
-            raise ValueError("unknown op " + op)
-        assert list(v.shape[1:]) == [o["c"], o["h"], o["w"]], (l["name"], v.shape)
-        t[l["name"]] = v
+    """The layer walk of testdata/model/gen_st.py with the stereo ops; each
+    output's second half (the mirrored pairs) is mirrored back and stacked
+    as channel 1."""
+    it = iter(matches)
+    ops = {
+        "correlation": lambda l, ins: correlation(ins[0], ins[1], l["disps"]),
+        "warp": lambda l, ins: warp_left(ins[0], ins[1]),
+        "add": lambda l, ins: ins[0] + ins[1],
+        "pairview": lambda l, ins: pair_view(ins[0], l["view"]),
+        "match": lambda l, ins: next(it),
+    }
     outs = []
-    for name in arch["outputs"]:
-        raw = t[name]
+    for raw in walk(arch, params, pair, ops):
         n = raw.shape[0] // 2
         outs.append(torch.cat([raw[:n], torch.flip(raw[n:], dims=[3])], dim=1))
     return outs
