@@ -12,7 +12,7 @@ fixture stays small:
   * images: 4x4 block mean of the 8-bit values, rounded to nearest -> PNG,
   * disparity: 4x4 block mean divided by 4 (pixels at the stored resolution)
     when all sixteen values are known; +inf (unknown) when any is not.
-    Written as little-endian PFM like testdata/motorcycle (its write_pfm).
+    Written as little-endian PFM like testdata/motorcycle (testdata/pfm.py).
 
 Run with Debian's interpreter: /usr/bin/python3 testdata/aloe/make.py
 (ALOE_SRC overrides the source folder).
@@ -24,8 +24,8 @@ import cv2
 import numpy as np
 
 HERE = os.path.dirname(os.path.abspath(__file__))
-sys.path.insert(0, os.path.join(HERE, "..", "motorcycle"))
-from make import write_pfm  # noqa: E402  (one PFM writer for both fixtures)
+sys.path.insert(0, os.path.join(HERE, ".."))
+from pfm import write_pfm  # noqa: E402  (the PFM writer of every fixture script)
 
 SRC = os.environ.get("ALOE_SRC", "/usr/share/doc/opencv-doc/examples/data")
 K = 4

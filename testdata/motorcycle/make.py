@@ -16,12 +16,15 @@ stays small:
 Run with Debian's interpreter: /usr/bin/python3 testdata/motorcycle/make.py
 """
 import os
+import sys
 
 import numpy as np
 from skimage import io
 
 SRC = "/usr/lib/python3/dist-packages/skimage/data"
 HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, ".."))
+from pfm import write_pfm  # noqa: E402  (the PFM writer of every fixture script)
 
 
 def block_mean(a):
@@ -44,17 +47,6 @@ def reduce_disparity():
     k = block_mean(known.astype(np.float64))
     m = block_mean(d) / 2.0
     return np.where(k == 1.0, m, np.inf).astype(np.float32)
-
-
-def write_pfm(path, a):
-    h, w = a.shape
-    tmp = path + ".tmp"
-    with open(tmp, "wb") as f:
-        f.write(b"Pf\n%d %d\n-1.0\n" % (w, h))
-        f.write(np.ascontiguousarray(a[::-1], dtype="<f4").tobytes())
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(tmp, path)
 
 
 def main():

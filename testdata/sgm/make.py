@@ -26,37 +26,20 @@ Run from the repository root: /usr/bin/python3 testdata/sgm/make.py
 """
 import json
 import os
+import sys
 
 import cv2
 import numpy as np
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(os.path.dirname(HERE))
+sys.path.insert(0, os.path.join(HERE, ".."))
+from pfm import read_pfm, write_pfm  # noqa: E402  (the PFM reader and writer of every fixture script)
 
 BLOCK = 3
 PARAMS = dict(minDisparity=0, blockSize=BLOCK, P1=8 * 3 * BLOCK * BLOCK, P2=32 * 3 * BLOCK * BLOCK,
               disp12MaxDiff=1, uniquenessRatio=5, speckleWindowSize=100, speckleRange=2,
               mode=cv2.STEREO_SGBM_MODE_SGBM_3WAY)
-
-
-def read_pfm(path):
-    with open(path, "rb") as f:
-        assert f.readline().strip() == b"Pf"
-        w, h = map(int, f.readline().split())
-        scale = float(f.readline())
-        a = np.frombuffer(f.read(), dtype="<f4" if scale < 0 else ">f4").reshape(h, w)
-    return a[::-1].astype(np.float32)
-
-
-def write_pfm(path, a):
-    h, w = a.shape
-    tmp = path + ".tmp"
-    with open(tmp, "wb") as f:
-        f.write(b"Pf\n%d %d\n-1.0\n" % (w, h))
-        f.write(np.ascontiguousarray(a[::-1], dtype="<f4").tobytes())
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(tmp, path)
 
 
 def fill(d, valid):
