@@ -6,9 +6,7 @@ import (
 	"fmt"
 	"image"
 	"image/color"
-	"image/png"
 	"math"
-	"os"
 	"os/exec"
 	"path/filepath"
 	"strings"
@@ -17,6 +15,7 @@ import (
 	"time"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/model/demo"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/warp"
@@ -381,22 +380,7 @@ func TestLRConfidenceHand(t *testing.T) {
 // estimates d_L; mirror(d_R) does not fit.
 func TestFlipRolesOnSyntheticPair(t *testing.T) {
 	dir := filepath.Join("..", "testdata", "synth", "greenhouse")
-	load := func(p string) *planar.Image {
-		f, err := os.Open(filepath.Join(dir, p))
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer f.Close()
-		img, err := png.Decode(f)
-		if err != nil {
-			t.Fatal(err)
-		}
-		im, err := planar.FromImage(img)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return im
-	}
+	load := func(p string) *planar.Image { return testutil.Planar(t, filepath.Join(dir, p)) }
 	pfm := func(p string, w int) *planar.Image {
 		pix, pw, ph, _, err := depth.LoadPFM(filepath.Join(dir, p))
 		if err != nil {

@@ -25,6 +25,36 @@ func quantize(t *testing.T, m *planar.Image) *planar.Image {
 type photometric struct {
 	mean, p95, interiorMean float64
 	n, interior             int
+	errs                    []float64
+	interiorSum             float64
+}
+
+// add counts the error e of one pixel, smooth if its disparity is smooth
+// around it (smoothAround).
+func (st *photometric) add(e float64, smooth bool) {
+	st.errs = append(st.errs, e)
+	st.mean += e
+	if smooth {
+		st.interiorSum += e
+		st.interior++
+	}
+}
+
+// done turns the sums into the statistics; no pixel is a fatal error
+// (none is what).
+func (st *photometric) done(t *testing.T, none string) photometric {
+	t.Helper()
+	st.n = len(st.errs)
+	if st.n == 0 {
+		t.Fatal(none)
+	}
+	st.mean /= float64(st.n)
+	if st.interior > 0 {
+		st.interiorMean = st.interiorSum / float64(st.interior)
+	}
+	sort.Float64s(st.errs)
+	st.p95 = st.errs[int(0.95*float64(len(st.errs)-1))]
+	return *st
 }
 
 func rebuildError(t *testing.T, p *Pair, dispShiftPx float32) photometric {
@@ -40,9 +70,7 @@ func rebuildError(t *testing.T, p *Pair, dispShiftPx float32) photometric {
 	}
 	w, h := p.Rig.Width, p.Rig.Height
 	plane := w * h
-	var errs []float64
 	var st photometric
-	var interiorSum float64
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
@@ -53,26 +81,10 @@ func rebuildError(t *testing.T, p *Pair, dispShiftPx float32) photometric {
 			for c := 0; c < 3; c++ {
 				e += math.Abs(float64(rebuilt.Pix[c*plane+i] - left.Pix[c*plane+i]))
 			}
-			e /= 3
-			errs = append(errs, e)
-			st.mean += e
-			if smoothAround(p, x, y, 0.25) {
-				interiorSum += e
-				st.interior++
-			}
+			st.add(e/3, smoothAround(p, x, y, 0.25))
 		}
 	}
-	st.n = len(errs)
-	if st.n == 0 {
-		t.Fatal("no visible pixels")
-	}
-	st.mean /= float64(st.n)
-	if st.interior > 0 {
-		st.interiorMean = interiorSum / float64(st.interior)
-	}
-	sort.Float64s(errs)
-	st.p95 = errs[int(0.95*float64(len(errs)-1))]
-	return st
+	return st.done(t, "no visible pixels")
 }
 
 // smoothAround reports whether the left disparity within one pixel of

@@ -120,8 +120,6 @@ func rebuild2D(t *testing.T, p *Pair, rowShift float64, gainRatio [3]float64, di
 	w, h := p.Rig.Width, p.Rig.Height
 	plane := w * h
 	var st photometric
-	var errs []float64
-	var interiorSum float64
 	const lo, hi = 1.0 / 255, 254.0 / 255
 	for y := 0; y < h; y++ {
 		ys := float64(y) + rowShift
@@ -156,26 +154,10 @@ func rebuild2D(t *testing.T, p *Pair, rowShift float64, gainRatio [3]float64, di
 			if clipped {
 				continue
 			}
-			e /= 3
-			errs = append(errs, e)
-			st.mean += e
-			if smoothAround(p, x, y, 0.25) {
-				interiorSum += e
-				st.interior++
-			}
+			st.add(e/3, smoothAround(p, x, y, 0.25))
 		}
 	}
-	st.n = len(errs)
-	if st.n == 0 {
-		t.Fatal("no pixels compared")
-	}
-	st.mean /= float64(st.n)
-	if st.interior > 0 {
-		st.interiorMean = interiorSum / float64(st.interior)
-	}
-	sort.Float64s(errs)
-	st.p95 = errs[int(0.95*float64(len(errs)-1))]
-	return st
+	return st.done(t, "no pixels compared")
 }
 
 var noGain = [3]float64{1, 1, 1}

@@ -2,34 +2,16 @@ package warp_test
 
 import (
 	"encoding/json"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/warp"
 )
-
-func loadPNG(t *testing.T, path string) *planar.Image {
-	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	im, err := planar.FromImage(img)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return im
-}
 
 // TestMotorcycleGroundTruth warps the right view of the Middlebury 2014
 // Motorcycle pair (Scharstein et al., GCPR 2014; as shipped by Debian
@@ -79,8 +61,8 @@ func TestMotorcycleGroundTruth(t *testing.T) {
 // view at least opposite times worse than the ground truth.
 func checkGroundTruth(t *testing.T, dir string, opposite float64) (errs []float64, cnt int, scales []float32) {
 	t.Helper()
-	left := loadPNG(t, filepath.Join(dir, "left.png"))
-	right := loadPNG(t, filepath.Join(dir, "right.png"))
+	left := testutil.Planar(t, filepath.Join(dir, "left.png"))
+	right := testutil.Planar(t, filepath.Join(dir, "right.png"))
 	f, err := os.Open(filepath.Join(dir, "disp_left.pfm"))
 	if err != nil {
 		t.Fatal(err)

@@ -1,11 +1,10 @@
 package train
 
 import (
-	"image/png"
-	"os"
 	"path/filepath"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/planar"
@@ -15,19 +14,7 @@ import (
 // loss.Downsample2) so that the test network is small.
 func loadHalf(t testing.TB, parts ...string) *planar.Image {
 	t.Helper()
-	f, err := os.Open(filepath.Join(append([]string{"..", "..", "testdata", "synth"}, parts...)...))
-	if err != nil {
-		t.Skipf("synthetic pair not available: %v", err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	full, err := planar.FromImage(img)
-	if err != nil {
-		t.Fatal(err)
-	}
+	full := testutil.Planar(t, filepath.Join(append([]string{"..", "..", "testdata", "synth"}, parts...)...))
 	half := planar.New(full.N, full.C, full.H/2, full.W/2)
 	loss.Downsample2(half.Pix, full.Pix, loss.Shape{N: full.N, C: full.C, H: full.H, W: full.W})
 	return half
