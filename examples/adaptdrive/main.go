@@ -10,6 +10,13 @@
 // frame loop (reproducible: the same flags give the same figures); with
 // the default 0 it runs in the background at -rate steps per second, as
 // on a robot, and the figures depend on the machine's speed.
+//
+// -fps paces the frame loop like a camera; -duration plays the drive over
+// and over until that much time has passed, and -rss-log appends the
+// process's resident memory to a file once a minute (the long-run memory
+// measurement of issue 14):
+//
+//	nice -n 10 go run ./examples/adaptdrive -duration 30m -fps 10 -rss-log rss.csv > drive.txt
 package main
 
 import (
@@ -21,6 +28,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"time"
 
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
@@ -50,14 +58,17 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	rate := fs.Float64("rate", 2, "adaptation steps per second in the background")
 	perFrame := fs.Int("steps-per-frame", 0, "adaptation steps after each frame in the frame loop instead of the background (0: background)")
 	lr := fs.Float64("lr", 0, "adaptation learning rate (0: the adapter's default)")
+	fps := fs.Float64("fps", 0, "frames per second of the frame loop, as a camera delivers them (0: as fast as the loop runs)")
+	duration := fs.Duration("duration", 0, "play the drive over and over until this much time has passed (0: once)")
+	rssLog := fs.String("rss-log", "", "append the resident memory (MB) to this CSV file at the start, once a minute and at the end")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
 	if fs.NArg() != 0 {
 		return fmt.Errorf("adaptdrive: unexpected arguments %q", fs.Args())
 	}
-	if *block < 1 || *perFrame < 0 {
-		return errors.New("adaptdrive: -block must be positive and -steps-per-frame not negative")
+	if *block < 1 || *perFrame < 0 || *fps < 0 || *duration < 0 {
+		return errors.New("adaptdrive: -block must be positive and -steps-per-frame, -fps and -duration not negative")
 	}
 	ls, err := synth.ParseLegs(*legs)
 	if err != nil {
@@ -95,10 +106,47 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	}
 	defer func() { cancel(); <-done }()
 
-	fmt.Fprintf(stdout, "%-8s %-10s %12s %12s %6s %8s\n", "frames", "style", "EPE fixed", "EPE adapted", "swaps", "refused")
+	timeCol := func(string) string { return "" } // the elapsed time, only for runs of a set -duration
+	if *duration > 0 {
+		timeCol = func(s string) string { return fmt.Sprintf("%8s ", s) }
+	}
+	fmt.Fprintf(stdout, "%s%-8s %-10s %12s %12s %6s %8s\n", timeCol("time_s"), "frames", "style", "EPE fixed", "EPE adapted", "swaps", "refused")
+	var mem *rssLogger
+	if *rssLog != "" {
+		if mem, err = newRSSLogger(*rssLog, time.Minute); err != nil {
+			return err
+		}
+		defer mem.Close()
+	}
+	status := func() (int, int, int) { s := ad.Status(); return s.Steps, s.Swaps, s.Rollbacks }
 	var sumFixed, sumLive float64
 	n := 0
-	for f := range d.Frames() {
+	began := time.Now()
+	var interval time.Duration
+	if *fps > 0 {
+		interval = time.Duration(float64(time.Second) / *fps)
+	}
+	next := began
+	frames := d.Frames()
+	for i := 0; ; i++ {
+		f := i % frames
+		if (*duration == 0 && i == frames) || (*duration > 0 && time.Since(began) >= *duration) || ctx.Err() != nil {
+			break
+		}
+		if interval > 0 {
+			if wait := time.Until(next); wait > 0 {
+				time.Sleep(wait)
+			}
+			next = next.Add(interval)
+			if now := time.Now(); next.Before(now) {
+				next = now // a slow frame: no burst to catch up
+			}
+		}
+		if mem != nil {
+			if err := mem.Tick(i, status); err != nil {
+				return err
+			}
+		}
 		p, err := synth.GenerateFrame(d, f, &synth.Options{Width: *width, Height: *height, Samples: *samples})
 		if err != nil {
 			return err
@@ -125,11 +173,16 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 			}
 		}
 		sumFixed, sumLive, n = sumFixed+ef, sumLive+el, n+1
-		if n == *block || f == d.Frames()-1 {
+		if n == *block || f == frames-1 {
 			leg, _, _ := d.Leg(f)
 			s := ad.Status()
-			fmt.Fprintf(stdout, "%-8s %-10s %12.3f %12.3f %6d %8d\n", fmt.Sprintf("%d-%d", f+1-n, f), ls[leg].Style, sumFixed/float64(n), sumLive/float64(n), s.Swaps, s.Refused)
+			fmt.Fprintf(stdout, "%s%-8s %-10s %12.3f %12.3f %6d %8d\n", timeCol(fmt.Sprintf("%.0f", time.Since(began).Seconds())), fmt.Sprintf("%d-%d", f+1-n, f), ls[leg].Style, sumFixed/float64(n), sumLive/float64(n), s.Swaps, s.Refused)
 			sumFixed, sumLive, n = 0, 0, 0
+		}
+	}
+	if mem != nil {
+		if err := mem.Final(status); err != nil {
+			return err
 		}
 	}
 	if s := ad.Status(); s.Paused {
