@@ -7,15 +7,13 @@ import (
 	"math"
 	"strconv"
 
-	"golang.org/x/image/font"
-	"golang.org/x/image/font/basicfont"
-	"golang.org/x/image/math/fixed"
+	"github.com/parallaxdepth/parallax/internal/label"
 )
 
 // The colour maps of this package carry a scale bar: a band of
 // ScaleBarHeight pixels under the map with the colour ramp, tick values and
-// the unit, drawn with the 7×13 bitmap face of golang.org/x/image/font/
-// basicfont (public-domain X11 misc-fixed). ColorOptions.NoScaleBar leaves
+// the unit, drawn by internal/label (the 7×13 bitmap face of
+// golang.org/x/image/font/basicfont, public-domain X11 misc-fixed). ColorOptions.NoScaleBar leaves
 // it out, so the image has the map's bounds.
 
 // ScaleBarHeight is the height in pixels of the band a scale bar adds under
@@ -58,8 +56,7 @@ func withScaleBar(img *image.NRGBA, s scaleBar) *image.NRGBA {
 	draw.Draw(out, r, img, r.Min, draw.Src)
 	band := image.Rect(r.Min.X, r.Max.Y, r.Max.X, r.Max.Y+ScaleBarHeight)
 	draw.Draw(out, band, image.NewUniform(color.NRGBA{32, 32, 32, 255}), image.Point{}, draw.Src)
-	face := basicfont.Face7x13
-	unitW := font.MeasureString(face, s.unit).Ceil()
+	unitW := label.Width(s.unit)
 	x0, x1 := r.Min.X+6, r.Max.X-10-unitW // the ramp, leaving room for the unit
 	if x1-x0 < 24 {
 		x1 = r.Max.X - 6
@@ -71,20 +68,7 @@ func withScaleBar(img *image.NRGBA, s scaleBar) *image.NRGBA {
 			out.SetNRGBA(x, y, c)
 		}
 	}
-	white := image.NewUniform(color.NRGBA{255, 255, 255, 255})
-	d := &font.Drawer{Dst: out, Src: white, Face: face}
-	text := func(s string, cx, baseline int, align int) {
-		w := font.MeasureString(face, s).Ceil()
-		x := cx - w/2
-		switch {
-		case align < 0:
-			x = cx
-		case align > 0:
-			x = cx - w
-		}
-		d.Dot = fixed.P(x, baseline)
-		d.DrawString(s)
-	}
+	white := color.NRGBA{255, 255, 255, 255}
 	ticks := min(5, max(2, (x1-x0)/56+1))
 	labels := make([]float64, ticks)
 	for i := range labels {
@@ -97,16 +81,16 @@ func withScaleBar(img *image.NRGBA, s scaleBar) *image.NRGBA {
 		for y := rampTop + 8; y < rampTop+11; y++ {
 			out.SetNRGBA(x, y, color.NRGBA{255, 255, 255, 255})
 		}
-		align := 0
+		align := label.Center
 		if i == 0 {
-			align = -1
+			align = label.Left
 		} else if i == ticks-1 {
-			align = 1
+			align = label.Right
 		}
-		text(strconv.FormatFloat(v, 'f', prec, 64), x, baseline, align)
+		label.Draw(out, strconv.FormatFloat(v, 'f', prec, 64), x, baseline, align, white)
 	}
 	if s.unit != "" {
-		text(s.unit, r.Max.X-4, baseline, 1)
+		label.Draw(out, s.unit, r.Max.X-4, baseline, label.Right, white)
 	}
 	return out
 }
