@@ -95,6 +95,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return fmt.Errorf("finetune: %w", err)
 	}
+	opt.Validation = valSet // their objective, as points on the loss curve
 	bar := progress.New(stderr, opt.Steps, &progress.Options{Unit: "steps", Mode: map[bool]progress.Mode{true: progress.Off}[*quiet]})
 	job := &train.Job{
 		Start:   train.Start{Resume: *resume, Weights: *weights, Scratch: *scratch, Seed: opt.Seed, Rig: ds.Rig, Stereo: *stereo},

@@ -83,7 +83,7 @@ type Job struct {
 	Augment *data.Augment
 	// Options configure the Trainer; CheckpointPath is set to
 	// Files.Checkpoint, and Progress is called after each step's log row
-	// is added.
+	// is added. The log and the loss curve are saved at every checkpoint.
 	Options TrainerOptions
 	// CheckpointMilestones, when resuming, replaces
 	// Options.Schedule.Milestones by the checkpoint's.
@@ -160,7 +160,7 @@ func (j *Job) Open() error {
 	if err := j.Files.CheckSpace(j.Weights); err != nil {
 		return err
 	}
-	j.Log = StepLog{Path: j.Files.Log}
+	j.Log = StepLog{Path: j.Files.Log, Plot: j.Files.Plot}
 	if j.Checkpoint != nil {
 		return j.Log.Load(j.Checkpoint.Step)
 	}
@@ -207,7 +207,7 @@ func (j *Job) Run(ctx context.Context) (*JobResult, error) {
 		return nil, errors.Join(err, j.Log.Save())
 	}
 	out := &JobResult{RunResult: *res, Weights: tr.Weights(), Steps: res.Step - startStep, Took: time.Since(began)}
-	if err := errors.Join(j.Log.Save(), j.Log.SavePlot(j.Files.Plot)); err != nil {
+	if err := j.Log.Save(); err != nil { // and the plot
 		return nil, err
 	}
 	info := j.Info

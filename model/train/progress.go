@@ -49,6 +49,12 @@ type Progress struct {
 	// learning rate and of saturated heads.
 	Collapsed bool
 
+	// Validated is set on the steps at which the held-out pairs
+	// (TrainerOptions.Validation) were scored, after this step's update;
+	// Validation is their mean weighted loss terms then.
+	Validated  bool
+	Validation loss.Terms
+
 	// Checkpoint is the path of the checkpoint written after this step, or
 	// "".
 	Checkpoint string

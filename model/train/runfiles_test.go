@@ -1,7 +1,12 @@
 package train
 
 import (
+	"bytes"
 	"errors"
+	"image"
+	"image/color"
+	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -160,5 +165,105 @@ func TestStepLog(t *testing.T) {
 	}
 	if b, err := os.ReadFile(png); err != nil || string(b[1:4]) != "PNG" {
 		t.Errorf("plot: %v", err)
+	}
+}
+
+// TestLossCurve: the curve of a log whose total is 0.1 for 50 steps and
+// then 0.01 (the other terms 0.02 and 0.002) decodes as an 800×450 PNG,
+// with the total's smoothed line at the row where 0.1 maps on the chart's
+// logarithmic axis (computed here from the axis's definition) and the
+// held-out point where its value maps; the CSV keeps the held-out column
+// and reads back, and a log of the older 14 columns still loads.
+func TestLossCurve(t *testing.T) {
+	dir := t.TempDir()
+	l := &StepLog{Path: filepath.Join(dir, "log.csv"), Plot: filepath.Join(dir, "loss.png")}
+	for s := 1; s <= 100; s++ {
+		tot := map[bool]float64{true: 0.1, false: 0.01}[s <= 50]
+		p := Progress{Step: s, Steps: 100, Terms: loss.Terms{Appearance: tot / 2, Smoothness: 0.002, Consistency: 0.02, Total: tot}}
+		if s == 100 {
+			p.Validated, p.Validation = true, loss.Terms{Total: 0.03}
+		}
+		l.Add(p)
+	}
+	if err := l.Save(); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(l.Plot)
+	if err != nil {
+		t.Fatal(err)
+	}
+	img, err := png.Decode(bytes.NewReader(b))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if img.Bounds() != image.Rect(0, 0, 800, 450) {
+		t.Fatalf("size %v", img.Bounds())
+	}
+	c, err := l.Chart()
+	if err != nil {
+		t.Fatal(err)
+	}
+	lay, err := c.Layout()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !lay.LogY || lay.Y0 > 0.002 || lay.Y1 < 0.1 {
+		t.Fatalf("axis %+v: want a log axis covering 0.002 … 0.1", lay)
+	}
+	a := lay.Area
+	row := func(v float64) int {
+		f := (math.Log10(v) - math.Log10(lay.Y0)) / (math.Log10(lay.Y1) - math.Log10(lay.Y0))
+		return a.Max.Y - 1 - int(math.Round(f*float64(a.Dy()-1)))
+	}
+	col := func(step float64) int { // steps 1 … 100 span the area
+		return a.Min.X + int(math.Round((step-1)/99*float64(a.Dx()-1)))
+	}
+	at := func(x, y int, want color.NRGBA) bool {
+		for dy := -1; dy <= 1; dy++ {
+			for dx := -1; dx <= 1; dx++ {
+				if color.NRGBAModel.Convert(img.At(x+dx, y+dy)) == want {
+					return true
+				}
+			}
+		}
+		return false
+	}
+	total := plotTerms[0].col
+	if !at(col(25), row(0.1), total) {
+		t.Errorf("no total line at step 25, value 0.1 (pixel %d, %d)", col(25), row(0.1))
+	}
+	if at(col(25), a.Max.Y-1-int(math.Round((0.1-lay.Y0)/(lay.Y1-lay.Y0)*float64(a.Dy()-1))), total) {
+		t.Error("total line where 0.1 maps on a linear axis")
+	}
+	if !at(col(100), row(0.03), valColor) {
+		t.Errorf("no held-out point at step 100, value 0.03")
+	}
+	back := &StepLog{Path: l.Path}
+	if err := back.Load(math.MaxInt); err != nil || back.Len() != 100 || back.rows[99].val != 0.03 || !math.IsNaN(back.rows[0].val) {
+		t.Fatalf("read back: %v, %d rows", err, back.Len())
+	}
+	old := filepath.Join(dir, "old.csv")
+	if err := os.WriteFile(old, []byte(strings.Join(logHeader[:oldLogFields], ",")+"\n1,0,0,0.001,0.2,0.002,0.004,0.206,0,0.04,3.3,1.2,4.9,0.8\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := PlotLog(old, filepath.Join(dir, "old.png")); err != nil {
+		t.Errorf("a 14-column log: %v", err)
+	}
+	if err := PlotLog(filepath.Join(dir, "missing.csv"), filepath.Join(dir, "x.png")); err == nil {
+		t.Error("a missing log was plotted")
+	}
+}
+
+// MovingAverage against values worked by hand: τ = 2, s = 1, 1 + (2−1)/2,
+// the same past the NaN, 1.5 + (4−1.5)/2.
+func TestMovingAverage(t *testing.T) {
+	got := MovingAverage([]float64{1, 2, math.NaN(), 4}, 2)
+	for i, w := range []float64{1, 1.5, 1.5, 2.75} {
+		if got[i] != w {
+			t.Errorf("s[%d] = %v, want %v", i, got[i], w)
+		}
+	}
+	if SmoothingSteps(100) != 5 || SmoothingSteps(20000) != 200 {
+		t.Errorf("SmoothingSteps: %d, %d", SmoothingSteps(100), SmoothingSteps(20000))
 	}
 }

@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
 	"github.com/parallaxdepth/parallax/model/evaluation"
@@ -538,5 +539,73 @@ func TestDataErrorWritesCheckpoint(t *testing.T) {
 				t.Fatalf("%s[%d]: checkpoint %v, trainer %v", name, i, c.Weights.Params[name][i], v[i])
 			}
 		}
+	}
+}
+
+// Scoring held-out pairs (TrainerOptions.Validation) reports their terms
+// at every ValidationEvery steps and after the last step, and changes
+// nothing of the training: the weights end the same bits as a run
+// without it. The held-out terms are those of Session.Forward on the same
+// resized pairs, recomputed here with a separate session.
+func TestValidationScores(t *testing.T) {
+	ds := openSynth(t, "greenhouse")
+	const steps = 5
+	src := func() Source {
+		s, err := NewDatasetSource(ds, trainerConfig, 1, 5, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return s
+	}
+	plain := newTestTrainer(t, freshWeights(t, 9), src(), TrainerOptions{Steps: steps, Batch: 1, Seed: 5})
+	if _, err := plain.Run(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	var at []int
+	var last loss.Terms
+	opt := TrainerOptions{Steps: steps, Batch: 1, Seed: 5, Validation: ds, ValidationEvery: 2, ValidationBatches: 2,
+		Progress: func(p Progress) {
+			if p.Validated {
+				at, last = append(at, p.Step), p.Validation
+			}
+		}}
+	scored := newTestTrainer(t, freshWeights(t, 9), src(), opt)
+	if _, err := scored.Run(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+	if fmt.Sprint(at) != "[2 4 5]" {
+		t.Errorf("validated at steps %v, want [2 4 5]", at)
+	}
+	a, b := plain.Weights(), scored.Weights()
+	for name, v := range a.Params {
+		for i := range v {
+			if math.Float32bits(v[i]) != math.Float32bits(b.Params[name][i]) {
+				t.Fatalf("parameter %s[%d]: %v without validation, %v with", name, i, v[i], b.Params[name][i])
+			}
+		}
+	}
+	// The same two batches, scored by a fresh session holding the final weights.
+	sess, err := NewSession(b, 1, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer sess.Close()
+	it := src().Epoch(context.Background(), 0)
+	defer it.Close()
+	var want float64
+	for range 2 {
+		bt, err := it.Next()
+		if err != nil {
+			t.Fatal(err)
+		}
+		tm, err := sess.Forward(bt.Left, bt.Right)
+		sess.ClearGradients()
+		if err != nil {
+			t.Fatal(err)
+		}
+		want += tm.Total / 2
+	}
+	if math.Abs(last.Total-want) > 1e-9*want || !(want > 0) {
+		t.Errorf("held-out total %v, recomputed %v", last.Total, want)
 	}
 }
