@@ -1,16 +1,15 @@
 package model
 
 import (
-	"bytes"
 	"encoding/json"
 	"flag"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden files in testdata/model")
@@ -161,20 +160,8 @@ func TestTinyArchGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got = append(got, '\n')
-	path := filepath.Join("..", "testdata", "model", "tiny_arch.json")
-	if *update {
-		if err := os.WriteFile(path, got, 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Fatalf("%s is stale: rerun go test -run TestTinyArchGolden -update and testdata/model/gen_st.py", path)
-	}
+	testutil.Golden(t, filepath.Join("..", "testdata", "model", "tiny_arch.json"), append(got, '\n'), *update,
+		"go test -run TestTinyArchGolden -update and testdata/model/gen_st.py")
 }
 
 func TestDMaxFromRig(t *testing.T) {

@@ -1,10 +1,10 @@
 package model
 
 import (
-	"bytes"
 	"encoding/binary"
 	"encoding/json"
 	"flag"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/safetensors"
 	"math"
 	"os"
@@ -70,14 +70,8 @@ func TestTorchInterchange(t *testing.T) {
 	}
 	// The committed inputs must be what this code produces, or the
 	// fixture belongs to another network.
-	for name, want := range map[string][]byte{"default_arch.json": append(archJSON, '\n'), "input_u8.bin": u8} {
-		got, err := os.ReadFile(filepath.Join(dir, name))
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(got, want) {
-			t.Fatalf("testdata/infer/%s is stale: rerun with -update-interchange and the script", name)
-		}
+	for name, b := range map[string][]byte{"default_arch.json": append(archJSON, '\n'), "input_u8.bin": u8} {
+		testutil.Golden(t, filepath.Join(dir, name), b, false, "with -update-interchange and the script")
 	}
 	fw, err := Load(filepath.Join(dir, "weights_f16.safetensors"))
 	if err != nil {

@@ -1,9 +1,10 @@
 // Package testutil holds what the tests of several packages share: reading
-// the committed image fixtures. It is imported by tests only, and imports
+// the committed image fixtures and comparing golden files. It is imported by tests only, and imports
 // only package planar of ours, so any package above planar can use it.
 package testutil
 
 import (
+	"bytes"
 	"image"
 	"image/png"
 	"os"
@@ -36,4 +37,23 @@ func Planar(t testing.TB, path string) *planar.Image {
 		t.Fatalf("%s: %v", path, err)
 	}
 	return im
+}
+
+// Golden compares got with the committed file at path, failing t with
+// "PATH is stale: rerun" and the hint if they differ; with update it first
+// writes got to path.
+func Golden(t testing.TB, path string, got []byte, update bool, rerun string) {
+	t.Helper()
+	if update {
+		if err := os.WriteFile(path, got, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got, want) {
+		t.Fatalf("%s is stale: rerun %s", path, rerun)
+	}
 }

@@ -1,6 +1,7 @@
 package testutil
 
 import (
+	"fmt"
 	"image"
 	"image/color"
 	"image/png"
@@ -30,5 +31,26 @@ func TestPlanar(t *testing.T) {
 		if d := im.Pix[i] - v; d > 1e-6 || d < -1e-6 {
 			t.Errorf("pix[%d] = %v, want %v", i, im.Pix[i], v)
 		}
+	}
+}
+
+// fatalRecorder records Fatalf instead of stopping the test.
+type fatalRecorder struct {
+	testing.TB
+	msg string
+}
+
+func (f *fatalRecorder) Fatalf(format string, args ...any) { f.msg = fmt.Sprintf(format, args...) }
+
+// TestGolden: -update writes the file, an equal file passes, a different
+// one fails naming the file and the hint.
+func TestGolden(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "g.json")
+	Golden(t, p, []byte("one\n"), true, "-update")
+	Golden(t, p, []byte("one\n"), false, "-update")
+	r := &fatalRecorder{TB: t}
+	Golden(r, p, []byte("two\n"), false, "-update")
+	if want := p + " is stale: rerun -update"; r.msg != want {
+		t.Errorf("message %q, want %q", r.msg, want)
 	}
 }

@@ -1,13 +1,12 @@
 package train
 
 import (
-	"bytes"
 	"encoding/json"
 	"flag"
-	"os"
 	"path/filepath"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -26,18 +25,6 @@ func TestDefaultArchFile(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got = append(got, '\n')
-	path := filepath.Join("..", "..", "testdata", "train", "default_arch.json")
-	if *updateArch {
-		if err := os.WriteFile(path, got, 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Fatalf("%s is stale: rerun go test ./model/train -run TestDefaultArchFile -update-arch", path)
-	}
+	testutil.Golden(t, filepath.Join("..", "..", "testdata", "train", "default_arch.json"), append(got, '\n'), *updateArch,
+		"go test ./model/train -run TestDefaultArchFile -update-arch")
 }
