@@ -18,14 +18,7 @@ import (
 // Depth is unaffected by the hole rule.
 func TestHolesNumpy(t *testing.T) {
 	ref := loadReference(t)
-	set, err := dataset.Open(filepath.Join(fixtures, "set"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var names []string
-	for _, p := range set.Pairs {
-		names = append(names, p.Name)
-	}
+	set, names := fixtureSet(t)
 	for _, h := range []Holes{HolesZero, HolesFilled} {
 		rep, err := ScoreMethod(context.Background(), &fileEstimator{names: names}, set, &ScoreOptions{Holes: h, Workers: 2})
 		if err != nil {
@@ -85,11 +78,7 @@ func TestSGMMethod(t *testing.T) {
 // scoring under each rule alone (the numpy-checked path), with one
 // estimate per pair.
 func TestScoreRules(t *testing.T) {
-	set, err := dataset.Open(filepath.Join(fixtures, "set"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	names := []string{"a", "b", "c", "d"}
+	set, names := fixtureSet(t)
 	est := &fileEstimator{names: names}
 	reps, err := ScoreRules(context.Background(), est, set, &ScoreOptions{Workers: 3}, HolesFilled, HolesZero, HolesExcluded)
 	if err != nil {

@@ -91,6 +91,21 @@ type reference struct {
 	EmptyDepth          []string   `json:"empty_depth"`
 }
 
+// fixtureSet opens the data set of testdata/evaluation and returns it with
+// its pair names, in order.
+func fixtureSet(t *testing.T) (*dataset.Set, []string) {
+	t.Helper()
+	set, err := dataset.Open(filepath.Join(fixtures, "set"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, p := range set.Pairs {
+		names = append(names, p.Name)
+	}
+	return set, names
+}
+
 func loadReference(t *testing.T) *reference {
 	t.Helper()
 	b, err := os.ReadFile(filepath.Join(fixtures, "reference.json"))
@@ -145,14 +160,7 @@ func checkDepth(t *testing.T, what string, got depth.DepthMetrics, want refMetri
 // out of the means. The result must not depend on the number of workers.
 func TestScoreNumpy(t *testing.T) {
 	ref := loadReference(t)
-	set, err := dataset.Open(filepath.Join(fixtures, "set"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var names []string
-	for _, p := range set.Pairs {
-		names = append(names, p.Name)
-	}
+	set, names := fixtureSet(t)
 	for _, workers := range []int{1, 3} {
 		est := &fileEstimator{names: names}
 		var done []int
@@ -200,10 +208,7 @@ func TestScoreNumpy(t *testing.T) {
 // TestScoreErrors: bad sets, options and files give errors naming the
 // problem; an error of Inspect stops Score.
 func TestScoreErrors(t *testing.T) {
-	set, err := dataset.Open(filepath.Join(fixtures, "set"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	set, names := fixtureSet(t)
 	noTruth := &dataset.Set{Dir: "x", Pairs: set.Pairs, Rig: set.Rig}
 	unrigged := slices.Clone(set.Pairs)
 	for i := range unrigged {
@@ -229,7 +234,7 @@ func TestScoreErrors(t *testing.T) {
 		t.Errorf("Scorable of depth truth without a rig: %v, %v", d, z)
 	}
 	stop := fmt.Errorf("stop here")
-	_, err = score(context.Background(), &fileEstimator{names: []string{"a", "b", "c", "d"}}, set, &ScoreOptions{Workers: 1,
+	_, err := score(context.Background(), &fileEstimator{names: names}, set, &ScoreOptions{Workers: 1,
 		Inspect: func(*PairScore, *model.Estimate, *dataset.Record) error { return stop }})
 	if err != stop {
 		t.Errorf("Inspect's error: %v", err)

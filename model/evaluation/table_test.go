@@ -4,12 +4,9 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
-
-	"github.com/parallaxdepth/parallax/dataset"
 )
 
 // TestTables: the CSV of two phases parses with encoding/csv as one table
@@ -19,11 +16,7 @@ import (
 // measure.
 func TestTables(t *testing.T) {
 	ref := loadReference(t)
-	set, err := dataset.Open(filepath.Join(fixtures, "set"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	names := []string{"a", "b", "c", "d"}
+	set, names := fixtureSet(t)
 	reps, err := ScoreRules(context.Background(), &fileEstimator{names: names}, set, nil, HolesZero, HolesFilled)
 	if err != nil {
 		t.Fatal(err)
