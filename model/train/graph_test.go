@@ -26,16 +26,8 @@ func randomImage(rng *rand.Rand, n, c, h, w int) *planar.Image {
 // values may differ by float rounding).
 func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 	const batch = 2
-	w, err := model.NewWeights(tinyConfig, 11)
-	if err != nil {
-		t.Fatal(err)
-	}
 	rng := rand.New(rand.NewPCG(3, 4))
-	for _, v := range w.Params { // non-zero biases too
-		for i := range v {
-			v[i] += float32(0.05 * rng.NormFloat64())
-		}
-	}
+	w := perturbedWeights(t, tinyConfig, 11, rng)
 	img := randomImage(rng, batch, 3, 64, 64)
 	ref, err := model.NewInspectNet(w, batch)
 	if err != nil {
@@ -46,14 +38,7 @@ func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 		t.Fatal(err)
 	}
 
-	g := G.NewGraph()
-	net, err := buildNetwork(g, ref.Arch(), batch)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := net.SetWeights(w); err != nil {
-		t.Fatal(err)
-	}
+	g, net := weightedNetwork(t, ref.Arch(), batch, w)
 	if err := net.SetInput(img); err != nil {
 		t.Fatal(err)
 	}
@@ -67,14 +52,7 @@ func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 	if err := vm.RunAll(); err != nil {
 		t.Fatal(err)
 	}
-	for s := range model.Scales {
-		got := net.Outputs[s].Value().Data().([]float32)
-		if d := maxDiff(got, want[s].Pix); d > 1e-5 {
-			t.Errorf("scale %d: max |graph − model.Net| = %g, want ≤ 1e-5", s, d)
-		} else {
-			t.Logf("scale %d: max |graph − model.Net| = %.3g", s, d)
-		}
-	}
+	checkScales(t, net, want)
 	// Intermediate tensors agree too.
 	for _, name := range []string{"enc1a", "enc5b", "dec4.cat", "dec0"} {
 		got := net.Node(name).Value().Data().([]float32)
@@ -87,6 +65,55 @@ func TestNetworkMatchesGraphFreeForward(t *testing.T) {
 // The training graph's disparities (the objective's copies) equal the
 // graph-free forward's, and the whole network's parameter gradients match
 // finite differences of the objective on a few sampled parameters.
+// perturbedWeights returns fresh weights of c (seed) with every parameter,
+// biases too, moved by a normal draw of rng (σ 0.05), so that no layer
+// passes zeros on.
+func perturbedWeights(t *testing.T, c model.Config, seed uint64, rng *rand.Rand) *model.Weights {
+	t.Helper()
+	w, err := model.NewWeights(c, seed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Arch == model.StereoArchName {
+		PrepareHeads(w)
+	}
+	for _, v := range w.Params {
+		for i := range v {
+			v[i] += float32(0.05 * rng.NormFloat64())
+		}
+	}
+	return w
+}
+
+// weightedNetwork builds the graph of a for batch and sets the weights w.
+func weightedNetwork(t *testing.T, a *model.Arch, batch int, w *model.Weights) (*G.ExprGraph, *network) {
+	t.Helper()
+	g := G.NewGraph()
+	net, err := buildNetwork(g, a, batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := net.SetWeights(w); err != nil {
+		t.Fatal(err)
+	}
+	return g, net
+}
+
+// checkScales compares the graph's disparity at every scale, after a run,
+// with the graph-free forward's (want), to 1e-5 (float rounding of the
+// fused heads).
+func checkScales(t *testing.T, net *network, want [model.Scales]*planar.Image) {
+	t.Helper()
+	for s := range model.Scales {
+		got := net.Outputs[s].Value().Data().([]float32)
+		if d := maxDiff(got, want[s].Pix); d > 1e-5 {
+			t.Errorf("scale %d: max |graph − model.Net| = %g, want ≤ 1e-5", s, d)
+		} else {
+			t.Logf("scale %d: max |graph − model.Net| = %.3g", s, d)
+		}
+	}
+}
+
 func TestSessionGradients(t *testing.T) {
 	const batch = 1
 	w, err := model.NewWeights(tinyConfig, 5)

@@ -15,17 +15,8 @@ var tinyStereo = model.Config{Arch: model.StereoArchName, Width: 64, Height: 64,
 // same way.
 func TestStereoNetworkMatchesGraphFreeForward(t *testing.T) {
 	const batch = 2
-	w, err := model.NewWeights(tinyStereo, 5)
-	if err != nil {
-		t.Fatal(err)
-	}
-	PrepareHeads(w)
 	rng := rand.New(rand.NewPCG(7, 8))
-	for _, v := range w.Params {
-		for i := range v {
-			v[i] += float32(0.05 * rng.NormFloat64())
-		}
-	}
+	w := perturbedWeights(t, tinyStereo, 5, rng)
 	left, right := randomImage(rng, batch, 3, 64, 64), randomImage(rng, batch, 3, 64, 64)
 	ref, err := model.NewNet(w, batch)
 	if err != nil {
@@ -35,14 +26,7 @@ func TestStereoNetworkMatchesGraphFreeForward(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	g := G.NewGraph()
-	net, err := buildNetwork(g, ref.Arch(), batch)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := net.SetWeights(w); err != nil {
-		t.Fatal(err)
-	}
+	g, net := weightedNetwork(t, ref.Arch(), batch, w)
 	if err := net.SetPair(left, right); err != nil {
 		t.Fatal(err)
 	}
@@ -54,14 +38,7 @@ func TestStereoNetworkMatchesGraphFreeForward(t *testing.T) {
 	if err := vm.RunAll(); err != nil {
 		t.Fatal(err)
 	}
-	for s := range model.Scales {
-		got := net.Outputs[s].Value().Data().([]float32)
-		if d := maxDiff(got, want[s].Pix); d > 1e-5 {
-			t.Errorf("scale %d: max |graph − model.Net| = %g, want ≤ 1e-5", s, d)
-		} else {
-			t.Logf("scale %d: max |graph − model.Net| = %.3g", s, d)
-		}
-	}
+	checkScales(t, net, want)
 }
 
 // A few steps of the objective on one pair lower it: the stereo graph has
