@@ -98,10 +98,9 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	opt.Validation = valSet // their objective, as points on the loss curve
 	bar := progress.New(stderr, opt.Steps, &progress.Options{Unit: "steps", Mode: map[bool]progress.Mode{true: progress.Off}[*quiet]})
 	job := &train.Job{
-		Start:   train.Start{Resume: *resume, Weights: *weights, Scratch: *scratch, Seed: opt.Seed, Rig: ds.Rig, Stereo: *stereo},
-		Files:   train.Files{Weights: *out, Checkpoint: opt.CheckpointPath, Log: *logPath, Plot: *plotPath},
-		Data:    trainSet,
-		Augment: map[bool]*data.Augment{false: &data.DefaultAugment}[*noAugment],
+		Start: train.Start{Resume: *resume, Weights: *weights, Scratch: *scratch, Seed: opt.Seed, Rig: ds.Rig, Stereo: *stereo},
+		Files: train.Files{Weights: *out, Checkpoint: opt.CheckpointPath, Log: *logPath, Plot: *plotPath},
+		Data:  trainSet, Augment: map[bool]*data.Augment{false: &data.DefaultAugment}[*noAugment],
 		Options: opt, CheckpointMilestones: *milestones == "",
 		Info:  train.RunInfo{Data: *dataDir, Command: "finetune " + strings.Join(args, " ")},
 		DType: map[bool]safetensors.DType{true: safetensors.F16, false: safetensors.F32}[*f16],
