@@ -147,6 +147,10 @@ func (r *pathRun) run() {
 	if r.n <= 0 {
 		return
 	}
+	if useAVX512BW {
+		r.runAVX512()
+		return
+	}
 	if useAVX2 {
 		r.runAVX2()
 		return

@@ -22,6 +22,23 @@ func (r *pathRun) runAVX2() {
 		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store)
 }
 
+// useAVX512BW selects the AVX-512 aggregation kernel.
+var useAVX512BW = hasAVX512BW
+
+var hasAVX512BW = cpu.X86.HasAVX512F && cpu.X86.HasAVX512BW
+
+//go:noescape
+func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+
+func (r *pathRun) runAVX512() {
+	base := &r.sum[r.costOff]
+	if r.base != nil && !r.store {
+		base = &r.base[r.costOff]
+	}
+	pathRunAVX512(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
+		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store)
+}
+
 //go:noescape
 func darkerAVX2(acc, n, c *uint8, count int)
 

@@ -349,3 +349,141 @@ level:
 
 	VZEROUPPER
 	RET
+
+// func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+//
+// pathRunAVX2 with 32 levels per instruction (AVX-512 BW): blocks of 32
+// levels, then a block of 16 when np is not a multiple of 32, whose upper
+// lanes hold noPath. The neighbours d−1 and d+1 come from the previous and
+// next blocks by VALIGNQ + VPALIGNR; every block is loaded once, with the
+// width it was stored with, so that a chained step reads the vector the
+// step before stored from the store buffer.
+TEXT ·pathRunAVX512(SB), NOSPLIT, $0-123
+	MOVQ cur+0(FP), DI
+	MOVQ prev+8(FP), SI
+	MOVQ cost+32(FP), R8
+	MOVQ sum+40(FP), R9
+	MOVQ base+48(FP), DX
+	MOVQ p2+64(FP), R10
+	MOVQ pmin+72(FP), R11
+	MOVQ cmin+88(FP), R12
+	MOVQ n+104(FP), CX
+	MOVQ np+112(FP), BX
+	MOVQ BX, R14
+	ANDQ $16, R14                  // a block of 16 at the end
+	ANDQ $-32, BX                  // levels in blocks of 32
+	MOVWLZX p1+120(FP), AX
+	VPBROADCASTW AX, Z15           // P1
+	VPTERNLOGD $0xff, Z11, Z11, Z11 // noPath in every lane
+
+step:
+	VPBROADCASTW (R11), Z14        // previous minimum
+	VPBROADCASTW (R10), Z13
+	VPADDUSW Z14, Z13, Z13         // previous minimum + P2, saturated
+	VMOVDQA64 Z11, Z12             // running minimum
+	VMOVDQA64 Z11, Z4              // previous block
+	XORQ AX, AX
+	TESTQ BX, BX
+	JZ first16
+	VMOVDQU64 (SI), Z5             // this block
+	JMP level
+first16:
+	VMOVDQU (SI), Y5
+	VINSERTI64X4 $1, Y11, Z5, Z5
+	JMP last16
+
+level:
+	LEAQ 32(AX), R13
+	VMOVDQA64 Z11, Z6              // next block: none
+	CMPQ R13, BX
+	JGE partial
+	VMOVDQU64 64(SI)(AX*2), Z6     // 32 levels
+	JMP compute
+partial:
+	TESTQ R14, R14
+	JZ compute
+	VMOVDQU 64(SI)(AX*2), Y6       // 16 levels
+	VINSERTI64X4 $1, Y11, Z6, Z6
+compute:
+	VALIGNQ $6, Z4, Z5, Z7
+	VPALIGNR $14, Z7, Z5, Z7       // prev[d−1]
+	VALIGNQ $2, Z5, Z6, Z8
+	VPALIGNR $2, Z5, Z8, Z8        // prev[d+1]
+	VPADDUSW Z15, Z7, Z7
+	VPADDUSW Z15, Z8, Z8
+	VPMINUW Z7, Z5, Z0
+	VPMINUW Z8, Z0, Z0
+	VPMINUW Z13, Z0, Z0
+	VPSUBW Z14, Z0, Z0
+	VPMOVZXBW (R8)(AX*1), Z3
+	VPADDW Z3, Z0, Z0
+	VMOVDQU64 Z0, (DI)(AX*2)
+	CMPB store+122(FP), $0
+	JNE stored
+	VPADDW (DX)(AX*2), Z0, Z1
+	VMOVDQU64 Z1, (R9)(AX*2)
+	JMP added
+stored:
+	VMOVDQU64 Z0, (R9)(AX*2)
+added:
+	VPMINUW Z0, Z12, Z12
+	VMOVDQA64 Z5, Z4
+	VMOVDQA64 Z6, Z5
+	MOVQ R13, AX
+	CMPQ AX, BX
+	JLT level
+
+	VEXTRACTI64X4 $1, Z12, Y1
+	VPMINUW Y1, Y12, Y12           // the running minimum in 16 lanes
+	TESTQ R14, R14
+	JZ reduce
+
+last16:
+	VALIGNQ $6, Z4, Z5, Z7
+	VPALIGNR $14, Z7, Z5, Z7
+	VALIGNQ $2, Z5, Z11, Z8
+	VPALIGNR $2, Z5, Z8, Z8
+	VPADDUSW Z15, Z7, Z7
+	VPADDUSW Z15, Z8, Z8
+	VPMINUW Z7, Z5, Z0
+	VPMINUW Z8, Z0, Z0
+	VPMINUW Z13, Z0, Z0
+	VPSUBW Z14, Z0, Z0
+	VPMOVZXBW (R8)(AX*1), Y3
+	VPADDW Y3, Y0, Y0
+	VMOVDQU Y0, (DI)(AX*2)
+	CMPB store+122(FP), $0
+	JNE stored16
+	VPADDW (DX)(AX*2), Y0, Y1
+	VMOVDQU Y1, (R9)(AX*2)
+	JMP added16
+stored16:
+	VMOVDQU Y0, (R9)(AX*2)
+added16:
+	VPMINUW Y0, Y12, Y12
+
+reduce:
+	VEXTRACTI128 $1, Y12, X0
+	VPMINUW X0, X12, X0
+	VPHMINPOSUW X0, X0
+	MOVQ X0, AX
+	MOVW AX, (R12)
+
+	MOVQ curStep+16(FP), AX
+	LEAQ (DI)(AX*2), DI
+	MOVQ prevStep+24(FP), AX
+	LEAQ (SI)(AX*2), SI
+	MOVQ costStep+56(FP), AX
+	ADDQ AX, R8
+	LEAQ (R9)(AX*2), R9
+	LEAQ (DX)(AX*2), DX
+	ADDQ $2, R10
+	MOVQ pminStep+80(FP), AX
+	LEAQ (R11)(AX*2), R11
+	MOVQ cminStep+96(FP), AX
+	LEAQ (R12)(AX*2), R12
+	DECQ CX
+	JNZ step
+
+	VZEROUPPER
+	RET

@@ -9,6 +9,13 @@ const hasAVX2 = false
 
 func (r *pathRun) runAVX2() { r.runGeneric() }
 
+// useAVX512BW is false without the AVX-512 aggregation kernel.
+var useAVX512BW = false
+
+const hasAVX512BW = false
+
+func (r *pathRun) runAVX512() { r.runGeneric() }
+
 func darker(acc, n, c []uint8) { darkerGeneric(acc, n, c) }
 
 func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {

@@ -74,15 +74,16 @@ func cloneRun(a *pathRun) *pathRun {
 	return &b
 }
 
-// The AVX2 kernel gives the portable kernel's values, for chained paths in
-// both directions and for independent lines, adding to sum, storing, and
-// adding to a separate base.
+// The AVX2 and AVX-512 kernels give the portable kernel's values, for
+// chained paths in both directions and for independent lines, adding to
+// sum, storing, and adding to a separate base, for np with and without a
+// last block of 16 levels.
 func TestPathRunKernels(t *testing.T) {
 	if !useAVX2 {
 		t.Skip("no AVX2 kernel on this machine or build")
 	}
 	r := rand.New(rand.NewPCG(4, 5))
-	for _, np := range []int{16, 32, 48, 80, 128} {
+	for _, np := range []int{16, 32, 48, 64, 80, 96, 128, 144} {
 		for _, mode := range []struct{ chained, backwards, store, base bool }{{true, false, false, false}, {true, true, false, false}, {false, false, false, false},
 			{true, false, true, false}, {false, false, true, false}, {true, false, false, true}, {true, true, false, true}, {false, false, false, true}} {
 			g := randomRun(r, np, 1+r.IntN(40), mode.chained, mode.backwards)
@@ -93,13 +94,20 @@ func TestPathRunKernels(t *testing.T) {
 					g.base[i] = uint16(r.IntN(20000))
 				}
 			}
-			a := cloneRun(g)
+			a, z := cloneRun(g), cloneRun(g)
 			g.check()
 			g.runGeneric()
 			a.check()
 			a.runAVX2()
 			if !slices.Equal(g.cur, a.cur) || !slices.Equal(g.sum, a.sum) || !slices.Equal(g.cmin, a.cmin) {
 				t.Errorf("np %d, %+v: AVX2 kernel differs from the portable one", np, mode)
+			}
+			if !useAVX512BW {
+				continue
+			}
+			z.runAVX512()
+			if !slices.Equal(g.cur, z.cur) || !slices.Equal(g.sum, z.sum) || !slices.Equal(g.cmin, z.cmin) {
+				t.Errorf("np %d, %+v: AVX-512 kernel differs from the portable one", np, mode)
 			}
 		}
 	}
@@ -112,10 +120,14 @@ func TestKernelsSameResult(t *testing.T) {
 	}
 	l, r := stepPair(130, 50, 60, 5, 13)
 	a := match(t, nil, l, r)
-	useAVX2, useAVX512 = false, false
-	defer func() { useAVX2, useAVX512 = hasAVX2, hasAVX512 }()
+	defer func() { useAVX2, useAVX512, useAVX512BW = hasAVX2, hasAVX512, hasAVX512BW }()
+	useAVX512BW = false
 	if b := match(t, nil, l, r); !sameResult(a, b) {
-		t.Error("the portable kernel gives another result than the AVX2 one")
+		t.Error("the AVX2 aggregation kernel gives another result than the fastest kernels")
+	}
+	useAVX2, useAVX512 = false, false
+	if b := match(t, nil, l, r); !sameResult(a, b) {
+		t.Error("the portable kernels give another result than the fastest ones")
 	}
 }
 
