@@ -200,8 +200,7 @@ type worker struct {
 	greyR     []uint8
 	padL      []uint8
 	padR      []uint8
-	censL     []uint64
-	censR     []uint64
+	cens      []uint64 // per row range: the census words of a row of each image, 2×w
 	censusAcc []uint8  // per row range: 8×w
 	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each (with MinTexture only)
 	cost      []uint8  // w×h×np
@@ -267,7 +266,6 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.greyL, wk.greyR = grow(wk.greyL, wh), grow(wk.greyR, wh)
 	npad := (w + cw - 1) * (h + ch - 1)
 	wk.padL, wk.padR = grow(wk.padL, npad), grow(wk.padR, npad)
-	wk.censL, wk.censR = grow(wk.censL, wh), grow(wk.censR, wh)
 	if o.MinTexture > 0 {
 		wk.texPre = grow(wk.texPre, h*(w+1))
 	}
@@ -284,6 +282,7 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.slide = grow(wk.slide, ranges*2*vs)
 	wk.rev = grow(wk.rev, ranges*(2*w+wk.np))
 	wk.censusAcc = grow(wk.censusAcc, ranges*8*w)
+	wk.cens = grow(wk.cens, ranges*2*w)
 	wk.rowSum = grow(wk.rowSum, ranges*w*wk.np)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
@@ -386,7 +385,7 @@ func (wk *worker) censusRange(lo, hi int) {
 	ri := lo / wk.rowGrain
 	acc := wk.censusAcc[ri*8*w : (ri+1)*8*w]
 	for y := lo; y < hi; y++ {
-		cl, cr := wk.censL[y*w:(y+1)*w], wk.censR[y*w:(y+1)*w]
+		cl, cr := wk.cens[2*ri*w:(2*ri+1)*w], wk.cens[(2*ri+1)*w:(2*ri+2)*w]
 		censusRow(cl, wk.padL, w, cw, ch, y, acc)
 		censusRow(cr, wk.padR, w, cw, ch, y, acc)
 		costRow(wk.cost[y*w*np:(y+1)*w*np], cl, cr, w, wk.lo, wk.n, np, wk.costMax, wk.rev[ri*(2*w+np):(ri+1)*(2*w+np)])
