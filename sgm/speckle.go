@@ -8,7 +8,7 @@ package sgm
 //
 //  1. label: within each band, a raster scan joins each valid pixel to its
 //     left and upper neighbours in a union-find forest (union by size, path
-//     halving), then points every pixel at its band's root;
+//     halving), then points every pixel at its root in the band;
 //  2. merge: one goroutine joins the roots across each boundary between
 //     bands, adding their sizes;
 //  3. sweep: each band reads its pixels' final roots (no writes to the
@@ -52,35 +52,59 @@ func (s *speckleScratch) peek(p int32) int32 {
 	return p
 }
 
-// union joins the regions of p and q.
-func (s *speckleScratch) union(p, q int32) {
-	a, b := s.root(p), s.root(q)
+// union joins the regions of p and q and returns the root of the joined
+// region.
+func (s *speckleScratch) union(p, q int32) int32 {
+	return s.join(s.root(p), s.root(q))
+}
+
+// join joins the regions of roots a and b and returns its root: the root
+// of the larger region (of the smaller index on a tie) takes the other.
+func (s *speckleScratch) join(a, b int32) int32 {
 	if a == b {
-		return
+		return a
 	}
 	par := s.parent
-	if par[a] > par[b] || (par[a] == par[b] && a > b) { // a becomes the larger root
+	if par[a] > par[b] || (par[a] == par[b] && a > b) {
 		a, b = b, a
 	}
 	par[a] += par[b]
 	par[b] = a
+	return a
 }
 
-// label is phase 1 on rows [y0, y1) of the w-wide map.
+// label is phase 1 on rows [y0, y1) of the w-wide map. The root of the
+// pixel to the left is carried along the row: every join in the row
+// involves its region, so the scan always knows that region's root.
 func (s *speckleScratch) label(disp []float32, valid []uint8, w, y0, y1 int, jump float32) {
 	par := s.parent
 	for y := y0; y < y1; y++ {
+		left := int32(-1) // the root of the region of the pixel to the left, if joined
 		for p := y * w; p < (y+1)*w; p++ {
 			par[p] = -1
 			if valid[p] == invalid {
+				left = -1
 				continue
 			}
-			if p > y*w && valid[p-1] != invalid && near(disp, p, p-1, jump) {
-				s.union(int32(p), int32(p-1))
+			r := int32(-1)
+			if left >= 0 && near(disp, p, p-1, jump) {
+				r = left
 			}
 			if y > y0 && valid[p-w] != invalid && near(disp, p, p-w, jump) {
-				s.union(int32(p), int32(p-w))
+				u := s.root(int32(p - w))
+				if r < 0 {
+					r = u
+				} else {
+					r = s.join(r, u)
+				}
 			}
+			if r < 0 {
+				left = int32(p) // a region of its own
+				continue
+			}
+			par[p] = r
+			par[r]--
+			left = r
 		}
 	}
 	for p := y0 * w; p < y1*w; p++ {
