@@ -294,3 +294,35 @@ func TestFillHoles(t *testing.T) {
 		t.Errorf("ZeroHoles(empty map): %v", err)
 	}
 }
+
+// A call's memory, everything a fresh Matcher allocates for its first pair
+// (the worker's buffers and the result's maps) at the sizes of issue 15's
+// targets on 2 goroutines, stays within its budget of 4 bytes per cell
+// (width × height × disparity levels searched), with 4 and 8 paths.
+func TestMemoryPerCell(t *testing.T) {
+	if raceEnabled {
+		t.Skip("the race detector allocates")
+	}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(2))
+	for _, c := range []struct {
+		w, h, levels, paths int
+	}{{370, 250, 48, 4}, {370, 250, 48, 8}, {640, 480, 80, 4}, {640, 480, 80, 8}} {
+		l, r := noiseGray(c.w, c.h, 1), noiseGray(c.w, c.h, 2)
+		m, err := NewMatcher(&Options{MaxDisparity: c.levels - 1, Paths: c.paths})
+		if err != nil {
+			t.Fatal(err)
+		}
+		runtime.GC()
+		var before, after runtime.MemStats
+		runtime.ReadMemStats(&before)
+		if _, err := m.Match(context.Background(), l, r); err != nil {
+			t.Fatal(err)
+		}
+		runtime.ReadMemStats(&after)
+		perCell := float64(after.TotalAlloc-before.TotalAlloc) / float64(c.w*c.h*c.levels)
+		t.Logf("%dx%d, %d levels, %d paths: %.2f bytes per cell", c.w, c.h, c.levels, c.paths, perCell)
+		if perCell > 4 {
+			t.Errorf("%dx%d, %d levels, %d paths: %.2f bytes per cell, more than 4", c.w, c.h, c.levels, c.paths, perCell)
+		}
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"image"
 	"math"
+	"runtime"
 
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
@@ -200,19 +201,20 @@ type worker struct {
 	greyR     []uint8
 	padL      []uint8
 	padR      []uint8
-	cens      []uint64 // per row range: the census words of a row of each image, 2×w
-	censusAcc []uint8  // per row range: 8×w
+	sets      chan int // the free sets of row scratch (the buffers "per set", one set per range running)
+	cens      []uint64 // per set: the census words of a row of each image, 2×w
+	censusAcc []uint8  // per set: 8×w
 	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each (with MinTexture only)
 	cost      []uint8  // w×h×np
 	sum       []uint16 // w×h×np: the vertical (and diagonal) paths' sums
-	rowSum    []uint16 // per row range: w×np, a row's sums with the horizontal paths
+	rowSum    []uint16 // per set: w×np, a row's sums with the horizontal paths
 	rowGrain  int      // rows per range of the row-wise phases
-	rowVec    []uint16 // per row range: w path vectors
-	rowMin    []uint16 // per row range: w minima
-	rowP2     []uint16 // per row range: 2×w penalties
-	rowInt    []int32  // per row range: 2×w
-	slide     []uint16 // per row range: 2 vectors for the right view's winners
-	rev       []uint64 // per row range: 2w+np census words of a right row, reversed
+	rowVec    []uint16 // per set: w path vectors
+	rowMin    []uint16 // per set: w minima
+	rowP2     []uint16 // per set: 2×w penalties
+	rowInt    []int32  // per set: 2×w
+	slide     []uint16 // per set: 2 vectors for the right view's winners
+	rev       []uint64 // per set: 2w+np census words of a right row, reversed
 	lineVec   []uint16 // 2 (alternating rows) × lines path vectors
 	lineMin   []uint16 // 2 × lines minima
 	lineP2    []uint16 // per line: the penalty of its current step
@@ -273,17 +275,24 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.sum = grow(wk.sum, wh*wk.np)
 	vs := wk.np + vecPad
 	wk.rowGrain = max(4, (h+maxRowRanges-1)/maxRowRanges)
-	ranges := (h + wk.rowGrain - 1) / wk.rowGrain
-	wk.rowVec = grow(wk.rowVec, ranges*w*vs)
+	// One set of row scratch for each range that can run at once.
+	sets := min((h+wk.rowGrain-1)/wk.rowGrain, runtime.GOMAXPROCS(0))
+	if cap(wk.sets) != sets {
+		wk.sets = make(chan int, sets)
+		for k := range sets {
+			wk.sets <- k
+		}
+	}
+	wk.rowVec = grow(wk.rowVec, sets*w*vs)
 	initSentinels(wk.rowVec, wk.np)
-	wk.rowMin = grow(wk.rowMin, ranges*w)
-	wk.rowP2 = grow(wk.rowP2, ranges*2*w)
-	wk.rowInt = grow(wk.rowInt, ranges*2*w)
-	wk.slide = grow(wk.slide, ranges*2*vs)
-	wk.rev = grow(wk.rev, ranges*(2*w+wk.np))
-	wk.censusAcc = grow(wk.censusAcc, ranges*8*w)
-	wk.cens = grow(wk.cens, ranges*2*w)
-	wk.rowSum = grow(wk.rowSum, ranges*w*wk.np)
+	wk.rowMin = grow(wk.rowMin, sets*w)
+	wk.rowP2 = grow(wk.rowP2, sets*2*w)
+	wk.rowInt = grow(wk.rowInt, sets*2*w)
+	wk.slide = grow(wk.slide, sets*2*vs)
+	wk.rev = grow(wk.rev, sets*(2*w+wk.np))
+	wk.censusAcc = grow(wk.censusAcc, sets*8*w)
+	wk.cens = grow(wk.cens, sets*2*w)
+	wk.rowSum = grow(wk.rowSum, sets*w*wk.np)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
 	initSentinels(wk.lineVec, wk.np)
@@ -382,7 +391,8 @@ func (wk *worker) greyRange(lo, hi int) {
 func (wk *worker) censusRange(lo, hi int) {
 	w, np := wk.w, wk.np
 	cw, ch := wk.opt.CensusWidth, wk.opt.CensusHeight
-	ri := lo / wk.rowGrain
+	ri := <-wk.sets
+	defer func() { wk.sets <- ri }()
 	acc := wk.censusAcc[ri*8*w : (ri+1)*8*w]
 	for y := lo; y < hi; y++ {
 		cl, cr := wk.cens[2*ri*w:(2*ri+1)*w], wk.cens[(2*ri+1)*w:(2*ri+2)*w]
@@ -408,7 +418,8 @@ func (wk *worker) censusRange(lo, hi int) {
 func (wk *worker) rowRange(lo, hi int) {
 	w, np := wk.w, wk.np
 	vs := np + vecPad
-	ri := lo / wk.rowGrain
+	ri := <-wk.sets
+	defer func() { wk.sets <- ri }()
 	vecs := wk.rowVec[ri*w*vs : (ri+1)*w*vs]
 	mins := wk.rowMin[ri*w : (ri+1)*w]
 	p2lr := wk.rowP2[2*ri*w : (2*ri+1)*w]
@@ -436,7 +447,7 @@ func (wk *worker) rowRange(lo, hi int) {
 			cost: cost, sum: sum, costOff: (w - 2) * np, costStep: -np, p2: p2rl[:w-1],
 			pmin: mins, cmin: mins, pminOff: w - 1, pminStep: -1, cminOff: w - 2, cminStep: -1, n: w - 1, np: np, p1: wk.p1}
 		r.run()
-		wk.selectRow(y, sum)
+		wk.selectRow(y, ri, sum)
 	}
 	if o := wk.opt; o.SpeckleSize != Off {
 		wk.speckles.label(wk.disp, wk.valid, w, lo, hi, float32(o.SpeckleJump))
@@ -557,12 +568,11 @@ const (
 
 // selectRow picks the disparities of row y from its summed costs: winner
 // takes all, the uniqueness and left-right checks, and a parabola through
-// the best cost and its neighbours for the sub-pixel position. It uses the
-// scratch of the row range, after the horizontal paths.
-func (wk *worker) selectRow(y int, sum []uint16) {
+// the best cost and its neighbours for the sub-pixel position. It uses
+// scratch set ri, after the horizontal paths.
+func (wk *worker) selectRow(y, ri int, sum []uint16) {
 	w, np, n, dlo := wk.w, wk.np, wk.n, wk.lo
 	o := wk.opt
-	ri := y / wk.rowGrain
 	scratch := wk.rowInt[ri*2*w : (ri+1)*2*w]
 	best, rarg := scratch[:w], scratch[w:]
 	vals := wk.rowP2[ri*2*w : (ri+1)*2*w] // the penalties' scratch, free after the row's paths

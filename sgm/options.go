@@ -33,7 +33,8 @@ const (
 	// MaxDisparityLevels bounds MaxDisparity − MinDisparity + 1.
 	MaxDisparityLevels = 1024
 	// MaxCells bounds width × height × disparity levels (rounded up to a
-	// multiple of 16) of one call: about 3 bytes per cell are allocated.
+	// multiple of 16) of one call: a little over 3 bytes per cell are
+	// allocated (see the package doc, Memory).
 	MaxCells = 1 << 30
 )
 
