@@ -247,6 +247,10 @@ func TestRunErrors(t *testing.T) {
 		{"argument", []string{"extra"}, "unexpected argument"},
 		{"stereo without scratch", []string{"-stereo"}, "fresh start only"},
 		{"bad milestones", []string{"-milestones", "0.6,x"}, "not a number"},
+		{"milestone out of range", []string{"-milestones", "1.5"}, "milestone 1.5 must be a fraction in (0, 1)"},
+		{"NaN rate", []string{"-lr", "NaN"}, "learning rate NaN must be positive"},
+		{"negative rate", []string{"-lr", "-1e-4"}, "learning rate -0.0001 must be positive"},
+		{"negative hold-out", []string{"-val", "-0.2"}, "validation fraction -0.2"},
 	}
 	for _, tc := range cases {
 		err := runArgs(context.Background(), args(synthDir, out, tc.extra...))

@@ -127,7 +127,7 @@ func (j *Job) note(s string) {
 // Open prepares the run: it gives Files their defaults and checks them
 // (Files.Prepare), checks that Data makes a batch, opens Start, applies
 // the checkpoint's milestones if asked, notes a schedule that differs from
-// the checkpoint's (ScheduleChange), checks the free space
+// the checkpoint's (ScheduleChange), checks the schedule, the free space
 // (Files.CheckSpace) and loads the log of a resumed run.
 func (j *Job) Open() error {
 	j.Files = j.Files.WithDefaults()
@@ -156,6 +156,10 @@ func (j *Job) Open() error {
 		if n := ScheduleChange(ck, j.Options.Steps, j.Options.Schedule); n != "" {
 			j.note(n)
 		}
+	}
+	// A bad rate or milestone is refused now, not after an evaluation.
+	if _, err := j.Options.Schedule.withDefaults(j.Options.Steps); err != nil {
+		return err
 	}
 	if err := j.Files.CheckSpace(j.Weights); err != nil {
 		return err
