@@ -126,3 +126,47 @@ func TestFlipBlendMirror(t *testing.T) {
 		t.Error("no pixel took a single prediction: the random maps do not exercise the borders")
 	}
 }
+
+// TestFlipBlendTorch compares FlipBlend, bit for bit, with the blend of
+// testdata/model/flipblend_torch.json (gen_flipblend.py, python3-torch
+// 1.13.1, numpy 1.24.2), where each prediction's support is where PyTorch's
+// grid_sample (bilinear, zeros padding, align_corners=True) of an all-ones
+// image gives full weight at its match, the mirrored prediction's computed
+// in the mirrored frame. The fixture holds pixels of all three kinds.
+func TestFlipBlendTorch(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "testdata", "model", "flipblend_torch.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fx struct {
+		H, W                  int
+		Orig, Mirrored, Blend []float64
+		Case                  []int
+	}
+	if err := json.Unmarshal(b, &fx); err != nil {
+		t.Fatal(err)
+	}
+	n := fx.H * fx.W
+	if n == 0 || len(fx.Orig) != n || len(fx.Mirrored) != n || len(fx.Blend) != n || len(fx.Case) != n {
+		t.Fatalf("fixture of %dx%d with %d, %d, %d, %d values", fx.W, fx.H, len(fx.Orig), len(fx.Mirrored), len(fx.Blend), len(fx.Case))
+	}
+	f32 := func(v []float64) []float32 {
+		o := make([]float32, len(v))
+		for i, x := range v {
+			o[i] = float32(x)
+		}
+		return o
+	}
+	dst := make([]float32, n)
+	FlipBlend(dst, f32(fx.Orig), f32(fx.Mirrored), fx.H, fx.W)
+	var kinds [3]int
+	for i, want := range f32(fx.Blend) {
+		kinds[fx.Case[i]]++
+		if dst[i] != want {
+			t.Errorf("row %d column %d (case %d): %v, want %v", i/fx.W, i%fx.W, fx.Case[i], dst[i], want)
+		}
+	}
+	if kinds[0] == 0 || kinds[1] == 0 || kinds[2] == 0 {
+		t.Errorf("the fixture lacks a case: %d mean, %d mirrored only, %d orig only", kinds[0], kinds[1], kinds[2])
+	}
+}
