@@ -5,12 +5,15 @@ import (
 	"fmt"
 	"os"
 	"runtime"
+	"runtime/metrics"
 	"strconv"
 	"time"
 )
 
 // rssLogger appends one CSV line per interval to a file: the elapsed time,
-// the resident set size and the Go heap in use (MB), and the frames,
+// the resident set size, the Go heap in use (spans holding objects, live
+// or not yet collected) and the live heap marked by the last garbage
+// collection (MB), and the frames,
 // steps, swaps and roll-backs so far. Each line is written and synced as
 // it comes, so a run that is killed keeps its log.
 type rssLogger struct {
@@ -28,7 +31,7 @@ func newRSSLogger(path string, every time.Duration) (*rssLogger, error) {
 	}
 	l := &rssLogger{f: f, began: time.Now(), every: every}
 	l.next = l.began
-	if _, err := fmt.Fprintln(f, "elapsed_s,rss_mb,heap_mb,frames,steps,swaps,rollbacks"); err != nil {
+	if _, err := fmt.Fprintln(f, "elapsed_s,rss_mb,heap_mb,live_heap_mb,frames,steps,swaps,rollbacks"); err != nil {
 		f.Close()
 		return nil, fmt.Errorf("adaptdrive: -rss-log: %w", err)
 	}
@@ -58,8 +61,14 @@ func (l *rssLogger) write(frames int, status func() (steps, swaps, rollbacks int
 	if err != nil {
 		return err
 	}
+	live := []metrics.Sample{{Name: "/gc/heap/live:bytes"}}
+	metrics.Read(live)
+	var liveMB float64
+	if live[0].Value.Kind() == metrics.KindUint64 {
+		liveMB = float64(live[0].Value.Uint64()) / 1e6
+	}
 	steps, swaps, rb := status()
-	_, err = fmt.Fprintf(l.f, "%.0f,%.1f,%.1f,%d,%d,%d,%d\n", time.Since(l.began).Seconds(), rss, float64(ms.HeapInuse)/1e6, frames, steps, swaps, rb)
+	_, err = fmt.Fprintf(l.f, "%.0f,%.1f,%.1f,%.1f,%d,%d,%d,%d\n", time.Since(l.began).Seconds(), rss, float64(ms.HeapInuse)/1e6, liveMB, frames, steps, swaps, rb)
 	if err == nil {
 		err = l.f.Sync()
 	}
