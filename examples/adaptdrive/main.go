@@ -41,6 +41,7 @@ import (
 	"os/signal"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/internal/chart"
 	"github.com/parallaxdepth/parallax/model"
@@ -68,6 +69,7 @@ type config struct {
 	fps                    float64
 	duration               time.Duration
 	rssLog, plot, write    string
+	eval                   string
 	latency                int
 }
 
@@ -91,6 +93,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs.StringVar(&c.rssLog, "rss-log", "", "append the resident memory (MB) to this CSV file at the start, once a minute and at the end")
 	fs.StringVar(&c.plot, "plot", "", "PNG of the EPE of every frame, fixed and adapted, with the adapter's roll-backs marked")
 	fs.StringVar(&c.write, "write", "", "write the drive's frames into this folder (layout of package dataset) and exit")
+	fs.StringVar(&c.eval, "eval", "", "score the weights (-weights) on the frames of a drive written by -write into this folder, with the\nsame EPE per block of -block frames, and exit (no adaptation)")
 	fs.IntVar(&c.latency, "latency", 0, "time this many Estimate calls without and with the adapter in the background, then exit")
 	if err := fs.Parse(args); err != nil {
 		return err
@@ -121,6 +124,9 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	opts := &model.EstimatorOptions{Validity: model.ValidityOptions{MinConfidence: model.ValidityOff, MinTexture: model.ValidityOff}}
+	if c.eval != "" {
+		return evalFrames(ctx, c, w, opts, stdout)
+	}
 	live, err := model.NewEstimator(w, opts)
 	if err != nil {
 		return err
@@ -332,6 +338,55 @@ func (r *record) chart(c config, d *synth.Drive, offline bool) *chart.Chart {
 	return ch
 }
 
+// evalFrames scores weights w on the frames of the drive written into
+// c.eval, printing the mean EPE of every block of c.block frames (by
+// name) and of all of them.
+func evalFrames(ctx context.Context, c config, w *model.Weights, opts *model.EstimatorOptions, stdout io.Writer) error {
+	set, err := dataset.Open(c.eval)
+	if err != nil {
+		return fmt.Errorf("adaptdrive: -eval: %w", err)
+	}
+	est, err := model.NewEstimator(w, opts)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "%-15s %12s\n", "frames", "EPE")
+	var sum, total float64
+	first, n := "", 0
+	for i := range set.Pairs {
+		r, err := set.Read(i)
+		if err != nil {
+			return fmt.Errorf("adaptdrive: -eval: %w", err)
+		}
+		if r.DispLeft == nil {
+			return fmt.Errorf("adaptdrive: -eval: %s has no truth/disp_left", r.Name)
+		}
+		gt, err := depth.NewDisparity(r.DispLeft.Rect)
+		if err != nil {
+			return err
+		}
+		for k, v := range r.DispLeft.Pix {
+			if v > 0 && r.DispLeft.Mask[k] != 0 { // as truthOf: positive truth only
+				gt.Pix[k], gt.Mask[k] = v, 1
+			}
+		}
+		e, err := epe(ctx, est, r.Left, r.Right, gt)
+		if err != nil {
+			return fmt.Errorf("adaptdrive: -eval: %s: %w", r.Name, err)
+		}
+		if n == 0 {
+			first = r.Name
+		}
+		sum, total, n = sum+e, total+e, n+1
+		if n == c.block || i == len(set.Pairs)-1 {
+			fmt.Fprintf(stdout, "%-15s %12.3f\n", first+"-"+r.Name, sum/float64(n))
+			sum, n = 0, 0
+		}
+	}
+	fmt.Fprintf(stdout, "%d frames: mean EPE %.3f px\n", len(set.Pairs), total/float64(max(len(set.Pairs), 1)))
+	return nil
+}
+
 // measureLatency times c.latency calls of Estimate on live at c.fps
 // without the adapter, then as many with the adapter running in the
 // background at c.rate and offered every frame, and prints the median
@@ -434,7 +489,7 @@ func truthOf(p *synth.Pair) (*depth.Disparity, error) {
 
 // epe runs the Estimator of either kind on the pair and returns its
 // end-point error in pixels.
-func epe(ctx context.Context, e *model.Estimator, left, right *image.NRGBA, gt *depth.Disparity) (float64, error) {
+func epe(ctx context.Context, e *model.Estimator, left, right image.Image, gt *depth.Disparity) (float64, error) {
 	est, err := estimate(ctx, e, left, right)
 	if err != nil {
 		return 0, err
@@ -447,7 +502,7 @@ func epe(ctx context.Context, e *model.Estimator, left, right *image.NRGBA, gt *
 }
 
 // estimate runs the Estimator of either kind on the pair.
-func estimate(ctx context.Context, e *model.Estimator, left, right *image.NRGBA) (*model.Estimate, error) {
+func estimate(ctx context.Context, e *model.Estimator, left, right image.Image) (*model.Estimate, error) {
 	if e.Kind() == "stereo" {
 		return e.EstimatePair(ctx, left, right)
 	}

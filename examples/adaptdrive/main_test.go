@@ -3,7 +3,9 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
 	imagepng "image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -82,6 +84,30 @@ func TestModes(t *testing.T) {
 	}
 	if names, _ := filepath.Glob(filepath.Join(drive, "left", "*.png")); len(names) != 10 {
 		t.Errorf("-write: %d left views, want 10", len(names))
+	}
+	// -eval scores the written frames with the same EPE as the drive's
+	// fixed column (the same images, 8-bit either way, the same truth).
+	var evalOut, fixedOut bytes.Buffer
+	if err := run(context.Background(), append(small, "-eval", drive, "-block", "10"), &evalOut, &errs); err != nil {
+		t.Fatal(err)
+	}
+	if err := run(context.Background(), append(small, "-block", "10", "-steps-per-frame", "0.01"), &fixedOut, &errs); err != nil {
+		t.Fatal(err)
+	}
+	var mean float64
+	lines := strings.Split(evalOut.String(), "\n")
+	if _, err := fmt.Sscanf(lines[len(lines)-2], "10 frames: mean EPE %f px", &mean); err != nil {
+		t.Fatalf("-eval output %q: %v", evalOut.String(), err)
+	}
+	var g, st float64 // the fixed column: rows 0-2 greenhouse and 3-9 storage, 3 decimals
+	rows := strings.Split(fixedOut.String(), "\n")
+	_, err1 := fmt.Sscanf(strings.Join(strings.Fields(rows[1])[:3], " "), "0-2 greenhouse %f", &g)
+	_, err2 := fmt.Sscanf(strings.Join(strings.Fields(rows[2])[:3], " "), "3-9 storage %f", &st)
+	if err1 != nil || err2 != nil {
+		t.Fatalf("drive output %q: %v %v", fixedOut.String(), err1, err2)
+	}
+	if want := (3*g + 7*st) / 10; math.Abs(mean-want) > 1e-3 {
+		t.Errorf("-eval mean EPE %.4f, the drive's fixed column gives %.4f", mean, want)
 	}
 	w, err := model.Default()
 	if err != nil {

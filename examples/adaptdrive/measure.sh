@@ -4,6 +4,7 @@
 #   sh examples/adaptdrive/measure.sh epe [DIR]      EPE after 2 minutes of storage frames (1,200 at
 #                                                    10 frames/s, 240 steps as 2 steps/s would give)
 #                                                    beside an offline fine-tune on the same frames
+#                                                    (OFFLINE_STEPS steps at batch 4, default 1,200)
 #   sh examples/adaptdrive/measure.sh memory [DIR]   resident memory over a 30-minute run, once a minute
 #   sh examples/adaptdrive/measure.sh latency [DIR]  Estimate's latency without and while adapting
 #
@@ -20,17 +21,21 @@ go build -o "$out/adaptdrive" ./examples/adaptdrive
 legs=greenhouse:40,storage:1200
 case $mode in
 epe)
+	# The drive's storage frames, written once: the offline fine-tune trains on exactly these, and
+	# -eval scores it on them with the same EPE as the drive's columns.
 	go build -o "$out/finetune" ./examples/finetune
 	rm -rf "$out/drive" "$out/offline.safetensors" "$out/offline.safetensors.ckpt"
 	"$out/adaptdrive" -legs $legs -write "$out/drive"
-	# Keep the storage frames only (the greenhouse leg is frames 000000-000039).
-	for i in $(seq 0 39); do
+	for i in $(seq 0 39); do # the greenhouse leg is frames 000000-000039
 		n=$(printf %06d "$i")
 		rm -f "$out/drive/left/$n.png" "$out/drive/right/$n.png" "$out/drive/truth"/*/"$n".*
 	done
-	"$out/finetune" -data "$out/drive" -out "$out/offline.safetensors" -steps 1200 -val 0 -quiet > "$out/offline.txt"
-	"$out/adaptdrive" -legs $legs -steps-per-frame 0.2 -block 100 -offline "$out/offline.safetensors" \
-		-plot "$out/epe.png" | tee "$out/epe.txt"
+	# Online (frames rendered afresh, identical to the written ones) and offline side by side.
+	"$out/adaptdrive" -legs $legs -steps-per-frame 0.2 -block 100 -plot "$out/epe.png" > "$out/epe.txt" &
+	"$out/finetune" -data "$out/drive" -out "$out/offline.safetensors" -steps "${OFFLINE_STEPS:-1200}" -val 0 -quiet > "$out/offline.txt"
+	wait
+	"$out/adaptdrive" -eval "$out/drive" -weights "$out/offline.safetensors" -block 100 > "$out/offline_eval.txt"
+	cat "$out/epe.txt" "$out/offline_eval.txt"
 	;;
 memory)
 	"$out/adaptdrive" -duration 30m -fps 10 -rss-log "$out/rss.csv" -plot "$out/memory.png" > "$out/memory.txt"
