@@ -28,15 +28,17 @@ var useAVX512BW = hasAVX512BW
 var hasAVX512BW = cpu.X86.HasAVX512F && cpu.X86.HasAVX512BW
 
 //go:noescape
-func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool)
 
 func (r *pathRun) runAVX512() {
 	base := &r.sum[r.costOff]
 	if r.base != nil && !r.store {
 		base = &r.base[r.costOff]
 	}
+	// Chained: step j+1 reads the minimum step j wrote.
+	chained := &r.pmin[0] == &r.cmin[0] && len(r.pmin) == len(r.cmin) && r.pminStep == r.cminStep && r.pminOff+r.pminStep == r.cminOff
 	pathRunAVX512(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
-		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store)
+		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store, chained)
 }
 
 //go:noescape

@@ -350,15 +350,17 @@ level:
 	VZEROUPPER
 	RET
 
-// func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+// func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool)
 //
 // pathRunAVX2 with 32 levels per instruction (AVX-512 BW): blocks of 32
 // levels, then a block of 16 when np is not a multiple of 32, whose upper
 // lanes hold noPath. The neighbours d−1 and d+1 come from the previous and
 // next blocks by VALIGNQ + VPALIGNR; every block is loaded once, with the
 // width it was stored with, so that a chained step reads the vector the
-// step before stored from the store buffer.
-TEXT ·pathRunAVX512(SB), NOSPLIT, $0-123
+// step before stored from the store buffer. With chained (each step's
+// pmin is the cmin the step before wrote), the minimum goes to the next
+// step in a register, not through memory.
+TEXT ·pathRunAVX512(SB), NOSPLIT, $0-124
 	MOVQ cur+0(FP), DI
 	MOVQ prev+8(FP), SI
 	MOVQ cost+32(FP), R8
@@ -375,9 +377,9 @@ TEXT ·pathRunAVX512(SB), NOSPLIT, $0-123
 	MOVWLZX p1+120(FP), AX
 	VPBROADCASTW AX, Z15           // P1
 	VPTERNLOGD $0xff, Z11, Z11, Z11 // noPath in every lane
+	VPBROADCASTW (R11), Z14        // previous minimum
 
 step:
-	VPBROADCASTW (R11), Z14        // previous minimum
 	VPBROADCASTW (R10), Z13
 	VPADDUSW Z14, Z13, Z13         // previous minimum + P2, saturated
 	VMOVDQA64 Z11, Z12             // running minimum
@@ -468,6 +470,7 @@ reduce:
 	VPHMINPOSUW X0, X0
 	MOVQ X0, AX
 	MOVW AX, (R12)
+	VPBROADCASTW X0, Z14           // the next step's previous minimum, if chained
 
 	MOVQ curStep+16(FP), AX
 	LEAQ (DI)(AX*2), DI
@@ -482,6 +485,10 @@ reduce:
 	LEAQ (R11)(AX*2), R11
 	MOVQ cminStep+96(FP), AX
 	LEAQ (R12)(AX*2), R12
+	CMPB chained+123(FP), $0
+	JNE chain
+	VPBROADCASTW (R11), Z14
+chain:
 	DECQ CX
 	JNZ step
 
