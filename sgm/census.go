@@ -79,10 +79,20 @@ func censusRow(dst []uint64, pad []uint8, w, cw, ch, y int, acc []uint8) {
 			k++
 		}
 	}
+	groups := (k + 7) / 8
+	if groups == 8 { // the default window (62 bits) and others of 57 to 64
+		a0, a1, a2, a3 := acc[:w], acc[w:2*w], acc[2*w:3*w], acc[3*w:4*w]
+		a4, a5, a6, a7 := acc[4*w:5*w], acc[5*w:6*w], acc[6*w:7*w], acc[7*w:8*w]
+		for x := range out {
+			out[x] = uint64(a0[x]) | uint64(a1[x])<<8 | uint64(a2[x])<<16 | uint64(a3[x])<<24 |
+				uint64(a4[x])<<32 | uint64(a5[x])<<40 | uint64(a6[x])<<48 | uint64(a7[x])<<56
+		}
+		return
+	}
 	for x, v := range acc[:w] {
 		out[x] = uint64(v)
 	}
-	for g := 1; g < (k+7)/8; g++ {
+	for g := 1; g < groups; g++ {
 		sh := uint(8 * g)
 		for x, v := range acc[g*w : (g+1)*w] {
 			out[x] |= uint64(v) << sh
