@@ -303,8 +303,6 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.left, wk.right = left, right
 	parallelFor(2*h, wk.rowGrain, wk.greyFn)
 	wk.left, wk.right = nil, nil
-	padImage(wk.padL, wk.greyL, w, h, cw, ch)
-	padImage(wk.padR, wk.greyR, w, h, cw, ch)
 	parallelFor(h, wk.rowGrain, wk.censusFn)
 	wk.band(0)
 	if o.Paths == 8 {
@@ -356,14 +354,22 @@ func (wk *worker) writeRange(lo, hi int) {
 	}
 }
 
-// padImage copies the w×h image g into pad with a border of half the census
-// window on each side, repeating the edge pixels.
-func padImage(pad, g []uint8, w, h, cw, ch int) {
+// padRow writes the rows of pad, the w×h image g with a border of half the
+// census window on each side repeating the edge pixels, that come from row
+// y of g: its own, and the border rows above or below at the first or last
+// row.
+func padRow(pad, g []uint8, w, h, cw, ch, y int) {
 	rx, ry := cw/2, ch/2
 	pw := w + 2*rx
-	for py := range h + 2*ry {
-		sy := min(max(py-ry, 0), h-1)
-		src := g[sy*w : (sy+1)*w]
+	src := g[y*w : (y+1)*w]
+	p0, p1 := y+ry, y+ry+1
+	if y == 0 {
+		p0 = 0
+	}
+	if y == h-1 {
+		p1 = h + 2*ry
+	}
+	for py := p0; py < p1; py++ {
 		row := pad[py*pw : (py+1)*pw]
 		for x := range rx {
 			row[x] = src[0]
@@ -374,15 +380,16 @@ func padImage(pad, g []uint8, w, h, cw, ch int) {
 }
 
 // greyRange converts rows [lo, hi) of the stacked left (rows 0 … h−1) and
-// right (h … 2h−1) images to grey.
+// right (h … 2h−1) images to grey, and pads them for the census.
 func (wk *worker) greyRange(lo, hi int) {
 	w, h := wk.w, wk.h
 	for r := lo; r < hi; r++ {
-		img, dst, y := wk.left, wk.greyL, r
+		img, dst, pad, y := wk.left, wk.greyL, wk.padL, r
 		if r >= h {
-			img, dst, y = wk.right, wk.greyR, r-h
+			img, dst, pad, y = wk.right, wk.greyR, wk.padR, r-h
 		}
 		greyRow(dst[y*w:(y+1)*w], img, y)
+		padRow(pad, dst, w, h, wk.opt.CensusWidth, wk.opt.CensusHeight, y)
 	}
 }
 
