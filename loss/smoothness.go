@@ -14,7 +14,8 @@ import "math"
 // the orchard (32 m); ε is just under 1 % of the smallest. The per-image
 // mean disparity of 100 generated pairs of each style (seed 1001) is at
 // least 0.029 (greenhouse), 0.019 (storage room) and 0.0068 (orchard,
-// varied captures), where ε moves the normalised map by at most 0.07 %.
+// varied captures; training/scenario/stats.txt), where ε moves the
+// normalised map by at most 0.07 %.
 const SmoothnessMeanEpsilon = 5e-6
 
 // SmoothnessKernel computes the edge-aware smoothness of a disparity map

@@ -37,10 +37,11 @@ type Augment struct {
 // (synth.Options.Vary, as for the orchard) draws exposure log-uniform in
 // [0.55, 1.6] and white balance per channel in [0.9, 1.1]. The augmentation
 // stands for such a camera, measured on 100 generated pairs of each style
-// (seed 1001, 256×128, left views, values in [0, 1], 5th … 95th percentile):
+// (seed 1001, 256×128, left views, values in [0, 1], 5th … 95th percentile;
+// training/scenario/stats.txt, from measure.sh there):
 //
 //   - Brightness [0.55, 1.6], the varied capture's exposure range. The
-//     varied orchard pairs' mean level spans 0.51 … 1.80 times its median,
+//     varied orchard pairs' mean level spans 0.51 … 1.77 times its median,
 //     the fixed-camera styles' only 0.81 … 1.26 (greenhouse) and
 //     0.81 … 1.20 (storage room).
 //   - Colour [0.9, 1.1] per channel, the varied capture's white balance.
@@ -50,7 +51,7 @@ type Augment struct {
 //   - Gamma [0.8, 1.25], even in log scale. v^γ scales an image's relative
 //     contrast by about γ; the contrast (standard deviation over mean of the
 //     grey level) spans 0.77 … 1.27 times its median in the greenhouse and
-//     0.70 … 1.57 in the varied orchard; synth has no tone curve of its own,
+//     0.71 … 1.56 in the varied orchard; synth has no tone curve of its own,
 //     so this stands for a camera's.
 //   - Flip 0.5: mirroring and swapping the views is exact for a rectified
 //     pair, and with even odds the border that the other view cannot see is
