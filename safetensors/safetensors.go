@@ -44,8 +44,11 @@ const (
 	MaxTensors = 1 << 14
 	// MaxDims bounds the rank of a tensor.
 	MaxDims = 8
-	// MaxFileSize bounds the size of a file that ReadFile reads (2 GiB).
-	MaxFileSize = 1 << 31
+	// MaxFileSize bounds the size of a file that ReadFile reads: 2 GiB − 1,
+	// the most bytes one slice holds where int has 32 bits. It is an int64
+	// so that comparing it with a file's size compiles and holds on every
+	// platform.
+	MaxFileSize int64 = 1<<31 - 1
 )
 
 // MetadataKey is the header key of the metadata map; no tensor may use it.
@@ -294,6 +297,10 @@ func checkEntry(name string, e stEntry, dataLen uint64) (Tensor, error) {
 		d, err := strconv.ParseUint(string(s), 10, 63)
 		if err != nil {
 			return t, fmt.Errorf("safetensors: tensor %q has an invalid dimension %s", name, s)
+		}
+		if d > math.MaxInt {
+			// Where int has 32 bits: int(d) would wrap around.
+			return t, fmt.Errorf("safetensors: tensor %q has dimension %d, more than an int holds on this platform (%d)", name, d, math.MaxInt)
 		}
 		zero = zero || d == 0
 		t.Shape = append(t.Shape, int(d))

@@ -159,8 +159,12 @@ func TestParseRejects(t *testing.T) {
 			entry(h, "conv.weight")["shape"] = []any{1, 1, 1, 1, 1, 1, 2, 3, 2}
 		}), "9 dimensions, more than 8"},
 		{"huge dims", rewrite(t, good, func(h map[string]any) {
-			entry(h, "conv.weight")["shape"] = []any{1 << 40, 1 << 40, 1 << 40}
-		}), "larger than the data section"},
+			entry(h, "conv.weight")["shape"] = []any{int64(1) << 40, int64(1) << 40, int64(1) << 40}
+		}), map[bool]string{true: "larger than the data section", false: "more than an int holds"}[strconv.IntSize == 64]},
+		{"dimension wraps int32", rewrite(t, good, func(h map[string]any) {
+			// 2^32 + 12 is 12 in 32 bits: the tensor's own 12 values.
+			entry(h, "conv.weight")["shape"] = []any{int64(1)<<32 + 12}
+		}), map[bool]string{true: "larger than the data section", false: "more than an int holds"}[strconv.IntSize == 64]},
 		{"metadata not strings", rewrite(t, good, func(h map[string]any) {
 			h[MetadataKey].(map[string]any)["step"] = 1200
 		}), "__metadata__ must map strings to strings"},
@@ -262,8 +266,8 @@ func TestWriteRefuses(t *testing.T) {
 		{"negative", nil, []Tensor{{Name: "a", Shape: []int{-1}}}, F32, "negative dimension"},
 		{"rank", nil, []Tensor{{Name: "a", Shape: make([]int, 9)}}, F32, "more than 8"},
 		// A product that overflows (to 0, matching empty Data) would claim a
-		// 2^124-value tensor.
-		{"overflow", nil, []Tensor{{Name: "a", Shape: []int{1 << 62, 1 << 62}}}, F32, "overflows"},
+		// 2^124-value tensor (2^60 where int has 32 bits).
+		{"overflow", nil, []Tensor{{Name: "a", Shape: []int{halfInt, halfInt}}}, F32, "overflows"},
 		// encoding/json replaces invalid UTF-8 with U+FFFD, so a name would
 		// change on the way through a file.
 		{"name", nil, []Tensor{{Name: "a\xff", Shape: []int{1}, Data: []float32{1}}}, F32, "UTF-8"},
@@ -277,8 +281,8 @@ func TestWriteRefuses(t *testing.T) {
 	}
 	// A zero dimension after a large one is a valid empty tensor, which
 	// the reader accepts too.
-	b := encode(t, []Tensor{{Name: "e", Shape: []int{1 << 40, 0}}, {Name: "f", Shape: []int{1 << 62, 1 << 62, 0}}}, nil, F32)
-	if ts, _, err := Parse(b); err != nil || len(ts) != 2 || ts[0].Shape[0] != 1<<40 || len(ts[0].Data) != 0 || len(ts[1].Data) != 0 {
+	b := encode(t, []Tensor{{Name: "e", Shape: []int{halfInt / 4, 0}}, {Name: "f", Shape: []int{halfInt, halfInt, 0}}}, nil, F32)
+	if ts, _, err := Parse(b); err != nil || len(ts) != 2 || ts[0].Shape[0] != halfInt/4 || len(ts[0].Data) != 0 || len(ts[1].Data) != 0 {
 		t.Errorf("empty tensors read back: %+v %v", ts, err)
 	}
 }
@@ -325,6 +329,10 @@ func TestFiles(t *testing.T) {
 		t.Fatalf("ReadFile of a truncated file: %v", err)
 	}
 }
+
+// halfInt is 2^62 (2^30 where int has 32 bits): the product of two
+// overflows int.
+const halfInt = math.MaxInt/2 + 1
 
 func TestReadFileRefusesHugeFile(t *testing.T) {
 	// A sparse file larger than MaxFileSize is refused before it is read.

@@ -173,7 +173,7 @@ func readLimited(path string) ([]byte, error) {
 		return nil, fmt.Errorf("safetensors: %w", err)
 	}
 	if st.Size() > MaxFileSize {
-		return nil, fmt.Errorf("safetensors: %s has %d bytes, more than the limit of %d", path, st.Size(), int64(MaxFileSize))
+		return nil, fmt.Errorf("safetensors: %s has %d bytes, more than the limit of %d", path, st.Size(), MaxFileSize)
 	}
 	// Read at most one byte more than the size seen, in case the file grows.
 	b, err := io.ReadAll(io.LimitReader(f, st.Size()+1))
@@ -181,7 +181,7 @@ func readLimited(path string) ([]byte, error) {
 		return nil, fmt.Errorf("safetensors: reading %s: %w", path, err)
 	}
 	if int64(len(b)) > MaxFileSize {
-		return nil, fmt.Errorf("safetensors: %s grew beyond %d bytes while being read", path, int64(MaxFileSize))
+		return nil, fmt.Errorf("safetensors: %s grew beyond %d bytes while being read", path, MaxFileSize)
 	}
 	return b, nil
 }

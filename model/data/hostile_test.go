@@ -8,9 +8,11 @@ import (
 	"image"
 	"image/png"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -45,7 +47,9 @@ func TestLoadHostileSizes(t *testing.T) {
 	binary.BigEndian.PutUint32(hdr[16:], 30000)
 	binary.BigEndian.PutUint32(hdr[20:], 30000)
 	binary.BigEndian.PutUint32(hdr[29:], crc32.ChecksumIEEE(hdr[12:29]))
-	if c, err := png.DecodeConfig(bytes.NewReader(hdr)); err != nil || c.Width != 30000 {
+	if c, err := png.DecodeConfig(bytes.NewReader(hdr)); (err != nil || c.Width != 30000) && strconv.IntSize == 64 {
+		// Where int has 32 bits image/png refuses the header itself
+		// ("dimension overflow"); Load must refuse the file all the same.
 		t.Fatalf("patched header: %+v %v", c, err)
 	}
 	if err := os.WriteFile(filepath.Join(dir, "left", "a.png"), hdr, 0o644); err != nil {
@@ -72,12 +76,12 @@ func TestLoaderHostileOptions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, o := range []Options{{Width: 32, Height: 16, BatchSize: 1 << 40}, {Width: 1 << 15, Height: 1 << 15}, {Width: 1 << 20, Height: 1}} {
+	for _, o := range []Options{{Width: 32, Height: 16, BatchSize: math.MaxInt}, {Width: 1 << 15, Height: 1 << 15}, {Width: 1 << 20, Height: 1}} {
 		if _, err := NewLoader(ds, &o); err == nil || !strings.HasPrefix(err.Error(), "data: ") {
 			t.Errorf("%+v: error %v", o, err)
 		}
 	}
-	l, err := NewLoader(ds, &Options{Width: 32, Height: 16, BatchSize: 1, Prefetch: 1 << 40})
+	l, err := NewLoader(ds, &Options{Width: 32, Height: 16, BatchSize: 1, Prefetch: math.MaxInt})
 	if err != nil {
 		t.Fatal(err)
 	}
