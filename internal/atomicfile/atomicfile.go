@@ -57,10 +57,13 @@ func Write(path, prefix string, write func(w io.Writer) error) (err error) {
 	return nil
 }
 
-// WriteBytes writes data to path like Write.
+// WriteBytes writes data to path like Write; every error, a full disk
+// included, is "PREFIX: writing PATH: ...".
 func WriteBytes(path, prefix string, data []byte) error {
 	return Write(path, prefix, func(w io.Writer) error {
-		_, err := w.Write(data)
-		return err
+		if _, err := w.Write(data); err != nil {
+			return fmt.Errorf("%s: writing %s: %w", prefix, path, err)
+		}
+		return nil
 	})
 }

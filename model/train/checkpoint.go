@@ -1,6 +1,7 @@
 package train
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"slices"
@@ -93,7 +94,8 @@ const (
 // SaveCheckpoint writes c to path atomically (a temporary file in the same
 // directory, synced, then renamed over path; see safetensors.WriteFile).
 // It returns an error if the weights are invalid or a moment does not
-// match its parameter.
+// match its parameter; one for a full disk wraps ErrNoSpace and gives the
+// free space and the checkpoint's size.
 func SaveCheckpoint(path string, c *Checkpoint) error {
 	if c == nil || c.Weights == nil {
 		return fmt.Errorf("train: checkpoint: nothing to save")
@@ -147,10 +149,11 @@ func SaveCheckpoint(path string, c *Checkpoint) error {
 		ts = append(ts, safetensors.Tensor{Name: momentPrefix1 + name, Shape: shape, Data: m},
 			safetensors.Tensor{Name: momentPrefix2 + name, Shape: shape, Data: v})
 	}
-	if err := safetensors.WriteFile(path, ts, meta, safetensors.F32); err != nil {
+	var buf bytes.Buffer
+	if err := safetensors.Write(&buf, ts, meta, safetensors.F32); err != nil {
 		return fmt.Errorf("train: checkpoint: %w", err)
 	}
-	return nil
+	return writeOutput(path, "train: checkpoint", buf.Bytes())
 }
 
 // LoadCheckpoint reads a checkpoint written by SaveCheckpoint. It returns

@@ -2,7 +2,11 @@
 
 package train
 
-import "golang.org/x/sys/unix"
+import (
+	"errors"
+
+	"golang.org/x/sys/unix"
+)
 
 // freeBytes returns the space available to this user in dir's file system.
 func freeBytes(dir string) (int64, bool) {
@@ -11,4 +15,9 @@ func freeBytes(dir string) (int64, bool) {
 		return 0, false
 	}
 	return int64(st.Bavail) * int64(st.Bsize), true
+}
+
+// isNoSpace reports whether err is a full file system or an exhausted quota.
+func isNoSpace(err error) bool {
+	return errors.Is(err, unix.ENOSPC) || errors.Is(err, unix.EDQUOT)
 }

@@ -141,6 +141,27 @@ func CheckFreeSpace(need map[string]int64) error {
 	return nil
 }
 
+// writeOutput writes data to path atomically (internal/atomicfile) and, if
+// the file system is full, says how much space there is and how much the
+// file needs, wrapping ErrNoSpace as well as the file system's error.
+func writeOutput(path, prefix string, data []byte) error {
+	err := writeBytes(path, prefix, data)
+	if err == nil || !isNoSpace(err) {
+		return err
+	}
+	dir := filepath.Dir(path)
+	free, ok := freeBytes(dir) // after the temporary file was removed
+	have := "free space unknown"
+	if ok {
+		have = mb(free) + " free"
+	}
+	return fmt.Errorf("%w: %w in %s: %s, %s needed for %s (written in full beside the old file before it replaces it)",
+		err, ErrNoSpace, dir, have, mb(int64(len(data))), filepath.Base(path))
+}
+
+// writeBytes is atomicfile.WriteBytes; tests replace it to fill the disk.
+var writeBytes = atomicfile.WriteBytes
+
 func mb(n int64) string { return fmt.Sprintf("%.1f MB", float64(n)/(1<<20)) }
 
 // RunInfo describes a training run for the weights' provenance.

@@ -12,7 +12,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/parallaxdepth/parallax/internal/atomicfile"
 	"github.com/parallaxdepth/parallax/internal/chart"
 	"github.com/parallaxdepth/parallax/loss"
 )
@@ -124,7 +123,7 @@ func (l *StepLog) Save() error {
 			skip, g(r.spread), g(r.mpx), g(r.sps), g(r.pps), g(r.elapsed), val})
 	}
 	w.Flush()
-	if err := atomicfile.WriteBytes(l.Path, "train: log", buf.Bytes()); err != nil {
+	if err := writeOutput(l.Path, "train: log", buf.Bytes()); err != nil {
 		return err
 	}
 	if l.Plot != "" && slices.ContainsFunc(l.rows, func(r logRow) bool { return !r.skipped }) {
