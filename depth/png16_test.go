@@ -174,7 +174,8 @@ func TestReadPNG16Errors(t *testing.T) {
 		{"RGBA", rgb.Bytes(), "16-bit grey"},
 		{"8-bit grey", gray8.Bytes(), "16-bit grey"},
 		{"truncated", g16.Bytes()[:g16.Len()/2], "PNG16"},
-		{"huge header", hugePNGHeader(60000, 60000), "out of range"},
+		// Where int has 32 bits image/png refuses the header itself.
+		{"huge header", hugePNGHeader(60000, 60000), map[bool]string{true: "out of range", false: "dimension overflow"}[strconv.IntSize == 64]},
 		{"header without data", hugePNGHeader(4000, 4000), "cannot fit"},
 	}
 	for _, c := range cases {
