@@ -63,12 +63,12 @@ func netBytes(a *Arch) int64 {
 	// Matching at 1/2^MatchLevel: two grey views (1 byte a pixel), its
 	// disparity and validity for both views (2 × 8 bytes), sgm's result
 	// maps (16 bytes) and its worker: per pixel the cost volume and the
-	// path sums (1 + 2 bytes per stored level, levels padded to 16), the
-	// census words (16 bytes) and about 17 bytes of rows and maps.
+	// path sums (1 + 2 bytes per stored level, levels padded to 16) and
+	// about 17 bytes of maps and rows.
 	w, h := a.Input.W>>a.Config.MatchLevel(), a.Input.H>>a.Config.MatchLevel()
 	levels := min(int(math.Ceil(a.Config.DMax*float64(w))), w-1) + 1
 	stored := (levels + 15) &^ 15
-	return n + int64(w*h)*int64(2+16+16+3*stored+16+17)
+	return n + int64(w*h)*int64(2+16+16+3*stored+17)
 }
 
 // stageBytes returns about the bytes one stage of a worker (estimator.go)
