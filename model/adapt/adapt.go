@@ -102,13 +102,13 @@ func (o *Options) resolved() (Options, error) {
 	for _, f := range []struct {
 		name string
 		v    float64
-	}{{"StepsPerSecond", r.StepsPerSecond}, {"LearningRate", r.LearningRate}, {"Margin", r.Margin + 1}} {
+	}{{"StepsPerSecond", r.StepsPerSecond}, {"LearningRate", r.LearningRate}} {
 		if !(f.v > 0) || math.IsInf(f.v, 0) {
 			return r, fmt.Errorf("adapt: %s %v must be positive and finite", f.name, f.v)
 		}
 	}
-	if r.Margin < 0 {
-		return r, fmt.Errorf("adapt: Margin %v must not be negative", r.Margin)
+	if !(r.Margin >= 0) || math.IsInf(r.Margin, 0) {
+		return r, fmt.Errorf("adapt: Margin %v must be finite and not negative", r.Margin)
 	}
 	if r.Buffer < 2 || r.Buffer > 4096 || r.HoldOut < 1 || r.HoldOut >= r.Buffer {
 		return r, fmt.Errorf("adapt: Buffer %d and HoldOut %d must satisfy 1 <= HoldOut < Buffer <= 4096", r.Buffer, r.HoldOut)
@@ -116,9 +116,12 @@ func (o *Options) resolved() (Options, error) {
 	if r.StepsPerCheck < 1 {
 		return r, fmt.Errorf("adapt: StepsPerCheck %d must be positive", r.StepsPerCheck)
 	}
-	for _, v := range []float64{r.MaxDrift, r.MinChange, r.MinContrast} {
-		if math.IsNaN(v) || math.IsInf(v, 0) || (v < 0 && v != -1) {
-			return r, fmt.Errorf("adapt: thresholds must be positive and finite or -1 (off), got %v", v)
+	for _, f := range []struct {
+		name string
+		v    float64
+	}{{"MaxDrift", r.MaxDrift}, {"MinChange", r.MinChange}, {"MinContrast", r.MinContrast}} {
+		if math.IsNaN(f.v) || math.IsInf(f.v, 0) || (f.v < 0 && f.v != -1) {
+			return r, fmt.Errorf("adapt: %s %v must be positive and finite, or -1 (off)", f.name, f.v)
 		}
 	}
 	if r.Objective != nil {

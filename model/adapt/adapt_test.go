@@ -302,10 +302,27 @@ func TestRunConcurrent(t *testing.T) {
 	}
 }
 
+// TestOptionsRefused: each bad field is refused with an error that names
+// it and the value given.
 func TestOptionsRefused(t *testing.T) {
-	for _, o := range []Options{{HoldOut: 32}, {Buffer: 1}, {Margin: -0.1}, {StepsPerSecond: -1}, {MaxDrift: math.NaN()}, {MinChange: -2}, {StepsPerCheck: -1}} {
-		if _, err := o.resolved(); err == nil {
-			t.Errorf("options %+v were accepted", o)
+	for _, c := range []struct {
+		o    Options
+		want string
+	}{
+		{Options{HoldOut: 32}, "HoldOut 32"},
+		{Options{Buffer: 1}, "Buffer 1"},
+		{Options{Margin: -0.1}, "Margin -0.1 must be finite and not negative"},
+		{Options{Margin: -2}, "Margin -2 must be"},
+		{Options{Margin: math.NaN()}, "Margin NaN"},
+		{Options{Margin: math.Inf(1)}, "Margin +Inf"},
+		{Options{StepsPerSecond: -1}, "StepsPerSecond -1"},
+		{Options{MaxDrift: math.NaN()}, "MaxDrift NaN"},
+		{Options{MinChange: -2}, "MinChange -2"},
+		{Options{MinContrast: math.Inf(1)}, "MinContrast +Inf"},
+		{Options{StepsPerCheck: -1}, "StepsPerCheck -1"},
+	} {
+		if _, err := c.o.resolved(); err == nil || !strings.HasPrefix(err.Error(), "adapt: ") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("options %+v: %v, want an error with %q", c.o, err, c.want)
 		}
 	}
 }
