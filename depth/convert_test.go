@@ -85,7 +85,7 @@ func loadMotorcycleFixture(t *testing.T) *motorcycleFixture {
 func TestMotorcycleReduced(t *testing.T) {
 	pix, w, h, c, err := LoadPFM("../testdata/motorcycle/disp_left.pfm")
 	if err != nil {
-		t.Skipf("testdata/motorcycle not present: %v", err)
+		t.Fatalf("the committed Motorcycle pair: %v", err)
 	}
 	if w != 370 || h != 250 || c != 1 {
 		t.Fatalf("PFM %dx%dx%d, want 370x250x1", w, h, c)

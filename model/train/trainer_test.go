@@ -29,7 +29,7 @@ func openSynth(t testing.TB, style string) *dataset.Set {
 	t.Helper()
 	ds, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", style))
 	if err != nil {
-		t.Skipf("synthetic pairs not available: %v", err)
+		t.Fatalf("the committed synthetic pairs: %v", err)
 	}
 	return ds
 }
