@@ -205,25 +205,35 @@ const streamDrive = 4
 // (Options.Vary resolves by it), one drawn for the drive. It returns an
 // error for an invalid drive or options.
 func DriveRig(d *Drive, opt *Options) (*depth.Rig, error) {
+	_, _, rig, err := d.setup(opt)
+	return rig, err
+}
+
+// setup resolves opt, checks d, and returns the drive's options, its one
+// Capture (nil for an unvaried drive) and its one rig.
+func (d *Drive) setup(opt *Options) (Options, *Capture, *depth.Rig, error) {
 	o, err := opt.resolved()
 	if err != nil {
-		return nil, err
+		return o, nil, nil, err
 	}
 	if err := d.check(); err != nil {
-		return nil, err
+		return o, nil, nil, err
 	}
 	vary, err := o.Vary.resolve(d.Legs[0].Style)
 	if err != nil {
-		return nil, err
+		return o, nil, nil, err
 	}
 	c, err := d.capture(vary, o)
 	if err != nil {
-		return nil, err
+		return o, nil, nil, err
 	}
+	var rig *depth.Rig
 	if c == nil {
-		return d.Legs[0].Style.Rig(o.Width, o.Height)
+		rig, err = d.Legs[0].Style.Rig(o.Width, o.Height)
+	} else {
+		rig, err = variedRig(d.Legs[0].Style, c, o.Width, o.Height)
 	}
-	return variedRig(d.Legs[0].Style, c, o.Width, o.Height)
+	return o, c, rig, err
 }
 
 // streamDriveScene is the varyStream of a varied drive's leg scene.
@@ -237,26 +247,11 @@ const streamDriveScene = 5
 // is drawn anew per frame. It returns an error for an invalid drive, a
 // frame outside it or invalid options.
 func GenerateFrame(d *Drive, frame int, opt *Options) (*Pair, error) {
-	o, err := opt.resolved()
+	o, c, rig, err := d.setup(opt)
 	if err != nil {
-		return nil, err
-	}
-	if err := d.check(); err != nil {
 		return nil, err
 	}
 	leg, within, err := d.Leg(frame)
-	if err != nil {
-		return nil, err
-	}
-	vary, err := o.Vary.resolve(d.Legs[0].Style)
-	if err != nil {
-		return nil, err
-	}
-	c, err := d.capture(vary, o)
-	if err != nil {
-		return nil, err
-	}
-	rig, err := DriveRig(d, &o)
 	if err != nil {
 		return nil, err
 	}
