@@ -1,15 +1,14 @@
 package chart
 
 import (
-	"bytes"
 	"image"
 	"image/color"
-	"image/png"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 var red = color.NRGBA{200, 0, 0, 255}
@@ -37,14 +36,7 @@ func TestLogAxisPlacesValue(t *testing.T) {
 	if err := c.WritePNG(path); err != nil {
 		t.Fatal(err)
 	}
-	b, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	img, err := png.Decode(bytes.NewReader(b))
-	if err != nil {
-		t.Fatal(err)
-	}
+	img := testutil.PNG(t, path)
 	if img.Bounds() != image.Rect(0, 0, 400, 300) {
 		t.Fatalf("size %v, want 400x300", img.Bounds())
 	}

@@ -1,17 +1,16 @@
 package train
 
 import (
-	"bytes"
 	"errors"
 	"image"
 	"image/color"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 )
@@ -188,14 +187,7 @@ func TestLossCurve(t *testing.T) {
 	if err := l.Save(); err != nil {
 		t.Fatal(err)
 	}
-	b, err := os.ReadFile(l.Plot)
-	if err != nil {
-		t.Fatal(err)
-	}
-	img, err := png.Decode(bytes.NewReader(b))
-	if err != nil {
-		t.Fatal(err)
-	}
+	img := testutil.PNG(t, l.Plot)
 	if img.Bounds() != image.Rect(0, 0, 800, 450) {
 		t.Fatalf("size %v", img.Bounds())
 	}
