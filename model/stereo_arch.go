@@ -17,7 +17,8 @@ import (
 //	    cost = correlation(left f, warped) over 2·StereoRadius+1 shifts;
 //	    cat(cost, left f, context from the coarser level, match, up in pixels)
 //	    → refL.a, refL.b → resL; dispL = up + resL pixels
-//	 1: up = disp1×2; cat(left image, context) → ref0.a → res0; disp0 = up + res0
+//	 1: up = disp1×2; cat(left image, context, match0, up in pixels) → ref0.a → res0;
+//	    disp0 = up + res0 (version 1: without match0 and up)
 //
 // The matcher is package sgm on the grey pair (Matching) at full resolution
 // (version 2; version 1 weights match at half resolution, Config.MatchLevel),
@@ -32,9 +33,11 @@ import (
 const StereoArchName = "parallax-stereo"
 
 // StereoArchVersion is the version of the stereo architecture that new
-// weights get: 2, whose matcher runs at full resolution. Version 1 weights
-// (matcher at half resolution, see Config.MatchLevel) still load and run as
-// they were trained; the layer lists of both are the same.
+// weights get: 2, whose matcher runs at full resolution and whose
+// full-resolution step reads it (three more input channels of ref0.a).
+// Version 1 weights (matcher at half resolution, see Config.MatchLevel)
+// still load and run as they were trained; Weights.UpgradeStereo turns them
+// into version 2 weights that start from the same function of the matches.
 const StereoArchVersion = 2
 
 // StereoLevels is the number of resolutions of the stereo network: full,
@@ -199,6 +202,12 @@ func buildStereo(c Config) *Arch {
 			// wherever the matcher is right.
 			px := a.add(Layer{Name: p + ".px", Op: OpScale, Inputs: []string{up}, Out: a.shapes[up], Factor: 1, TimesWidth: true})
 			parts = append(parts, a.match(fmt.Sprintf("match%d", l), l, 2), px)
+		} else if c.MatchLevel() == 0 {
+			// Version 2: the full-resolution step sees the matcher's
+			// full-resolution estimate too, so thin structures and object
+			// edges can keep the matcher's sharp boundaries.
+			px := a.add(Layer{Name: p + ".px", Op: OpScale, Inputs: []string{up}, Out: a.shapes[up], Factor: 1, TimesWidth: true})
+			parts = append(parts, a.match("match0", 0, 2), px)
 		}
 		prev = a.conv(p+".a", a.concat(p+".cat", parts), dec[l], 1, ActELU)
 		if l > 0 {
@@ -235,4 +244,42 @@ func (a *Arch) dilatedConv(name, in string, out, dilation int, act Activation) s
 func (a *Arch) correlation(name, left, right string, disps int) string {
 	s := a.shapes[left]
 	return a.add(Layer{Name: name, Op: OpCorrelation, Inputs: []string{left, right}, Out: TensorShape{disps, s.H, s.W}, Disps: disps})
+}
+
+// UpgradeStereo turns version 1 stereo weights into version 2 weights: the
+// input channels version 2 adds to ref0.a (the full-resolution match and
+// the estimate in pixels, after the others) get zero weights, so the
+// network computes what version 1 computes from its match inputs, now taken
+// from the full-resolution matcher; training then teaches it to use them.
+// It returns an error if w is not version 1 stereo weights.
+func (w *Weights) UpgradeStereo() error {
+	c := w.Config.WithDefaults()
+	if c.Arch != StereoArchName || c.Version != 1 {
+		return fmt.Errorf("model: upgrade: weights are %s version %d, want %s version 1", c.Arch, c.Version, StereoArchName)
+	}
+	if err := w.Check(); err != nil {
+		return err
+	}
+	c.Version = 2
+	a, err := Build(c)
+	if err != nil {
+		return err
+	}
+	params := make(map[string][]float32, len(w.Params))
+	for _, p := range a.Params {
+		old := w.Params[p.Name]
+		if p.Name != "ref0.a.weight" {
+			params[p.Name] = old
+			continue
+		}
+		out, in, k := p.Shape[0], p.Shape[1], p.Shape[2]*p.Shape[3]
+		oldIn := len(old) / (out * k)
+		v := make([]float32, out*in*k)
+		for o := range out {
+			copy(v[o*in*k:o*in*k+oldIn*k], old[o*oldIn*k:(o+1)*oldIn*k])
+		}
+		params[p.Name] = v
+	}
+	w.Config, w.Params = c, params
+	return w.Check()
 }

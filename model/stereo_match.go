@@ -14,9 +14,9 @@ import (
 // the stereo architecture matched at half resolution (a quarter of the
 // pixels and half the disparities, an eighth of the work); version 2 matches
 // at the network's full resolution and pools the result to each layer's
-// level. On our synthetic validation pairs (seed 2002) the full-resolution
+// level. On the real validation pair (testdata/aloe) the full-resolution
 // matcher is the more accurate input (see training/stereo/STATUS.md), so
-// version 2 is the default; the layer list and parameters are the same.
+// version 2 is the default.
 func (c Config) MatchLevel() int {
 	if c.Arch == StereoArchName && c.Version == 1 {
 		return 1

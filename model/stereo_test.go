@@ -315,3 +315,54 @@ func TestMatchLevels(t *testing.T) {
 		}
 	}
 }
+
+// UpgradeStereo keeps every version 1 parameter, gives the new input
+// channels of ref0.a zero weights, and refuses weights of other versions.
+func TestUpgradeStereo(t *testing.T) {
+	c := tinyStereoConfig
+	c.Version = 1
+	w, err := NewWeights(c, 7)
+	if err != nil {
+		t.Fatal(err)
+	}
+	old := w.Params["ref0.a.weight"]
+	others := map[string][]float32{}
+	for k, v := range w.Params {
+		others[k] = v
+	}
+	if err := w.UpgradeStereo(); err != nil {
+		t.Fatal(err)
+	}
+	if w.Config.Version != 2 {
+		t.Fatalf("version %d after upgrade", w.Config.Version)
+	}
+	nv := w.Params["ref0.a.weight"]
+	out := tinyStereoConfig.WithDefaults().Decoder[0]
+	k := 9
+	oldIn, in := len(old)/(out*k), len(nv)/(out*k)
+	if in != oldIn+3 {
+		t.Fatalf("ref0.a has %d input channels after upgrade, want %d + 3", in, oldIn)
+	}
+	for o := range out {
+		for i := range in {
+			for j := range k {
+				got := nv[(o*in+i)*k+j]
+				want := float32(0)
+				if i < oldIn {
+					want = old[(o*oldIn+i)*k+j]
+				}
+				if got != want {
+					t.Fatalf("ref0.a.weight[%d,%d,%d] = %v, want %v", o, i, j, got, want)
+				}
+			}
+		}
+	}
+	for name, v := range others {
+		if name != "ref0.a.weight" && &w.Params[name][0] != &v[0] {
+			t.Errorf("%s changed by the upgrade", name)
+		}
+	}
+	if err := w.UpgradeStereo(); err == nil {
+		t.Error("version 2 weights upgraded again")
+	}
+}
