@@ -29,7 +29,9 @@ type DepthOptions struct {
 }
 
 // DepthMetrics holds the depth error measures standard in single-image
-// depth estimation (common practice). Over the N counted pixels, with
+// depth estimation (common practice; as listed by Eigen, Puhrsch and
+// Fergus, "Depth Map Prediction from a Single Image using a Multi-Scale
+// Deep Network", NIPS 2014, section 4). Over the N counted pixels, with
 // estimate ẑ and ground truth z (both in metres):
 //
 //	AbsRel  = (1/N) Σ |ẑ − z| / z
