@@ -152,9 +152,9 @@ func TestLoadCorruptNamesFile(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Load(ds, 1, 32, 16)
+	_, err = LoadSample(ds, 1, 32, 16)
 	wantErr(t, err, "right/b.png")
-	_, err = Load(ds, 0, 32, 16)
+	_, err = LoadSample(ds, 0, 32, 16)
 	wantErr(t, err, "a.pfm")
 
 	// The loader stops at the first error and reports it.
@@ -194,7 +194,7 @@ func TestResizeGroundTruth(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, size := range [][2]int{{32, 16}, {64, 32}, {96, 64}} {
-		s, err := Load(ds, 0, size[0], size[1])
+		s, err := LoadSample(ds, 0, size[0], size[1])
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -275,7 +275,7 @@ func TestFlipSwapConsistent(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	s, err := Load(ds, 0, w, h)
+	s, err := LoadSample(ds, 0, w, h)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -319,7 +319,7 @@ func TestFlipSwapConsistent(t *testing.T) {
 	}
 	// The sample without swapping (mirror only) must fail the same test:
 	// this is what makes the check meaningful.
-	s2, _ := Load(ds, 0, w, h)
+	s2, _ := LoadSample(ds, 0, w, h)
 	mirror(s2.Left)
 	mirror(s2.Right)
 	mirror(s2.DispLeft)
@@ -371,7 +371,7 @@ func TestPhotometricKeepsViewsConsistent(t *testing.T) {
 	const w, h, d = 48, 4, 3
 	dir := writeDataset(t, fixture{w: w, h: h, d: d}, "a")
 	ds, _ := dataset.Open(dir)
-	s, _ := Load(ds, 0, w, h)
+	s, _ := LoadSample(ds, 0, w, h)
 	before := s.Left.Clone()
 	a := Augment{Photometric: 1, Gamma: [2]float64{0.7, 0.7}, Brightness: [2]float64{1.3, 1.3}, Colour: [2]float64{0.9, 1.1}}
 	a.apply(s, rand.New(rand.NewPCG(1, 2)))
@@ -584,7 +584,7 @@ func TestJPEGWithoutTruth(t *testing.T) {
 	if ds.Rig != nil || len(ds.Truth) != 0 {
 		t.Fatalf("rig %v, truth %v", ds.Rig, ds.Truth)
 	}
-	s, err := Load(ds, 0, 64, 32)
+	s, err := LoadSample(ds, 0, 64, 32)
 	if err != nil {
 		t.Fatal(err)
 	}

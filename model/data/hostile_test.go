@@ -30,7 +30,7 @@ func TestLoadHostileSizes(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, sz := range [][2]int{{1 << 15, 1 << 15}, {1 << 15, 1 << 11}, {0, 16}, {32, -1}} {
-		_, err := Load(ds, 0, sz[0], sz[1])
+		_, err := LoadSample(ds, 0, sz[0], sz[1])
 		if err == nil || !strings.HasPrefix(err.Error(), "data: ") {
 			t.Errorf("Load(%d×%d): error %v, want one starting with data:", sz[0], sz[1], err)
 		}
@@ -57,7 +57,7 @@ func TestLoadHostileSizes(t *testing.T) {
 	}
 	var before, after runtime.MemStats
 	runtime.ReadMemStats(&before)
-	_, err = Load(ds, 0, 32, 16)
+	_, err = LoadSample(ds, 0, 32, 16)
 	runtime.ReadMemStats(&after)
 	wantErr(t, err, "left/a.png")
 	// Decoding the pixels would allocate 900 MB before failing.

@@ -273,7 +273,7 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		s, err := Load(l.ds, i, o.Width, o.Height)
+		s, err := LoadSample(l.ds, i, o.Width, o.Height)
 		if err != nil {
 			return nil, err
 		}

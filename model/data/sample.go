@@ -29,11 +29,11 @@ type Sample struct {
 	Flipped bool
 }
 
-// Load reads pair i of ds (with dataset.Set.Read) and resizes it to width ×
+// LoadSample reads pair i of ds (with dataset.Set.Read) and resizes it to width ×
 // height. It returns an error naming the file if an image or truth map is
 // corrupt, has another size than recorded by dataset.Open, or a truth map
 // has more than one channel.
-func Load(ds *dataset.Set, i, width, height int) (*Sample, error) {
+func LoadSample(ds *dataset.Set, i, width, height int) (*Sample, error) {
 	if width <= 0 || height <= 0 || width > planar.MaxSide || height > planar.MaxSide || width*height > planar.MaxPixels {
 		return nil, fmt.Errorf("data: invalid output size %d×%d (sides in [1, %d], at most %d pixels)", width, height, planar.MaxSide, planar.MaxPixels)
 	}

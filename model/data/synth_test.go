@@ -50,7 +50,7 @@ func TestSynthFolders(t *testing.T) {
 			t.Fatalf("%s: %d pairs, rig %v, truth %v", style, len(ds.Pairs), ds.Rig, ds.Truth)
 		}
 		for i := range ds.Pairs {
-			s, err := Load(ds, i, 256, 128)
+			s, err := LoadSample(ds, i, 256, 128)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -75,11 +75,11 @@ func TestSynthFolders(t *testing.T) {
 			t.Logf("%s/%s: rebuild error %.4f (%d px), flipped %.4f (%d px), mirrored only %.4f", style, s.Name, e0, n0, e1, n1, e2)
 
 			// Downscaled by 2, the disparity keeps its fraction of the width.
-			h, err := Load(ds, i, 128, 64)
+			h, err := LoadSample(ds, i, 128, 64)
 			if err != nil {
 				t.Fatal(err)
 			}
-			full, _ := Load(ds, i, 256, 128)
+			full, _ := LoadSample(ds, i, 256, 128)
 			if !sameAt(h.DispLeft, full.DispLeft, 10, 20) {
 				t.Errorf("%s/%s: half-size disparity differs from the full-size one", style, s.Name)
 			}
