@@ -1,5 +1,5 @@
 // Package data serves data sets (package dataset) to training and
-// evaluation as resized, optionally augmented batches: Load resizes one
+// evaluation as resized, optionally augmented batches: LoadSample resizes one
 // pair, Loader batches an epoch with prefetching, Split holds out a
 // validation set, Augment perturbs samples.
 //
