@@ -54,3 +54,57 @@ func ImageInputs(paths []string) ([]ImageInput, error) {
 	}
 	return out, nil
 }
+
+// PairInputs expands paths into stereo pairs: a folder into the pairs of
+// its left/ and right/ subfolders (Open: images of the same name, checked
+// for partners and sizes), and two files in a row into one pair LEFT RIGHT
+// (FromFiles, named after the left file). Each pair's outputs are named
+// after PairFiles.Name. It returns an error naming the file for a path that
+// does not exist, a file without the file of its other view after it, a
+// folder that is not a pair folder, a name in left/ missing from right/ (or
+// the reverse), views of different sizes, or two pairs of the same name. No
+// paths give no pairs.
+func PairInputs(paths []string) ([]PairFiles, error) {
+	var out []PairFiles
+	seen := map[string]string{}
+	add := func(p PairFiles) error {
+		if prev, dup := seen[p.Name]; dup {
+			return fmt.Errorf("dataset: %s and %s would write the same output files (%s.*)", prev, p.Left, p.Name)
+		}
+		seen[p.Name] = p.Left
+		out = append(out, p)
+		return nil
+	}
+	for i := 0; i < len(paths); i++ {
+		fi, err := os.Stat(paths[i])
+		if err != nil {
+			return nil, fmt.Errorf("dataset: %w", err)
+		}
+		var set *Set
+		if fi.IsDir() {
+			if _, err := os.Stat(filepath.Join(paths[i], leftDir)); err != nil {
+				return nil, fmt.Errorf("dataset: folder %s is not a folder of pairs: it has no %s/ (and %s/) subfolder", paths[i], leftDir, rightDir)
+			}
+			set, err = Open(paths[i])
+		} else if i+1 == len(paths) || isDir(paths[i+1]) {
+			return nil, fmt.Errorf("dataset: %s has no right view: give the two views of each pair as LEFT RIGHT, or a folder with %s/ and %s/", paths[i], leftDir, rightDir)
+		} else {
+			set, err = FromFiles(paths[i], paths[i+1], nil, "")
+			i++
+		}
+		if err != nil {
+			return nil, err
+		}
+		for _, p := range set.Pairs {
+			if err := add(p); err != nil {
+				return nil, err
+			}
+		}
+	}
+	return out, nil
+}
+
+func isDir(path string) bool {
+	fi, err := os.Stat(path)
+	return err == nil && fi.IsDir()
+}
