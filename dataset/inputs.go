@@ -108,3 +108,18 @@ func isDir(path string) bool {
 	fi, err := os.Stat(path)
 	return err == nil && fi.IsDir()
 }
+
+// Inputs expands the paths of a command line into its inputs: with pairs,
+// the stereo pairs of PairInputs; else the images of ImageInputs, each as a
+// PairFiles with its Left path alone (Right "", no size read yet).
+func Inputs(paths []string, pairs bool) ([]PairFiles, error) {
+	if pairs {
+		return PairInputs(paths)
+	}
+	ins, err := ImageInputs(paths)
+	out := make([]PairFiles, len(ins))
+	for i, in := range ins {
+		out[i] = PairFiles{Name: in.Name, Left: in.Path}
+	}
+	return out, err
+}

@@ -200,3 +200,17 @@ func Frames(dir string) iter.Seq2[Frame, error] {
 		}
 	}
 }
+
+// Load decodes the pair's views with LoadImage; with no Right path it
+// returns the left image alone and a nil right. Errors name the file, also
+// for a right view whose size is not the left's.
+func (p PairFiles) Load() (left, right image.Image, err error) {
+	if left, err = LoadImage(p.Left); err != nil || p.Right == "" {
+		return left, nil, err
+	}
+	b := left.Bounds()
+	if right, err = decodeFile(p.Right, b.Dx(), b.Dy()); err != nil {
+		return nil, nil, err
+	}
+	return left, right, nil
+}

@@ -52,6 +52,9 @@
 //   - rig.go: Rig, its JSON file (ReadRig, LoadRig, Write, SaveRig; schema
 //     version 2), Validate, CheckAspect, Scaled and Stretched for resized
 //     images and Cropped for cropped ones.
+//   - rectified.go: VerticalShift measures a pair's vertical misalignment
+//     from row profiles, CheckRectified refuses one beyond
+//     DefaultMaxRowShift (a pair that is visibly not rectified).
 //   - convert.go: fraction ↔ pixels ↔ metres, for single values and maps
 //     (DepthFromPixels, DisparityToDepth, DepthMapFromFraction, …).
 //   - maps.go: Map, Disparity, Depth, Confidence; DisparityFromImage and

@@ -15,6 +15,33 @@ func LoadOrDefault(path string) (*Weights, error) {
 	return Load(path)
 }
 
+// LoadKind returns the weights stored in path, or the embedded default of
+// the kind asked for when path is empty: DefaultStereo if stereo, else
+// Default. It returns an error naming the file and both kinds if the
+// weights in path are of the other kind (see Arch.Kind): one-image weights
+// cannot run on pairs, nor stereo weights on single images.
+func LoadKind(path string, stereo bool) (*Weights, error) {
+	if path == "" {
+		if stereo {
+			return DefaultStereo()
+		}
+		return Default()
+	}
+	w, err := Load(path)
+	if err != nil {
+		return nil, err
+	}
+	a, err := w.Arch()
+	if err != nil {
+		return nil, err
+	}
+	if a.IsStereo() != stereo {
+		want := map[bool]string{true: "stereo", false: "one-image"}[stereo]
+		return nil, fmt.Errorf("model: %s holds %s weights, not %s weights", path, a.Kind(), want)
+	}
+	return w, nil
+}
+
 // DescribeWeights names weights for a title or summary: "embedded" or the
 // file path, followed by their provenance in parentheses (the status entry
 // alone when there is one, else every entry as key=value in key order).

@@ -137,6 +137,9 @@ type Estimate struct {
 	// Rig is the Estimator's rig scaled to the input's size, or nil; each
 	// Estimate has its own copy.
 	Rig *depth.Rig
+	// NetworkSize is the size the network ran at (Estimator.NetworkSize),
+	// zero for an estimate that no network made.
+	NetworkSize image.Point
 }
 
 // Estimator turns images of any size into disparity, confidence and metric
@@ -614,7 +617,7 @@ func (e *Estimator) finish(st *stage, width, height int, rig *depth.Rig) (*Estim
 		conf.Pix[i] = min(max(c, 0), 1)
 		conf.Mask[i] = 1
 	}
-	est := &Estimate{Disparity: disp, Confidence: conf, Rig: rig}
+	est := &Estimate{Disparity: disp, Confidence: conf, Rig: rig, NetworkSize: image.Pt(st.w, st.h)}
 	if rig != nil {
 		if est.Depth, err = rig.DisparityToDepth(disp); err != nil {
 			return nil, fmt.Errorf("model: %w", err)

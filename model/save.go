@@ -107,9 +107,10 @@ func (e *Estimate) Save(base string, left image.Image, opt *SaveOptions) (files 
 type EstimateInfo struct {
 	// Source names the input image.
 	Source string
-	// Weights names the weights (see DescribeWeights) and Config is theirs.
-	Weights string
-	Config  Config
+	// Weights names the weights (see DescribeWeights); without weights
+	// (Weights "", such as a classical matcher) Method names what made the
+	// estimate instead.
+	Weights, Method string
 	// Elapsed is the time of the Estimate call; First, if not 0, that of
 	// the first call, which also sets up buffers.
 	Elapsed, First time.Duration
@@ -119,25 +120,40 @@ type EstimateInfo struct {
 	// could not hold (see Save).
 	Files   []string
 	Dropped int
+	// Notes are lines the reader must see, each printed as a "note" line
+	// before the depth: an assumed rig, holes filled, a skipped check.
+	Notes []string
 }
 
 // Describe returns a text summary of e, one "key  value" line each: source,
-// size, time, weights, depth range and median over the valid pixels, the
+// size, time, weights or method, notes, depth range and median over the valid pixels, the
 // pixels of confidence below 0.5, and the files.
 func (e *Estimate) Describe(info EstimateInfo) string {
 	var s strings.Builder
 	ms := func(d time.Duration) float64 { return float64(d.Microseconds()) / 1000 }
 	b := e.Disparity.Rect
-	fmt.Fprintf(&s, "image        %s\nsize         %d x %d px (network input %d x %d)\n", info.Source, b.Dx(), b.Dy(), info.Config.Width, info.Config.Height)
+	fmt.Fprintf(&s, "image        %s\nsize         %d x %d px", info.Source, b.Dx(), b.Dy())
+	if n := e.NetworkSize; n != (image.Point{}) {
+		fmt.Fprintf(&s, " (network input %d x %d)", n.X, n.Y)
+	}
 	flip := ""
 	if info.Flip {
 		flip = ", with flip post-processing"
 	}
-	fmt.Fprintf(&s, "time         %.1f ms per image (the Estimate call%s", ms(info.Elapsed), flip)
+	fmt.Fprintf(&s, "\ntime         %.1f ms per image (one call%s", ms(info.Elapsed), flip)
 	if info.First > 0 {
 		fmt.Fprintf(&s, "; the first call took %.1f ms", ms(info.First))
 	}
-	fmt.Fprintf(&s, ")\nweights      %s\n", info.Weights)
+	fmt.Fprintf(&s, ")\n")
+	if info.Weights != "" {
+		fmt.Fprintf(&s, "weights      %s\n", info.Weights)
+	}
+	if info.Method != "" {
+		fmt.Fprintf(&s, "method       %s\n", info.Method)
+	}
+	for _, n := range info.Notes {
+		fmt.Fprintf(&s, "note         %s\n", n)
+	}
 	if e.Depth != nil {
 		if zs := e.Depth.Stats(); zs.Valid == 0 {
 			fmt.Fprintf(&s, "depth        no valid pixel\n")
@@ -160,6 +176,26 @@ func (e *Estimate) Describe(info EstimateInfo) string {
 		fmt.Fprintf(&s, "%-12s %s\n", key, f)
 	}
 	return s.String()
+}
+
+// Caution is the warning every summary of estimated depth ends with
+// (SaveWithSummary).
+const Caution = `Caution: estimated depth is not a safety-rated sensor. Its errors grow with distance and it fails
+silently on glass, mirrors, textureless or repetitive surfaces, darkness and glare; a machine that
+acts on it needs independent obstacle sensing.`
+
+// SaveWithSummary writes e's files like Save and then BASE.summary.txt:
+// Describe(info), with the files written (the summary's own included) and
+// the dropped pixels filled in, followed by Caution. It returns the
+// summary's text.
+func (e *Estimate) SaveWithSummary(base string, left image.Image, opt *SaveOptions, info EstimateInfo) (string, error) {
+	files, dropped, err := e.Save(base, left, opt)
+	if err != nil {
+		return "", err
+	}
+	info.Files, info.Dropped = append(files, filepath.Base(base)+".summary.txt"), dropped
+	sum := e.Describe(info) + Caution + "\n"
+	return sum, depth.SaveFile(base+".summary.txt", []byte(sum))
 }
 
 // MaskConfidence marks the pixels of e's disparity and depth whose

@@ -1,44 +1,46 @@
-// Command estimate turns left camera images into metric depth with the
-// embedded network (or a weights file): for each image it writes a 16-bit
-// depth PNG in millimetres, a colour-mapped depth PNG and a short text
-// summary, and on request PFM maps and a PLY point cloud.
+// Command estimate turns left images (the embedded one-image network) or
+// rectified pairs (-stereo: the embedded stereo network; -method sgm: the
+// classical matcher) into metric depth: a 16-bit depth PNG in millimetres,
+// a colour-mapped PNG, a text summary, and on request PFM maps and a PLY.
+// Estimated depth is not a safety-rated sensor.
 //
 //	go run ./examples/estimate                       # the bundled demo image
 //	go run ./examples/estimate -rig rig.json -flip photos/ left.png
-//
-// Estimated depth is not a safety-rated sensor.
+//	go run ./examples/estimate -stereo -rig rig.json left.png right.png pairs/
+//	go run ./examples/estimate -method sgm -fill-holes -rig rig.json pairs/
 package main
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"flag"
 	"fmt"
+	"image"
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/demo"
+	"github.com/parallaxdepth/parallax/model/evaluation"
 	"github.com/parallaxdepth/parallax/progress"
 )
 
-const caution = `Caution: estimated depth is not a safety-rated sensor. Its errors grow with distance and it fails
-silently on glass, mirrors, textureless or repetitive surfaces, darkness and glare; a machine that
-acts on it needs independent obstacle sensing.`
-
 const usage = `usage: estimate [flags] [image or folder ...]
+       estimate -stereo|-method sgm [flags] LEFT RIGHT | folder with left/ and right/ ...
 
-Estimates depth from single left images (PNG or JPEG; folders are read in name
-order). Without arguments it runs on the bundled demo image. For each image NAME
-it writes into the output folder (-out):
+Estimates depth from single left images (PNG or JPEG; folders in name order), or with -stereo or
+-method sgm from rectified pairs (LEFT RIGHT files, or folders whose left/ and right/ hold views of
+the same names). Without arguments: the bundled demo image. For each NAME it writes into -out:
 
   NAME.depth-mm.png      16-bit grey depth in millimetres, 0 = no estimate
   NAME.depth-colour.png  depth colour-mapped by inverse depth (cubehelix, near is bright)
-  NAME.summary.txt       size, time, depth range and median
+  NAME.summary.txt       size, time, depth range and median, notes such as an assumed rig
 
 `
 
@@ -52,98 +54,97 @@ func main() {
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("estimate", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	weights := fs.String("weights", "", "weights file (safetensors, see package model); default: the embedded weights")
-	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error. Default: the rig of the bundled demo, which the\nembedded weights were made for")
+	method := fs.String("method", "network", "network (the weights) or sgm (semi-global matching of pairs, package sgm; no weights)")
+	stereo := fs.Bool("stereo", false, "the inputs are rectified pairs and the weights stereo weights (default: the embedded stereo weights)")
+	weights := fs.String("weights", "", "weights file (safetensors, see package model), of the kind the inputs ask for; default: the\nembedded one-image weights, or the embedded stereo weights with -stereo")
+	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error. Default: the rig of the bundled demo, which the\nembedded weights were made for, stretched to any image (said in every summary)")
 	out := fs.String("out", "parallax-estimates", "output folder, created if missing; files of the same names are replaced")
-	flip := fs.Bool("flip", false, "flip post-processing: also predict the mirrored image and blend (twice the time)")
+	flip := fs.Bool("flip", false, "flip post-processing of one-image weights: also predict the mirrored image and blend (twice the time)")
+	fill := fs.Bool("fill-holes", false, "with -method sgm: fill the matcher's holes along the scan line (filled pixels get confidence 0)")
+	maxShift := fs.Float64("max-row-shift", depth.DefaultMaxRowShift, "refuse a pair whose views are more than this many pixels apart vertically (not rectified;\nmeasured from row profiles, see depth.VerticalShift); 0: no check")
 	save := model.SaveOptions{}
 	fs.BoolVar(&save.PFM, "pfm", false, "also write NAME.disparity.pfm (pixels), NAME.depth.pfm (metres) and NAME.confidence.pfm")
 	fs.BoolVar(&save.PLY, "ply", false, "also write NAME.points.ply, a coloured point cloud in metres (binary little-endian)")
 	minConf := fs.Float64("min-confidence", 0, "mark pixels whose left-right confidence is below this value invalid in every output")
-	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings still go to stderr)")
-	fs.Usage = func() { fmt.Fprint(stderr, usage+caution+"\n\nFlags:\n"); fs.PrintDefaults() }
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
+	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings, such as an assumed rig, still go to stderr)")
+	fs.Usage = func() { fmt.Fprint(stderr, usage+model.Caution+"\n\nFlags:\n"); fs.PrintDefaults() }
+	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
+		return nil
+	} else if err != nil {
+		return fmt.Errorf("estimate: %w", err)
+	}
+	pairs, sgm := *stereo || *method == "sgm", *method == "sgm"
+	if *minConf < 0 || *minConf > 1 || *minConf != *minConf || *maxShift < 0 || (sgm && *weights != "") {
+		return fmt.Errorf("estimate: -min-confidence %v must be in [0, 1], -max-row-shift %v not negative; -method sgm takes no -weights", *minConf, *maxShift)
+	}
+	inputs, err := dataset.Inputs(fs.Args(), pairs)
+	if err != nil || (pairs && len(inputs) == 0) {
+		return fmt.Errorf("estimate: %w", cmp.Or(err, errors.New("-stereo and -method sgm need pairs: two files LEFT RIGHT, or a folder with left/ and right/")))
+	}
+	w, info := (*model.Weights)(nil), model.EstimateInfo{Flip: *flip, Method: evaluation.SGMTitle + ", holes " + map[bool]string{true: "filled along the scan line (confidence 0)", false: "left without estimate"}[*fill]}
+	if !sgm {
+		if w, err = model.LoadKind(*weights, pairs); err != nil {
+			return fmt.Errorf("estimate: %w (-stereo goes with stereo weights, single images with one-image weights)", err)
 		}
-		return fmt.Errorf("estimate: %w", err)
+		info.Weights, info.Method = model.DescribeWeights(w, *weights), ""
 	}
-	if *minConf < 0 || *minConf > 1 || *minConf != *minConf {
-		return fmt.Errorf("estimate: -min-confidence %v must be in [0, 1]", *minConf)
-	}
-	inputs, err := dataset.ImageInputs(fs.Args())
-	if err != nil {
-		return fmt.Errorf("estimate: %w", err)
-	}
-	w, err := model.LoadOrDefault(*weights)
-	if err != nil {
-		return err
-	}
-	rig, err := demo.Rig()
+	rig, rigErr := demo.Rig()
 	if *rigPath != "" {
-		rig, err = depth.LoadRig(*rigPath)
+		rig, rigErr = depth.LoadRig(*rigPath)
 	} else if len(inputs) > 0 {
-		fmt.Fprintf(stderr, "estimate: no -rig given: assuming the demo camera (focal %.1f px at %d px width, baseline %.3f m);\n"+
-			"          depth in metres is only right for that camera\n", rig.Fx, rig.Width, rig.Baseline)
+		info.Notes = []string{fmt.Sprintf("NO -rig GIVEN: metric depth assumes the demo camera (focal %.1f px at %d px width, baseline %.3f m)\n"+
+			"             stretched to each image: depth in metres is only right for that camera", rig.Fx, rig.Width, rig.Baseline)}
+		fmt.Fprintf(stderr, "estimate: %s (said in every summary)\n", info.Notes[0])
 	}
-	if err != nil {
-		return err
-	}
-	// Without -rig the demo rig is only a guess, already warned about: it is
-	// stretched to any image rather than refused.
-	est, err := model.NewEstimator(w, &model.EstimatorOptions{Rig: rig, StretchRig: *rigPath == "", Flip: *flip})
-	if err != nil {
-		return err
+	m, err := evaluation.NewMethod(*method, w, &evaluation.MethodOptions{Rig: rig, Depth: true, StretchRig: *rigPath == "", Flip: *flip, FillHoles: *fill})
+	if err = cmp.Or(rigErr, err); err != nil {
+		return fmt.Errorf("estimate: %w", err)
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return fmt.Errorf("estimate: %w", err)
 	}
 	if len(inputs) == 0 {
-		inputs = []dataset.ImageInput{{Name: demo.Name}}
+		inputs = []dataset.PairFiles{{Name: demo.Name}}
 	}
-	bar := progress.New(stderr, len(inputs), &progress.Options{Unit: "images", Mode: map[bool]progress.Mode{true: progress.Off}[*quiet || len(inputs) == 1]})
+	print := map[bool]io.Writer{true: io.Discard, false: stdout}[*quiet]
+	unit := map[bool]string{true: "pairs", false: "images"}[pairs]
+	bar := progress.New(stderr, len(inputs), &progress.Options{Unit: unit, Mode: map[bool]progress.Mode{true: progress.Off}[*quiet || len(inputs) == 1]})
 	defer bar.Done()
-	var first time.Duration
 	for i, in := range inputs {
-		img, err := demo.Left()
-		if in.Path != "" {
-			img, err = dataset.LoadImage(in.Path)
+		info.Source = map[bool]string{true: "bundled demo image (synthetic greenhouse aisle)", false: strings.TrimSuffix(in.Left+" + "+in.Right, " + ")}[in.Left == ""]
+		left, right, err := image.Image(nil), image.Image(nil), error(nil)
+		if left, err = demo.Left(); in.Left != "" {
+			left, right, err = in.Load()
+		}
+		if err == nil && right != nil && *maxShift > 0 {
+			err = depth.CheckRectified(left, right, *maxShift)
 		}
 		if err != nil {
-			return fmt.Errorf("estimate: %w", err)
+			return fmt.Errorf("estimate: %s: %w", info.Source, err)
 		}
 		start := time.Now()
-		e, err := est.Estimate(ctx, img)
+		e, err := m.EstimatePair(ctx, left, right)
 		if i == 0 && err == nil { // the first call also sets up buffers: the summary times a second one
-			first, start = time.Since(start), time.Now()
-			e, err = est.Estimate(ctx, img)
+			info.First, start = time.Since(start), time.Now()
+			e, err = m.EstimatePair(ctx, left, right)
 		}
-		elapsed := time.Since(start)
-		if err != nil {
+		if info.Elapsed = time.Since(start); err != nil {
 			return fmt.Errorf("estimate: %s%s: %w", in.Name, map[bool]string{true: " with -rig " + *rigPath}[*rigPath != ""], err)
 		}
 		e.MaskConfidence(float32(*minConf))
-		files, dropped, err := e.Save(filepath.Join(*out, in.Name), img, &save)
+		sum, err := e.SaveWithSummary(filepath.Join(*out, in.Name), left, &save, info)
 		if err != nil {
 			return err
 		}
-		src := map[bool]string{true: "bundled demo image (synthetic greenhouse aisle)", false: in.Path}[in.Path == ""]
-		sum := e.Describe(model.EstimateInfo{Source: src, Weights: model.DescribeWeights(w, *weights), Config: w.Config,
-			Elapsed: elapsed, First: first, Flip: *flip, Files: append(files, in.Name+".summary.txt"), Dropped: dropped}) + caution + "\n"
-		if err := depth.SaveFile(filepath.Join(*out, in.Name+".summary.txt"), []byte(sum)); err != nil {
-			return err
-		}
-		if !*quiet && len(inputs) == 1 {
-			fmt.Fprint(stdout, sum)
+		if len(inputs) == 1 {
+			fmt.Fprint(print, sum)
 		}
 		bar.Update(i+1, in.Name)
 	}
 	bar.Done()
-	if !*quiet && len(inputs) > 1 {
-		fmt.Fprintf(stdout, "%d images estimated\n%s\n", len(inputs), caution)
+	if len(inputs) > 1 {
+		fmt.Fprintf(print, "%d %s estimated\n%s\n", len(inputs), unit, model.Caution)
 	}
-	if !*quiet {
-		fmt.Fprintf(stdout, "output folder: %s\n", *out)
-	}
+	fmt.Fprintf(print, "output folder: %s\n", *out)
 	return nil
 }

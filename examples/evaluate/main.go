@@ -1,16 +1,15 @@
 // Command evaluate scores a depth method on stereo pairs with ground truth
-// (the layout of package dataset, as package synth writes it): the network
-// (the embedded weights or -weights) or the classical semi-global matcher
-// (-method sgm), at each pair's own resolution, with package
-// model/evaluation. Disparity is scored with the method's holes as 0 and
-// filled along the scan line, each table saying which. With -adapt N it
-// first fine-tunes the weights for N steps on the evaluated pairs
-// themselves (self-supervised: the ground truth is never used for
-// training) and prints one before/after table.
+// (package dataset's layout): one-image weights, stereo weights (-stereo),
+// embedded or -weights, or the semi-global matcher (-method sgm), at each
+// pair's own resolution, with package model/evaluation. Disparity is scored
+// with the method's holes as 0 and filled along the scan line. With -adapt
+// N it first fine-tunes the weights for N steps on the evaluated pairs
+// (self-supervised: the ground truth is never used for training) and
+// prints one before/after table.
 //
 //	go run ./examples/evaluate                         # testdata/synth/greenhouse
 //	go run ./examples/evaluate -flip -errors errs DIR
-//	go run ./examples/evaluate -adapt 200 DIR
+//	go run ./examples/evaluate -stereo -adapt 200 DIR
 //	go run ./examples/evaluate -method sgm -pair left.png,right.png,disp.pfm -rig rig.json
 package main
 
@@ -54,9 +53,10 @@ func main() {
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("evaluate", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	method := fs.String("method", "network", "what to score: network (the weights, from the left image) or sgm (semi-global matching of both images)")
-	weights := fs.String("weights", "", "weights file (safetensors); default: the embedded weights")
-	flip := fs.Bool("flip", false, "flip post-processing (see model.FlipBlend); with -adapt, half of the adaptation\nsamples are mirrored too")
+	method := fs.String("method", "network", "what to score: network (the weights) or sgm (semi-global matching of both images)")
+	stereo := fs.Bool("stereo", false, "score stereo weights (both images; default: the embedded stereo weights) instead of\none-image weights (the left image alone)")
+	weights := fs.String("weights", "", "weights file (safetensors) of the kind -stereo says; default: the embedded weights of that kind")
+	flip := fs.Bool("flip", false, "flip post-processing of one-image weights (see model.FlipBlend); with -adapt, half of the\nadaptation samples are mirrored too")
 	errDir := fs.String("errors", "", "folder for error maps: NAME.disp-error.png (|d̂ − d|, 0 … 3 px) and\nNAME.depth-error.png (|ẑ − z|/z, 0 … 0.25), colour-mapped, bright = large;\nwith -adapt, the maps after adaptation go into its subfolder adapted/")
 	var ad train.AdaptOptions
 	fs.IntVar(&ad.Steps, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
@@ -76,8 +76,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() > 1 || (*pair != "" && (fs.NArg() > 0 || len(files) != 3)) || (*pair == "" && *rigPath != "") {
 		return fmt.Errorf("evaluate: give one dataset folder, or -pair LEFT,RIGHT,DISP (and -rig) without a folder, not %q (see -help)", append(fs.Args(), *pair))
 	}
-	if ad.Steps < 0 || ad.Batch < 1 || (*method != "network" && (ad.Steps > 0 || *weights != "")) {
-		return fmt.Errorf("evaluate: -adapt %d, -adapt-batch %d: want -adapt ≥ 0, -adapt-batch ≥ 1; -adapt and -weights go with -method network", ad.Steps, ad.Batch)
+	if ad.Steps < 0 || ad.Batch < 1 || (*method != "network" && (ad.Steps > 0 || *weights != "" || *stereo)) {
+		return fmt.Errorf("evaluate: -adapt %d, -adapt-batch %d: want -adapt ≥ 0, -adapt-batch ≥ 1; -adapt, -weights and -stereo go with -method network", ad.Steps, ad.Batch)
 	}
 	ds, err := (*dataset.Set)(nil), error(nil)
 	if src == "" {
@@ -92,14 +92,14 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if _, hasDepth := evaluation.Scorable(ds); ds.Has(dataset.DepthLeft) && !hasDepth {
 		fmt.Fprintf(stderr, "evaluate: %s has depth truth but no rig: depth is not scored\n", src)
 	}
-	w, err := model.LoadOrDefault(*weights)
+	w, err := model.LoadKind(*weights, *stereo) // sgm runs none (NewMethod below)
 	if err != nil {
-		return err
+		return fmt.Errorf("evaluate: %w (-stereo goes with stereo weights)", err)
 	}
 	mode := map[bool]progress.Mode{true: progress.Off}[*quiet]
 	var phases []evaluation.Phase
 	score := func(phase string, w *model.Weights, dir string) ([]*evaluation.Report, error) {
-		m, err := evaluation.NewMethod(*method, w, ds.Rig, *flip)
+		m, err := evaluation.NewMethod(*method, map[bool]*model.Weights{true: w}[*method == "network"], &evaluation.MethodOptions{Rig: ds.Rig, Flip: *flip})
 		if err != nil {
 			return nil, fmt.Errorf("evaluate: %w", err)
 		}
@@ -115,7 +115,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		}
 		phases = append(phases, evaluation.Phase{Name: phase, Report: reps[0]}, evaluation.Phase{Name: phase, Report: reps[1]})
 		title := fmt.Sprintf("%s: %s — %s, %d pairs, flip %v", phase, map[bool]string{true: "weights " + model.DescribeWeights(w, *weights),
-			false: "semi-global matching (package sgm, default options, disparity range from the rig)"}[*method == "network"], src, len(ds.Pairs), *flip)
+			false: evaluation.SGMTitle}[*method == "network"], src, len(ds.Pairs), *flip)
 		if *csvOut || ad.Steps > 0 { // the CSV or the comparison comes at the end
 			fmt.Fprint(map[bool]io.Writer{true: io.Discard, false: stdout}[*csvOut], "\n"+title+"\n")
 			return reps, nil

@@ -39,8 +39,9 @@ func (m network) EstimatePair(ctx context.Context, left, right image.Image) (*mo
 func Network(e *model.Estimator) Method { return network{e} }
 
 type matcher struct {
-	m   *sgm.Matcher
-	rig *depth.Rig
+	m       *sgm.Matcher
+	rig     *depth.Rig
+	stretch bool
 }
 
 func (m matcher) EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error) {
@@ -53,20 +54,23 @@ func (m matcher) EstimatePair(ctx context.Context, left, right image.Image) (*mo
 		return e, nil
 	}
 	b := res.Disparity.Rect
-	if e.Rig, err = m.rig.Scaled(b.Dx(), b.Dy()); err != nil {
+	fit := m.rig.Scaled
+	if m.stretch {
+		fit = m.rig.Stretched
+	}
+	r, err := fit(b.Dx(), b.Dy())
+	if err != nil {
 		return nil, err
 	}
-	if e.Depth, err = e.Rig.DisparityToDepth(res.Disparity); err != nil {
-		return nil, err
-	}
-	return e, nil
+	return e, e.SetRig(r)
 }
 
 // SGM returns the Method that runs the semi-global matcher m on both
 // images; with a rig (rescaled to each pair's size, see depth.Rig.Scaled)
-// it also gives metric depth. The matcher's holes stay holes: choose how to
+// it also gives metric depth, with the rig's depth range applied
+// (model.Estimate.SetRig). The matcher's holes stay holes: choose how to
 // score them with ScoreOptions.Holes.
-func SGM(m *sgm.Matcher, rig *depth.Rig) Method { return matcher{m, rig} }
+func SGM(m *sgm.Matcher, rig *depth.Rig) Method { return matcher{m: m, rig: rig} }
 
 // ScoreMethod scores method on every pair of set like Score does for
 // weights; opt.Flip is not used (it belongs to the weights' Estimator).
@@ -251,31 +255,87 @@ func (h Holes) apply(d *depth.Disparity) (*depth.Disparity, error) {
 	return c, nil
 }
 
+// MethodOptions configure NewMethod. A nil *MethodOptions means the
+// defaults.
+type MethodOptions struct {
+	// Rig, if not nil, gives the semi-global matcher its disparity range
+	// (sgm.Options.Rig).
+	Rig *depth.Rig
+	// Depth makes the Method's estimates carry metric depth from Rig,
+	// rescaled to each image with depth.Rig.Scaled, or with Stretched if
+	// StretchRig (see model.EstimatorOptions). Leave it off for ScoreMethod,
+	// which sets each pair's own rig (model.Estimate.SetRig).
+	Depth, StretchRig bool
+	// Flip turns on the network's flip post-processing (one-image weights
+	// only: stereo weights already see the mirrored pair). Default false.
+	Flip bool
+	// FillHoles fills the matcher's holes along the scan line
+	// (sgm.Options.FillHoles); the network has none. Default false.
+	FillHoles bool
+}
+
+// SGMTitle describes the "sgm" method of NewMethod for titles and summaries.
+const SGMTitle = "semi-global matching (package sgm, default options, disparity range from the rig)"
+
+// Methods lists the names NewMethod knows, in the order a usage text gives
+// them.
+var Methods = []string{"network", "sgm"}
+
 // NewMethod returns the Method named name: "network" runs the weights w
-// (nil: the embedded default) through model.Estimator (see Network), with
-// flip post-processing if flip; "sgm" runs the semi-global matcher with its
-// default options on both images, its disparity range from rig if not nil.
-// Neither gives depth itself: scoring sets each pair's rig
-// (model.Estimate.SetRig).
-func NewMethod(name string, w *model.Weights, rig *depth.Rig, flip bool) (Method, error) {
+// (nil: the embedded one-image default) through model.Estimator (see
+// Network), "sgm" the semi-global matcher with its default options on both
+// images. It returns an error for an unknown name, an option that does not
+// belong to the method (Flip with sgm or with stereo weights, FillHoles
+// with the network), weights given to sgm, Depth without a rig, or bad
+// weights.
+func NewMethod(name string, w *model.Weights, opt *MethodOptions) (Method, error) {
+	var o MethodOptions
+	if opt != nil {
+		o = *opt
+	}
+	if o.Depth && o.Rig == nil {
+		return nil, errors.New("evaluation: MethodOptions.Depth needs a rig")
+	}
 	switch name {
 	case "network":
-		est, err := model.NewEstimator(w, &model.EstimatorOptions{Flip: flip})
+		if o.FillHoles {
+			return nil, errors.New("evaluation: filling holes belongs to sgm; the network leaves none to fill")
+		}
+		if w == nil {
+			var err error
+			if w, err = model.Default(); err != nil {
+				return nil, fmt.Errorf("evaluation: %w", err)
+			}
+		}
+		if a, err := w.Arch(); err == nil && a.IsStereo() && o.Flip {
+			return nil, errors.New("evaluation: flip post-processing is for one-image weights; stereo weights already see the mirrored pair")
+		}
+		eo := &model.EstimatorOptions{Flip: o.Flip}
+		if o.Depth {
+			eo.Rig, eo.StretchRig = o.Rig, o.StretchRig
+		}
+		est, err := model.NewEstimator(w, eo)
 		if err != nil {
 			return nil, fmt.Errorf("evaluation: %w", err)
 		}
 		return Network(est), nil
 	case "sgm":
-		if flip {
+		if o.Flip {
 			return nil, errors.New("evaluation: flip post-processing belongs to the network, not to sgm")
 		}
-		m, err := sgm.NewMatcher(&sgm.Options{Rig: rig})
+		if w != nil {
+			return nil, errors.New("evaluation: sgm takes no weights")
+		}
+		m, err := sgm.NewMatcher(&sgm.Options{Rig: o.Rig, FillHoles: o.FillHoles})
 		if err != nil {
 			return nil, fmt.Errorf("evaluation: %w", err)
 		}
+		if o.Depth {
+			return matcher{m: m, rig: o.Rig, stretch: o.StretchRig}, nil
+		}
 		return SGM(m, nil), nil
 	}
-	return nil, fmt.Errorf("evaluation: unknown method %q (network or sgm)", name)
+	return nil, fmt.Errorf("evaluation: unknown method %q (%s)", name, strings.Join(Methods, " or "))
 }
 
 // ErrorMaps returns a ScoreOptions.Inspect function that writes the error

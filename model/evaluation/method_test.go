@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/sgm"
 )
 
@@ -98,5 +99,67 @@ func TestScoreRules(t *testing.T) {
 	}
 	if len(reps[2].Notes()) != 2 || !strings.Contains(reps[2].Notes()[0], ": c") {
 		t.Errorf("notes %q", reps[2].Notes())
+	}
+}
+
+// TestNewMethodOptions: each option that does not belong to the method is
+// an error; with Depth the matcher's estimates carry the rig's metric
+// depth inside its range, stretched to an image of another aspect ratio
+// only with StretchRig.
+func TestNewMethodOptions(t *testing.T) {
+	st, err := model.DefaultStereo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name, method string
+		w            *model.Weights
+		opt          MethodOptions
+		want         string
+	}{
+		{"fill with the network", "network", nil, MethodOptions{FillHoles: true}, "holes belongs to sgm"},
+		{"flip with stereo", "network", st, MethodOptions{Flip: true}, "flip post-processing is for one-image weights"},
+		{"flip with sgm", "sgm", nil, MethodOptions{Flip: true}, "belongs to the network"},
+		{"weights for sgm", "sgm", st, MethodOptions{}, "sgm takes no weights"},
+		{"depth without a rig", "sgm", nil, MethodOptions{Depth: true}, "needs a rig"},
+		{"unknown", "census", nil, MethodOptions{}, `unknown method "census" (network or sgm)`},
+	} {
+		if _, err := NewMethod(c.method, c.w, &c.opt); err == nil || !strings.HasPrefix(err.Error(), "evaluation: ") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want an error with %q", c.name, err, c.want)
+		}
+	}
+	r, err := set.Read(0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := NewMethod("sgm", nil, &MethodOptions{Rig: set.Rig, Depth: true, FillHoles: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	e, err := m.EstimatePair(context.Background(), r.Left, r.Right)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e.Depth == nil || e.Rig == nil || e.Depth.Valid() == 0 {
+		t.Fatalf("sgm with Depth: no depth")
+	}
+	if zs := e.Depth.Stats(); float64(zs.Min) < set.Rig.MinDepth || float64(zs.Max) > set.Rig.MaxDepth {
+		t.Errorf("depth %v … %v m outside the rig's range %v … %v m", zs.Min, zs.Max, set.Rig.MinDepth, set.Rig.MaxDepth)
+	}
+	wide := *set.Rig // a rig for images twice as wide
+	wide.Width, wide.Fx, wide.Cx = 2*wide.Width, 2*wide.Fx, 2*wide.Cx+0.5
+	for _, stretch := range []bool{false, true} {
+		m, err := NewMethod("sgm", nil, &MethodOptions{Rig: &wide, Depth: true, StretchRig: stretch})
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, err = m.EstimatePair(context.Background(), r.Left, r.Right)
+		if (err == nil) != stretch {
+			t.Errorf("StretchRig %v with a rig of another aspect ratio: %v", stretch, err)
+		}
 	}
 }

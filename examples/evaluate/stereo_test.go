@@ -1,0 +1,73 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/safetensors"
+)
+
+// TestStereoAdapt: -stereo scores the embedded stereo weights on one
+// committed synthetic pair (-pair) and -adapt fine-tunes them for two
+// steps before the second evaluation; the titles name the stereo weights.
+func TestStereoAdapt(t *testing.T) {
+	g := filepath.Join("..", "..", "testdata", "synth", "greenhouse")
+	pair := strings.Join([]string{filepath.Join(g, "left", "000000.png"), filepath.Join(g, "right", "000000.png"), filepath.Join(g, "truth", "disp_left", "000000.pfm")}, ",")
+	var out, log bytes.Buffer
+	if err := run(context.Background(), []string{"-stereo", "-adapt", "2", "-adapt-batch", "1", "-quiet", "-pair", pair, "-rig", filepath.Join(g, "rig.json")}, &out, &log); err != nil {
+		t.Fatal(err)
+	}
+	st, err := model.DefaultStereo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := out.String()
+	for _, want := range []string{"before adaptation: weights embedded (" + st.Provenance[model.ProvenanceStatus] + ")", "after adaptation: weights embedded (train.batch=1",
+		"adaptation: 2 steps", "EPE px, holes as 0", "bad-3 %, holes filled along the scan line"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("output lacks %q:\n%s", want, s)
+		}
+	}
+}
+
+// TestStereoKind: the weights' kind must match -stereo, and -stereo goes
+// with the network; each error names the file or the flag.
+func TestStereoKind(t *testing.T) {
+	dir := t.TempDir()
+	files := map[bool]string{}
+	for _, stereo := range []bool{false, true} {
+		w, err := model.LoadKind("", stereo)
+		if err != nil {
+			t.Fatal(err)
+		}
+		files[stereo] = filepath.Join(dir, map[bool]string{true: "stereo", false: "mono"}[stereo]+".safetensors")
+		if err := w.Save(files[stereo], safetensors.F16); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, c := range []struct {
+		args []string
+		want []string
+	}{
+		{[]string{"-stereo", "-weights", files[false]}, []string{files[false], "one-image weights, not stereo weights"}},
+		{[]string{"-weights", files[true]}, []string{files[true], "stereo weights, not one-image weights"}},
+		{[]string{"-method", "sgm", "-stereo"}, []string{"-stereo go with -method network"}},
+		{[]string{"-stereo", "-flip"}, []string{"flip post-processing is for one-image weights"}},
+	} {
+		var out, log bytes.Buffer
+		err := run(context.Background(), append(c.args, "-quiet", filepath.Join("..", "..", "testdata", "synth", "greenhouse")), &out, &log)
+		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
+			t.Errorf("%q: %v, want an error", c.args, err)
+			continue
+		}
+		for _, w := range c.want {
+			if !strings.Contains(err.Error(), w) {
+				t.Errorf("%q: %v\nwant it to name %q", c.args, err, w)
+			}
+		}
+	}
+}
