@@ -54,18 +54,21 @@ func pathStart(cur []uint16, cost []uint8, sum, base []uint16) uint16 {
 	return m
 }
 
-// pathRun is n steps of aggregation, along one path or across n lines:
-// step j computes the vector at cur[curOff+j·curStep:] from the one at
-// prev[prevOff+j·prevStep:] (np values and its sentinel tail), the costs
-// at cost[costOff+j·costStep:], which it also adds to sum at the same
-// offsets, the large-jump penalty p2[j] and the previous vector's minimum
-// pmin[pminOff+j·pminStep]; it writes the new minimum to
-// cmin[cminOff+j·cminStep]. A step may read what an earlier step wrote
-// (a path: prev = cur one step back). With store, the vectors are stored
-// in sum instead of added: the first path of a pixel. With base (and not
-// store), sum receives base plus the vector: base holds the other paths'
-// sums at the same offsets, and sum is scratch. It panics if a step would
-// reach outside a slice or np is not a positive multiple of 16.
+// pathRun is m rounds of n steps of aggregation, along one path or across
+// n lines: step j of round i computes the vector at cur[curOff+j·curStep+
+// i·curOuter:] from the one at prev[prevOff+j·prevStep+i·prevOuter:] (np
+// values and its sentinel tail), the costs at cost[costOff+j·costStep+
+// i·costOuter:], which it also adds to sum at the same offsets, the
+// large-jump penalty p2[p2Off+j+i·p2Outer] and the previous vector's
+// minimum pmin[pminOff+j·pminStep+i·pminOuter]; it writes the new minimum
+// to cmin[cminOff+j·cminStep+i·cminOuter]. m = 0 means one round. A step
+// may read what an earlier step wrote (a path: prev = cur one step back;
+// or n lines, one step per line in each round, each round one pixel
+// further along every line). With store, the vectors are stored in sum
+// instead of added: the first path of a pixel. With base (and not store),
+// sum receives base plus the vector: base holds the other paths' sums at
+// the same offsets, and sum is scratch. It panics if a step would reach
+// outside a slice or np is not a positive multiple of 16.
 type pathRun struct {
 	cur, prev                          []uint16
 	curOff, curStep, prevOff, prevStep int
@@ -73,71 +76,85 @@ type pathRun struct {
 	sum, base                          []uint16
 	costOff, costStep                  int
 	p2                                 []uint16
+	p2Off                              int
 	pmin, cmin                         []uint16
 	pminOff, pminStep                  int
 	cminOff, cminStep                  int
 	n, np                              int
 	p1                                 uint16
 	store                              bool
+
+	m                                       int
+	curOuter, prevOuter, costOuter, p2Outer int
+	pminOuter, cminOuter                    int
 }
+
+// rounds returns the number of rounds.
+func (r *pathRun) rounds() int { return max(r.m, 1) }
 
 // check panics unless every step stays inside the slices.
 func (r *pathRun) check() {
 	if r.np <= 0 || r.np%16 != 0 {
 		panic(fmt.Sprintf("sgm: pathRun with %d levels", r.np))
 	}
-	if r.n <= 0 {
+	if r.n <= 0 || r.m < 0 {
 		return
 	}
-	span := func(name string, off, step, width, length int) {
-		first, last := off, off+(r.n-1)*step
-		if min(first, last) < 0 || max(first, last)+width > length {
+	m := r.rounds()
+	span := func(name string, off, step, outer, width, length int) {
+		a, b := off, off+(r.n-1)*step
+		c, d := a+(m-1)*outer, b+(m-1)*outer
+		first, last := min(a, b, c, d), max(a, b, c, d)
+		if first < 0 || last+width > length {
 			panic(fmt.Sprintf("sgm: pathRun: %s steps %d … %d (+%d) outside a slice of %d", name, first, last, width, length))
 		}
 	}
-	span("cur", r.curOff, r.curStep, r.np, len(r.cur))
-	span("prev", r.prevOff, r.prevStep, r.np+vecPad, len(r.prev))
-	span("cost", r.costOff, r.costStep, r.np, len(r.cost))
-	span("sum", r.costOff, r.costStep, r.np, len(r.sum))
+	span("cur", r.curOff, r.curStep, r.curOuter, r.np, len(r.cur))
+	span("prev", r.prevOff, r.prevStep, r.prevOuter, r.np+vecPad, len(r.prev))
+	span("cost", r.costOff, r.costStep, r.costOuter, r.np, len(r.cost))
+	span("sum", r.costOff, r.costStep, r.costOuter, r.np, len(r.sum))
 	if r.base != nil {
-		span("base", r.costOff, r.costStep, r.np, len(r.base))
+		span("base", r.costOff, r.costStep, r.costOuter, r.np, len(r.base))
 	}
-	span("p2", 0, 1, 1, len(r.p2))
-	span("pmin", r.pminOff, r.pminStep, 1, len(r.pmin))
-	span("cmin", r.cminOff, r.cminStep, 1, len(r.cmin))
+	span("p2", r.p2Off, 1, r.p2Outer, 1, len(r.p2))
+	span("pmin", r.pminOff, r.pminStep, r.pminOuter, 1, len(r.pmin))
+	span("cmin", r.cminOff, r.cminStep, r.cminOuter, 1, len(r.cmin))
 }
 
 // runGeneric is pathRun's portable kernel.
 func (r *pathRun) runGeneric() {
 	np := r.np
 	p1 := uint32(r.p1)
-	for j := range r.n {
-		cur := r.cur[r.curOff+j*r.curStep:][:np]
-		prev := r.prev[r.prevOff+j*r.prevStep:][:np+1]
-		cost := r.cost[r.costOff+j*r.costStep:][:np]
-		sum := r.sum[r.costOff+j*r.costStep:][:np]
-		base := sum
-		if r.base != nil {
-			base = r.base[r.costOff+j*r.costStep:][:np]
-		}
-		prevMin := uint32(r.pmin[r.pminOff+j*r.pminStep])
-		jump := min(prevMin+uint32(r.p2[j]), noPath)
-		m := uint32(noPath)
-		left := uint32(noPath) // prev[d−1]
-		for d, c := range cost {
-			p := uint32(prev[d])
-			v := min(p, left+p1, uint32(prev[d+1])+p1, jump)
-			left = p
-			v += uint32(c) - prevMin
-			cur[d] = uint16(v)
-			if r.store {
-				sum[d] = uint16(v)
-			} else {
-				sum[d] = base[d] + uint16(v)
+	for i := range r.rounds() {
+		for j := range r.n {
+			o := r.costOff + j*r.costStep + i*r.costOuter
+			cur := r.cur[r.curOff+j*r.curStep+i*r.curOuter:][:np]
+			prev := r.prev[r.prevOff+j*r.prevStep+i*r.prevOuter:][:np+1]
+			cost := r.cost[o:][:np]
+			sum := r.sum[o:][:np]
+			base := sum
+			if r.base != nil {
+				base = r.base[o:][:np]
 			}
-			m = min(m, v)
+			prevMin := uint32(r.pmin[r.pminOff+j*r.pminStep+i*r.pminOuter])
+			jump := min(prevMin+uint32(r.p2[r.p2Off+j+i*r.p2Outer]), noPath)
+			m := uint32(noPath)
+			left := uint32(noPath) // prev[d−1]
+			for d, c := range cost {
+				p := uint32(prev[d])
+				v := min(p, left+p1, uint32(prev[d+1])+p1, jump)
+				left = p
+				v += uint32(c) - prevMin
+				cur[d] = uint16(v)
+				if r.store {
+					sum[d] = uint16(v)
+				} else {
+					sum[d] = base[d] + uint16(v)
+				}
+				m = min(m, v)
+			}
+			r.cmin[r.cminOff+j*r.cminStep+i*r.cminOuter] = uint16(m)
 		}
-		r.cmin[r.cminOff+j*r.cminStep] = uint16(m)
 	}
 }
 

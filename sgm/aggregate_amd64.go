@@ -14,12 +14,15 @@ var hasAVX2 = cpu.X86.HasAVX2
 func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
 
 func (r *pathRun) runAVX2() {
-	base := &r.sum[r.costOff]
-	if r.base != nil && !r.store {
-		base = &r.base[r.costOff]
+	for i := range r.rounds() {
+		o := r.costOff + i*r.costOuter
+		base := &r.sum[o]
+		if r.base != nil && !r.store {
+			base = &r.base[o]
+		}
+		pathRunAVX2(&r.cur[r.curOff+i*r.curOuter], &r.prev[r.prevOff+i*r.prevOuter], r.curStep, r.prevStep, &r.cost[o], &r.sum[o], base, r.costStep,
+			&r.p2[r.p2Off+i*r.p2Outer], &r.pmin[r.pminOff+i*r.pminOuter], r.pminStep, &r.cmin[r.cminOff+i*r.cminOuter], r.cminStep, r.n, r.np, r.p1, r.store)
 	}
-	pathRunAVX2(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
-		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store)
 }
 
 // useAVX512BW selects the AVX-512 aggregation kernel.
@@ -28,7 +31,8 @@ var useAVX512BW = hasAVX512BW
 var hasAVX512BW = cpu.X86.HasAVX512F && cpu.X86.HasAVX512BW
 
 //go:noescape
-func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool)
+func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool,
+	m, curOuter, prevOuter, costOuter, p2Outer, pminOuter, cminOuter int)
 
 func (r *pathRun) runAVX512() {
 	base := &r.sum[r.costOff]
@@ -36,9 +40,10 @@ func (r *pathRun) runAVX512() {
 		base = &r.base[r.costOff]
 	}
 	// Chained: step j+1 reads the minimum step j wrote.
-	chained := &r.pmin[0] == &r.cmin[0] && len(r.pmin) == len(r.cmin) && r.pminStep == r.cminStep && r.pminOff+r.pminStep == r.cminOff
+	chained := r.rounds() == 1 && &r.pmin[0] == &r.cmin[0] && len(r.pmin) == len(r.cmin) && r.pminStep == r.cminStep && r.pminOff+r.pminStep == r.cminOff
 	pathRunAVX512(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
-		&r.p2[0], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store, chained)
+		&r.p2[r.p2Off], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store, chained,
+		r.rounds(), r.curOuter, r.prevOuter, r.costOuter, r.p2Outer, r.pminOuter, r.cminOuter)
 }
 
 //go:noescape

@@ -350,7 +350,8 @@ level:
 	VZEROUPPER
 	RET
 
-// func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool)
+// func pathRunAVX512(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store, chained bool,
+//	m, curOuter, prevOuter, costOuter, p2Outer, pminOuter, cminOuter int)
 //
 // pathRunAVX2 with 32 levels per instruction (AVX-512 BW): blocks of 32
 // levels, then a block of 16 when np is not a multiple of 32, whose upper
@@ -358,9 +359,11 @@ level:
 // next blocks by VALIGNQ + VPALIGNR; every block is loaded once, with the
 // width it was stored with, so that a chained step reads the vector the
 // step before stored from the store buffer. With chained (each step's
-// pmin is the cmin the step before wrote), the minimum goes to the next
-// step in a register, not through memory.
-TEXT ·pathRunAVX512(SB), NOSPLIT, $0-124
+// pmin is the cmin the step before wrote; one round), the minimum goes to
+// the next step in a register, not through memory. After each round of n
+// steps every pointer moves to the next round's start (the m argument is
+// the countdown).
+TEXT ·pathRunAVX512(SB), NOSPLIT, $0-184
 	MOVQ cur+0(FP), DI
 	MOVQ prev+8(FP), SI
 	MOVQ cost+32(FP), R8
@@ -485,12 +488,51 @@ reduce:
 	LEAQ (R11)(AX*2), R11
 	MOVQ cminStep+96(FP), AX
 	LEAQ (R12)(AX*2), R12
-	CMPB chained+123(FP), $0
-	JNE chain
-	VPBROADCASTW (R11), Z14
-chain:
 	DECQ CX
-	JNZ step
+	JZ round
+	CMPB chained+123(FP), $0
+	JNE step
+	VPBROADCASTW (R11), Z14
+	JMP step
 
+round:
+	DECQ m+128(FP)
+	JZ done
+	// Each pointer has moved n steps: move it by outer − n·step.
+	MOVQ n+104(FP), CX
+	MOVQ curStep+16(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ curOuter+136(FP), AX
+	LEAQ (DI)(AX*2), DI
+	MOVQ prevStep+24(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ prevOuter+144(FP), AX
+	LEAQ (SI)(AX*2), SI
+	MOVQ costStep+56(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ costOuter+152(FP), AX
+	ADDQ AX, R8
+	LEAQ (R9)(AX*2), R9
+	LEAQ (DX)(AX*2), DX
+	MOVQ p2Outer+160(FP), AX
+	SUBQ CX, AX
+	LEAQ (R10)(AX*2), R10
+	MOVQ pminStep+80(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ pminOuter+168(FP), AX
+	LEAQ (R11)(AX*2), R11
+	MOVQ cminStep+96(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ cminOuter+176(FP), AX
+	LEAQ (R12)(AX*2), R12
+	VPBROADCASTW (R11), Z14
+	JMP step
+
+done:
 	VZEROUPPER
 	RET

@@ -142,3 +142,87 @@ func TestPathRunChecks(t *testing.T) {
 	}()
 	run.run()
 }
+
+// roundsRun builds a pathRun of rounds over random data laid out as the
+// row phase lays out n rows of w pixels: n lines (rows) per round, each
+// round one pixel further along every row, forwards or backwards.
+func roundsRun(r *rand.Rand, np, n, w int, backwards bool) *pathRun {
+	vs := np + vecPad
+	cur := make([]uint16, w*n*vs)
+	for i := range cur {
+		cur[i] = uint16(r.IntN(3000))
+	}
+	initSentinels(cur, np)
+	cost := make([]uint8, n*w*np)
+	sum := make([]uint16, n*w*np)
+	for i := range cost {
+		cost[i] = uint8(r.IntN(64))
+		sum[i] = uint16(r.IntN(20000))
+	}
+	p2 := make([]uint16, w*n)
+	mins := make([]uint16, w*n)
+	for i := range p2 {
+		p2[i] = uint16(8 + r.IntN(200))
+		mins[i] = slices.Min(cur[i*vs : i*vs+np])
+	}
+	run := &pathRun{cur: cur, prev: cur, cost: cost, sum: sum, p2: p2, pmin: mins, cmin: mins, n: n, np: np, p1: uint16(1 + r.IntN(15)), m: w - 1,
+		curStep: vs, prevStep: vs, costStep: w * np, pminStep: 1, cminStep: 1}
+	if !backwards { // pixel x from pixel x−1
+		run.curOff, run.prevOff, run.costOff, run.p2Off, run.pminOff, run.cminOff = n*vs, 0, np, n, 0, n
+		run.curOuter, run.prevOuter, run.costOuter, run.p2Outer, run.pminOuter, run.cminOuter = n*vs, n*vs, np, n, n, n
+	} else { // pixel x from pixel x+1
+		run.curOff, run.prevOff, run.costOff, run.p2Off, run.pminOff, run.cminOff = (w-2)*n*vs, (w-1)*n*vs, (w-2)*np, (w-1)*n, (w-1)*n, (w-2)*n
+		run.curOuter, run.prevOuter, run.costOuter, run.p2Outer, run.pminOuter, run.cminOuter = -n*vs, -n*vs, -np, -n, -n, -n
+	}
+	return run
+}
+
+// The kernels agree on runs of rounds (the row phase's layout), both ways,
+// adding to sum and to a separate base.
+func TestPathRunRounds(t *testing.T) {
+	r := rand.New(rand.NewPCG(8, 9))
+	for _, np := range []int{16, 48, 64, 80} {
+		for _, backwards := range []bool{false, true} {
+			for _, withBase := range []bool{false, true} {
+				g := roundsRun(r, np, 1+r.IntN(5), 2+r.IntN(30), backwards)
+				if withBase {
+					g.base = make([]uint16, len(g.sum))
+					for i := range g.base {
+						g.base[i] = uint16(r.IntN(20000))
+					}
+				}
+				a, z := cloneRun(g), cloneRun(g)
+				g.check()
+				g.runGeneric()
+				// The same run as one round per pixel, stepped by hand.
+				h := cloneRun(a)
+				for i := range h.rounds() {
+					s := *h
+					s.m = 0
+					s.curOff += i * h.curOuter
+					s.prevOff += i * h.prevOuter
+					s.costOff += i * h.costOuter
+					s.p2Off += i * h.p2Outer
+					s.pminOff += i * h.pminOuter
+					s.cminOff += i * h.cminOuter
+					s.runGeneric()
+				}
+				if !slices.Equal(g.cur, h.cur) || !slices.Equal(g.sum, h.sum) || !slices.Equal(g.cmin, h.cmin) {
+					t.Fatalf("np %d, backwards %v: rounds differ from single rounds", np, backwards)
+				}
+				if hasAVX2 {
+					a.runAVX2()
+					if !slices.Equal(g.cur, a.cur) || !slices.Equal(g.sum, a.sum) || !slices.Equal(g.cmin, a.cmin) {
+						t.Errorf("np %d, backwards %v, base %v: AVX2 kernel differs from the portable one", np, backwards, withBase)
+					}
+				}
+				if hasAVX512BW {
+					z.runAVX512()
+					if !slices.Equal(g.cur, z.cur) || !slices.Equal(g.sum, z.sum) || !slices.Equal(g.cmin, z.cmin) {
+						t.Errorf("np %d, backwards %v, base %v: AVX-512 kernel differs from the portable one", np, backwards, withBase)
+					}
+				}
+			}
+		}
+	}
+}

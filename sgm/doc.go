@@ -62,18 +62,20 @@
 //     about 17 bytes a pixel (the grey and padded grey images, disparity,
 //     validity and confidence, the speckle labels; 4 more with
 //     MinTexture); and, for each row range running at once (at most
-//     GOMAXPROCS), a row of sums with the horizontal paths, a row of path
-//     vectors and the census words of a row. With the result's maps that
-//     is 3.7 bytes a cell at 370×250 with 48 levels and 3.4 at 640×480
+//     GOMAXPROCS), two to four rows of sums with the horizontal paths and
+//     of path vectors, and the census words of a row. With the result's maps that
+//     is 3.8 bytes a cell at 370×250 with 48 levels and 3.4 at 640×480
 //     with 80, on 2 goroutines (TestMemoryPerCell). Workers keep their
 //     buffers for the next call.
 //   - Order of work, chosen to read and write the big arrays few times:
 //     per range of rows, the census and costs; per band of columns (and of
 //     diagonals), the vertical paths, the first storing the sums; per range
-//     of rows again, the horizontal paths into a row of scratch, the
-//     selection and the speckle labelling of the range while the row is
-//     in cache; the speckle regions joined across ranges; and per range,
-//     the speckle sweep, the hole fill and the copy into the result.
+//     of rows again, the horizontal paths into rows of scratch, two to four
+//     rows advancing together so that the kernel has independent vectors
+//     to work on (a path's steps depend on each other), the selection and
+//     the speckle labelling of the range while the rows are in cache; the
+//     speckle regions joined across ranges; and per range, the speckle
+//     sweep, the hole fill and the copy into the result.
 //   - Speed: the path aggregation has AVX-512 BW and AVX2 kernels, the
 //     census comparisons and the winner searches AVX2 ones, the matching
 //     costs an AVX-512 one (VPOPCNTQ), chosen at start from the CPU's

@@ -176,8 +176,10 @@ func (m *Matcher) release(wk *worker) { m.idle <- wk }
 
 // Parallel work is split by the problem's size only.
 const (
-	maxRowRanges = 16 // ranges of rows in the row-wise phases (each holds a row of path vectors)
-	bandLines    = 64 // path lines per range in the vertical and diagonal phases
+	maxRowRanges = 16        // ranges of rows in the row-wise phases (each holds a row of path vectors)
+	bandLines    = 64        // path lines per range in the vertical and diagonal phases
+	rowGroup     = 4         // rows whose horizontal paths advance together, at most (at least 2: select's scratch)
+	groupBytes   = 768 << 10 // a group's costs, sums and vectors: fewer rows if they would not stay in a core's cache
 )
 
 // worker holds one call's buffers, grown as needed and reused.
@@ -207,11 +209,12 @@ type worker struct {
 	texPre    []int32  // per row of the left image: prefix sums of |Δx grey|, w+1 each (with MinTexture only)
 	cost      []uint8  // w×h×np
 	sum       []uint16 // w×h×np: the vertical (and diagonal) paths' sums
-	rowSum    []uint16 // per set: w×np, a row's sums with the horizontal paths
+	rowSum    []uint16 // per set: group rows of w×np, the sums with the horizontal paths
 	rowGrain  int      // rows per range of the row-wise phases
-	rowVec    []uint16 // per set: w path vectors
-	rowMin    []uint16 // per set: w minima
-	rowP2     []uint16 // per set: 2×w penalties
+	group     int      // rows whose horizontal paths advance together: 2 … rowGroup
+	rowVec    []uint16 // per set: group×w path vectors
+	rowMin    []uint16 // per set: group×w minima
+	rowP2     []uint16 // per set: group×w penalties
 	rowInt    []int32  // per set: 2×w
 	slide     []uint16 // per set: 2 vectors for the right view's winners
 	rev       []uint64 // per set: 2w+np census words of a right row, reversed
@@ -283,16 +286,20 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 			wk.sets <- k
 		}
 	}
-	wk.rowVec = grow(wk.rowVec, sets*w*vs)
+	wk.group = rowGroup
+	for wk.group > 2 && wk.group*w*(5*wk.np+2*vs) > groupBytes {
+		wk.group /= 2
+	}
+	wk.rowVec = grow(wk.rowVec, sets*wk.group*w*vs)
 	initSentinels(wk.rowVec, wk.np)
-	wk.rowMin = grow(wk.rowMin, sets*w)
-	wk.rowP2 = grow(wk.rowP2, sets*2*w)
+	wk.rowMin = grow(wk.rowMin, sets*wk.group*w)
+	wk.rowP2 = grow(wk.rowP2, sets*wk.group*w)
 	wk.rowInt = grow(wk.rowInt, sets*2*w)
 	wk.slide = grow(wk.slide, sets*2*vs)
 	wk.rev = grow(wk.rev, sets*(2*w+wk.np))
 	wk.censusAcc = grow(wk.censusAcc, sets*8*w)
 	wk.cens = grow(wk.cens, sets*2*w)
-	wk.rowSum = grow(wk.rowSum, sets*w*wk.np)
+	wk.rowSum = grow(wk.rowSum, sets*wk.group*w*wk.np)
 	lines := w + h - 1
 	wk.lineVec = grow(wk.lineVec, 2*lines*vs)
 	initSentinels(wk.lineVec, wk.np)
@@ -418,43 +425,58 @@ func (wk *worker) censusRange(lo, hi int) {
 	}
 }
 
-// rowRange finishes rows [lo, hi): it adds the two horizontal paths to
-// each row's sums from the other paths, in a row of scratch (or in sum
-// itself, with inPlace), and selects the row's disparities from them;
-// then it labels the range's speckle regions (speckle.go).
+// rowRange finishes rows [lo, hi), wk.group rows at a time: it adds the
+// two horizontal paths to the rows' sums from the other paths, in rows of
+// scratch (or in sum itself, with inPlace), the rows' paths advancing
+// together one pixel a round so that the kernel has that many independent
+// vectors at a time, and selects the rows' disparities from them; then it
+// labels the range's speckle regions (speckle.go).
 func (wk *worker) rowRange(lo, hi int) {
 	w, np := wk.w, wk.np
 	vs := np + vecPad
+	R := wk.group
 	ri := <-wk.sets
 	defer func() { wk.sets <- ri }()
-	vecs := wk.rowVec[ri*w*vs : (ri+1)*w*vs]
-	mins := wk.rowMin[ri*w : (ri+1)*w]
-	p2lr := wk.rowP2[2*ri*w : (2*ri+1)*w]
-	p2rl := wk.rowP2[(2*ri+1)*w : (2*ri+2)*w]
-	for y := lo; y < hi; y++ {
-		cost := wk.cost[y*w*np : (y+1)*w*np]
-		base := wk.sum[y*w*np : (y+1)*w*np]
+	vecs := wk.rowVec[ri*R*w*vs : (ri+1)*R*w*vs] // pixel x of row r at (x·R + r)·vs
+	mins := wk.rowMin[ri*R*w : (ri+1)*R*w]       // at x·R + r
+	p2 := wk.rowP2[ri*R*w : (ri+1)*R*w]          // at x·R + r: between pixels x−1 and x
+	for y0 := lo; y0 < hi; y0 += R {
+		rr := min(R, hi-y0)
+		cost := wk.cost[y0*w*np : (y0+rr)*w*np]
+		base := wk.sum[y0*w*np : (y0+rr)*w*np]
 		sum := base
 		if !wk.inPlace {
-			sum = wk.rowSum[ri*w*np : (ri+1)*w*np]
+			sum = wk.rowSum[ri*R*w*np : (ri*R+rr)*w*np]
 		}
-		g := wk.greyL[y*w : (y+1)*w]
-		for x := 1; x < w; x++ {
-			p := wk.p2[absDiff(g[x], g[x-1])]
-			p2lr[x] = p
-			p2rl[w-1-x] = p
+		for r := range rr {
+			g := wk.greyL[(y0+r)*w : (y0+r+1)*w]
+			for x := 1; x < w; x++ {
+				p2[x*R+r] = wk.p2[absDiff(g[x], g[x-1])]
+			}
+			o := r * w * np
+			mins[r] = pathStart(vecs[r*vs:], cost[o:o+np], sum[o:o+np], base[o:o+np])
 		}
-		mins[0] = pathStart(vecs, cost[:np], sum[:np], base[:np])
-		r := pathRun{cur: vecs, prev: vecs, curOff: vs, curStep: vs, prevOff: 0, prevStep: vs,
-			cost: cost, sum: sum, base: base, costOff: np, costStep: np, p2: p2lr[1:],
-			pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, cminOff: 1, cminStep: 1, n: w - 1, np: np, p1: wk.p1}
-		r.run()
-		mins[w-1] = pathStart(vecs[(w-1)*vs:], cost[(w-1)*np:], sum[(w-1)*np:], sum[(w-1)*np:])
-		r = pathRun{cur: vecs, prev: vecs, curOff: (w - 2) * vs, curStep: -vs, prevOff: (w - 1) * vs, prevStep: -vs,
-			cost: cost, sum: sum, costOff: (w - 2) * np, costStep: -np, p2: p2rl[:w-1],
-			pmin: mins, cmin: mins, pminOff: w - 1, pminStep: -1, cminOff: w - 2, cminStep: -1, n: w - 1, np: np, p1: wk.p1}
-		r.run()
-		wk.selectRow(y, ri, sum)
+		if w > 1 {
+			run := pathRun{cur: vecs, prev: vecs, curOff: R * vs, curStep: vs, curOuter: R * vs, prevOff: 0, prevStep: vs, prevOuter: R * vs,
+				cost: cost, sum: sum, base: base, costOff: np, costStep: w * np, costOuter: np, p2: p2, p2Off: R, p2Outer: R,
+				pmin: mins, cmin: mins, pminOff: 0, pminStep: 1, pminOuter: R, cminOff: R, cminStep: 1, cminOuter: R,
+				n: rr, m: w - 1, np: np, p1: wk.p1}
+			run.run()
+		}
+		for r := range rr {
+			o, v := r*w*np+(w-1)*np, ((w-1)*R+r)*vs
+			mins[(w-1)*R+r] = pathStart(vecs[v:], cost[o:o+np], sum[o:o+np], sum[o:o+np])
+		}
+		if w > 1 {
+			run := pathRun{cur: vecs, prev: vecs, curOff: (w - 2) * R * vs, curStep: vs, curOuter: -R * vs, prevOff: (w - 1) * R * vs, prevStep: vs, prevOuter: -R * vs,
+				cost: cost, sum: sum, costOff: (w - 2) * np, costStep: w * np, costOuter: -np, p2: p2, p2Off: (w - 1) * R, p2Outer: -R,
+				pmin: mins, cmin: mins, pminOff: (w - 1) * R, pminStep: 1, pminOuter: -R, cminOff: (w - 2) * R, cminStep: 1, cminOuter: -R,
+				n: rr, m: w - 1, np: np, p1: wk.p1}
+			run.run()
+		}
+		for r := range rr {
+			wk.selectRow(y0+r, ri, sum[r*w*np:(r+1)*w*np])
+		}
 	}
 	if o := wk.opt; o.SpeckleSize != Off {
 		wk.speckles.label(wk.disp, wk.valid, w, lo, hi, float32(o.SpeckleJump))
@@ -582,7 +604,7 @@ func (wk *worker) selectRow(y, ri int, sum []uint16) {
 	o := wk.opt
 	scratch := wk.rowInt[ri*2*w : (ri+1)*2*w]
 	best, rarg := scratch[:w], scratch[w:]
-	vals := wk.rowP2[ri*2*w : (ri+1)*2*w] // the penalties' scratch, free after the row's paths
+	vals := wk.rowP2[ri*wk.group*w : ri*wk.group*w+2*w] // the penalties' scratch, free after the rows' paths
 	bestV, second := vals[:w], vals[w:]
 	vs := np + vecPad
 	slide := wk.slide[ri*2*vs : (ri+1)*2*vs]
