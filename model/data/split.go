@@ -3,6 +3,7 @@ package data
 import (
 	"fmt"
 	"math/rand/v2"
+	"slices"
 
 	"github.com/parallaxdepth/parallax/dataset"
 )
@@ -26,7 +27,7 @@ func Split(ds *dataset.Set, valFraction float64, seed uint64) (train, val *datas
 		return nil, nil, fmt.Errorf("data: cannot split %d pairs into training and validation by %v", n, valFraction)
 	}
 	if nv == 0 {
-		return &dataset.Set{Dir: ds.Dir, Rig: ds.Rig, Truth: ds.Truth, Pairs: ds.Pairs}, nil, nil
+		return &dataset.Set{Dir: ds.Dir, Rig: ds.Rig, Truth: ds.Truth, Pairs: slices.Clone(ds.Pairs)}, nil, nil
 	}
 	perm := permutation(n, rand.New(rand.NewPCG(seed, splitStream)))
 	isVal := make([]bool, n)
