@@ -135,13 +135,19 @@ func (c Config) validateStereo() error {
 // mirror images (see the package documentation).
 func (a *Arch) IsStereo() bool { return a.Config.Arch == StereoArchName }
 
-// Kind returns "stereo" or "one-image", the kind of weights a names in
+// The kinds of weights that Arch.Kind and Estimator.Kind return.
+const (
+	KindStereo   = "stereo"    // the network reads both views (EstimatePair)
+	KindOneImage = "one-image" // the network reads the left view alone
+)
+
+// Kind returns KindStereo or KindOneImage, the kind of weights a names in
 // errors.
 func (a *Arch) Kind() string {
 	if a.IsStereo() {
-		return "stereo"
+		return KindStereo
 	}
-	return "one-image"
+	return KindOneImage
 }
 
 // buildStereo lays out the stereo network for c (valid, defaults filled).

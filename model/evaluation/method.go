@@ -27,7 +27,7 @@ type Method interface {
 type network struct{ e *model.Estimator }
 
 func (m network) EstimatePair(ctx context.Context, left, right image.Image) (*model.Estimate, error) {
-	if m.e.Kind() == "stereo" {
+	if m.e.Kind() == model.KindStereo {
 		return m.e.EstimatePair(ctx, left, right)
 	}
 	return m.e.Estimate(ctx, left)
