@@ -11,18 +11,17 @@ var useAVX2 = hasAVX2
 var hasAVX2 = cpu.X86.HasAVX2
 
 //go:noescape
-func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool,
+	m, curOuter, prevOuter, costOuter, p2Outer, pminOuter, cminOuter int)
 
 func (r *pathRun) runAVX2() {
-	for i := range r.rounds() {
-		o := r.costOff + i*r.costOuter
-		base := &r.sum[o]
-		if r.base != nil && !r.store {
-			base = &r.base[o]
-		}
-		pathRunAVX2(&r.cur[r.curOff+i*r.curOuter], &r.prev[r.prevOff+i*r.prevOuter], r.curStep, r.prevStep, &r.cost[o], &r.sum[o], base, r.costStep,
-			&r.p2[r.p2Off+i*r.p2Outer], &r.pmin[r.pminOff+i*r.pminOuter], r.pminStep, &r.cmin[r.cminOff+i*r.cminOuter], r.cminStep, r.n, r.np, r.p1, r.store)
+	base := &r.sum[r.costOff]
+	if r.base != nil && !r.store {
+		base = &r.base[r.costOff]
 	}
+	pathRunAVX2(&r.cur[r.curOff], &r.prev[r.prevOff], r.curStep, r.prevStep, &r.cost[r.costOff], &r.sum[r.costOff], base, r.costStep,
+		&r.p2[r.p2Off], &r.pmin[r.pminOff], r.pminStep, &r.cmin[r.cminOff], r.cminStep, r.n, r.np, r.p1, r.store,
+		r.rounds(), r.curOuter, r.prevOuter, r.costOuter, r.p2Outer, r.pminOuter, r.cminOuter)
 }
 
 // useAVX512BW selects the AVX-512 aggregation kernel.

@@ -2,13 +2,16 @@
 
 #include "textflag.h"
 
-// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool)
+// func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool,
+//	m, curOuter, prevOuter, costOuter, p2Outer, pminOuter, cminOuter int)
 //
 // The steps of pathRun (aggregate.go), 16 levels per instruction. The
 // neighbours d−1 and d+1 come from the aligned loads of the previous
 // vector by lane shifts (VPERM2I128 + VPALIGNR), so that a step reading the
-// vector the step before it stored gets it from the store buffer.
-TEXT ·pathRunAVX2(SB), NOSPLIT, $0-123
+// vector the step before it stored gets it from the store buffer. After
+// each round of n steps every pointer moves to the next round's start (the
+// m argument is the countdown).
+TEXT ·pathRunAVX2(SB), NOSPLIT, $0-184
 	MOVQ cur+0(FP), DI
 	MOVQ prev+8(FP), SI
 	MOVQ curStep+16(FP), R13
@@ -91,6 +94,43 @@ added:
 	DECQ CX
 	JNZ step
 
+	DECQ m+128(FP)
+	JZ done
+	// Each pointer has moved n steps: move it by outer − n·step.
+	MOVQ n+104(FP), CX
+	MOVQ curStep+16(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ curOuter+136(FP), AX
+	LEAQ (DI)(AX*2), DI
+	MOVQ prevStep+24(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ prevOuter+144(FP), AX
+	LEAQ (SI)(AX*2), SI
+	MOVQ costStep+56(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ costOuter+152(FP), AX
+	ADDQ AX, R8
+	LEAQ (R9)(AX*2), R9
+	LEAQ (DX)(AX*2), DX
+	MOVQ p2Outer+160(FP), AX
+	SUBQ CX, AX
+	LEAQ (R10)(AX*2), R10
+	MOVQ pminStep+80(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ pminOuter+168(FP), AX
+	LEAQ (R11)(AX*2), R11
+	MOVQ cminStep+96(FP), AX
+	IMULQ CX, AX
+	NEGQ AX
+	ADDQ cminOuter+176(FP), AX
+	LEAQ (R12)(AX*2), R12
+	JMP step
+
+done:
 	VZEROUPPER
 	RET
 
