@@ -125,7 +125,8 @@ func CheckRectified(left, right image.Image, maxShift float64) error {
 }
 
 // rowGradient returns the first differences of img's row-mean luma
-// profile, H−1 values.
+// profile, H−1 values, in 16-bit levels. The common decoded types are read
+// directly, any other through At.
 func rowGradient(img image.Image) []float64 {
 	b := img.Bounds()
 	w, h := b.Dx(), b.Dy()
@@ -148,6 +149,12 @@ func rowGradient(img image.Image) []float64 {
 			sum *= 257
 		case *image.Gray:
 			row := m.Pix[m.PixOffset(b.Min.X, b.Min.Y+y):]
+			for x := range w {
+				sum += float64(row[x])
+			}
+			sum *= 257
+		case *image.YCbCr: // JPEG: Y is the BT.601 luma already
+			row := m.Y[m.YOffset(b.Min.X, b.Min.Y+y):]
 			for x := range w {
 				sum += float64(row[x])
 			}

@@ -1,8 +1,10 @@
 package depth
 
 import (
+	"bytes"
 	"image"
 	"image/color"
+	"image/jpeg"
 	"image/png"
 	"math"
 	"os"
@@ -122,5 +124,38 @@ func TestVerticalShiftInputs(t *testing.T) {
 	}
 	if err := CheckRectified(gl, crop, -1); err == nil {
 		t.Error("negative tolerance accepted")
+	}
+}
+
+// The JPEG path (*image.YCbCr, read from its Y plane) measures what the
+// generic path measures on the same pixels: a synthetic pair encoded as
+// JPEG (quality 95) with the right view shifted by 2 px.
+func TestVerticalShiftJPEG(t *testing.T) {
+	left, right := loadPair(t, rectifiedPairs[3])
+	decode := func(img image.Image) image.Image {
+		var buf bytes.Buffer
+		if err := jpeg.Encode(&buf, img, &jpeg.Options{Quality: 95}); err != nil {
+			t.Fatal(err)
+		}
+		out, err := jpeg.Decode(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, ok := out.(*image.YCbCr); !ok {
+			t.Fatalf("JPEG decodes as %T", out)
+		}
+		return out
+	}
+	jl, jr := decode(left), decode(shiftRows(right, 2))
+	fast, err := VerticalShift(jl, jr, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	slow, err := VerticalShift(shiftRows(jl, 0), shiftRows(jr, 0), 0) // *image.RGBA64: the At path
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !fast.Found || math.Abs(fast.DY-2) > 0.25 || math.Abs(fast.DY-slow.DY) > 0.05 {
+		t.Errorf("JPEG: %+v, through At: %+v, want 2 px within 0.25 and the two within 0.05", fast, slow)
 	}
 }
