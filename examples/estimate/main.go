@@ -35,8 +35,8 @@ const usage = `usage: estimate [flags] [image or folder ...]
        estimate -stereo|-method sgm [flags] LEFT RIGHT | folder with left/ and right/ ...
 
 Estimates depth from single left images (PNG or JPEG; folders in name order), or with -stereo or
--method sgm from rectified pairs (LEFT RIGHT files, or folders whose left/ and right/ hold views of
-the same names). Without arguments: the bundled demo image. For each NAME it writes into -out:
+-method sgm from rectified pairs (LEFT RIGHT files, or folders with left/ and right/ views of the
+same names). No arguments: the demo image. For each image or left view NAME it writes into -out:
 
   NAME.depth-mm.png      16-bit grey depth in millimetres, 0 = no estimate
   NAME.depth-colour.png  depth colour-mapped by inverse depth (cubehelix, near is bright)
@@ -57,7 +57,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	method := fs.String("method", "network", "network (the weights) or sgm (semi-global matching of pairs, package sgm; no weights)")
 	stereo := fs.Bool("stereo", false, "the inputs are rectified pairs and the weights stereo weights (default: the embedded stereo weights)")
 	weights := fs.String("weights", "", "weights file (safetensors, see package model), of the kind the inputs ask for; default: the\nembedded one-image weights, or the embedded stereo weights with -stereo")
-	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error. Default: the rig of the bundled demo, which the\nembedded weights were made for, stretched to any image (said in every summary)")
+	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error (a folder's rig.json is not read). Default: the rig of\nthe bundled demo, which the embedded weights were made for, stretched to any image (said in every summary)")
 	out := fs.String("out", "parallax-estimates", "output folder, created if missing; files of the same names are replaced")
 	flip := fs.Bool("flip", false, "flip post-processing of one-image weights: also predict the mirrored image and blend (twice the time)")
 	fill := fs.Bool("fill-holes", false, "with -method sgm: fill the matcher's holes along the scan line (filled pixels get confidence 0)")
