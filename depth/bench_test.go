@@ -118,3 +118,33 @@ func BenchmarkPointCloudPLY(b *testing.B) {
 		}
 	})
 }
+
+// BenchmarkVerticalShift times the rectification check (both views' row
+// profiles and the correlation search) on RGBA and on JPEG-decoded
+// (*image.YCbCr) pairs of random pixels at benchSizes.
+func BenchmarkVerticalShift(b *testing.B) {
+	for _, s := range benchSizes {
+		rect := image.Rect(0, 0, s.X, s.Y)
+		r := rand.New(rand.NewPCG(2, 2))
+		l, rt := image.NewRGBA(rect), image.NewRGBA(rect)
+		for i := range l.Pix {
+			l.Pix[i], rt.Pix[i] = uint8(r.IntN(256)), uint8(r.IntN(256))
+		}
+		yl, yr := image.NewYCbCr(rect, image.YCbCrSubsampleRatio420), image.NewYCbCr(rect, image.YCbCrSubsampleRatio420)
+		copy(yl.Y, l.Pix)
+		copy(yr.Y, rt.Pix)
+		for _, c := range []struct {
+			name        string
+			left, right image.Image
+		}{{"RGBA", l, rt}, {"YCbCr", yl, yr}} {
+			b.Run(fmt.Sprintf("%s/%dx%d", c.name, s.X, s.Y), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, err := VerticalShift(c.left, c.right, 0); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}

@@ -36,7 +36,7 @@ func LoadKind(path string, stereo bool) (*Weights, error) {
 		return nil, err
 	}
 	if a.IsStereo() != stereo {
-		want := map[bool]string{true: "stereo", false: "one-image"}[stereo]
+		want := map[bool]string{true: KindStereo, false: KindOneImage}[stereo]
 		return nil, fmt.Errorf("model: %s holds %s weights, not %s weights", path, a.Kind(), want)
 	}
 	return w, nil
