@@ -66,6 +66,9 @@ func winnersAVX2(sum *uint16, np, n, w int, best *int32, bestV, second *uint16)
 //go:noescape
 func rightWinnersAVX2(sum *uint16, np, n, w, lo int, rarg *int32, t, a *uint16)
 
+//go:noescape
+func winnersAVX512(sum *uint16, np, n, w int, best *int32, bestV, second *uint16)
+
 // winners is winnersGeneric with the fastest kernel.
 func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {
 	if !useAVX2 || np%16 != 0 || n < 1 || n > np {
@@ -73,6 +76,10 @@ func winners(sum []uint16, np, n, w int, best []int32, bestV, second []uint16) {
 		return
 	}
 	_, _, _, _ = sum[w*np-1], best[w-1], bestV[w-1], second[w-1]
+	if useAVX512BW && n > np-16 {
+		winnersAVX512(&sum[0], np, n, w, &best[0], &bestV[0], &second[0])
+		return
+	}
 	winnersAVX2(&sum[0], np, n, w, &best[0], &bestV[0], &second[0])
 }
 

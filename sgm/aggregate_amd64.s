@@ -576,3 +576,130 @@ round:
 done:
 	VZEROUPPER
 	RET
+
+DATA lanes32<>+0(SB)/8, $0x0003000200010000
+DATA lanes32<>+8(SB)/8, $0x0007000600050004
+DATA lanes32<>+16(SB)/8, $0x000b000a00090008
+DATA lanes32<>+24(SB)/8, $0x000f000e000d000c
+DATA lanes32<>+32(SB)/8, $0x0013001200110010
+DATA lanes32<>+40(SB)/8, $0x0017001600150014
+DATA lanes32<>+48(SB)/8, $0x001b001a00190018
+DATA lanes32<>+56(SB)/8, $0x001f001e001d001c
+GLOBL lanes32<>(SB), RODATA|NOPTR, $64
+
+// func winnersAVX512(sum *uint16, np, n, w int, best *int32, bestV, second *uint16)
+//
+// winnersGeneric (select.go), 32 levels per instruction (AVX-512 BW); np a
+// multiple of 16, np−16 < n ≤ np, so that only the last block of 32 (or
+// 16) levels has unused lanes: it is loaded under the mask of its used
+// lanes, the others holding noPath.
+TEXT ·winnersAVX512(SB), NOSPLIT, $0-56
+	MOVQ sum+0(FP), SI
+	MOVQ np+8(FP), BX
+	MOVQ n+16(FP), R11
+	MOVQ best+32(FP), R8
+	MOVQ bestV+40(FP), R9
+	MOVQ second+48(FP), R10
+	LEAQ -1(BX), R12
+	ANDQ $-32, R12                 // first level of the last block
+	MOVQ R11, CX
+	SUBQ R12, CX                   // its used lanes, 1 … 32
+	MOVQ $1, DX
+	SHLQ CX, DX
+	DECQ DX                        // (1 << used) − 1, 64-bit: all 32 when used = 32
+	KMOVD DX, K1                   // used lanes of the last block
+	MOVQ w+24(FP), CX
+	VPTERNLOGD $0xff, Z6, Z6, Z6   // noPath
+	VMOVDQU64 lanes32<>(SB), Z8    // 0 … 31
+	MOVQ $32, AX
+	VPBROADCASTW AX, Z7            // 32
+
+pixel:
+	// Pass 1: the smallest sum.
+	VMOVDQA64 Z6, Z12
+	XORQ AX, AX
+	CMPQ AX, R12
+	JGE last1
+full1:
+	VPMINUW (SI)(AX*2), Z12, Z12
+	ADDQ $32, AX
+	CMPQ AX, R12
+	JLT full1
+last1:
+	VMOVDQA64 Z6, Z0
+	VMOVDQU16 (SI)(AX*2), K1, Z0
+	VPMINUW Z0, Z12, Z12
+	VEXTRACTI64X4 $1, Z12, Y1
+	VPMINUW Y1, Y12, Y12
+	VEXTRACTI128 $1, Y12, X1
+	VPMINUW X1, X12, X1
+	VPHMINPOSUW X1, X1
+	MOVQ X1, DX
+	MOVW DX, (R9)                  // the smallest sum
+	VPBROADCASTW X1, Z11
+
+	// Pass 2: its first level.
+	XORQ AX, AX
+find:
+	CMPQ AX, R12
+	JGE findlast
+	VPCMPEQW (SI)(AX*2), Z11, K2
+	KMOVD K2, DX
+	TESTL DX, DX
+	JNZ found
+	ADDQ $32, AX
+	JMP find
+findlast:
+	VMOVDQA64 Z6, Z0
+	VMOVDQU16 (SI)(AX*2), K1, Z0
+	VPCMPEQW Z0, Z11, K2
+	KMOVD K2, DX
+found:
+	BSFL DX, DX
+	ADDQ AX, DX                    // level of the smallest sum
+	MOVL DX, (R8)
+
+	// Pass 3: the smallest sum more than one level away.
+	LEAQ -2(DX), AX
+	VPBROADCASTW AX, Z13           // best − 2
+	LEAQ 2(DX), AX
+	VPBROADCASTW AX, Z14           // best + 2
+	VMOVDQA64 Z6, Z12
+	VMOVDQA64 Z8, Z10              // lane levels
+	XORQ AX, AX
+	CMPQ AX, R12
+	JGE last3
+full3:
+	VMOVDQU64 (SI)(AX*2), Z0
+	VPCMPW $6, Z13, Z10, K3        // level > best − 2
+	VPCMPW $1, Z14, Z10, K3, K3    // and level < best + 2
+	VMOVDQU16 Z6, K3, Z0
+	VPMINUW Z0, Z12, Z12
+	VPADDW Z7, Z10, Z10
+	ADDQ $32, AX
+	CMPQ AX, R12
+	JLT full3
+last3:
+	VMOVDQA64 Z6, Z0
+	VMOVDQU16 (SI)(AX*2), K1, Z0
+	VPCMPW $6, Z13, Z10, K3
+	VPCMPW $1, Z14, Z10, K3, K3
+	VMOVDQU16 Z6, K3, Z0
+	VPMINUW Z0, Z12, Z12
+	VEXTRACTI64X4 $1, Z12, Y1
+	VPMINUW Y1, Y12, Y12
+	VEXTRACTI128 $1, Y12, X1
+	VPMINUW X1, X12, X1
+	VPHMINPOSUW X1, X1
+	MOVQ X1, DX
+	MOVW DX, (R10)
+
+	LEAQ (SI)(BX*2), SI
+	ADDQ $4, R8
+	ADDQ $2, R9
+	ADDQ $2, R10
+	DECQ CX
+	JNZ pixel
+
+	VZEROUPPER
+	RET

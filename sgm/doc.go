@@ -76,9 +76,10 @@
 //     the speckle labelling of the range while the rows are in cache; the
 //     speckle regions joined across ranges; and per range, the speckle
 //     sweep, the hole fill and the copy into the result.
-//   - Speed: the path aggregation has AVX-512 BW and AVX2 kernels, the
-//     census comparisons and the winner searches AVX2 ones, the matching
-//     costs an AVX-512 one (VPOPCNTQ), chosen at start from the CPU's
+//   - Speed: the path aggregation and the winner search have AVX-512 BW
+//     and AVX2 kernels, the census comparisons and the right view's winner
+//     search AVX2 ones, the matching costs an AVX-512 one (VPOPCNTQ),
+//     chosen at start from the CPU's
 //     features; the portable Go kernels give the same bits, are used
 //     everywhere else, and are forced by the build tag purego. Each call
 //     spreads rows, columns and diagonals over GOMAXPROCS goroutines.
