@@ -5,6 +5,8 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+
+	"github.com/parallaxdepth/parallax/depth"
 )
 
 // ImageInput is one image named on a command line: its path and the name
@@ -122,4 +124,21 @@ func Inputs(paths []string, pairs bool) ([]PairFiles, error) {
 		out[i] = PairFiles{Name: in.Name, Left: in.Path}
 	}
 	return out, err
+}
+
+// SharedRig returns the rig every pair of pairs has (PairFiles.Rig, from
+// their folders' rig.json or rigs/NAME.json), if they all have one and all
+// are equal, else nil: the rig a command can use for all of them when it
+// is given none.
+func SharedRig(pairs []PairFiles) *depth.Rig {
+	if len(pairs) == 0 || pairs[0].Rig == nil {
+		return nil
+	}
+	for _, p := range pairs[1:] {
+		if p.Rig == nil || *p.Rig != *pairs[0].Rig {
+			return nil
+		}
+	}
+	r := *pairs[0].Rig
+	return &r
 }

@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/depth"
 )
 
 // TestImageInputs: files as given, folders in name order with their
@@ -102,6 +104,35 @@ func TestPairInputs(t *testing.T) {
 			if !strings.Contains(err.Error(), w) {
 				t.Errorf("%s: %v, want it to name %q", c.name, err, w)
 			}
+		}
+	}
+}
+
+// TestSharedRig: the rig of every pair when all have an equal one (a
+// copy), nil when one lacks it, they differ, or there are no pairs.
+func TestSharedRig(t *testing.T) {
+	a := &depth.Rig{Width: 8, Height: 4, Fx: 5, Fy: 5, Cx: 3.5, Cy: 1.5, Baseline: 0.1, MinDepth: 0.2, MaxDepth: 9}
+	same, other := *a, *a
+	other.Baseline = 0.2
+	for _, c := range []struct {
+		name string
+		rigs []*depth.Rig
+		want bool
+	}{
+		{"none", nil, false},
+		{"one", []*depth.Rig{a}, true},
+		{"equal values", []*depth.Rig{a, &same}, true},
+		{"one lacks it", []*depth.Rig{a, nil}, false},
+		{"first lacks it", []*depth.Rig{nil, a}, false},
+		{"different", []*depth.Rig{a, &other}, false},
+	} {
+		var pairs []PairFiles
+		for _, r := range c.rigs {
+			pairs = append(pairs, PairFiles{Rig: r})
+		}
+		got := SharedRig(pairs)
+		if (got != nil) != c.want || got != nil && (*got != *a || got == a) {
+			t.Errorf("%s: %+v, want a copy of the rig: %v", c.name, got, c.want)
 		}
 	}
 }

@@ -1,8 +1,7 @@
-// Command estimate turns left images (the embedded one-image network) or
-// rectified pairs (-stereo: the embedded stereo network; -method sgm: the
-// classical matcher) into metric depth: a 16-bit depth PNG in millimetres,
-// a colour-mapped PNG, a text summary, and on request PFM maps and a PLY.
-// Estimated depth is not a safety-rated sensor.
+// Command estimate turns left images (one-image network) or rectified pairs
+// (-stereo: stereo network; -method sgm: classical matcher) into metric depth:
+// a 16-bit depth PNG in millimetres, a colour-mapped PNG, a text summary, and
+// on request PFM maps and a PLY. Estimated depth is not a safety-rated sensor.
 //
 //	go run ./examples/estimate                       # the bundled demo image
 //	go run ./examples/estimate -rig rig.json -flip photos/ left.png
@@ -57,7 +56,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	method := fs.String("method", "network", "network (the weights) or sgm (semi-global matching of pairs, package sgm; no weights)")
 	stereo := fs.Bool("stereo", false, "the inputs are rectified pairs and the weights stereo weights (default: the embedded stereo weights)")
 	weights := fs.String("weights", "", "weights file (safetensors, see package model), of the kind the inputs ask for; default: the\nembedded one-image weights, or the embedded stereo weights with -stereo")
-	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error (a folder's rig.json is not read). Default: the rig of\nthe bundled demo, which the embedded weights were made for, stretched to any image (said in every summary)")
+	rigPath := fs.String("rig", "", "rig JSON file of the camera (see depth.ReadRig), rescaled to each image's size; an image\nof another aspect ratio (±1%) is an error. Default: the pairs' rig (their folders' rig.json or\nrigs/NAME.json) if all have the same; else the rig of the bundled demo, which the embedded weights\nwere made for, stretched to any image (said in every summary)")
 	out := fs.String("out", "parallax-estimates", "output folder, created if missing; files of the same names are replaced")
 	flip := fs.Bool("flip", false, "flip post-processing of one-image weights: also predict the mirrored image and blend (twice the time)")
 	fill := fs.Bool("fill-holes", false, "with -method sgm: fill the matcher's holes along the scan line (filled pixels get confidence 0)")
@@ -88,26 +87,27 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		}
 		info.Weights, info.Method = model.DescribeWeights(w, *weights), ""
 	}
-	rig, rigErr := demo.Rig()
+	rig, rigErr := dataset.SharedRig(inputs), error(nil) // the folders' rig, if every pair has the same
 	if *rigPath != "" {
 		rig, rigErr = depth.LoadRig(*rigPath)
-	} else if len(inputs) > 0 {
-		info.Notes = []string{fmt.Sprintf("NO -rig GIVEN: metric depth assumes the demo camera (focal %.1f px at %d px width, baseline %.3f m)\n"+
-			"             stretched to each image: depth in metres is only right for that camera", rig.Fx, rig.Width, rig.Baseline)}
-		fmt.Fprintf(stderr, "estimate: %s (said in every summary)\n", info.Notes[0])
+	} else if rig == nil {
+		if rig, rigErr = demo.Rig(); rigErr == nil && len(inputs) > 0 {
+			info.Notes = []string{fmt.Sprintf("NO RIG GIVEN: metric depth assumes the demo camera (focal %.1f px at %d px width, baseline %.3f m)\n"+
+				"             stretched to each image: depth in metres is only right for that camera", rig.Fx, rig.Width, rig.Baseline)}
+			fmt.Fprintf(stderr, "estimate: %s (said in every summary; give -rig)\n", info.Notes[0])
+		}
 	}
-	m, err := evaluation.NewMethod(*method, w, &evaluation.MethodOptions{Rig: rig, Depth: true, StretchRig: *rigPath == "", Flip: *flip, FillHoles: *fill})
-	if err = cmp.Or(rigErr, err); err != nil {
-		return fmt.Errorf("estimate: %w", err)
+	m, err := evaluation.NewMethod(*method, w, &evaluation.MethodOptions{Rig: rig, Depth: true, StretchRig: info.Notes != nil, Flip: *flip, FillHoles: *fill})
+	if err = cmp.Or(rigErr, err); err == nil {
+		err = os.MkdirAll(*out, 0o755)
 	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
+	if err != nil {
 		return fmt.Errorf("estimate: %w", err)
 	}
 	if len(inputs) == 0 {
 		inputs = []dataset.PairFiles{{Name: demo.Name}}
 	}
-	print := map[bool]io.Writer{true: io.Discard, false: stdout}[*quiet]
-	unit := map[bool]string{true: "pairs", false: "images"}[pairs]
+	print, unit := map[bool]io.Writer{true: io.Discard, false: stdout}[*quiet], map[bool]string{true: "pairs", false: "images"}[pairs]
 	bar := progress.New(stderr, len(inputs), &progress.Options{Unit: unit, Mode: map[bool]progress.Mode{true: progress.Off}[*quiet || len(inputs) == 1]})
 	defer bar.Done()
 	for i, in := range inputs {

@@ -61,11 +61,14 @@ func depthError(t *testing.T, est, truth string) (median, coverage float64) {
 // 000000 with its rig, with the stereo weights and with the matcher, and
 // compares the metric depth (NAME.depth.pfm) with the renderer's exact
 // depth (truth/depth_left). Tolerance: median relative error ≤ 10 % over
-// at least 80 % of the pixels. Why: the test checks the command's plumbing
+// at least 60 % of the pixels. Why: the test checks the command's plumbing
 // (pair reading, rig rescaling, disparity to metres), not accuracy, which
 // evaluate measures (the embedded stereo weights score abs rel 4.7 % on
 // these three pairs, `evaluate -stereo`); a wrong rig, baseline, unit or
-// swapped views gives errors of 50 % and more.
+// swapped views gives errors of 50 % and more. The coverage bound leaves
+// room for the network's validity rules, which kept 92 % of pair 000000's
+// pixels and 72 % of 000002's when this test was written, 89 % on average
+// over held-out pairs (README, Which pixels are valid).
 func TestStereoPairDepth(t *testing.T) {
 	rig := filepath.Join(greenhouse, "rig.json")
 	for _, c := range []struct {
@@ -83,8 +86,8 @@ func TestStereoPairDepth(t *testing.T) {
 		}
 		median, coverage := depthError(t, filepath.Join(dir, "000000.depth.pfm"), filepath.Join(greenhouse, "truth", "depth_left", "000000.pfm"))
 		t.Logf("%s: median relative depth error %.2f %% over %.1f %% of the pixels", c.name, 100*median, 100*coverage)
-		if median > 0.10 || coverage < 0.8 {
-			t.Errorf("%s: median relative depth error %.3f over %.3f of the pixels, want ≤ 0.10 over ≥ 0.8", c.name, median, coverage)
+		if median > 0.10 || coverage < 0.6 {
+			t.Errorf("%s: median relative depth error %.3f over %.3f of the pixels, want ≤ 0.10 over ≥ 0.6", c.name, median, coverage)
 		}
 		sum := stdout.String()
 		for _, want := range []string{"000000.png + ", "median depth", map[bool]string{true: "holes filled along the scan line", false: "(step "}[c.name == "sgm"]} {
@@ -92,35 +95,52 @@ func TestStereoPairDepth(t *testing.T) {
 				t.Errorf("%s: summary lacks %q:\n%s", c.name, want, sum)
 			}
 		}
-		if strings.Contains(sum+stderr.String(), "NO -rig") {
+		if strings.Contains(sum+stderr.String(), "NO RIG") {
 			t.Errorf("%s: the rig was given, yet:\n%s%s", c.name, sum, &stderr)
 		}
 	}
 }
 
 // TestFolderOfPairs: a folder with left/ and right/ gives one output per
-// pair; without -rig the demo-rig assumption is in every summary file and
-// on stderr, also with -quiet.
+// pair, with the folder's rig.json (depth checked against the truth as in
+// TestStereoPairDepth); a folder without a rig gets the demo rig, and the
+// assumption is in every summary file and on stderr, also with -quiet.
 func TestFolderOfPairs(t *testing.T) {
 	dir := t.TempDir()
 	var stdout, stderr bytes.Buffer
-	if err := run(context.Background(), []string{"-stereo", "-quiet", "-out", dir, greenhouse}, &stdout, &stderr); err != nil {
+	if err := run(context.Background(), []string{"-stereo", "-quiet", "-pfm", "-out", dir, greenhouse}, &stdout, &stderr); err != nil {
 		t.Fatal(err)
 	}
-	if stdout.Len() != 0 {
-		t.Errorf("-quiet printed %q", &stdout)
-	}
-	if !strings.Contains(stderr.String(), "NO -rig GIVEN") {
-		t.Errorf("stderr lacks the rig warning: %q", &stderr)
+	if stdout.Len() != 0 || strings.Contains(stderr.String(), "NO RIG") {
+		t.Errorf("-quiet with the folder's rig printed %q, %q", &stdout, &stderr)
 	}
 	for _, n := range []string{"000000", "000001", "000002"} {
-		sum, err := os.ReadFile(filepath.Join(dir, n+".summary.txt"))
+		median, coverage := depthError(t, filepath.Join(dir, n+".depth.pfm"), filepath.Join(greenhouse, "truth", "depth_left", n+".pfm"))
+		if median > 0.10 || coverage < 0.6 {
+			t.Errorf("%s: median relative depth error %.3f over %.3f of the pixels, want ≤ 0.10 over ≥ 0.6", n, median, coverage)
+		}
+	}
+	bare := t.TempDir()
+	for _, side := range []string{"left", "right"} {
+		img, err := dataset.LoadImage(view(side, "000001"))
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !strings.Contains(string(sum), "NO -rig GIVEN: metric depth assumes the demo camera") {
-			t.Errorf("%s summary lacks the rig assumption:\n%s", n, sum)
-		}
+		writeImage(t, bare, filepath.Join(side, "p.png"), img)
+	}
+	stdout.Reset()
+	if err := run(context.Background(), []string{"-stereo", "-quiet", "-out", dir, bare}, &stdout, &stderr); err != nil {
+		t.Fatal(err)
+	}
+	if stdout.Len() != 0 || !strings.Contains(stderr.String(), "NO RIG GIVEN") {
+		t.Errorf("-quiet without a rig: stdout %q, stderr %q", &stdout, &stderr)
+	}
+	sum, err := os.ReadFile(filepath.Join(dir, "p.summary.txt"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(sum), "NO RIG GIVEN: metric depth assumes the demo camera") {
+		t.Errorf("summary lacks the rig assumption:\n%s", sum)
 	}
 }
 
