@@ -2,6 +2,19 @@
 
 #include "textflag.h"
 
+// NEXT_ROUND moves the pointers of pathRunAVX2 and pathRunAVX512 (same
+// arguments and registers) from the end of a round of n steps to the start
+// of the next: each by outer − n·step. It leaves n in CX.
+#define NEXT_ROUND \
+	MOVQ n+104(FP), CX; \
+	MOVQ curStep+16(FP), AX; IMULQ CX, AX; NEGQ AX; ADDQ curOuter+136(FP), AX; LEAQ (DI)(AX*2), DI; \
+	MOVQ prevStep+24(FP), AX; IMULQ CX, AX; NEGQ AX; ADDQ prevOuter+144(FP), AX; LEAQ (SI)(AX*2), SI; \
+	MOVQ costStep+56(FP), AX; IMULQ CX, AX; NEGQ AX; ADDQ costOuter+152(FP), AX; \
+	ADDQ AX, R8; LEAQ (R9)(AX*2), R9; LEAQ (DX)(AX*2), DX; \
+	MOVQ p2Outer+160(FP), AX; SUBQ CX, AX; LEAQ (R10)(AX*2), R10; \
+	MOVQ pminStep+80(FP), AX; IMULQ CX, AX; NEGQ AX; ADDQ pminOuter+168(FP), AX; LEAQ (R11)(AX*2), R11; \
+	MOVQ cminStep+96(FP), AX; IMULQ CX, AX; NEGQ AX; ADDQ cminOuter+176(FP), AX; LEAQ (R12)(AX*2), R12
+
 // func pathRunAVX2(cur, prev *uint16, curStep, prevStep int, cost *uint8, sum, base *uint16, costStep int, p2, pmin *uint16, pminStep int, cmin *uint16, cminStep, n, np int, p1 uint16, store bool,
 //	m, curOuter, prevOuter, costOuter, p2Outer, pminOuter, cminOuter int)
 //
@@ -96,38 +109,7 @@ added:
 
 	DECQ m+128(FP)
 	JZ done
-	// Each pointer has moved n steps: move it by outer − n·step.
-	MOVQ n+104(FP), CX
-	MOVQ curStep+16(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ curOuter+136(FP), AX
-	LEAQ (DI)(AX*2), DI
-	MOVQ prevStep+24(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ prevOuter+144(FP), AX
-	LEAQ (SI)(AX*2), SI
-	MOVQ costStep+56(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ costOuter+152(FP), AX
-	ADDQ AX, R8
-	LEAQ (R9)(AX*2), R9
-	LEAQ (DX)(AX*2), DX
-	MOVQ p2Outer+160(FP), AX
-	SUBQ CX, AX
-	LEAQ (R10)(AX*2), R10
-	MOVQ pminStep+80(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ pminOuter+168(FP), AX
-	LEAQ (R11)(AX*2), R11
-	MOVQ cminStep+96(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ cminOuter+176(FP), AX
-	LEAQ (R12)(AX*2), R12
+	NEXT_ROUND
 	JMP step
 
 done:
@@ -538,38 +520,7 @@ reduce:
 round:
 	DECQ m+128(FP)
 	JZ done
-	// Each pointer has moved n steps: move it by outer − n·step.
-	MOVQ n+104(FP), CX
-	MOVQ curStep+16(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ curOuter+136(FP), AX
-	LEAQ (DI)(AX*2), DI
-	MOVQ prevStep+24(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ prevOuter+144(FP), AX
-	LEAQ (SI)(AX*2), SI
-	MOVQ costStep+56(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ costOuter+152(FP), AX
-	ADDQ AX, R8
-	LEAQ (R9)(AX*2), R9
-	LEAQ (DX)(AX*2), DX
-	MOVQ p2Outer+160(FP), AX
-	SUBQ CX, AX
-	LEAQ (R10)(AX*2), R10
-	MOVQ pminStep+80(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ pminOuter+168(FP), AX
-	LEAQ (R11)(AX*2), R11
-	MOVQ cminStep+96(FP), AX
-	IMULQ CX, AX
-	NEGQ AX
-	ADDQ cminOuter+176(FP), AX
-	LEAQ (R12)(AX*2), R12
+	NEXT_ROUND
 	VPBROADCASTW (R11), Z14
 	JMP step
 

@@ -89,25 +89,10 @@ func TestPathRunKernels(t *testing.T) {
 			g := randomRun(r, np, 1+r.IntN(40), mode.chained, mode.backwards)
 			g.store = mode.store
 			if mode.base {
-				g.base = make([]uint16, len(g.sum))
-				for i := range g.base {
-					g.base[i] = uint16(r.IntN(20000))
-				}
+				addBase(r, g)
 			}
-			a, z := cloneRun(g), cloneRun(g)
-			g.check()
-			g.runGeneric()
-			a.check()
-			a.runAVX2()
-			if !slices.Equal(g.cur, a.cur) || !slices.Equal(g.sum, a.sum) || !slices.Equal(g.cmin, a.cmin) {
-				t.Errorf("np %d, %+v: AVX2 kernel differs from the portable one", np, mode)
-			}
-			if !useAVX512BW {
-				continue
-			}
-			z.runAVX512()
-			if !slices.Equal(g.cur, z.cur) || !slices.Equal(g.sum, z.sum) || !slices.Equal(g.cmin, z.cmin) {
-				t.Errorf("np %d, %+v: AVX-512 kernel differs from the portable one", np, mode)
+			for _, k := range compareKernels(g) {
+				t.Errorf("np %d, %+v: %s kernel differs from the portable one", np, mode, k)
 			}
 		}
 	}
@@ -186,16 +171,13 @@ func TestPathRunRounds(t *testing.T) {
 			for _, withBase := range []bool{false, true} {
 				g := roundsRun(r, np, 1+r.IntN(5), 2+r.IntN(30), backwards)
 				if withBase {
-					g.base = make([]uint16, len(g.sum))
-					for i := range g.base {
-						g.base[i] = uint16(r.IntN(20000))
-					}
+					addBase(r, g)
 				}
-				a, z := cloneRun(g), cloneRun(g)
-				g.check()
-				g.runGeneric()
+				for _, k := range compareKernels(g) {
+					t.Errorf("np %d, backwards %v, base %v: %s kernel differs from the portable one", np, backwards, withBase, k)
+				}
 				// The same run as one round per pixel, stepped by hand.
-				h := cloneRun(a)
+				h := cloneRun(g)
 				for i := range h.rounds() {
 					s := *h
 					s.m = 0
@@ -207,22 +189,44 @@ func TestPathRunRounds(t *testing.T) {
 					s.cminOff += i * h.cminOuter
 					s.runGeneric()
 				}
+				g.runGeneric()
 				if !slices.Equal(g.cur, h.cur) || !slices.Equal(g.sum, h.sum) || !slices.Equal(g.cmin, h.cmin) {
 					t.Fatalf("np %d, backwards %v: rounds differ from single rounds", np, backwards)
-				}
-				if hasAVX2 {
-					a.runAVX2()
-					if !slices.Equal(g.cur, a.cur) || !slices.Equal(g.sum, a.sum) || !slices.Equal(g.cmin, a.cmin) {
-						t.Errorf("np %d, backwards %v, base %v: AVX2 kernel differs from the portable one", np, backwards, withBase)
-					}
-				}
-				if hasAVX512BW {
-					z.runAVX512()
-					if !slices.Equal(g.cur, z.cur) || !slices.Equal(g.sum, z.sum) || !slices.Equal(g.cmin, z.cmin) {
-						t.Errorf("np %d, backwards %v, base %v: AVX-512 kernel differs from the portable one", np, backwards, withBase)
-					}
 				}
 			}
 		}
 	}
+}
+
+// addBase gives r a separate base of random sums.
+func addBase(rnd *rand.Rand, r *pathRun) {
+	r.base = make([]uint16, len(r.sum))
+	for i := range r.base {
+		r.base[i] = uint16(rnd.IntN(20000))
+	}
+}
+
+// compareKernels runs copies of r with each kernel the machine has and
+// returns the names of those whose vectors, sums or minima differ from the
+// portable kernel's.
+func compareKernels(r *pathRun) []string {
+	want := cloneRun(r)
+	want.check()
+	want.runGeneric()
+	var bad []string
+	for _, k := range []struct {
+		name string
+		has  bool
+		run  func(*pathRun)
+	}{{"AVX2", hasAVX2, (*pathRun).runAVX2}, {"AVX-512", hasAVX512BW, (*pathRun).runAVX512}} {
+		if !k.has {
+			continue
+		}
+		got := cloneRun(r)
+		k.run(got)
+		if !slices.Equal(want.cur, got.cur) || !slices.Equal(want.sum, got.sum) || !slices.Equal(want.cmin, got.cmin) {
+			bad = append(bad, k.name)
+		}
+	}
+	return bad
 }

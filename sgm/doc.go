@@ -79,10 +79,10 @@
 //   - Speed: the path aggregation and the winner search have AVX-512 BW
 //     and AVX2 kernels, the census comparisons and the right view's winner
 //     search AVX2 ones, the matching costs an AVX-512 one (VPOPCNTQ),
-//     chosen at start from the CPU's
-//     features; the portable Go kernels give the same bits, are used
-//     everywhere else, and are forced by the build tag purego. Each call
-//     spreads rows, columns and diagonals over GOMAXPROCS goroutines.
+//     chosen at start from the CPU's features; the portable Go kernels
+//     give the same bits, are used everywhere else, and are forced by the
+//     build tag purego. Each call spreads rows, columns and diagonals over
+//     GOMAXPROCS goroutines.
 //   - Errors start with "sgm: " and name the problem: a nil, empty,
 //     oversized or unequal image, an option out of range, a disparity range
 //     that does not fit the image. Nothing panics on data.
