@@ -249,6 +249,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fmt.Fprintf(stdout, "adapter: %d steps, %d checks, %d swaps, %d refused, %d roll-backs\n", s.Steps, s.Checks, s.Swaps, s.Refused, s.Rollbacks)
 	if s.Paused {
 		fmt.Fprintf(stdout, "adapter paused: %s\n", s.Reason)
+	} else if s.Refused > 0 {
+		fmt.Fprintf(stdout, "last refusal: %s (drift %.4g)\n", s.Reason, s.Drift)
 	}
 	if c.plot != "" {
 		if err := rec.chart(c, d, offline != nil).WritePNG(c.plot); err != nil {
