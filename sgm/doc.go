@@ -59,9 +59,9 @@
 //   - Memory: a call holds, for width × height × levels cells (levels
 //     rounded up to a multiple of 16), the matching costs (1 byte a cell)
 //     and the sums of the vertical and diagonal paths (2 bytes a cell);
-//     about 17 bytes a pixel (the grey and padded grey images, disparity,
-//     validity and confidence, the speckle labels; 4 more with
-//     MinTexture); and, for each row range running at once (at most
+//     about 19 bytes a pixel (the grey and padded grey images, the
+//     vertical penalties, disparity, validity and confidence, the speckle
+//     labels; 4 more with MinTexture); and, for each row range running at once (at most
 //     GOMAXPROCS), two to four rows of sums with the horizontal paths and
 //     of path vectors, and the census words of a row. With the result's maps that
 //     is 3.8 bytes a cell at 370×250 with 48 levels and 3.4 at 640×480

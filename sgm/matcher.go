@@ -220,7 +220,8 @@ type worker struct {
 	rev       []uint64 // per set: 2w+np census words of a right row, reversed
 	lineVec   []uint16 // 2 (alternating rows) × lines path vectors
 	lineMin   []uint16 // 2 × lines minima
-	lineP2    []uint16 // per line: the penalty of its current step
+	lineP2    []uint16 // per line: the penalty of its current step (diagonals)
+	vertP2    []uint16 // w×h: the penalty between each pixel and the one above it
 	speckles  speckleScratch
 
 	left, right image.Image // during the grey conversion
@@ -305,6 +306,7 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	initSentinels(wk.lineVec, wk.np)
 	wk.lineMin = grow(wk.lineMin, 2*lines)
 	wk.lineP2 = grow(wk.lineP2, lines)
+	wk.vertP2 = grow(wk.vertP2, wh)
 	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
 
 	wk.left, wk.right = left, right
@@ -400,8 +402,8 @@ func (wk *worker) greyRange(lo, hi int) {
 	}
 }
 
-// censusRange computes the census rows [lo, hi) of both images and the
-// rows' matching costs.
+// censusRange computes the census rows [lo, hi) of both images, the rows'
+// matching costs and the penalties between each row and the one above.
 func (wk *worker) censusRange(lo, hi int) {
 	w, np := wk.w, wk.np
 	cw, ch := wk.opt.CensusWidth, wk.opt.CensusHeight
@@ -413,10 +415,17 @@ func (wk *worker) censusRange(lo, hi int) {
 		censusRow(cl, wk.padL, w, cw, ch, y, acc)
 		censusRow(cr, wk.padR, w, cw, ch, y, acc)
 		costRow(wk.cost[y*w*np:(y+1)*w*np], cl, cr, w, wk.lo, wk.n, np, wk.costMax, wk.rev[ri*(2*w+np):(ri+1)*(2*w+np)])
+		g := wk.greyL[y*w : (y+1)*w]
+		if y > 0 {
+			gp, p2 := wk.greyL[(y-1)*w:y*w], wk.vertP2[y*w:(y+1)*w]
+			for x := range p2 {
+				p2[x] = wk.p2[absDiff(g[x], gp[x])]
+			}
+		}
 		if wk.opt.MinTexture == 0 {
 			continue
 		}
-		g, pre := wk.greyL[y*w:(y+1)*w], wk.texPre[y*(w+1):(y+1)*(w+1)]
+		pre := wk.texPre[y*(w+1) : (y+1)*(w+1)]
 		pre[0] = 0
 		for x := range w - 1 {
 			pre[x+1] = pre[x] + int32(absDiff(g[x+1], g[x]))
@@ -555,11 +564,17 @@ func (wk *worker) bandRange(lo, hi int) {
 			if a >= b {
 				continue
 			}
-			g, gp := wk.greyL[y*w:(y+1)*w], wk.greyL[py*w:(py+1)*w]
 			ia := a - s*y - wk.lineOff
-			p2 := wk.lineP2[ia : ia+b-a]
-			for x := a; x < b; x++ {
-				p2[x-a] = wk.p2[absDiff(g[x], gp[x+px])]
+			var p2 []uint16
+			if s == 0 {
+				yy := max(y, py) // the lower of the two rows
+				p2 = wk.vertP2[yy*w+a : yy*w+b]
+			} else {
+				g, gp := wk.greyL[y*w:(y+1)*w], wk.greyL[py*w:(py+1)*w]
+				p2 = wk.lineP2[ia : ia+b-a]
+				for x := a; x < b; x++ {
+					p2[x-a] = wk.p2[absDiff(g[x], gp[x+px])]
+				}
 			}
 			r := pathRun{cur: curVec, prev: prevVec, curOff: ia * vs, curStep: vs, prevOff: ia * vs, prevStep: vs,
 				cost: wk.cost, sum: wk.sum, costOff: (y*w + a) * np, costStep: np, p2: p2,
