@@ -123,7 +123,8 @@ func TestMaxScratchBytes(t *testing.T) {
 	}
 
 	// Two workers' worth and a little: calls at four network sizes from
-	// four goroutines.
+	// four goroutines, two each (a worker holding 256×128 and 128×256
+	// exceeds its share, so it drops one).
 	limit := 2*per + per/4
 	e, err = NewEstimator(w, &EstimatorOptions{MaxWorkers: 4, MaxSide: 256, MaxScratchBytes: limit})
 	if err != nil {
@@ -135,8 +136,8 @@ func TestMaxScratchBytes(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for i := range 4 {
-				sz := [][2]int{{256, 256}, {256, 128}, {128, 256}, {192, 96}}[(g+i)%4]
+			for i := range 2 {
+				sz := [][2]int{{256, 128}, {128, 256}, {192, 96}, {64, 64}}[(g+i)%4]
 				if _, err := e.Estimate(context.Background(), image.NewGray(image.Rect(0, 0, sz[0], sz[1]))); err != nil {
 					errs <- err
 				}
@@ -147,6 +148,17 @@ func TestMaxScratchBytes(t *testing.T) {
 	close(errs)
 	for err := range errs {
 		t.Fatal(err)
+	}
+	// One worker at 256×128, then 128×256: the two exceed its share, so
+	// the first is dropped; 64×64 then fits beside the second.
+	wk := &worker{}
+	for _, sz := range [][2]int{{256, 128}, {128, 256}, {64, 64}} {
+		if _, err := e.stage(wk, w, sz[0], sz[1]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if len(wk.stages) != 2 || wk.stages[0].w != 64 || wk.stages[1].w != 128 || wk.stages[0].bytes+wk.stages[1].bytes > per {
+		t.Errorf("a worker's stages after 256x128, 128x256, 64x64 under a share of %d bytes: %d of them", per, len(wk.stages))
 	}
 	var held int64
 	workers := 0
