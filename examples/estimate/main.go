@@ -64,7 +64,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	save := model.SaveOptions{}
 	fs.BoolVar(&save.PFM, "pfm", false, "also write NAME.disparity.pfm (pixels), NAME.depth.pfm (metres) and NAME.confidence.pfm")
 	fs.BoolVar(&save.PLY, "ply", false, "also write NAME.points.ply, a coloured point cloud in metres (binary little-endian)")
-	minConf := fs.Float64("min-confidence", 0, "mark pixels whose left-right confidence is below this value invalid in every output")
+	minConf := fs.Float64("min-confidence", model.DefaultMinConfidence, "networks: mark pixels whose left-right confidence is below this value invalid in every\noutput (it replaces the library's default; 0: keep every confidence; -method sgm has its own checks)")
 	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings, such as an assumed rig, still go to stderr)")
 	fs.Usage = func() { fmt.Fprint(stderr, usage+model.Caution+"\n\nFlags:\n"); fs.PrintDefaults() }
 	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
@@ -97,7 +97,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 			fmt.Fprintf(stderr, "estimate: %s (said in every summary; give -rig)\n", info.Notes[0])
 		}
 	}
-	m, err := evaluation.NewMethod(*method, w, &evaluation.MethodOptions{Rig: rig, Depth: true, StretchRig: info.Notes != nil, Flip: *flip, FillHoles: *fill})
+	m, err := evaluation.NewMethod(*method, w, &evaluation.MethodOptions{Rig: rig, Depth: true, StretchRig: info.Notes != nil, Flip: *flip, FillHoles: *fill,
+		Validity: model.ValidityOptions{MinConfidence: cmp.Or(*minConf, model.ValidityOff)}})
 	if err = cmp.Or(rigErr, err); err == nil {
 		err = os.MkdirAll(*out, 0o755)
 	}
@@ -131,7 +132,6 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		if info.Elapsed = time.Since(start); err != nil {
 			return fmt.Errorf("estimate: %s%s: %w", in.Name, map[bool]string{true: " with -rig " + *rigPath}[*rigPath != ""], err)
 		}
-		e.MaskConfidence(float32(*minConf))
 		sum, err := e.SaveWithSummary(filepath.Join(*out, in.Name), left, &save, info)
 		if err != nil {
 			return err

@@ -161,3 +161,32 @@ func TestFolderProgressInFile(t *testing.T) {
 		t.Errorf("unknown flag: %v", err)
 	}
 }
+
+// -min-confidence replaces the library's threshold: 0 keeps every
+// confidence, so at least as many pixels have depth as with the default
+// (0.2), and 0.9 keeps fewer; the three differ on the demo image.
+func TestMinConfidence(t *testing.T) {
+	count := func(minConf string) int {
+		dir := t.TempDir()
+		var stdout, stderr bytes.Buffer
+		if err := run(context.Background(), []string{"-quiet", "-pfm", "-min-confidence", minConf, "-out", dir}, &stdout, &stderr); err != nil {
+			t.Fatal(err)
+		}
+		z, _, _, _, err := depth.LoadPFM(filepath.Join(dir, "greenhouse_000000.depth.pfm"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		n := 0
+		for _, v := range z {
+			if v == v { // NaN = no depth
+				n++
+			}
+		}
+		return n
+	}
+	off, def, strict := count("0"), count("0.2"), count("0.9")
+	t.Logf("pixels with depth: -min-confidence 0: %d, 0.2: %d, 0.9: %d", off, def, strict)
+	if !(off > def && def > strict) {
+		t.Errorf("pixels with depth %d (0), %d (0.2), %d (0.9): want strictly fewer as the threshold rises", off, def, strict)
+	}
+}

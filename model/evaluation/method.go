@@ -272,6 +272,10 @@ type MethodOptions struct {
 	// FillHoles fills the matcher's holes along the scan line
 	// (sgm.Options.FillHoles); the network has none. Default false.
 	FillHoles bool
+	// Validity sets the network's validity rules
+	// (model.EstimatorOptions.Validity; the zero value: the defaults).
+	// The matcher has its own checks and does not use it.
+	Validity model.ValidityOptions
 }
 
 // SGMTitle describes the "sgm" method of NewMethod for titles and summaries.
@@ -310,7 +314,7 @@ func NewMethod(name string, w *model.Weights, opt *MethodOptions) (Method, error
 		if a, err := w.Arch(); err == nil && a.IsStereo() && o.Flip {
 			return nil, errors.New("evaluation: flip post-processing is for one-image weights; stereo weights already see the mirrored pair")
 		}
-		eo := &model.EstimatorOptions{Flip: o.Flip}
+		eo := &model.EstimatorOptions{Flip: o.Flip, Validity: o.Validity}
 		if o.Depth {
 			eo.Rig, eo.StretchRig = o.Rig, o.StretchRig
 		}
