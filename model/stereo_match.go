@@ -15,7 +15,7 @@ import (
 // pixels and half the disparities, an eighth of the work); version 2 matches
 // at the network's full resolution and pools the result to each layer's
 // level. On the real validation pair (testdata/aloe) the full-resolution
-// matcher is the more accurate input (see training/stereo/STATUS.md), so
+// matcher is the more accurate input (see training/stereo/v2/README.md), so
 // version 2 is the default.
 func (c Config) MatchLevel() int {
 	if c.Arch == StereoArchName && c.Version == 1 {
