@@ -23,6 +23,15 @@ type AdaptOptions struct {
 	// post-processing, so that mirrored inputs stay inside what the
 	// network is fitted to. Default false.
 	Flip bool
+	// MaxSide is the cap on the longer side of the network's input that
+	// the adapted weights will run with (model.EstimatorOptions.MaxSide;
+	// 0 means model.DefaultMaxSide). When every pair of the set has the
+	// same size, Adapt trains at the size model.NetworkSize gives for it,
+	// the size an Estimator runs those images at, instead of the weights'
+	// training size (whose aspect ratio may differ: a 370×250 pair was
+	// trained squashed to 256×128 and scored at 384×256). Pairs of
+	// different sizes train at the weights' size.
+	MaxSide int
 	// Progress, if not nil, is called after every step.
 	Progress func(Progress)
 }
@@ -57,11 +66,15 @@ func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOp
 	if o.Flip {
 		aug = &data.Augment{Flip: 0.5}
 	}
-	src, err := NewDatasetSource(set, w.Config, batch, o.Seed, aug)
+	run, err := adaptSize(w, set, o.MaxSide)
 	if err != nil {
 		return nil, nil, err
 	}
-	tr, err := NewTrainer(w, src, &TrainerOptions{Steps: o.Steps, Batch: batch, Seed: o.Seed, Progress: o.Progress})
+	src, err := NewDatasetSource(set, run.Config, batch, o.Seed, aug)
+	if err != nil {
+		return nil, nil, err
+	}
+	tr, err := NewTrainer(run, src, &TrainerOptions{Steps: o.Steps, Batch: batch, Seed: o.Seed, Progress: o.Progress})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -70,5 +83,28 @@ func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOp
 	if err != nil {
 		return nil, nil, err
 	}
-	return tr.Weights(), res, nil
+	// The network is fully convolutional: the adapted parameters keep the
+	// weights' own size in their config.
+	out := tr.Weights()
+	out.Config.Width, out.Config.Height = w.Config.Width, w.Config.Height
+	return out, res, nil
+}
+
+// adaptSize returns w, or a shallow copy of it whose config has the size an
+// Estimator runs the set's pairs at (model.NetworkSize with maxSide) when
+// all pairs have one size.
+func adaptSize(w *model.Weights, set *dataset.Set, maxSide int) (*model.Weights, error) {
+	pw, ph := set.Pairs[0].Width, set.Pairs[0].Height
+	for _, p := range set.Pairs[1:] {
+		if p.Width != pw || p.Height != ph {
+			return w, nil
+		}
+	}
+	nw, nh, err := model.NetworkSize(pw, ph, maxSide)
+	if err != nil {
+		return nil, fmt.Errorf("train: Adapt: %w", err)
+	}
+	c := w.Config
+	c.Width, c.Height = nw, nh
+	return &model.Weights{Config: c, Params: w.Params, Provenance: w.Provenance}, nil
 }

@@ -55,3 +55,44 @@ func TestAdapt(t *testing.T) {
 		t.Error("nil weights adapted")
 	}
 }
+
+// Adapt trains at the size an Estimator runs the set's images at: the
+// 370×250 Motorcycle pair at 384×256 (its aspect ratio, not the weights'
+// 256×128); a 256×128 set at 256×128; the weights it returns keep their own
+// size in the config.
+func TestAdaptSize(t *testing.T) {
+	w, err := model.Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := filepath.Join("..", "..", "testdata", "motorcycle")
+	moto, err := dataset.FromFiles(filepath.Join(dir, "left.png"), filepath.Join(dir, "right.png"), nil, "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	synth, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		set      *dataset.Set
+		max      int
+		wantW, h int
+	}{{moto, 0, 384, 256}, {moto, 256, 256, 160}, {synth, 0, 256, 128}} {
+		run, err := adaptSize(w, c.set, c.max)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if run.Config.Width != c.wantW || run.Config.Height != c.h {
+			t.Errorf("%dx%d pairs, max side %d: trained at %dx%d, want %dx%d", c.set.Pairs[0].Width, c.set.Pairs[0].Height, c.max,
+				run.Config.Width, run.Config.Height, c.wantW, c.h)
+		}
+	}
+	out, _, err := Adapt(context.Background(), w, moto, &AdaptOptions{Steps: 1, Batch: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if out.Config.Width != w.Config.Width || out.Config.Height != w.Config.Height {
+		t.Errorf("adapted weights' config %dx%d, want the input's %dx%d", out.Config.Width, out.Config.Height, w.Config.Width, w.Config.Height)
+	}
+}
