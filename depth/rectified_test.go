@@ -2,12 +2,11 @@ package depth
 
 import (
 	"bytes"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"image"
 	"image/color"
 	"image/jpeg"
-	"image/png"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -21,19 +20,7 @@ var rectifiedPairs = []string{
 	"motorcycle/%s.png", "aloe/%s.png",
 }
 
-func loadPNG(t *testing.T, path string) image.Image {
-	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return img
-}
+func loadPNG(t *testing.T, path string) image.Image { return testutil.PNG(t, path) }
 
 func loadPair(t *testing.T, pattern string) (image.Image, image.Image) {
 	p := filepath.Join("..", "testdata", pattern)

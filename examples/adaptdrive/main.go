@@ -43,7 +43,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
-	"github.com/parallaxdepth/parallax/internal/chart"
+	"github.com/parallaxdepth/parallax/chart"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/adapt"
 	"github.com/parallaxdepth/parallax/synth"

@@ -12,7 +12,7 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/parallaxdepth/parallax/internal/chart"
+	"github.com/parallaxdepth/parallax/chart"
 	"github.com/parallaxdepth/parallax/loss"
 )
 
