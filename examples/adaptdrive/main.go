@@ -41,9 +41,9 @@ import (
 	"os/signal"
 	"time"
 
+	"github.com/parallaxdepth/parallax/chart"
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
-	"github.com/parallaxdepth/parallax/chart"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/adapt"
 	"github.com/parallaxdepth/parallax/synth"
