@@ -165,34 +165,39 @@ var (
 // offered. Offer, Status, Snapshot and Resume are safe for concurrent
 // use with each other and with Run or Step; Step and Run take turns.
 type Adapter struct {
-	est   *model.Estimator
-	opt   Options
-	w, h  int // training size
-	shift int // the view-order test's largest shift, pixels
+	est *model.Estimator
+	opt Options
 
-	mu       sync.Mutex // guards pending, status and serving
-	pending  [2]image.Image
-	hasPend  bool
-	status   Status
-	serving  *model.Weights
-	notify   chan struct{} // a pair is pending
-	resumed  chan struct{} // Resume was called
-	stepping sync.Mutex    // one Step at a time; guards what follows
+	mu        sync.Mutex // guards pending, frameSize, status and serving
+	pending   [2]image.Image
+	hasPend   bool
+	frameSize image.Point // the size of the first offered pair; zero before
+	status    Status
+	serving   *model.Weights
+	notify    chan struct{} // a pair is pending
+	resumed   chan struct{} // Resume was called
+	stepping  sync.Mutex    // one Step at a time; guards what follows
 
 	start     *model.Weights
 	startNorm float64
-	sess      *train.Session // the candidate, trained
-	judge     *train.Session // always holds the serving weights
-	frames    []*frame       // oldest first
-	last      []float32      // luma of the last admitted left view
-	rng       *rand.Rand
-	since     int // steps since the last check
+	// Set from the first pair taken (prepare): the network size the
+	// Estimator runs the offered pairs at, which is the training size.
+	w, h   int
+	shift  int            // the view-order test's largest shift, pixels
+	sess   *train.Session // trains the candidate; also scores other weights
+	frames []*frame       // oldest first
+	last   []float32      // luma of the last admitted left view
+	rng    *rand.Rand
+	since  int // steps since the last check
 }
 
 // New returns an Adapter for est, starting from the weights it runs now.
-// It builds two training graphs (batch 1) at the weights' own input size.
-// It returns an error for a nil Estimator, invalid options or weights the
-// training graph cannot take.
+// The training graph (batch 1) is built when the first offered pair is
+// taken, at the size the Estimator runs pairs of that size at
+// (Estimator.NetworkSize: its MaxSide, model.DefaultMaxSide by default,
+// or the weights' own size with EstimatorOptions.TrainingSize), so that
+// the weights are trained on what they will see. It returns an error for
+// a nil Estimator or invalid options.
 func New(est *model.Estimator, opt *Options) (*Adapter, error) {
 	if est == nil {
 		return nil, errors.New("adapt: estimator is nil")
@@ -202,33 +207,63 @@ func New(est *model.Estimator, opt *Options) (*Adapter, error) {
 		return nil, err
 	}
 	w0 := copyWeights(est.Weights())
-	a := &Adapter{est: est, opt: o, w: w0.Config.Width, h: w0.Config.Height, start: w0, serving: est.Weights(),
+	a := &Adapter{est: est, opt: o, start: w0, serving: est.Weights(),
 		notify: make(chan struct{}, 1), resumed: make(chan struct{}, 1),
 		rng: rand.New(rand.NewPCG(o.Seed, 0x61646170))}
-	a.shift = max(1, int(math.Ceil(w0.Config.DMax*float64(a.w))))
 	if a.startNorm = math.Sqrt(sqDist(w0, nil)); a.startNorm == 0 {
 		a.startNorm = 1 // all-zero start: the drift is absolute
-	}
-	if a.sess, err = train.NewSession(w0, 1, o.Objective, &train.AdamConfig{LearningRate: o.LearningRate}); err != nil {
-		return nil, err
-	}
-	if a.judge, err = train.NewSession(w0, 1, o.Objective, nil); err != nil {
-		a.sess.Close()
-		return nil, err
 	}
 	return a, nil
 }
 
-// Close releases the training graphs. Call it after Run has returned.
-func (a *Adapter) Close() error {
-	return errors.Join(a.sess.Close(), a.judge.Close())
+// prepare builds the training graph at the network size of fw × fh
+// pairs. Called with a.stepping held, once.
+func (a *Adapter) prepare(fw, fh int) error {
+	nw, nh, err := a.est.NetworkSize(fw, fh)
+	if err != nil {
+		return fmt.Errorf("adapt: %w", err)
+	}
+	a.mu.Lock()
+	serving := a.serving
+	a.mu.Unlock()
+	a.w, a.h = nw, nh
+	a.shift = max(1, int(math.Ceil(a.start.Config.DMax*float64(nw))))
+	a.sess, err = train.NewSession(a.atTrainingSize(serving), 1, a.opt.Objective, &train.AdamConfig{LearningRate: a.opt.LearningRate})
+	return err
 }
 
-// Offer hands the adapter a rectified pair (equal sizes, any size) and
-// returns at once: the pair waits until the adapting goroutine takes it,
-// replacing a pair that still waits. The adapter reads the images later,
-// so the caller must not change them after Offer. It returns an error
-// for nil or empty images or views of different sizes.
+// atTrainingSize returns w (sharing its parameters) with the training
+// graph's input size in its config. The network is fully convolutional:
+// the parameters are the same at any size.
+func (a *Adapter) atTrainingSize(w *model.Weights) *model.Weights {
+	c := w.Config
+	c.Width, c.Height = a.w, a.h
+	return &model.Weights{Config: c, Params: w.Params, Provenance: w.Provenance}
+}
+
+// candidate returns a copy of the training graph's weights with the
+// starting weights' config, which the Estimator requires.
+func (a *Adapter) candidate() *model.Weights {
+	w := a.sess.Weights()
+	w.Config = a.start.Config
+	return w
+}
+
+// Close releases the training graph. Call it after Run has returned.
+func (a *Adapter) Close() error {
+	if a.sess == nil {
+		return nil
+	}
+	return a.sess.Close()
+}
+
+// Offer hands the adapter a rectified pair and returns at once: the pair
+// waits until the adapting goroutine takes it, replacing a pair that
+// still waits. The first pair offered sets the size of every pair (one
+// camera; the training graph is built for it). The adapter reads the
+// images later, so the caller must not change them after Offer. It
+// returns an error for nil or empty images, views of different sizes,
+// and a pair of another size than the first.
 func (a *Adapter) Offer(left, right image.Image) error {
 	if left == nil || right == nil {
 		return errors.New("adapt: offered image is nil")
@@ -241,6 +276,13 @@ func (a *Adapter) Offer(left, right image.Image) error {
 		return fmt.Errorf("adapt: offered image: %w", err)
 	}
 	a.mu.Lock()
+	if a.frameSize == (image.Point{}) {
+		a.frameSize = lb.Size()
+	} else if lb.Size() != a.frameSize {
+		fs := a.frameSize
+		a.mu.Unlock()
+		return fmt.Errorf("adapt: offered views are %dx%d, but this adapter trains on the %dx%d pairs it was offered first", lb.Dx(), lb.Dy(), fs.X, fs.Y)
+	}
 	a.status.Offered++
 	if a.hasPend {
 		a.status.Replaced++
@@ -297,9 +339,9 @@ func (a *Adapter) Run(ctx context.Context) error {
 			case <-ctx.Done():
 				return nil
 			case <-a.notify:
-				a.stepping.Lock()
-				a.ingest()
-				a.stepping.Unlock()
+				if err := a.take(); err != nil {
+					return err
+				}
 			case <-timer.C:
 				waiting = false
 			}
@@ -312,9 +354,9 @@ func (a *Adapter) Run(ctx context.Context) error {
 			case <-ctx.Done():
 				return nil
 			case <-a.notify:
-				a.stepping.Lock()
-				a.ingest()
-				a.stepping.Unlock()
+				if err := a.take(); err != nil {
+					return err
+				}
 			}
 		case errors.Is(err, ErrPaused):
 			select {
@@ -346,7 +388,9 @@ func (a *Adapter) Step(ctx context.Context) error {
 	}
 	a.stepping.Lock()
 	defer a.stepping.Unlock()
-	a.ingest()
+	if err := a.ingest(); err != nil {
+		return err
+	}
 	a.mu.Lock()
 	paused := a.status.Paused
 	a.mu.Unlock()
@@ -378,15 +422,29 @@ func (a *Adapter) Step(ctx context.Context) error {
 	return nil
 }
 
-// ingest takes the pending pair through the gates into the buffer.
-// Called with a.stepping held.
-func (a *Adapter) ingest() {
+// take ingests the pending pair.
+func (a *Adapter) take() error {
+	a.stepping.Lock()
+	defer a.stepping.Unlock()
+	return a.ingest()
+}
+
+// ingest takes the pending pair through the gates into the buffer,
+// building the training graph for the first pair. It returns the error of
+// building it. Called with a.stepping held.
+func (a *Adapter) ingest() error {
 	a.mu.Lock()
 	p, ok := a.pending, a.hasPend
 	a.pending, a.hasPend = [2]image.Image{}, false
 	a.mu.Unlock()
 	if !ok {
-		return
+		return nil
+	}
+	if a.sess == nil {
+		b := p[0].Bounds()
+		if err := a.prepare(b.Dx(), b.Dy()); err != nil {
+			return err
+		}
 	}
 	g, f := a.admit(p[0], p[1])
 	a.mu.Lock()
@@ -406,6 +464,7 @@ func (a *Adapter) ingest() {
 		a.frames = append(a.frames, f)
 		a.last = f.grey
 	}
+	return nil
 }
 
 // admit resizes a pair and runs the gates on it.

@@ -72,9 +72,9 @@ func offerAll(t *testing.T, a *Adapter, ps []pair) {
 		if err := a.Offer(p.left, p.right); err != nil {
 			t.Fatal(err)
 		}
-		a.stepping.Lock()
-		a.ingest()
-		a.stepping.Unlock()
+		if err := a.take(); err != nil {
+			t.Fatal(err)
+		}
 	}
 }
 
@@ -112,7 +112,7 @@ func TestGates(t *testing.T) {
 	}
 	offerAll(t, a, swapped)
 	offerAll(t, a, []pair{ps[11]})
-	offerAll(t, a, []pair{{black(128, 64), black(128, 64)}, {black(640, 320), black(640, 320)}})
+	offerAll(t, a, []pair{{black(128, 64), black(128, 64)}, {black(128, 64), black(128, 64)}})
 	s := a.Status()
 	want := Status{Offered: 27, Admitted: 12, Swapped: 12, Duplicates: 1, LowContrast: 2}
 	if s.Offered != want.Offered || s.Admitted != want.Admitted || s.Swapped != want.Swapped || s.Duplicates != want.Duplicates || s.LowContrast != want.LowContrast {
@@ -445,5 +445,66 @@ func TestStereoWeights(t *testing.T) {
 		if math.Float32bits(got.Disparity.Pix[i]) != math.Float32bits(want.Disparity.Pix[i]) {
 			t.Fatalf("pixel %d: swapped Estimator %v, fresh Estimator on the snapshot %v", i, got.Disparity.Pix[i], want.Disparity.Pix[i])
 		}
+	}
+}
+
+// TestTrainsAtNetworkSize: an Estimator that runs 160×120 pairs at its
+// network size (160×128, model.NetworkSize with the default MaxSide) gets
+// them trained at that size, not at the weights' 128×64, and the adapted
+// weights it is given keep the weights' own config (SetWeights refuses
+// another). A pair of another size is refused by Offer.
+func TestTrainsAtNetworkSize(t *testing.T) {
+	d := &synth.Drive{Legs: []synth.Leg{{Style: synth.Greenhouse, Frames: 8}}, Seed: 3}
+	var ps []pair
+	for i := range 8 {
+		p, err := synth.GenerateFrame(d, i, &synth.Options{Width: 160, Height: 120, Samples: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		ps = append(ps, pair{p.Left.ToNRGBA(0), p.Right.ToNRGBA(0)})
+	}
+	w, err := model.NewWeights(testConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	est, err := model.NewEstimator(w, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantW, wantH, err := est.NetworkSize(160, 120)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if wantW != 160 || wantH != 128 {
+		t.Fatalf("Estimator runs 160x120 at %dx%d; the test expects 160x128", wantW, wantH)
+	}
+	a, err := New(est, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff, Seed: 7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer a.Close()
+	offerAll(t, a, ps)
+	if len(a.frames) == 0 {
+		t.Fatal("no pair admitted")
+	}
+	for i, f := range a.frames {
+		if f.left.W != wantW || f.left.H != wantH || f.right.W != wantW || f.right.H != wantH {
+			t.Fatalf("buffered pair %d is %dx%d, want the network size %dx%d", i, f.left.W, f.left.H, wantW, wantH)
+		}
+	}
+	for range 9 {
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	if s.Swaps == 0 {
+		t.Fatalf("no swap, so the swapped config is not checked: %+v", s)
+	}
+	if got := est.Weights().Config; got.Width != testConfig.Width || got.Height != testConfig.Height {
+		t.Errorf("the Estimator runs weights configured for %dx%d, want the weights' own %dx%d", got.Width, got.Height, testConfig.Width, testConfig.Height)
+	}
+	if err := a.Offer(black(128, 64), black(128, 64)); err == nil || !strings.Contains(err.Error(), "160x120") {
+		t.Errorf("a 128x64 pair after 160x120 ones: %v, want an error naming 160x120", err)
 	}
 }

@@ -26,9 +26,9 @@ func BenchmarkStepDefault(b *testing.B) {
 		if err := a.Offer(p.left, p.right); err != nil {
 			b.Fatal(err)
 		}
-		a.stepping.Lock()
-		a.ingest()
-		a.stepping.Unlock()
+		if err := a.take(); err != nil {
+			b.Fatal(err)
+		}
 	}
 	b.ReportAllocs()
 	b.ResetTimer()

@@ -5,8 +5,11 @@
 // The caller's frame loop hands each rectified pair to Adapter.Offer,
 // which never blocks: it keeps the latest pair until the adapting
 // goroutine (Adapter.Run, or Adapter.Step called by hand) takes it. A
-// taken pair is resized to the weights' training size (RGB in [0, 1],
-// Catmull-Rom as in model/data) and admitted to a bounded replay buffer
+// taken pair is resized to the size the Estimator runs it at
+// (Estimator.NetworkSize: aspect ratio kept, the longer side capped by
+// EstimatorOptions.MaxSide), so the weights train on what they will see;
+// RGB in [0, 1], Catmull-Rom as in model/data. The first pair offered sets
+// the size of all. The pair is admitted to a bounded replay buffer
 // unless a frame gate refuses it (see Options): too little contrast (a
 // black or blown-out frame), too close to the last admitted frame (the
 // robot stands still), or views that look swapped.

@@ -14,7 +14,7 @@ import (
 // held-out frames and swaps it in or rolls it back (see the package doc).
 // Called with a.stepping held.
 func (a *Adapter) check() error {
-	cand := a.sess.Weights()
+	cand := a.candidate()
 	if name, ok := nonFinite(cand); ok {
 		return a.rollback(true, fmt.Sprintf("non-finite weight in %q", name))
 	}
@@ -24,8 +24,11 @@ func (a *Adapter) check() error {
 	if err != nil {
 		return err
 	}
-	servLoss, err := score(a.judge, held)
+	servLoss, err := a.scoreWeights(a.serving, held)
 	if err != nil {
+		return err
+	}
+	if err := a.sess.SetWeights(a.atTrainingSize(cand)); err != nil {
 		return err
 	}
 	a.mu.Lock()
@@ -41,9 +44,6 @@ func (a *Adapter) check() error {
 		return a.rollback(false, fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g in service", candLoss, servLoss))
 	}
 	if err := a.est.SetWeights(cand); err != nil {
-		return err
-	}
-	if err := a.judge.SetWeights(cand); err != nil {
 		return err
 	}
 	a.mu.Lock()
@@ -66,11 +66,20 @@ func (a *Adapter) rollback(pause bool, reason string) error {
 	}
 	a.mu.Unlock()
 	a.since = 0
-	if err := a.sess.SetWeights(serving); err != nil {
+	if err := a.sess.SetWeights(a.atTrainingSize(serving)); err != nil {
 		return err
 	}
 	a.sess.Solver = train.NewAdam(&train.AdamConfig{LearningRate: a.opt.LearningRate})
 	return nil
+}
+
+// scoreWeights puts w into the training graph and returns its mean
+// objective on frames; the caller puts the candidate back.
+func (a *Adapter) scoreWeights(w *model.Weights, frames []*frame) (float64, error) {
+	if err := a.sess.SetWeights(a.atTrainingSize(w)); err != nil {
+		return 0, err
+	}
+	return score(a.sess, frames)
 }
 
 // score returns the mean objective of the session's weights on frames,
