@@ -142,16 +142,19 @@ type Status struct {
 	Admitted, Duplicates, LowContrast, Swapped int
 	// Steps, Checks, Swaps, Refused and Rollbacks count training steps,
 	// checks, swaps into the Estimator, refused candidates and roll-backs
-	// (every refusal is one, and so is every non-finite value).
-	Steps, Checks, Swaps, Refused, Rollbacks int
+	// (every refusal is one, and so is every non-finite value). Fallbacks
+	// counts the refusals at which the weights in service scored worse
+	// than the starting weights, which were then put back in service.
+	Steps, Checks, Swaps, Refused, Rollbacks, Fallbacks int
 	// Paused is set by a non-finite value; Reason says why, or why the
 	// last candidate was refused.
 	Paused bool
 	Reason string
-	// ServingLoss and CandidateLoss are the last check's mean objective
-	// on the held-out frames; Drift is the last candidate's relative L2
-	// distance from the starting weights.
-	ServingLoss, CandidateLoss, Drift float64
+	// ServingLoss, CandidateLoss and StartLoss are the last check's mean
+	// objective on the held-out frames of the weights in service, the
+	// candidate and the starting weights; Drift is the last candidate's
+	// relative L2 distance from the starting weights.
+	ServingLoss, CandidateLoss, StartLoss, Drift float64
 }
 
 // ErrPaused is returned by Step while the adapter is paused; ErrTooFewFrames
@@ -189,6 +192,9 @@ type Adapter struct {
 	last   []float32      // luma of the last admitted left view
 	rng    *rand.Rand
 	since  int // steps since the last check
+	// servingID numbers the weights in service, from 1; a frame's cached
+	// loss in service is valid while its servingID equals it.
+	servingID int
 }
 
 // New returns an Adapter for est, starting from the weights it runs now.
@@ -209,7 +215,7 @@ func New(est *model.Estimator, opt *Options) (*Adapter, error) {
 	w0 := copyWeights(est.Weights())
 	a := &Adapter{est: est, opt: o, start: w0, serving: est.Weights(),
 		notify: make(chan struct{}, 1), resumed: make(chan struct{}, 1),
-		rng: rand.New(rand.NewPCG(o.Seed, 0x61646170))}
+		rng: rand.New(rand.NewPCG(o.Seed, 0x61646170)), servingID: 1}
 	if a.startNorm = math.Sqrt(sqDist(w0, nil)); a.startNorm == 0 {
 		a.startNorm = 1 // all-zero start: the drift is absolute
 	}

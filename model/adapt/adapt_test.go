@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/parallaxdepth/parallax/model"
+	"github.com/parallaxdepth/parallax/model/train"
 	"github.com/parallaxdepth/parallax/synth"
 )
 
@@ -506,5 +507,93 @@ func TestTrainsAtNetworkSize(t *testing.T) {
 	}
 	if err := a.Offer(black(128, 64), black(128, 64)); err == nil || !strings.Contains(err.Error(), "160x120") {
 		t.Errorf("a 128x64 pair after 160x120 ones: %v, want an error naming 160x120", err)
+	}
+}
+
+// pretrained returns the test network after 40 steps on the drive's
+// first 12 frames, so that it fits them better than random weights.
+func pretrained(t *testing.T) *model.Weights {
+	t.Helper()
+	w, err := model.NewWeights(testConfig, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, err := train.NewSession(w, 1, nil, &train.AdamConfig{LearningRate: 1e-3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	ps := drive(t, 12)
+	for i := range 40 {
+		p := ps[i%len(ps)]
+		l, err := toPlanar(p.left, 128, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := toPlanar(p.right, 128, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := s.Step(l, r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return s.Weights()
+}
+
+// TestWorseThanStartRefused: the weights in service have become worse
+// than the starting weights on the frames now seen (earlier swaps that
+// each scored no worse than the weights then in service, on other frames:
+// the drive's end in issue 14's 2-minute run). A candidate trained from
+// them is better than them but still worse than the starting weights: it
+// must be refused, and the starting weights put back in service. Checking
+// the candidate against the weights in service alone swapped it in.
+func TestWorseThanStartRefused(t *testing.T) {
+	w0 := pretrained(t)
+	est, err := model.NewEstimator(w0, &model.EstimatorOptions{TrainingSize: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := New(est, &Options{HoldOut: 3, StepsPerCheck: 2, LearningRate: 1e-4, MaxDrift: DriftOff})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer a.Close()
+	offerAll(t, a, drive(t, 8))
+	// The weights in service: the start with its parameters scaled by
+	// 1.3, as if adapted to another scene.
+	bad := copyWeights(w0)
+	for _, v := range bad.Params {
+		for i := range v {
+			v[i] *= 1.3
+		}
+	}
+	a.stepping.Lock()
+	err = errors.Join(a.serve(bad, false), a.sess.SetWeights(a.atTrainingSize(bad)))
+	a.stepping.Unlock()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for range 2 {
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	t.Logf("status %+v", s)
+	if !(s.ServingLoss > s.StartLoss) {
+		t.Fatalf("set-up: the weights in service score %v, not worse than the start's %v", s.ServingLoss, s.StartLoss)
+	}
+	if !(s.CandidateLoss < s.ServingLoss) {
+		t.Fatalf("set-up: the candidate scores %v, not better than the weights in service (%v)", s.CandidateLoss, s.ServingLoss)
+	}
+	if s.Checks != 1 || s.Swaps != 1 || s.Fallbacks != 1 || !strings.Contains(s.Reason, "starting weights") {
+		t.Errorf("status %+v; want one check, no swap beyond the set-up's, one fall-back naming the starting weights", s)
+	}
+	if !sameWeights(est.Weights(), w0) || !sameWeights(a.Snapshot(), w0) {
+		t.Error("the Estimator does not run the starting weights")
+	}
+	if !sameWeights(a.candidate(), w0) {
+		t.Error("training does not continue from the starting weights")
 	}
 }

@@ -25,14 +25,32 @@
 //   - their relative L2 distance from the starting weights,
 //     ‖w − w₀‖ / ‖w₀‖ over all parameters, is within Options.MaxDrift,
 //   - their mean objective on the held-out frames is at most
-//     (1 + Options.Margin) times that of the weights in service, scored
-//     on the same frames at the same moment.
+//     (1 + Options.Margin) times that of the weights in service and at
+//     most (1 + Options.Margin) times that of the starting weights, all
+//     scored on the same frames.
 //
-// A refused candidate is discarded: training restarts from the weights
-// in service with a fresh solver (a roll-back). A non-finite value
-// anywhere also pauses the adapter, with the reason in Status, until
-// Resume. The Estimator therefore only ever runs its starting weights or
-// weights that passed every check.
+// The second comparison is what keeps the adapter from making the depth
+// worse than the weights it started from: each swap only has to beat the
+// weights then in service on the frames then held out, so a chain of
+// swaps can end, on the frames seen now (a new part of the scene), worse
+// than the start. A refused candidate is discarded: training restarts
+// from the weights in service with a fresh solver (a roll-back). If at a
+// refusal the weights in service themselves score worse than
+// (1 + Options.Margin) times the starting weights, the starting weights
+// are put back in service (a fall-back, Status.Fallbacks) and training
+// restarts from them. So at every check the weights left in service score
+// within the margin of the starting weights on the held-out frames. A
+// non-finite value anywhere also pauses the adapter, with the reason in
+// Status, until Resume. The Estimator therefore only ever runs its
+// starting weights or weights that passed every check.
+//
+// The check reads the self-supervised objective, not the depth error,
+// which needs ground truth: weights can lower the objective and still
+// give worse depth (see the README's drive figures). The objective of
+// the starting weights and of the weights in service on a held-out frame
+// is computed once and kept with the frame; a check runs the candidate on
+// every held-out frame and the other two on the frames new since the last
+// check.
 //
 // Cost: one goroutine steps at most Options.StepsPerSecond times a
 // second; the kernels' own parallelism follows GOMAXPROCS, as inference

@@ -14,6 +14,11 @@ import (
 type frame struct {
 	left, right *planar.Image // (1, 3, H, W), RGB in [0, 1]
 	grey        []float32     // the left view's luma, for the duplicate test
+	// The objective of the starting weights on the pair, once scored, and
+	// of the weights in service number servingID (Adapter.servingID).
+	startLoss, servingLoss float64
+	startScored            bool
+	servingID              int
 }
 
 // gate names why a pair was not admitted; gateOK admits it.

@@ -10,9 +10,10 @@ import (
 	"github.com/parallaxdepth/parallax/model/train"
 )
 
-// check scores the candidate against the weights in service on the
-// held-out frames and swaps it in or rolls it back (see the package doc).
-// Called with a.stepping held.
+// check scores the candidate on the held-out frames against the weights
+// in service and the starting weights, and swaps it in, rolls it back, or
+// falls back to the starting weights (see the package doc). Called with
+// a.stepping held.
 func (a *Adapter) check() error {
 	cand := a.candidate()
 	if name, ok := nonFinite(cand); ok {
@@ -24,33 +25,107 @@ func (a *Adapter) check() error {
 	if err != nil {
 		return err
 	}
-	servLoss, err := a.scoreWeights(a.serving, held)
+	servLoss, err := a.cachedLoss(held, false)
 	if err != nil {
 		return err
 	}
-	if err := a.sess.SetWeights(a.atTrainingSize(cand)); err != nil {
+	startLoss, err := a.cachedLoss(held, true)
+	if err != nil {
 		return err
 	}
 	a.mu.Lock()
 	a.status.Checks++
-	a.status.CandidateLoss, a.status.ServingLoss, a.status.Drift = candLoss, servLoss, drift
+	a.status.CandidateLoss, a.status.ServingLoss, a.status.StartLoss, a.status.Drift = candLoss, servLoss, startLoss, drift
 	a.mu.Unlock()
+	bound := 1 + a.opt.Margin
+	var refusal string
 	switch {
-	case !finite(candLoss) || !finite(servLoss):
-		return a.rollback(true, fmt.Sprintf("non-finite held-out loss (candidate %v, in service %v)", candLoss, servLoss))
+	case !finite(candLoss) || !finite(servLoss) || !finite(startLoss):
+		return a.rollback(true, fmt.Sprintf("non-finite held-out loss (candidate %v, in service %v, starting weights %v)", candLoss, servLoss, startLoss))
 	case a.opt.MaxDrift != DriftOff && drift > a.opt.MaxDrift:
-		return a.rollback(false, fmt.Sprintf("refused: drift %.4g from the starting weights exceeds %.4g", drift, a.opt.MaxDrift))
-	case candLoss > servLoss*(1+a.opt.Margin):
-		return a.rollback(false, fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g in service", candLoss, servLoss))
+		refusal = fmt.Sprintf("refused: drift %.4g from the starting weights exceeds %.4g", drift, a.opt.MaxDrift)
+	case candLoss > servLoss*bound:
+		refusal = fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g in service", candLoss, servLoss)
+	case candLoss > startLoss*bound:
+		refusal = fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g of the starting weights", candLoss, startLoss)
 	}
-	if err := a.est.SetWeights(cand); err != nil {
+	if refusal != "" {
+		if a.serving != a.start && servLoss > startLoss*bound {
+			return a.fallBack(fmt.Sprintf("%s; the weights in service score %.6g, worse than %.6g of the starting weights: back to those", refusal, servLoss, startLoss))
+		}
+		return a.rollback(false, refusal)
+	}
+	if err := a.sess.SetWeights(a.atTrainingSize(cand)); err != nil {
 		return err
 	}
+	return a.serve(cand, false)
+}
+
+// serve makes w the weights in service, in the Estimator and for the
+// loss cache; fallback counts it as a fall-back to the starting weights.
+func (a *Adapter) serve(w *model.Weights, fallback bool) error {
+	if err := a.est.SetWeights(w); err != nil {
+		return err
+	}
+	a.servingID++
 	a.mu.Lock()
-	a.serving = cand
-	a.status.Swaps++
+	a.serving = w
+	if fallback {
+		a.status.Fallbacks++
+	} else {
+		a.status.Swaps++
+	}
 	a.mu.Unlock()
 	return nil
+}
+
+// fallBack puts the starting weights back in service and rolls the
+// training graph back to them.
+func (a *Adapter) fallBack(reason string) error {
+	if err := a.serve(a.start, true); err != nil {
+		return err
+	}
+	return a.rollback(false, reason)
+}
+
+// cachedLoss returns the mean objective on frames of the starting weights
+// (start) or of the weights in service, scoring in the training graph only
+// the frames not scored before (a frame's starting loss never changes; its
+// loss in service until the next swap). It leaves other weights in the
+// graph: the caller restores or rolls back.
+func (a *Adapter) cachedLoss(frames []*frame, start bool) (float64, error) {
+	w := a.serving
+	if start {
+		w = a.start
+	}
+	loaded := false
+	var sum float64
+	for _, f := range frames {
+		v, ok := f.startLoss, f.startScored
+		if !start {
+			v, ok = f.servingLoss, f.servingID == a.servingID
+		}
+		if !ok {
+			if !loaded {
+				if err := a.sess.SetWeights(a.atTrainingSize(w)); err != nil {
+					return 0, err
+				}
+				loaded = true
+			}
+			t, err := a.sess.Forward(f.left, f.right)
+			a.sess.ClearGradients()
+			if err != nil {
+				return 0, err
+			}
+			if v = t.Total; start {
+				f.startLoss, f.startScored = v, true
+			} else {
+				f.servingLoss, f.servingID = v, a.servingID
+			}
+		}
+		sum += v
+	}
+	return sum / float64(len(frames)), nil
 }
 
 // rollback puts the weights in service back into the training graph with
@@ -71,15 +146,6 @@ func (a *Adapter) rollback(pause bool, reason string) error {
 	}
 	a.sess.Solver = train.NewAdam(&train.AdamConfig{LearningRate: a.opt.LearningRate})
 	return nil
-}
-
-// scoreWeights puts w into the training graph and returns its mean
-// objective on frames; the caller puts the candidate back.
-func (a *Adapter) scoreWeights(w *model.Weights, frames []*frame) (float64, error) {
-	if err := a.sess.SetWeights(a.atTrainingSize(w)); err != nil {
-		return 0, err
-	}
-	return score(a.sess, frames)
 }
 
 // score returns the mean objective of the session's weights on frames,
