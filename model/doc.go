@@ -31,6 +31,11 @@
 // "reduce" is a stride-1 convolution at the coarser resolution that sets
 // the decoder width before the nearest-neighbour upsampling; "cat" joins
 // the upsampled features first, then the inputs listed, in that order.
+// "×2 bilinear" (here and in the stereo network) is PyTorch's
+// F.interpolate(scale_factor=2, mode="bilinear", align_corners=False):
+// output pixel o reads the input at (o + ½)/2 − ½, clamped to the first
+// and last pixel. It is not the align_corners=True convention of the
+// package warp's sampling positions (DEVELOPERS.md, Conventions).
 //
 // The network exists once, as data: Build returns an Arch whose Layers list
 // every step in evaluation order with its operation, input tensor names,

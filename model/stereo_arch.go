@@ -15,18 +15,42 @@ import (
 //	    disp3 = match3.d (the matcher's estimate) + res3 pixels
 //	 ¼, ½: up = disp×2 bilinear; right f warped by up − StereoRadius px;
 //	    cost = correlation(left f, warped) over 2·StereoRadius+1 shifts;
-//	    cat(cost, left f, context from the coarser level, match, up in pixels)
+//	    ctx = refL.ctx(the coarser level's last features) ×2 nearest;
+//	    cat(cost, left f, ctx, match, up in pixels)
 //	    → refL.a, refL.b → resL; dispL = up + resL pixels
-//	 1: up = disp1×2; cat(left image, context, match0, up in pixels) → ref0.a → res0;
-//	    disp0 = up + res0 (version 1: without match0 and up)
+//	 1: up = disp1×2 bilinear; ctx = ref0.ctx(ref1.b) ×2 nearest;
+//	    cat(left image, ctx, match0, up in pixels) → ref0.a → res0;
+//	    disp0 = up + res0 pixels (version 1: without match0 and up)
+//
+// Every convolution is 3×3 with reflect padding as wide as its dilation (1
+// where none is given) and is followed by an ELU, except the residuals resL
+// (one channel, no activation). fLa and fLb have Config.Encoder[L−1]
+// channels, agg3.k Decoder[3], and refL.ctx, refL.a and refL.b Decoder[L]
+// (defaults DefaultStereoEncoder, DefaultStereoDecoder). The context of a
+// level is refL.ctx applied at the coarser resolution to that level's last
+// features: agg3.3 for ¼, ref2.b for ½, ref1.b for full resolution.
+// correlation(a, b) over D shifts is the cost volume of C-channel features
+// cost[k, y, x] = (1/C)·Σ_c a[c, y, x]·b[c, y, x−k] for k = 0 … D−1, and 0
+// where x−k < 0. The warp reads the right features at x − d·W, bilinearly,
+// zeros outside (OpWarp). "×2 bilinear" is as in the one-image network
+// (package doc). matchL has two channels, the matcher's disparity in
+// pixels of the level and the fraction of the pixels it found without
+// filling, and match3.d one, the disparity as a fraction of the width;
+// both are block means of the matcher's estimate (Matching.Pool).
 //
 // The matcher is package sgm on the grey pair (Matching) at full resolution
 // (version 2; version 1 weights match at half resolution, Config.MatchLevel),
 // holes filled along the rows; it has no gradient. The layers run on a
-// batch of 2N: the N pairs and the N mirrored, swapped pairs (OpPairView),
-// so each output dispS packs d_L (channel 0) and d_R mirrored back
-// (channel 1), as the one-image network's outputs do. Residuals are in
-// pixels of their level and every disparity a fraction of the width, so
+// batch of 2N: the encoder on the N left and then the N right views as
+// they are; from there on (OpPairView) on the N pairs and the N mirrored,
+// swapped pairs, whose left view is mirror(right) and right view
+// mirror(left). It is the encoder's features that are mirrored (and, for
+// the full-resolution step, the images): the encoder never sees a mirrored
+// image, and as a convolution is not mirror-symmetric the two differ. The
+// matcher runs on the mirrored, swapped pairs themselves. So each output
+// dispS packs d_L (channel 0) and d_R mirrored back (channel 1), as the
+// one-image network's outputs do. Residuals are in pixels of their level
+// and every disparity a fraction of the width, so
 // the weights run at any multiple of 32 (Estimator picks the size from the
 // input). Freshly initialised weights prepared by train.PrepareHeads start
 // at the matcher's estimate; training teaches the corrections.
