@@ -39,6 +39,9 @@ type Matching struct {
 	disp     []float32 // 2n × h × w, pixels at the match level, pair-view layout
 	valid    []float32 // 1 where the matcher's own check passed, 0 where filled
 	computed bool
+	// fixed (tests only) makes Compute keep disp and valid as they were
+	// set, so that a network runs on a committed match.
+	fixed bool
 }
 
 // NewMatching prepares the matching of n pairs of full-resolution size
@@ -78,7 +81,7 @@ func (m *Matching) Invalidate() { m.computed = false }
 // left views then the n right views, as a stereo network's input), unless it
 // has run since the last Invalidate.
 func (m *Matching) Compute(pairs []float32) error {
-	if m.computed {
+	if m.computed || m.fixed {
 		return nil
 	}
 	s := 1 << m.level

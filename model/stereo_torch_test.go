@@ -141,27 +141,13 @@ func TestStereoTorchWalk(t *testing.T) {
 		}
 		copy(v, fw.Params[name]) // the network holds w's slices
 	}
-	committed, err := os.ReadFile(filepath.Join(dir, "input.bin"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	in := make([]float32, len(committed)/4)
-	if err := binary.Read(bytes.NewReader(committed), binary.LittleEndian, in); err != nil {
-		t.Fatal(err)
-	}
+	in := readFloat32s(t, filepath.Join(dir, "input.bin"))
 	copy(l.Pix, in[:len(l.Pix)])
 	copy(r.Pix, in[len(l.Pix):])
 	// The matcher's output is an input of the walk, as Go computed it when
 	// the fixture was made; package sgm may change its bits since, so the
 	// network runs on the committed one.
-	mb, err := os.ReadFile(filepath.Join(dir, "match.bin"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	all := make([]float32, len(mb)/4)
-	if err := binary.Read(bytes.NewReader(mb), binary.LittleEndian, all); err != nil {
-		t.Fatal(err)
-	}
+	all := readFloat32s(t, filepath.Join(dir, "match.bin"))
 	net.matchFixed = nil
 	for _, m := range match {
 		if len(all) < len(m) {
@@ -176,14 +162,7 @@ func TestStereoTorchWalk(t *testing.T) {
 	if outs, err = net.ForwardPair(l, r); err != nil {
 		t.Fatal(err)
 	}
-	raw, err := os.ReadFile(filepath.Join(dir, "torch_out.bin"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	want := make([]float32, len(raw)/4)
-	if err := binary.Read(bytes.NewReader(raw), binary.LittleEndian, want); err != nil {
-		t.Fatal(err)
-	}
+	want := readFloat32s(t, filepath.Join(dir, "torch_out.bin"))
 	off := 0
 	for s, o := range outs {
 		n := len(o.Pix)
