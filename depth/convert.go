@@ -80,28 +80,7 @@ func (r *Rig) DisparityToDepth(d *Disparity) (*Depth, error) {
 	if d == nil {
 		return nil, fmt.Errorf("depth: DisparityToDepth: disparity is nil")
 	}
-	if err := r.checkFrame(&d.Map, "disparity"); err != nil {
-		return nil, err
-	}
-	z, err := NewDepth(d.Rect)
-	if err != nil {
-		return nil, err
-	}
-	w := d.Rect.Dx()
-	for y := 0; y < d.Rect.Dy(); y++ {
-		src, mask := d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w]
-		dst, dmask := z.Pix[y*w:(y+1)*w], z.Mask[y*w:(y+1)*w]
-		for x, v := range src {
-			if mask[x] == 0 {
-				continue
-			}
-			// The float32 result must stay positive and finite too.
-			if zz, ok := r.DepthFromPixels(float64(v)); ok && zz <= math.MaxFloat32 && float32(zz) > 0 {
-				dst[x], dmask[x] = float32(zz), 1
-			}
-		}
-	}
-	return z, nil
+	return convertMap[Depth](r, &d.Map, "disparity", r.DepthFromPixels)
 }
 
 // DepthToDisparity converts a depth map in metres to disparity in pixels at
@@ -111,27 +90,35 @@ func (r *Rig) DepthToDisparity(z *Depth) (*Disparity, error) {
 	if z == nil {
 		return nil, fmt.Errorf("depth: DepthToDisparity: depth is nil")
 	}
-	if err := r.checkFrame(&z.Map, "depth"); err != nil {
+	return convertMap[Disparity](r, &z.Map, "depth", r.PixelsFromDepth)
+}
+
+// convertMap is DisparityToDepth and DepthToDisparity: after the frame
+// check of src (named what), each valid pixel v of src becomes convert(v),
+// valid where convert succeeds and the result stays positive and finite as
+// a float32.
+func convertMap[T Disparity | Depth](r *Rig, src *Map, what string, convert func(float64) (float64, bool)) (*T, error) {
+	if err := r.checkFrame(src, what); err != nil {
 		return nil, err
 	}
-	d, err := NewDisparity(z.Rect)
+	dst, err := newMap(src.Rect)
 	if err != nil {
 		return nil, err
 	}
-	w := z.Rect.Dx()
-	for y := 0; y < z.Rect.Dy(); y++ {
-		src, mask := z.Pix[y*z.Stride:y*z.Stride+w], z.Mask[y*z.Stride:y*z.Stride+w]
-		dst, dmask := d.Pix[y*w:(y+1)*w], d.Mask[y*w:(y+1)*w]
-		for x, v := range src {
+	w := src.Rect.Dx()
+	for y := 0; y < src.Rect.Dy(); y++ {
+		in, mask := src.Pix[y*src.Stride:y*src.Stride+w], src.Mask[y*src.Stride:y*src.Stride+w]
+		out, outMask := dst.Pix[y*w:(y+1)*w], dst.Mask[y*w:(y+1)*w]
+		for x, v := range in {
 			if mask[x] == 0 {
 				continue
 			}
-			if px, ok := r.PixelsFromDepth(float64(v)); ok && px <= math.MaxFloat32 && float32(px) > 0 {
-				dst[x], dmask[x] = float32(px), 1
+			if c, ok := convert(float64(v)); ok && c <= math.MaxFloat32 && float32(c) > 0 {
+				out[x], outMask[x] = float32(c), 1
 			}
 		}
 	}
-	return d, nil
+	return &T{dst}, nil
 }
 
 // MaskRange marks invalid every pixel of z outside the rig's depth range of

@@ -1,7 +1,6 @@
 package depth
 
 import (
-	"errors"
 	"fmt"
 	"image"
 	"image/color"
@@ -39,6 +38,16 @@ func newMap(r image.Rectangle) (Map, error) {
 		return Map{}, fmt.Errorf("depth: map bounds %v out of range (sides in [1, %d], at most %d pixels)", r, planar.MaxSide, planar.MaxPixels)
 	}
 	return Map{Pix: make([]float32, w*h), Mask: make([]uint8, w*h), Stride: w, Rect: r}, nil
+}
+
+// newKind returns an all-invalid map of kind T with bounds r: the one
+// constructor behind NewDisparity, NewDepth and NewConfidence.
+func newKind[T Disparity | Depth | Confidence](r image.Rectangle) (*T, error) {
+	m, err := newMap(r)
+	if err != nil {
+		return nil, err
+	}
+	return &T{m}, nil
 }
 
 // Bounds returns the map's bounds.
@@ -142,13 +151,7 @@ func (m *Map) sub(r image.Rectangle) Map {
 type Disparity struct{ Map }
 
 // NewDisparity returns an all-invalid disparity map with bounds r.
-func NewDisparity(r image.Rectangle) (*Disparity, error) {
-	m, err := newMap(r)
-	if err != nil {
-		return nil, err
-	}
-	return &Disparity{m}, nil
-}
+func NewDisparity(r image.Rectangle) (*Disparity, error) { return newKind[Disparity](r) }
 
 // Set stores the disparity v pixels at (x, y); the pixel is valid only if v
 // is positive and finite.
@@ -161,13 +164,7 @@ func (d *Disparity) SubMap(r image.Rectangle) *Disparity { return &Disparity{d.s
 type Depth struct{ Map }
 
 // NewDepth returns an all-invalid depth map with bounds r.
-func NewDepth(r image.Rectangle) (*Depth, error) {
-	m, err := newMap(r)
-	if err != nil {
-		return nil, err
-	}
-	return &Depth{m}, nil
-}
+func NewDepth(r image.Rectangle) (*Depth, error) { return newKind[Depth](r) }
 
 // Set stores the depth v metres at (x, y); the pixel is valid only if v is
 // positive and finite.
@@ -180,13 +177,7 @@ func (d *Depth) SubMap(r image.Rectangle) *Depth { return &Depth{d.sub(r)} }
 type Confidence struct{ Map }
 
 // NewConfidence returns an all-invalid confidence map with bounds r.
-func NewConfidence(r image.Rectangle) (*Confidence, error) {
-	m, err := newMap(r)
-	if err != nil {
-		return nil, err
-	}
-	return &Confidence{m}, nil
-}
+func NewConfidence(r image.Rectangle) (*Confidence, error) { return newKind[Confidence](r) }
 
 // Set stores the confidence v at (x, y); the pixel is valid only if v lies
 // in [0, 1].
@@ -229,26 +220,31 @@ func grayLevels(img image.Image, f func(x, y int, level uint16)) {
 	b := img.Bounds()
 	switch im := img.(type) {
 	case *image.Gray16:
-		for y := b.Min.Y; y < b.Max.Y; y++ {
-			i := im.PixOffset(b.Min.X, y)
-			for x := b.Min.X; x < b.Max.X; x++ {
-				f(x, y, uint16(im.Pix[i])<<8|uint16(im.Pix[i+1]))
-				i += 2
-			}
-		}
+		packedGrayLevels(b, im.Pix, im.Stride, 2, f)
 	case *image.Gray:
-		for y := b.Min.Y; y < b.Max.Y; y++ {
-			i := im.PixOffset(b.Min.X, y)
-			for x := b.Min.X; x < b.Max.X; x++ {
-				f(x, y, uint16(im.Pix[i])*0x101)
-				i++
-			}
-		}
+		packedGrayLevels(b, im.Pix, im.Stride, 1, f)
 	default:
 		for y := b.Min.Y; y < b.Max.Y; y++ {
 			for x := b.Min.X; x < b.Max.X; x++ {
 				f(x, y, color.Gray16Model.Convert(img.At(x, y)).(color.Gray16).Y)
 			}
+		}
+	}
+}
+
+// packedGrayLevels calls f with each pixel of a packed grey image with
+// bounds b (its own Rect): big-endian 16-bit levels for 2 bytes a pixel,
+// 8-bit levels v as v·257 for 1.
+func packedGrayLevels(b image.Rectangle, pix []uint8, stride, bytesPerPixel int, f func(x, y int, level uint16)) {
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		i := (y - b.Min.Y) * stride
+		for x := b.Min.X; x < b.Max.X; x++ {
+			if bytesPerPixel == 2 {
+				f(x, y, uint16(pix[i])<<8|uint16(pix[i+1]))
+			} else {
+				f(x, y, uint16(pix[i])*0x101)
+			}
+			i += bytesPerPixel
 		}
 	}
 }
@@ -259,22 +255,7 @@ func grayLevels(img image.Image, f func(x, y int, level uint16)) {
 // finite: a file that stores disparity in steps of 1/k pixel takes scale
 // 1/k. The map keeps img's bounds.
 func DisparityFromImage(img image.Image, scale float64) (*Disparity, error) {
-	if img == nil {
-		return nil, errors.New("depth: DisparityFromImage: image is nil")
-	}
-	if !(scale > 0) || math.IsInf(scale, 0) {
-		return nil, fmt.Errorf("depth: DisparityFromImage: scale %v must be positive and finite", scale)
-	}
-	d, err := NewDisparity(img.Bounds())
-	if err != nil {
-		return nil, err
-	}
-	grayLevels(img, func(x, y int, level uint16) {
-		if level != 0 {
-			d.Set(x, y, float32(float64(level)*scale))
-		}
-	})
-	return d, nil
+	return mapFromImage[Disparity]("DisparityFromImage", img, scale)
 }
 
 // DepthFromImage reads a depth map stored as grey levels: the depth in
@@ -282,20 +263,26 @@ func DisparityFromImage(img image.Image, scale float64) (*Disparity, error) {
 // scale = 0.001 for millimetre files (see ReadPNG16). The map keeps img's
 // bounds.
 func DepthFromImage(img image.Image, scale float64) (*Depth, error) {
+	return mapFromImage[Depth]("DepthFromImage", img, scale)
+}
+
+// mapFromImage is DisparityFromImage and DepthFromImage: a positive value of
+// level·scale at each non-zero grey level; fn names the caller in errors.
+func mapFromImage[T Disparity | Depth](fn string, img image.Image, scale float64) (*T, error) {
 	if img == nil {
-		return nil, errors.New("depth: DepthFromImage: image is nil")
+		return nil, fmt.Errorf("depth: %s: image is nil", fn)
 	}
 	if !(scale > 0) || math.IsInf(scale, 0) {
-		return nil, fmt.Errorf("depth: DepthFromImage: scale %v must be positive and finite", scale)
+		return nil, fmt.Errorf("depth: %s: scale %v must be positive and finite", fn, scale)
 	}
-	d, err := NewDepth(img.Bounds())
+	m, err := newMap(img.Bounds())
 	if err != nil {
 		return nil, err
 	}
 	grayLevels(img, func(x, y int, level uint16) {
 		if level != 0 {
-			d.Set(x, y, float32(float64(level)*scale))
+			m.setPositive(x, y, float32(float64(level)*scale))
 		}
 	})
-	return d, nil
+	return &T{m}, nil
 }

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"strconv"
 
 	"github.com/parallaxdepth/parallax/planar"
@@ -151,16 +150,14 @@ func ReadPFM(r io.Reader) (pix []float32, width, height, channels int, err error
 
 // LoadPFM reads the PFM file at path (see ReadPFM).
 func LoadPFM(path string) (pix []float32, width, height, channels int, err error) {
-	f, err := os.Open(path)
+	pix, err = loadFile(path, func(r io.Reader) (pix []float32, err error) {
+		pix, width, height, channels, err = ReadPFM(r)
+		return pix, err
+	})
 	if err != nil {
-		return nil, 0, 0, 0, fmt.Errorf("depth: %w", err)
+		return nil, 0, 0, 0, err
 	}
-	defer f.Close()
-	pix, width, height, channels, err = ReadPFM(f)
-	if err != nil {
-		err = fmt.Errorf("%w (in %s)", err, path)
-	}
-	return pix, width, height, channels, err
+	return pix, width, height, channels, nil
 }
 
 // maxPFMToken bounds a header token, so a file of digits cannot make the
@@ -170,25 +167,33 @@ const maxPFMToken = 64
 // pfmToken skips leading whitespace, reads a token of non-whitespace bytes
 // and consumes the single whitespace byte that ends it.
 func pfmToken(br *bufio.Reader) (string, error) {
-	var tok []byte
+	return headerText(br, maxPFMToken, "header token", isSpace, true)
+}
+
+// headerText reads a piece of a text header (PFM or PLY): the bytes up to
+// the first for which ends is true, which is consumed and not returned. With
+// skipEmpty, such bytes before the first other byte are skipped. More than
+// limit bytes are an error naming what, and so is the end of the file.
+func headerText(br *bufio.Reader, limit int, what string, ends func(byte) bool, skipEmpty bool) (string, error) {
+	var b []byte
 	for {
 		c, err := br.ReadByte()
+		if errors.Is(err, io.EOF) {
+			return "", errors.New("unexpected end of file")
+		}
 		if err != nil {
-			if errors.Is(err, io.EOF) {
-				return "", errors.New("unexpected end of file")
-			}
 			return "", err
 		}
-		if isSpace(c) {
-			if len(tok) > 0 {
-				return string(tok), nil
+		if ends(c) {
+			if len(b) > 0 || !skipEmpty {
+				return string(b), nil
 			}
 			continue
 		}
-		if len(tok) == maxPFMToken {
-			return "", fmt.Errorf("header token longer than %d bytes", maxPFMToken)
+		if len(b) == limit {
+			return "", fmt.Errorf("%s longer than %d bytes", what, limit)
 		}
-		tok = append(tok, c)
+		b = append(b, c)
 	}
 }
 

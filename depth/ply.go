@@ -9,7 +9,6 @@ import (
 	"image/color"
 	"io"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 
@@ -410,38 +409,14 @@ func ReadPLY(r io.Reader) (*PointCloud, error) {
 
 // LoadPLY reads the PLY file at path (see ReadPLY).
 func LoadPLY(path string) (*PointCloud, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("depth: %w", err)
-	}
-	defer f.Close()
-	pc, err := ReadPLY(f)
-	if err != nil {
-		return nil, fmt.Errorf("%w (in %s)", err, path)
-	}
-	return pc, nil
+	return loadFile(path, ReadPLY)
 }
 
 // plyLine reads one line of at most maxPLYLine bytes, without its "\n" or
 // "\r\n".
 func plyLine(br *bufio.Reader) (string, error) {
-	var b []byte
-	for {
-		c, err := br.ReadByte()
-		if err != nil {
-			if errors.Is(err, io.EOF) {
-				return "", errors.New("unexpected end of file")
-			}
-			return "", err
-		}
-		if c == '\n' {
-			return strings.TrimSuffix(string(b), "\r"), nil
-		}
-		if len(b) == maxPLYLine {
-			return "", fmt.Errorf("line longer than %d bytes", maxPLYLine)
-		}
-		b = append(b, c)
-	}
+	line, err := headerText(br, maxPLYLine, "line", func(c byte) bool { return c == '\n' }, false)
+	return strings.TrimSuffix(line, "\r"), err
 }
 
 // parsePLYValue parses an ASCII value of the given canonical type.

@@ -8,7 +8,6 @@ import (
 	"image/png"
 	"io"
 	"math"
-	"os"
 
 	"github.com/parallaxdepth/parallax/planar"
 )
@@ -145,14 +144,5 @@ func readPNG16(r io.Reader) (*Depth, *PNG16Info, error) {
 
 // LoadPNG16 reads the 16-bit millimetre PNG at path (see ReadPNG16).
 func LoadPNG16(path string) (*Depth, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("depth: %w", err)
-	}
-	defer f.Close()
-	d, err := ReadPNG16(f)
-	if err != nil {
-		return nil, fmt.Errorf("%w (in %s)", err, path)
-	}
-	return d, nil
+	return loadFile(path, ReadPNG16)
 }

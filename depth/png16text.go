@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"hash/crc32"
 	"io"
-	"os"
 	"strconv"
 	"strings"
 )
@@ -145,14 +144,13 @@ func ReadPNG16Info(r io.Reader) (*Depth, *PNG16Info, error) {
 // LoadPNG16Info reads the 16-bit depth PNG at path (see ReadPNG16Info);
 // errors name the file.
 func LoadPNG16Info(path string) (*Depth, *PNG16Info, error) {
-	f, err := os.Open(path)
+	var info *PNG16Info
+	d, err := loadFile(path, func(r io.Reader) (d *Depth, err error) {
+		d, info, err = readPNG16(r)
+		return d, err
+	})
 	if err != nil {
-		return nil, nil, fmt.Errorf("depth: %w", err)
-	}
-	defer f.Close()
-	d, info, err := readPNG16(f)
-	if err != nil {
-		return nil, nil, fmt.Errorf("%w (in %s)", err, path)
+		return nil, nil, err
 	}
 	return d, info, nil
 }

@@ -8,7 +8,6 @@ import (
 	"image"
 	"io"
 	"math"
-	"os"
 	"strings"
 
 	"github.com/parallaxdepth/parallax/planar"
@@ -229,16 +228,7 @@ func walkJSONKeys(dec *json.Decoder, nesting int) error {
 
 // LoadRig reads and validates the rig JSON file at path.
 func LoadRig(path string) (*Rig, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("depth: %w", err)
-	}
-	defer f.Close()
-	rig, err := ReadRig(f)
-	if err != nil {
-		return nil, fmt.Errorf("%w (in %s)", err, path)
-	}
-	return rig, nil
+	return loadFile(path, ReadRig)
 }
 
 // Write validates r and writes it as indented JSON in the schema ReadRig

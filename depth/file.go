@@ -1,7 +1,9 @@
 package depth
 
 import (
+	"fmt"
 	"io"
+	"os"
 
 	"github.com/parallaxdepth/parallax/internal/atomicfile"
 )
@@ -22,4 +24,21 @@ func SaveFile(path string, data []byte) error {
 		_, err := w.Write(data)
 		return err
 	})
+}
+
+// loadFile opens path and reads it with read, the way every Load function
+// of this package reads: an error opening comes back as "depth: ...", one of
+// read with " (in PATH)" added, and then the zero T.
+func loadFile[T any](path string, read func(r io.Reader) (T, error)) (T, error) {
+	var zero T
+	f, err := os.Open(path)
+	if err != nil {
+		return zero, fmt.Errorf("depth: %w", err)
+	}
+	defer f.Close()
+	v, err := read(f)
+	if err != nil {
+		return zero, fmt.Errorf("%w (in %s)", err, path)
+	}
+	return v, nil
 }
