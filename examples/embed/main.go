@@ -10,39 +10,26 @@ package main
 
 import (
 	"context"
-	"errors"
-	"flag"
 	"fmt"
 	"io"
-	"os"
 
+	"github.com/parallaxdepth/parallax/command"
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/demo"
 )
 
-func main() {
-	if err := run(context.Background(), os.Args[1:], os.Stdout, os.Stderr); err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-}
+func main() { command.Main(run) }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("embed", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs := command.NewFlagSet("embed", "usage: embed [flags] [folder]\n\nPrints the nearest point ahead for each image of folder (default: the bundled demo image). Flags:\n", stderr)
 	rigPath := fs.String("rig", "", "rig JSON file of your cameras (see depth.ReadRig); default: the bundled demo's rig")
 	weights := fs.String("weights", "", "weights file (safetensors, see package model); default: the embedded weights")
-	fs.Usage = func() {
-		fmt.Fprint(stderr, "usage: embed [flags] [folder]\n\nPrints the nearest point ahead for each image of folder (default: the bundled demo image). Flags:\n")
-		fs.PrintDefaults()
+	if help, err := command.Parse(fs, args); help || err != nil {
+		return err
 	}
-	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
-		return nil
-	} else if err != nil {
-		return fmt.Errorf("embed: %w", err)
-	} else if fs.NArg() > 1 {
+	if fs.NArg() > 1 {
 		return fmt.Errorf("embed: one folder at most, got %d arguments", fs.NArg())
 	}
 	rig, err := demo.Rig() // your cameras: depth.LoadRig("rig.json")

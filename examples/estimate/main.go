@@ -13,7 +13,6 @@ import (
 	"cmp"
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"image"
 	"io"
@@ -22,6 +21,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/parallaxdepth/parallax/command"
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/model"
@@ -43,16 +43,10 @@ same names). No arguments: the demo image. For each image or left view NAME it w
 
 `
 
-func main() {
-	if err := run(context.Background(), os.Args[1:], os.Stdout, os.Stderr); err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-}
+func main() { command.Main(run) }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("estimate", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs := command.NewFlagSet("estimate", usage+model.Caution+"\n\nFlags:\n", stderr)
 	method := fs.String("method", "network", "network (the weights) or sgm (semi-global matching of pairs, package sgm; no weights)")
 	stereo := fs.Bool("stereo", false, "the inputs are rectified pairs and the weights stereo weights (default: the embedded stereo weights)")
 	weights := fs.String("weights", "", "weights file (safetensors, see package model), of the kind the inputs ask for; default: the\nembedded one-image weights, or the embedded stereo weights with -stereo")
@@ -66,11 +60,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs.BoolVar(&save.PLY, "ply", false, "also write NAME.points.ply, a coloured point cloud in metres (binary little-endian)")
 	minConf := fs.Float64("min-confidence", model.DefaultMinConfidence, "networks: mark pixels whose left-right confidence is below this value invalid in every\noutput (it replaces the library's default; 0: keep every confidence; -method sgm has its own checks)")
 	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings, such as an assumed rig, still go to stderr)")
-	fs.Usage = func() { fmt.Fprint(stderr, usage+model.Caution+"\n\nFlags:\n"); fs.PrintDefaults() }
-	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
-		return nil
-	} else if err != nil {
-		return fmt.Errorf("estimate: %w", err)
+	if help, err := command.Parse(fs, args); help || err != nil {
+		return err
 	}
 	pairs, sgm := *stereo || *method == "sgm", *method == "sgm"
 	if *minConf < 0 || *minConf > 1 || *minConf != *minConf || *maxShift < 0 || (sgm && *weights != "") {

@@ -15,15 +15,13 @@ package main
 
 import (
 	"context"
-	"errors"
-	"flag"
 	"fmt"
 	_ "image/jpeg"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 
+	"github.com/parallaxdepth/parallax/command"
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/evaluation"
@@ -43,16 +41,10 @@ and NaN and is left out of the mean.
 Flags:
 `
 
-func main() {
-	if err := run(context.Background(), os.Args[1:], os.Stdout, os.Stderr); err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-}
+func main() { command.Main(run) }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("evaluate", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs := command.NewFlagSet("evaluate", usage, stderr)
 	method := fs.String("method", "network", "what to score: network (the weights) or sgm (semi-global matching of both images)")
 	stereo := fs.Bool("stereo", false, "score stereo weights (both images; default: the embedded stereo weights) instead of\none-image weights (the left image alone)")
 	weights := fs.String("weights", "", "weights file (safetensors) of the kind -stereo says; default: the embedded weights of that kind")
@@ -66,11 +58,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	rigPath := fs.String("rig", "", "with -pair: the rig JSON file, rescaled to the images' size (their aspect ratio must match\nwithin 1%); depth is scored only with a rig")
 	csvOut := fs.Bool("csv", false, "print one CSV table (columns phase, holes, pair, then the measures) instead of text")
 	quiet := fs.Bool("quiet", false, "no progress output")
-	fs.Usage = func() { fmt.Fprint(stderr, usage); fs.PrintDefaults() }
-	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
-		return nil
-	} else if err != nil {
-		return fmt.Errorf("evaluate: %w", err)
+	if help, err := command.Parse(fs, args); help || err != nil {
+		return err
 	}
 	src, files := *pair, strings.Split(*pair, ",")
 	if fs.NArg() > 1 || (*pair != "" && (fs.NArg() > 0 || len(files) != 3)) || (*pair == "" && *rigPath != "") {

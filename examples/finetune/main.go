@@ -10,14 +10,13 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
 	"strings"
 	"syscall"
 
+	"github.com/parallaxdepth/parallax/command"
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/model/data"
 	"github.com/parallaxdepth/parallax/model/evaluation"
@@ -37,21 +36,19 @@ status 3; an unreadable pair writes the checkpoint and exits 1; continue either 
 // exitInterrupted is the exit status of a run stopped by a signal.
 const exitInterrupted = 3
 
-var errInterrupted = errors.New("finetune: interrupted")
+// errInterrupted ends a run stopped by a signal; command.Main exits with
+// its status, exitInterrupted.
+var errInterrupted error = interrupted{}
 
-func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
-	err := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
-	stop()
-	if err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(map[bool]int{true: exitInterrupted, false: 1}[errors.Is(err, errInterrupted)])
-	}
-}
+type interrupted struct{}
+
+func (interrupted) Error() string { return "finetune: interrupted" }
+func (interrupted) ExitCode() int { return exitInterrupted }
+
+func main() { command.Main(run, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP) }
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("finetune", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs := command.NewFlagSet("finetune", usage, stderr)
 	dataDir := fs.String("data", "", "folder of rectified stereo pairs: left/NAME.png and right/NAME.png (PNG or JPEG), optionally rig.json and truth/ (required)")
 	out := fs.String("out", "", "file the trained weights are written to, safetensors (required)")
 	weights := fs.String("weights", "", "weights file or training checkpoint to start from (default: the embedded weights)")
@@ -74,11 +71,11 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	plotPath := fs.String("plot", "", "loss-curve PNG (default: the -out path with .png instead of its extension)")
 	f16 := fs.Bool("f16", false, "store the weights as 16-bit floats (half the size)")
 	quiet := fs.Bool("quiet", false, "no progress output")
-	fs.Usage = func() { fmt.Fprint(stderr, usage); fs.PrintDefaults() }
-	if err := fs.Parse(args); errors.Is(err, flag.ErrHelp) {
-		return nil
-	} else if err != nil || fs.NArg() > 0 {
-		return fmt.Errorf("finetune: %v (flags only; see -help)", errors.Join(err, map[bool]error{true: fmt.Errorf("unexpected argument %q", fs.Arg(0))}[fs.NArg() > 0]))
+	if help, err := command.Parse(fs, args); help || err != nil {
+		return err
+	}
+	if fs.NArg() > 0 {
+		return fmt.Errorf("finetune: unexpected argument %q (flags only; see -help)", fs.Arg(0))
 	}
 	if *dataDir == "" || *out == "" || opt.Steps < 1 || opt.Batch < 1 || opt.CheckpointEvery < 0 || *evalBatch < 1 || (*scratch && *weights != "") {
 		return errors.New("finetune: -data DIR and -out FILE are required, -steps, -batch and -eval-batch must be positive, -every not negative, -weights and -from-scratch exclude each other (see -help)")
