@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"image"
@@ -111,12 +112,23 @@ func occlusionImage(m *planar.Image) *image.Gray {
 // the output is the same for any number of workers. It returns the first
 // error met.
 func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) error {
+	return WriteDatasetContext(context.Background(), dir, style, seed, n, opt)
+}
+
+// WriteDatasetContext is WriteDataset, stopped when ctx is done: it then
+// starts no more pairs, waits for those in progress (each pair's files are
+// written atomically) and returns an error that wraps ctx's. A ctx that is
+// already done writes nothing.
+func WriteDatasetContext(ctx context.Context, dir string, style Style, seed uint64, n int, opt *Options) error {
 	o, err := opt.resolved()
 	if err != nil {
 		return err
 	}
 	if n < 0 {
 		return fmt.Errorf("synth: pair count %d is negative", n)
+	}
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("synth: %w", err)
 	}
 	vary, err := o.Vary.resolve(style)
 	if err != nil {
@@ -133,7 +145,7 @@ func WriteDataset(dir string, style Style, seed uint64, n int, opt *Options) err
 	} else if _, err := os.Stat(filepath.Join(dir, dataset.RigFile)); err == nil {
 		return fmt.Errorf("synth: %s already holds a data set of one rig (%s); write varied pairs, which have a rig each, into an empty folder", dir, dataset.RigFile)
 	}
-	return forEachPair(n, o, func(i int) error {
+	return forEachPair(ctx, n, o, func(i int) error {
 		p, err := Generate(style, seed, i, &o)
 		if err != nil {
 			return err

@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -295,7 +296,7 @@ func WriteDrive(dir string, d *Drive, opt *Options) error {
 	if err := dataset.Create(dir, rig); err != nil {
 		return fmt.Errorf("synth: writing a drive at %dx%d: %w", rig.Width, rig.Height, err)
 	}
-	return forEachPair(d.Frames(), o, func(i int) error {
+	return forEachPair(context.Background(), d.Frames(), o, func(i int) error {
 		p, err := GenerateFrame(d, i, &o)
 		if err != nil {
 			return err

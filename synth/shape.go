@@ -117,7 +117,27 @@ func (s *shape) intersect(r *ray, tMin float64) (t float64, face int, ok bool) {
 	return 0, 0, false
 }
 
-// intersectBox is the slab test, unrolled over the three axes.
+// slab narrows a ray's interval tNear … tFar, entered through nearFace and
+// left through farFace, to the slab lo … hi of one axis (ray origin o,
+// inverse direction inv), whose faces are face (lo) and face+1 (hi). The
+// x axis starts the interval in intersectBox, so that a NaN from a ray
+// along a face plane behaves as it always has.
+func slab(lo, hi, o, inv float64, face int, tNear, tFar float64, nearFace, farFace int) (float64, float64, int, int) {
+	t0, t1 := (lo-o)*inv, (hi-o)*inv
+	f0, f1 := face, face+1
+	if t0 > t1 {
+		t0, t1, f0, f1 = t1, t0, f1, f0
+	}
+	if t0 > tNear {
+		tNear, nearFace = t0, f0
+	}
+	if t1 < tFar {
+		tFar, farFace = t1, f1
+	}
+	return tNear, tFar, nearFace, farFace
+}
+
+// intersectBox is the slab test over the three axes.
 func (s *shape) intersectBox(r *ray, tMin float64) (float64, int, bool) {
 	t0 := (s.lo.x - r.o.x) * r.inv.x
 	t1 := (s.hi.x - r.o.x) * r.inv.x
@@ -126,30 +146,8 @@ func (s *shape) intersectBox(r *ray, tMin float64) (float64, int, bool) {
 		t0, t1, f0, f1 = t1, t0, 1, 0
 	}
 	tNear, tFar, nearFace, farFace := t0, t1, f0, f1
-	t0 = (s.lo.y - r.o.y) * r.inv.y
-	t1 = (s.hi.y - r.o.y) * r.inv.y
-	f0, f1 = 2, 3
-	if t0 > t1 {
-		t0, t1, f0, f1 = t1, t0, 3, 2
-	}
-	if t0 > tNear {
-		tNear, nearFace = t0, f0
-	}
-	if t1 < tFar {
-		tFar, farFace = t1, f1
-	}
-	t0 = (s.lo.z - r.o.z) * r.inv.z
-	t1 = (s.hi.z - r.o.z) * r.inv.z
-	f0, f1 = 4, 5
-	if t0 > t1 {
-		t0, t1, f0, f1 = t1, t0, 5, 4
-	}
-	if t0 > tNear {
-		tNear, nearFace = t0, f0
-	}
-	if t1 < tFar {
-		tFar, farFace = t1, f1
-	}
+	tNear, tFar, nearFace, farFace = slab(s.lo.y, s.hi.y, r.o.y, r.inv.y, 2, tNear, tFar, nearFace, farFace)
+	tNear, tFar, nearFace, farFace = slab(s.lo.z, s.hi.z, r.o.z, r.inv.z, 4, tNear, tFar, nearFace, farFace)
 	if !(tNear <= tFar) {
 		return 0, 0, false
 	}

@@ -10,12 +10,12 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
 	"runtime"
 
+	"github.com/parallaxdepth/parallax/command"
 	"github.com/parallaxdepth/parallax/progress"
 	"github.com/parallaxdepth/parallax/synth"
 )
@@ -28,18 +28,13 @@ in metres, occlusion masks). Flags:
 
 `
 
-func main() {
-	if err := run(context.Background(), os.Args[1:], os.Stdout, os.Stderr); err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-}
+// main stops a run on Ctrl-C after the pairs in progress.
+func main() { command.Main(run, os.Interrupt) }
 
-// run parses args and writes the data set; ctx is consulted before the
-// first pair (a data set write runs to its end).
+// run parses args and writes the data set; when ctx is done it stops after
+// the pairs in progress (each pair's files are complete) with an error.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("synth", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs := command.NewFlagSet("synth", usage, stderr)
 	styleName := fs.String("style", "greenhouse", "scene style: greenhouse (a rover in a greenhouse aisle), storage (a storage room with shelving), orchard (a ground robot in an orchard alley, 0.3 to 30 m) or workshop (an industrial hall, from its aisle or above a workbench, 0.3 to 30 m)")
 	varyName := fs.String("vary", "default", "per-pair randomisation: all (rig, colours, textures, light, exposure, blur, noise, gain difference, vertical misalignment; a rig per pair in rigs/), none, or default (none for greenhouse and storage, all for the others)")
 	n := fs.Int("n", 8, "number of stereo pairs to write")
@@ -51,12 +46,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs.IntVar(&opt.Samples, "samples", synth.DefaultSamples, fmt.Sprintf("anti-aliasing samples per pixel along each axis near edges (1 to %d)", synth.MaxSamples))
 	fs.IntVar(&opt.Workers, "workers", runtime.GOMAXPROCS(0), "pairs rendered at once; does not change the output")
 	quiet := fs.Bool("quiet", false, "do not print progress")
-	fs.Usage = func() { fmt.Fprint(stderr, usage); fs.PrintDefaults() }
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return fmt.Errorf("synth: %w", err)
+	if help, err := command.Parse(fs, args); help || err != nil {
+		return err
 	}
 	switch {
 	case fs.NArg() > 0:
@@ -77,12 +68,9 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if opt.Vary, err = synth.ParseVariation(*varyName); err != nil {
 		return err
 	}
-	if err := ctx.Err(); err != nil {
-		return fmt.Errorf("synth: %w", err)
-	}
 	bar := progress.New(stderr, *n, &progress.Options{Unit: "pairs", Label: style.String(), Mode: map[bool]progress.Mode{true: progress.Off}[*quiet]})
 	opt.Progress = func(done, _ int) { bar.Update(done, "") }
-	err = synth.WriteDataset(*out, style, *seed, *n, opt)
+	err = synth.WriteDatasetContext(ctx, *out, style, *seed, *n, opt)
 	bar.Done()
 	if err != nil {
 		return err

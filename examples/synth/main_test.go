@@ -3,10 +3,12 @@ package main
 import (
 	"bytes"
 	"context"
+	"errors"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 )
 
 // runArgs runs the command with a small image size, then extra flags (a
@@ -66,5 +68,37 @@ func TestRun(t *testing.T) {
 	var stderr bytes.Buffer
 	if err := run(context.Background(), []string{"-help"}, &bytes.Buffer{}, &stderr); err != nil || !strings.Contains(stderr.String(), "usage: synth -out DIR") {
 		t.Errorf("-help: %v, stderr %q", err, stderr.String())
+	}
+}
+
+// TestCancel: a run of many pairs stops soon after its context is
+// cancelled (once its first pair is on disk), with an error, instead of
+// writing them all.
+func TestCancel(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "out")
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	done := make(chan error, 1)
+	go func() {
+		done <- run(ctx, []string{"-out", dir, "-width", "32", "-height", "16", "-samples", "1", "-workers", "2", "-n", "100000", "-quiet"}, &bytes.Buffer{}, &bytes.Buffer{})
+	}()
+	deadline := time.Now().Add(60 * time.Second)
+	for time.Now().Before(deadline) {
+		if _, err := os.Stat(filepath.Join(dir, "left", "000000.png")); err == nil {
+			break
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	cancel()
+	select {
+	case err := <-done:
+		if !errors.Is(err, context.Canceled) || !strings.HasPrefix(err.Error(), "synth: stopped after ") {
+			t.Errorf("cancelled run: %v; want \"synth: stopped after …\" wrapping context.Canceled", err)
+		}
+	case <-time.After(30 * time.Second):
+		t.Fatal("the run went on for 30 s after its context was cancelled")
+	}
+	if left, err := os.ReadDir(filepath.Join(dir, "left")); err != nil || len(left) > 100 {
+		t.Errorf("%d left views written (%v); want a few", len(left), err)
 	}
 }
