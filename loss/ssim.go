@@ -170,14 +170,7 @@ func (k *SSIMKernel) forwardPlane(dst, x, y []float32, o, h, w int, c1, c2 float
 		if r+1 < h {
 			hrow(r + 1)
 		}
-		u, d := r-1, r+1
-		if u < 0 {
-			u = 0
-		}
-		if d >= h {
-			d = h - 1
-		}
-		u, c, d := (u%3)*w, (r%3)*w, (d%3)*w
+		u, c, d := ringRows(r, h, w)
 		out := r * w
 		for i := 0; i < w; i++ {
 			mx := (hx[u+i] + hx[c+i] + hx[d+i]) * ninth
@@ -234,6 +227,10 @@ func (k *SSIMKernel) backward(gradX, gradY, gradMap, x, y []float32, s Shape, ac
 	}
 }
 
+// backwardPlane is forwardPlane's adjoint. The box filter is its own
+// transpose, so its loops walk the same ring of rows as forwardPlane's
+// (ringRows); they stay two loops, not one walk with two bodies, so that
+// each inner loop is plain code over its own sums.
 func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c2 float32, acc bool) {
 	np := h * w
 	mux, muy := k.mux[o:o+np], k.muy[o:o+np]
@@ -286,14 +283,7 @@ func (k *SSIMKernel) backwardPlane(gx, gy, g, x, y []float32, o, h, w int, c1, c
 		if r+1 < h {
 			crow(r + 1)
 		}
-		u, d := r-1, r+1
-		if u < 0 {
-			u = 0
-		}
-		if d >= h {
-			d = h - 1
-		}
-		u, c, d := (u%3)*w, (r%3)*w, (d%3)*w
+		u, c, d := ringRows(r, h, w)
 		out := r * w
 		for i := 0; i < w; i++ {
 			sq := (hsq[u+i] + hsq[c+i] + hsq[d+i]) * ninth
@@ -331,4 +321,12 @@ func hsum3(dst, src []float32) {
 		dst[i] = l + c + n
 		l, c = c, n
 	}
+}
+
+// ringRows returns the offsets, in a ring buffer of 3 rows of width w, of
+// the rows above, at and below row r of h, the border row repeated at the
+// edges (the forward and backward vertical 3-tap sums share it).
+func ringRows(r, h, w int) (u, c, d int) {
+	u, d = max(r-1, 0), min(r+1, h-1)
+	return (u % 3) * w, (r % 3) * w, (d % 3) * w
 }

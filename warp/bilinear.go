@@ -225,6 +225,9 @@ func Backward(gradSrc, gradDisp, gradDst, src, disp []float32, s Shape, dir Dire
 	if gradSrc != nil {
 		clear(gradSrc)
 	}
+	// The loops over rows and chunks of taps are Forward's: the adjoint
+	// walks the same taps. They stay two loops, not one walk with two
+	// bodies, so that each inner loop is plain code over its own buffers.
 	scale := float32(dir) * float32(s.W)
 	w, plane := s.W, s.H*s.W
 	var taps [chunk]tap
