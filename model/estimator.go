@@ -44,7 +44,8 @@ type EstimatorOptions struct {
 	MaxWorkers int
 	// Resample scales the input image to the network's size. If nil it is
 	// defaulted to golang.org/x/image/draw.CatmullRom, the filter package
-	// model/data uses for training.
+	// model/data uses for training; that filter runs as planar.Resampler,
+	// which gives its results bit for bit without an intermediate image.
 	Resample xdraw.Interpolator
 	// MaxSide caps the longer side of the network's input (see
 	// NetworkSize). If 0 it is defaulted to DefaultMaxSide. A network size
@@ -199,8 +200,9 @@ type stage struct {
 	w, h     int
 	bytes    int64 // stageBytes
 	net      *Net
-	params   *Weights // the weights net was built from
-	scaled   *image.RGBA64
+	params   *Weights          // the weights net was built from
+	scaled   *image.RGBA64     // with a Resample filter of the caller's
+	resample *planar.Resampler // otherwise
 	in, flip *planar.Image
 	right    *planar.Image // stereo: the right view
 	dl, dr   []float32     // blended left and original right disparity, fractions
@@ -251,8 +253,8 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 	if o.MaxWorkers < 0 || o.MaxWorkers > 1024 {
 		return nil, fmt.Errorf("model: MaxWorkers %d must be in [1, 1024]", o.MaxWorkers)
 	}
-	if o.Resample == nil {
-		o.Resample = xdraw.CatmullRom
+	if o.Resample == xdraw.CatmullRom {
+		o.Resample = nil // planar.Resampler computes the same, faster
 	}
 	if o.Validity, err = o.Validity.resolve(); err != nil {
 		return nil, err
@@ -372,10 +374,14 @@ func (e *Estimator) stage(wk *worker, p *Weights, w, h int) (*stage, error) {
 	n := h * w
 	st := &stage{
 		w: w, h: h, bytes: bytes, net: net, params: p,
-		scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
-		in:     planar.New(1, 3, h, w),
-		dl:     make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),
+		in: planar.New(1, 3, h, w),
+		dl: make([]float32, n), dr: make([]float32, n), mirrored: make([]float32, n),
 		warped: make([]float32, n), valid: make([]float32, n), conf: make([]float32, n),
+	}
+	if e.resize != nil {
+		st.scaled = image.NewRGBA64(image.Rect(0, 0, w, h))
+	} else if st.resample, err = planar.NewResampler(w, h); err != nil {
+		return nil, fmt.Errorf("model: %w", err)
 	}
 	if e.arch.IsStereo() {
 		st.right = planar.New(1, 3, h, w)
@@ -576,6 +582,12 @@ func (e *Estimator) forward(st *stage, in *planar.Image, left, right []float32) 
 // toInput resamples img to the network's size into in, RGB in [0, 1] with
 // alpha divided out, as model/data does for training.
 func (e *Estimator) toInput(st *stage, in *planar.Image, img image.Image) error {
+	if st.resample != nil {
+		if err := st.resample.Scale(in, img); err != nil {
+			return fmt.Errorf("model: %w", err)
+		}
+		return nil
+	}
 	dst := st.scaled
 	b := img.Bounds()
 	if b.Dx() == dst.Rect.Dx() && b.Dy() == dst.Rect.Dy() {

@@ -2,12 +2,15 @@ package model
 
 import (
 	"context"
+	"fmt"
 	"image"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"sync"
 	"testing"
+
+	xdraw "golang.org/x/image/draw"
 )
 
 // The network size rule (issue 16 item 3): aspect ratio kept, sides rounded
@@ -240,3 +243,63 @@ func benchmarkOne(b *testing.B, width, height int) {
 func BenchmarkEstimatePair256x128(b *testing.B) { benchmarkPair(b, 256, 128) }
 func BenchmarkEstimatePair640x480(b *testing.B) { benchmarkPair(b, 640, 480) }
 func BenchmarkEstimateOne640x480(b *testing.B)  { benchmarkOne(b, 640, 480) }
+
+// xdrawFilter hands golang.org/x/image/draw's CatmullRom to the Estimator
+// behind another value, so the Estimator takes the path for a caller's own
+// filter: image.RGBA64 scaling with x/image/draw, then planar.FromImageInto.
+type xdrawFilter struct{ xdraw.Interpolator }
+
+func (xdrawFilter) Scale(dst xdraw.Image, dr image.Rectangle, src image.Image, sr image.Rectangle, op xdraw.Op, opts *xdraw.Options) {
+	xdraw.CatmullRom.Scale(dst, dr, src, sr, op, opts)
+}
+
+// TestEstimatorResampleUnchanged checks that the default resampling
+// (planar.Resampler) gives the Estimator the same results, bit for bit, as
+// x/image/draw's CatmullRom into an RGBA64 image, which it replaced: for
+// both kinds of weights, inputs of the network's size and resized ones.
+func TestEstimatorResampleUnchanged(t *testing.T) {
+	one, err := Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := DefaultStereo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(8, 3))
+	for _, c := range []struct {
+		w       *Weights
+		iw, ih  int
+		network string
+	}{{one, 256, 128, "256x128"}, {one, 301, 170, "256x160"}, {st, 200, 150, "192x160"}, {st, 256, 128, "256x128"}} {
+		left, right := pairImages(rng, c.iw, c.ih, c.iw/32)
+		var res [2]*Estimate
+		for i, opt := range []*EstimatorOptions{{MaxSide: 256}, {MaxSide: 256, Resample: xdrawFilter{xdraw.CatmullRom}}} {
+			e, err := NewEstimator(c.w, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if nw, nh, _ := e.NetworkSize(c.iw, c.ih); fmt.Sprintf("%dx%d", nw, nh) != c.network {
+				t.Fatalf("%dx%d runs at %dx%d, the test expects %s", c.iw, c.ih, nw, nh, c.network)
+			}
+			if e.Kind() == KindStereo {
+				res[i], err = e.EstimatePair(context.Background(), left, right)
+			} else {
+				res[i], err = e.Estimate(context.Background(), left)
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+		}
+		for i, v := range res[0].Disparity.Pix {
+			if w := res[1].Disparity.Pix[i]; v != w && !(math.IsNaN(float64(v)) && math.IsNaN(float64(w))) {
+				t.Fatalf("%s weights, %dx%d input: disparity %d is %v, %v with x/image/draw", c.w.Config.Arch, c.iw, c.ih, i, v, w)
+			}
+		}
+		for i, v := range res[0].Confidence.Pix {
+			if w := res[1].Confidence.Pix[i]; v != w {
+				t.Fatalf("%s weights, %dx%d input: confidence %d is %v, %v with x/image/draw", c.w.Config.Arch, c.iw, c.ih, i, v, w)
+			}
+		}
+	}
+}

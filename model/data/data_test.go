@@ -243,7 +243,10 @@ func TestResizeImageAntialiased(t *testing.T) {
 			img.SetGray(x, y, color.Gray{255})
 		}
 	}
-	out := resizeImage(img, 32, 16)
+	out, err := resizeImage(img, 32, 16)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for i, v := range out.Pix {
 		x := i % 32
 		if x > 1 && x < 30 && math.Abs(float64(v)-0.5) > 0.02 {
@@ -255,7 +258,9 @@ func TestResizeImageAntialiased(t *testing.T) {
 	for i := range c.Pix {
 		c.Pix[i] = [4]uint8{51, 102, 204, 255}[i%4]
 	}
-	out = resizeImage(c, 32, 32)
+	if out, err = resizeImage(c, 32, 32); err != nil {
+		t.Fatal(err)
+	}
 	for i, v := range out.Pix {
 		want := [3]float32{0.2, 0.4, 0.8}[i/(32*32)]
 		if math.Abs(float64(v-want)) > 1e-4 {

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"image"
 
-	"golang.org/x/image/draw"
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
@@ -73,19 +72,22 @@ func toPlanar(img image.Image, width, height int) (*planar.Image, error) {
 	if b := img.Bounds(); b.Dx() == width && b.Dy() == height {
 		return planar.FromImage(img)
 	}
-	return resizeImage(img, width, height), nil
+	return resizeImage(img, width, height)
 }
 
 // resizeImage scales img to width × height with Catmull-Rom and returns it
-// as a 1×3×H×W image; alpha is divided out (planar.FromImageInto).
-func resizeImage(img image.Image, width, height int) *planar.Image {
-	dst := image.NewRGBA64(image.Rect(0, 0, width, height))
-	draw.CatmullRom.Scale(dst, dst.Rect, img, img.Bounds(), draw.Src, nil)
-	out := planar.New(1, 3, height, width)
-	if err := planar.FromImageInto(out, dst); err != nil {
-		panic(err) // unreachable: out has dst's size
+// as a 1×3×H×W image; alpha is divided out. planar.Resampler gives, bit for
+// bit, what golang.org/x/image/draw.CatmullRom into an RGBA64 image did here.
+func resizeImage(img image.Image, width, height int) (*planar.Image, error) {
+	rs, err := planar.NewResampler(width, height)
+	if err != nil {
+		return nil, err
 	}
-	return out
+	out := planar.New(1, 3, height, width)
+	if err := rs.Scale(out, img); err != nil {
+		return nil, err
+	}
+	return out, nil
 }
 
 // planeMap is a single-channel w×h map, row-major.
