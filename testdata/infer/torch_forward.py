@@ -37,7 +37,7 @@ import torch
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, "..", "model"))
-from gen_st import forward  # noqa: E402  the layer-list walker of the model fixtures
+from gen_st import forward, weights_metadata, write_safetensors  # noqa: E402  the model fixtures' walker and writer
 
 DTYPES = {"F32": (np.float32, 4), "F16": (np.float16, 2)}
 
@@ -66,37 +66,9 @@ def save_weights(path, params, config, provenance=None, dtype=torch.float32):
     model.Load reads. config is package model's Config as a dict: {"arch":
     "parallax-ed", "version": 1, "width", "height", "encoder": [5 ints],
     "decoder": [5 ints], "d_max"}. dtype is torch.float32 or torch.float16."""
-    meta = {
-        "format": "parallax-weights",
-        "format_version": "1",
-        "arch": config["arch"],
-        "arch_version": str(config["version"]),
-        "config": json.dumps(config),
-        "input_width": str(config["width"]),
-        "input_height": str(config["height"]),
-        "d_max": repr(float(config["d_max"])),
-    }
-    for k, v in (provenance or {}).items():
-        meta["provenance." + k] = str(v)
-    code = {torch.float32: "F32", torch.float16: "F16"}[dtype]
-    header, blobs, off = {"__metadata__": meta}, [], 0
-    for name in sorted(params):
-        t = params[name].detach().to(dtype).contiguous().cpu()
-        b = t.numpy().astype(t.numpy().dtype.newbyteorder("<")).tobytes()
-        header[name] = {"dtype": code, "shape": list(t.shape), "data_offsets": [off, off + len(b)]}
-        off += len(b)
-        blobs.append(b)
-    hj = json.dumps(header, separators=(",", ":")).encode()
-    hj += b" " * (-len(hj) % 8)
-    tmp = path + ".tmp"
-    with open(tmp, "wb") as f:
-        f.write(struct.pack("<Q", len(hj)))
-        f.write(hj)
-        for b in blobs:
-            f.write(b)
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(tmp, path)
+    names = sorted(params)
+    tensors = {n: params[n].detach().to(dtype).contiguous().cpu() for n in names}
+    write_safetensors(path, tensors, weights_metadata(config, provenance), names, ["__metadata__"] + names)
 
 
 def main():

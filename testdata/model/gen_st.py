@@ -67,9 +67,31 @@ def f16_cases():
     return len(f)
 
 
-def write_safetensors(path, tensors, meta, order):
+def weights_metadata(config, provenance=None):
+    """The __metadata__ map of a weights file (see model/doc.go): config is
+    package model's Config as a dict, provenance a dict written as
+    provenance.* keys."""
+    meta = {
+        "format": "parallax-weights",
+        "format_version": "1",
+        "arch": config["arch"],
+        "arch_version": str(config["version"]),
+        "config": json.dumps(config),
+        "input_width": str(config["width"]),
+        "input_height": str(config["height"]),
+        "d_max": repr(float(config["d_max"])),
+    }
+    for k, v in (provenance or {}).items():
+        meta["provenance." + k] = str(v)
+    return meta
+
+
+def write_safetensors(path, tensors, meta, order, keys=None):
     """tensors: name -> torch tensor (float32 or float16); order: the order
-    of the data section (deliberately not the header's key order)."""
+    of the data section; keys: the order of the header's keys (default
+    "__metadata__", then the names in reverse order, to show that the reader
+    does not rely on key order). The file is written beside path, flushed
+    and renamed over it."""
     dt = {torch.float32: "F32", torch.float16: "F16"}
     header = {"__metadata__": meta}
     blobs = []
@@ -81,16 +103,19 @@ def write_safetensors(path, tensors, meta, order):
                         "data_offsets": [off, off + len(b)]}
         off += len(b)
         blobs.append(b)
-    # Header keys in reverse name order, to show the reader does not rely on
-    # key order.
-    keys = ["__metadata__"] + sorted(tensors, reverse=True)
+    if keys is None:
+        keys = ["__metadata__"] + sorted(tensors, reverse=True)
     hj = json.dumps({k: header[k] for k in keys}, separators=(",", ":")).encode()
     hj += b" " * (-len(hj) % 8)
-    with open(path, "wb") as out:
+    tmp = path + ".tmp"
+    with open(tmp, "wb") as out:
         out.write(struct.pack("<Q", len(hj)))
         out.write(hj)
         for b in blobs:
             out.write(b)
+        out.flush()
+        os.fsync(out.fileno())
+    os.replace(tmp, path)
 
 
 def tiny_weights():
@@ -105,17 +130,7 @@ def tiny_weights():
         # that the heads' sigmoids do not saturate in the forward fixture.
         std = (1.0 / (shape[1] * shape[2] * shape[3])) ** 0.5 if len(shape) == 4 else 0.1
         tensors[p["name"]] = torch.randn(shape, generator=g, dtype=torch.float32) * std
-    meta = {
-        "format": "parallax-weights",
-        "format_version": "1",
-        "arch": cfg["arch"],
-        "arch_version": str(cfg["version"]),
-        "config": json.dumps(cfg),
-        "input_width": str(cfg["width"]),
-        "input_height": str(cfg["height"]),
-        "d_max": repr(float(cfg["d_max"])),
-        "provenance.source": "testdata/model/gen_st.py, torch %s" % torch.__version__,
-    }
+    meta = weights_metadata(cfg, {"source": "testdata/model/gen_st.py, torch %s" % torch.__version__})
     names = [p["name"] for p in arch["params"]]
     order = names[1::2] + names[0::2]  # biases first, then weights
     write_safetensors(os.path.join(HERE, "tiny_f32.safetensors"), tensors, meta, order)
