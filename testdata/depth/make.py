@@ -18,14 +18,16 @@ The metric formulas are the usual ones of single-image depth estimation
 (common practice) and the bad-pixel rate of Scharstein & Szeliski (IJCV 2002);
 they are written out again below with numpy, independently of the Go code.
 """
-import json
 import os
+import sys
 
 import cv2
 import numpy as np
 from matplotlib import _cm
 
 HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, ".."))
+import jsonfile  # noqa: E402
 
 
 def f32list(a):
@@ -34,13 +36,7 @@ def f32list(a):
 
 
 def write_json(name, obj):
-    path = os.path.join(HERE, name)
-    with open(path + ".tmp", "w") as f:
-        json.dump(obj, f, indent=1)
-        f.write("\n")
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(path + ".tmp", path)
+    jsonfile.write_json(os.path.join(HERE, name), obj)
 
 
 def depth_metrics(est, gt, mask, median_scale=False, lo=0.0, hi=0.0):

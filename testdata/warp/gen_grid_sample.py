@@ -27,15 +27,17 @@ arrays) and one little-endian float64 file NAME.f64 per case holding the
 arrays back to back: src (N*C*H*W), disp (N*H*W), gout (N*C*H*W),
 out (N*C*H*W), gsrc (N*C*H*W), gdisp (N*H*W).
 """
-import json
 import os
 import subprocess
+import sys
 
 import numpy as np
 import torch
 import torch.nn.functional as F
 
 HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, ".."))
+from jsonfile import write_json  # noqa: E402
 SEED = 20261201
 
 # name, N, C, H, W, direction, padding mode, disparity range in pixels (lo, hi)
@@ -144,13 +146,7 @@ def main():
         "seed": SEED,
         "cases": cases,
     }
-    path = os.path.join(HERE, "grid_sample.json")
-    with open(path + ".tmp", "w") as f:
-        json.dump(meta, f, indent=1)
-        f.write("\n")
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(path + ".tmp", path)
+    write_json(os.path.join(HERE, "grid_sample.json"), meta)
     print("wrote %d cases with torch %s" % (len(cases), torch.__version__))
 
 

@@ -14,7 +14,6 @@ absolute difference to the left image (values /255, mean over R, G, B and
 over the pixels where d is known and 0 <= u <= W-1 for every scale) to
 motorcycle_errors.json.
 """
-import json
 import os
 import sys
 
@@ -25,6 +24,7 @@ from skimage import io
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
+from jsonfile import write_json  # noqa: E402
 from pfm import read_pfm  # noqa: E402  (the PFM reader of every fixture script)
 PAIR = os.path.join(HERE, "..", "motorcycle")
 SCALES = [0.0, 0.9, 1.0, 1.1]
@@ -59,13 +59,7 @@ def main():
         "scales": SCALES,
         "mean_abs_error": errors,
     }
-    path = os.path.join(HERE, "motorcycle_errors.json")
-    with open(path + ".tmp", "w") as f:
-        json.dump(out, f, indent=1)
-        f.write("\n")
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(path + ".tmp", path)
+    write_json(os.path.join(HERE, "motorcycle_errors.json"), out)
     print(out)
 
 
