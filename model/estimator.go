@@ -332,15 +332,17 @@ func (e *Estimator) NetworkSize(width, height int) (w, h int, err error) {
 }
 
 // stage returns wk's buffers for the network size w × h running the
-// weights p, made on first need (a stage built from other weights is
-// rebuilt); the least recently used size is dropped beyond maxStages.
+// weights p, made on first need (a stage built from other weights, which
+// SetWeights allows only with the same Config, is pointed at p's
+// parameters: a swap allocates nothing); the least recently used size is
+// dropped beyond maxStages.
 func (e *Estimator) stage(wk *worker, p *Weights, w, h int) (*stage, error) {
 	for i, st := range wk.stages {
-		if st.w == w && st.h == h && st.params != p {
-			wk.stages = append(wk.stages[:i], wk.stages[i+1:]...)
-			break
-		}
 		if st.w == w && st.h == h {
+			if st.params != p {
+				st.net.setParams(p)
+				st.params = p
+			}
 			copy(wk.stages[1:i+1], wk.stages[:i])
 			wk.stages[0] = st
 			return st, nil

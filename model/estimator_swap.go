@@ -10,7 +10,8 @@ import (
 // widths, input size and d_max). The swap is atomic: every call of
 // Estimate or EstimatePair loads the weights once, when it takes a worker,
 // and runs them alone to its end; a worker's network built from older
-// weights is rebuilt on its next use. So each concurrent call sees the old
+// weights is pointed at the new parameters on its next use, which
+// allocates nothing (an adapting robot swaps often). So each concurrent call sees the old
 // or the new weights, never a mix. SetWeights keeps references to w's
 // parameter slices: the caller must not change them afterwards. It
 // returns an error for nil or invalid weights or another Config.

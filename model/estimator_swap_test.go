@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"runtime"
 	"sync"
 	"testing"
 )
@@ -149,5 +150,78 @@ func TestSetWeightsRefusesOtherConfig(t *testing.T) {
 	}
 	if err := e.SetWeights(bad); err == nil {
 		t.Error("weights with a truncated parameter were accepted")
+	}
+}
+
+// TestSetWeightsAllocatesNothing: an Estimate after a swap allocates about
+// what one without does (its result maps) plus SetWeights' check of the
+// new weights' architecture: the worker's network is pointed at the new
+// parameters, not rebuilt (which allocated a Net, tens of MB per worker
+// and swap at a camera's size). The output after the swap equals a fresh
+// Estimator's on the new weights, bit for bit.
+func TestSetWeightsAllocatesNothing(t *testing.T) {
+	wa := tinyWeights(t)
+	wb, err := NewWeights(tinyConfig, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := &EstimatorOptions{MaxWorkers: 1, Validity: ValidityOptions{MinConfidence: ValidityOff, MinTexture: ValidityOff}}
+	img := swapImage(130, 66, 0)
+	ctx := context.Background()
+	e, err := NewEstimator(wa, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	allocated := func(f func()) uint64 { // bytes, over 5 calls
+		var a, b runtime.MemStats
+		runtime.ReadMemStats(&a)
+		for range 5 {
+			f()
+		}
+		runtime.ReadMemStats(&b)
+		return b.TotalAlloc - a.TotalAlloc
+	}
+	estimate := func() {
+		if _, err := e.Estimate(ctx, img); err != nil {
+			t.Fatal(err)
+		}
+	}
+	estimate()
+	plain := allocated(estimate)
+	check := allocated(func() {
+		if _, err := wb.Arch(); err != nil {
+			t.Fatal(err)
+		}
+	})
+	ws := []*Weights{wb, wa}
+	i := 0
+	swapped := allocated(func() {
+		if err := e.SetWeights(ws[i%2]); err != nil {
+			t.Fatal(err)
+		}
+		i++
+		estimate()
+	})
+	t.Logf("bytes over 5 calls: Estimate %d, Arch %d, swap and Estimate %d", plain, check, swapped)
+	if swapped > 2*(plain+check) {
+		t.Errorf("a swap and an Estimate allocate %d bytes over 5 calls; an Estimate alone %d and the weights' check %d", swapped, plain, check)
+	}
+	if err := e.SetWeights(wb); err != nil {
+		t.Fatal(err)
+	}
+	got, err := e.Estimate(ctx, img)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fresh, err := NewEstimator(wb, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := fresh.Estimate(ctx, img)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !sameBits(got.Disparity.Pix, want.Disparity.Pix) {
+		t.Error("after the swap the Estimator's output differs from a fresh Estimator's on the new weights")
 	}
 }

@@ -62,6 +62,18 @@ type step struct {
 // the file's size.
 func NewNet(w *Weights, batch int) (*Net, error) { return newNet(w, batch, false) }
 
+// setParams points the Net's convolutions at p's parameters, which must
+// be for the Net's architecture at any input size (the caller checks, as
+// SetWeights does). The convolutions pack their weights on every call, so
+// nothing else depends on the old parameters.
+func (m *Net) setParams(p *Weights) {
+	for i := range m.steps {
+		if s := &m.steps[i]; s.conv != nil {
+			s.weight, s.bias = p.Params[s.layer.Name+".weight"], p.Params[s.layer.Name+".bias"]
+		}
+	}
+}
+
 // NewInspectNet is NewNet with a buffer of its own for every tensor, so
 // that Tensor gives every layer's output of the last call (for tests and
 // inspection; it takes several times NewNet's memory).
