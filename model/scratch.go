@@ -60,15 +60,12 @@ func netBytes(a *Arch) int64 {
 		sh, _ := a.Shape(name)
 		n += 4 * 2 * int64(sh.H*sh.W)
 	}
-	// Matching at 1/2^MatchLevel: two grey views (1 byte a pixel), its
-	// disparity and validity for both views (2 × 8 bytes), sgm's result
-	// maps (16 bytes) and its worker: per pixel the cost volume and the
-	// path sums (1 + 2 bytes per stored level, levels padded to 16) and
-	// about 17 bytes of maps and rows.
+	// Matching at 1/2^MatchLevel: its disparity and validity for both
+	// views (2 × 8 bytes a pixel) and each match that runs at once
+	// (matchBytes, matchSlots).
 	w, h := a.Input.W>>a.Config.MatchLevel(), a.Input.H>>a.Config.MatchLevel()
-	levels := min(int(math.Ceil(a.Config.DMax*float64(w))), w-1) + 1
-	stored := (levels + 15) &^ 15
-	return n + int64(w*h)*int64(2+16+16+3*stored+17)
+	maxDisp := max(min(int(math.Ceil(a.Config.DMax*float64(w))), w-1), 1)
+	return n + int64(w*h)*16 + int64(matchSlots(1, h, w, maxDisp))*matchBytes(h, w, maxDisp)
 }
 
 // stageBytes returns about the bytes one stage of a worker (estimator.go)

@@ -2,9 +2,13 @@ package model
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"image"
 	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"github.com/parallaxdepth/parallax/sgm"
 )
@@ -34,14 +38,48 @@ type Matching struct {
 	level    int // the match level: 1/2^level of the input's resolution
 	maxDisp  int
 	matcher  *sgm.Matcher
-	gl, gr   *image.Gray
-	res      sgm.Result
-	disp     []float32 // 2n × h × w, pixels at the match level, pair-view layout
-	valid    []float32 // 1 where the matcher's own check passed, 0 where filled
+	slots    []matchSlot // one per match that runs at once
+	disp     []float32   // 2n × h × w, pixels at the match level, pair-view layout
+	valid    []float32   // 1 where the matcher's own check passed, 0 where filled
 	computed bool
 	// fixed (tests only) makes Compute keep disp and valid as they were
 	// set, so that a network runs on a committed match.
 	fixed bool
+}
+
+// matchSlot holds one running match's grey views and result.
+type matchSlot struct {
+	gl, gr *image.Gray
+	res    sgm.Result
+}
+
+// MaxConcurrentMatchBytes bounds the memory that running the 2n matches of
+// a Matching side by side may add: each match that runs at once holds its
+// own grey pair, result maps and matcher worker (about 280 bytes a pixel
+// at the default d_max, 8.6 MiB at 256×128). The matcher parallelises
+// each match already; matches side by side also overlap its serial
+// phases (filling holes, the conversions here), which counts at small
+// sizes. Above the bound the matches run one after another.
+const MaxConcurrentMatchBytes = 32 << 20
+
+// matchBytes returns about the bytes one running match holds for h × w
+// pixels up to maxDisp: two grey views, sgm's result maps (16 bytes) and
+// its worker, per pixel the cost volume and path sums (1 + 2 bytes a level,
+// levels padded to 16) and about 17 bytes of maps and rows.
+func matchBytes(h, w, maxDisp int) int64 {
+	stored := (maxDisp + 1 + 15) &^ 15
+	return int64(w*h) * int64(2+16+3*stored+17)
+}
+
+// matchSlots returns how many of the 2n matches of n pairs run at once:
+// up to GOMAXPROCS, within MaxConcurrentMatchBytes for the matches beyond
+// the first.
+func matchSlots(n, h, w, maxDisp int) int {
+	k := min(2*n, runtime.GOMAXPROCS(0))
+	if extra := MaxConcurrentMatchBytes / matchBytes(h, w, maxDisp); int64(k-1) > extra {
+		k = int(extra) + 1
+	}
+	return max(k, 1)
 }
 
 // NewMatching prepares the matching of n pairs of full-resolution size
@@ -64,13 +102,17 @@ func NewMatching(n, width, height int, dMax float64, level int) (*Matching, erro
 	if maxDisp < 1 {
 		maxDisp = 1
 	}
-	m, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: maxDisp, MaxWorkers: 1})
+	k := matchSlots(n, h, w, maxDisp)
+	m, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: maxDisp, MaxWorkers: k})
 	if err != nil {
 		return nil, fmt.Errorf("model: matching: %w", err)
 	}
 	r := image.Rect(0, 0, w, h)
-	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, matcher: m,
-		gl: image.NewGray(r), gr: image.NewGray(r),
+	slots := make([]matchSlot, k)
+	for i := range slots {
+		slots[i].gl, slots[i].gr = image.NewGray(r), image.NewGray(r)
+	}
+	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, matcher: m, slots: slots,
 		disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
 }
 
@@ -90,42 +132,78 @@ func (m *Matching) Compute(pairs []float32) error {
 	if len(pairs) != 2*m.n*img {
 		return fmt.Errorf("model: matching: %d input values, want %d", len(pairs), 2*m.n*img)
 	}
-	plane := m.h * m.w
-	for i := range m.n {
-		left, right := pairs[i*img:(i+1)*img], pairs[(m.n+i)*img:(m.n+i+1)*img]
-		for k, mirror := range []bool{false, true} {
-			// The mirrored, swapped pair: mirror(right) is its left view.
-			a, b := left, right
-			if mirror {
-				a, b = right, left
-			}
-			greyBlocks(m.gl, a, H, W, s, mirror)
-			greyBlocks(m.gr, b, H, W, s, mirror)
-			if err := m.matcher.MatchInto(context.Background(), &m.res, m.gl, m.gr); err != nil {
-				return fmt.Errorf("model: matching: %w", err)
-			}
-			o := (k*m.n + i) * plane
-			d := m.res.Disparity
-			for y := range m.h {
-				for x := range m.w {
-					m.valid[o+y*m.w+x] = float32(d.Mask[y*d.Stride+x])
-				}
-			}
-			if _, err := sgm.FillHoles(d); err != nil {
-				return fmt.Errorf("model: matching: %w", err)
-			}
-			for y := range m.h {
-				for x := range m.w {
-					v := d.Pix[y*d.Stride+x]
-					if d.Mask[y*d.Stride+x] == 0 {
-						v = 0
-					}
-					m.disp[o+y*m.w+x] = v
-				}
+	// Match j is pair j mod n, mirrored and swapped for j ≥ n: its
+	// results go to plane j of the pair-view layout, whichever slot runs
+	// it, so the outcome does not depend on the number of slots.
+	jobs := 2 * m.n
+	if len(m.slots) == 1 {
+		for j := range jobs {
+			if err := m.matchOne(&m.slots[0], pairs, j, H, W, s); err != nil {
+				return err
 			}
 		}
+		m.computed = true
+		return nil
+	}
+	var (
+		next atomic.Int64
+		wg   sync.WaitGroup
+		errs = make([]error, len(m.slots))
+	)
+	for k := range m.slots {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for j := int(next.Add(1) - 1); j < jobs; j = int(next.Add(1) - 1) {
+				if errs[k] = m.matchOne(&m.slots[k], pairs, j, H, W, s); errs[k] != nil {
+					return
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	if err := errors.Join(errs...); err != nil {
+		return err
 	}
 	m.computed = true
+	return nil
+}
+
+// matchOne runs match j of Compute (see there) in slot sl.
+func (m *Matching) matchOne(sl *matchSlot, pairs []float32, j, H, W, s int) error {
+	img := 3 * H * W
+	i, mirror := j%m.n, j >= m.n
+	left, right := pairs[i*img:(i+1)*img], pairs[(m.n+i)*img:(m.n+i+1)*img]
+	// The mirrored, swapped pair: mirror(right) is its left view.
+	a, b := left, right
+	if mirror {
+		a, b = right, left
+	}
+	greyBlocks(sl.gl, a, H, W, s, mirror)
+	greyBlocks(sl.gr, b, H, W, s, mirror)
+	if err := m.matcher.MatchInto(context.Background(), &sl.res, sl.gl, sl.gr); err != nil {
+		return fmt.Errorf("model: matching: %w", err)
+	}
+	plane := m.h * m.w
+	disp, valid := m.disp[j*plane:(j+1)*plane], m.valid[j*plane:(j+1)*plane]
+	d := sl.res.Disparity
+	for y := range m.h {
+		for x := range m.w {
+			valid[y*m.w+x] = float32(d.Mask[y*d.Stride+x])
+		}
+	}
+	if _, err := sgm.FillHoles(d); err != nil {
+		return fmt.Errorf("model: matching: %w", err)
+	}
+	for y := range m.h {
+		for x := range m.w {
+			v := d.Pix[y*d.Stride+x]
+			if d.Mask[y*d.Stride+x] == 0 {
+				v = 0
+			}
+			disp[y*m.w+x] = v
+		}
+	}
 	return nil
 }
 
@@ -133,6 +211,33 @@ func (m *Matching) Compute(pairs []float32) error {
 // ITU-R BT.601, as color.GrayModel) of the s×s block means of rgb (3 × H × W
 // in [0, 1]), mirrored if asked.
 func greyBlocks(dst *image.Gray, rgb []float32, H, W, s int, mirror bool) {
+	if s != 1 {
+		greyMeans(dst, rgb, H, W, s, mirror)
+		return
+	}
+	// greyMeans' arithmetic for one-pixel blocks (a sum of one value is
+	// that value; the mean divides by 1), without its loops over blocks.
+	p := H * W
+	r, g, b := rgb[:p], rgb[p:2*p], rgb[2*p:3*p]
+	for y := range H {
+		row := dst.Pix[y*dst.Stride : y*dst.Stride+W]
+		for x := range W {
+			i := y*W + x
+			var v float32
+			v += 0.299 * r[i]
+			v += 0.587 * g[i]
+			v += 0.114 * b[i]
+			xo := x
+			if mirror {
+				xo = W - 1 - x
+			}
+			row[xo] = uint8(min(max(math.Round(float64(v)*255), 0), 255))
+		}
+	}
+}
+
+// greyMeans is greyBlocks for any block size s.
+func greyMeans(dst *image.Gray, rgb []float32, H, W, s int, mirror bool) {
 	h, w := H/s, W/s
 	p := H * W
 	inv := 1 / float64(s*s)

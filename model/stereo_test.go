@@ -2,13 +2,17 @@ package model
 
 import (
 	"bytes"
+	"context"
+	"image"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/safetensors"
+	"github.com/parallaxdepth/parallax/sgm"
 )
 
 var tinyStereoConfig = Config{Arch: StereoArchName, Width: 64, Height: 64, Encoder: []int{4, 6, 8}, Decoder: []int{3, 4, 6, 8}}
@@ -364,5 +368,103 @@ func TestUpgradeStereo(t *testing.T) {
 	}
 	if err := w.UpgradeStereo(); err == nil {
 		t.Error("version 2 weights upgraded again")
+	}
+}
+
+// TestMatchingSlots checks that the matches of a batch give the same
+// planes whether they run one after another or side by side (Compute puts
+// each match's results in its own plane), and that the one-pixel grey
+// conversion is greyMeans' arithmetic, values at the rounding boundaries
+// included.
+func TestMatchingSlots(t *testing.T) {
+	rng := rand.New(rand.NewPCG(6, 1))
+	const n, h, w = 3, 32, 64
+	pairs := make([]float32, 0, 2*n*3*h*w)
+	var rights []float32
+	for i := range n {
+		l, r := shiftedPair(rng, h, w, 2+i)
+		pairs = append(pairs, l.Pix...)
+		rights = append(rights, r.Pix...)
+	}
+	pairs = append(pairs, rights...)
+	var got [2]*Matching
+	for i, k := range []int{1, 4} {
+		m, err := NewMatching(n, w, h, 0.3, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		m.slots = m.slots[:1]
+		for len(m.slots) < k {
+			m.slots = append(m.slots, matchSlot{gl: image.NewGray(image.Rect(0, 0, w, h)), gr: image.NewGray(image.Rect(0, 0, w, h))})
+		}
+		if m.matcher, err = sgm.NewMatcher(&sgm.Options{MaxDisparity: m.maxDisp, MaxWorkers: k}); err != nil {
+			t.Fatal(err)
+		}
+		if err := m.Compute(pairs); err != nil {
+			t.Fatal(err)
+		}
+		got[i] = m
+	}
+	for i := range got[0].disp {
+		if got[0].disp[i] != got[1].disp[i] || got[0].valid[i] != got[1].valid[i] {
+			t.Fatalf("value %d (plane %d): %v/%v one by one, %v/%v side by side", i, i/(h*w), got[0].disp[i], got[0].valid[i], got[1].disp[i], got[1].valid[i])
+		}
+	}
+	// Plane j against the matcher run directly: pair j, then the mirrored,
+	// swapped pairs.
+	direct, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: got[0].maxDisp})
+	if err != nil {
+		t.Fatal(err)
+	}
+	img := 3 * h * w
+	for j := range 2 * n {
+		i := j % n
+		l, r := pairs[i*img:(i+1)*img], pairs[(n+i)*img:(n+i+1)*img]
+		if j >= n {
+			l, r = r, l
+		}
+		gl, gr := image.NewGray(image.Rect(0, 0, w, h)), image.NewGray(image.Rect(0, 0, w, h))
+		greyMeans(gl, l, h, w, 1, j >= n)
+		greyMeans(gr, r, h, w, 1, j >= n)
+		res, err := direct.Match(context.Background(), gl, gr)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := sgm.FillHoles(res.Disparity); err != nil {
+			t.Fatal(err)
+		}
+		for k, v := range got[0].disp[j*h*w : (j+1)*h*w] {
+			d := res.Disparity
+			if want := d.Pix[k/w*d.Stride+k%w]; d.Mask[k/w*d.Stride+k%w] != 0 && v != want {
+				t.Fatalf("plane %d, pixel %d: %v, the matcher on its pair gives %v", j, k, v, want)
+			}
+		}
+	}
+	var nonzero int
+	for _, v := range got[0].disp {
+		if v != 0 {
+			nonzero++
+		}
+	}
+	if nonzero < len(got[0].disp)/2 {
+		t.Fatalf("only %d of %d disparities are not 0", nonzero, len(got[0].disp))
+	}
+
+	// Grey values: random ones, and ones whose luma·255 lands on k + ½.
+	rgb := make([]float32, 3*h*w)
+	for i := range rgb {
+		rgb[i] = rng.Float32()
+	}
+	for i := 0; i < h*w; i += 3 {
+		k := float32(rng.IntN(255)) + 0.5
+		rgb[i], rgb[h*w+i], rgb[2*h*w+i] = k/255, k/255, k/255
+	}
+	for _, mirror := range []bool{false, true} {
+		a, b := image.NewGray(image.Rect(0, 0, w, h)), image.NewGray(image.Rect(0, 0, w, h))
+		greyBlocks(a, rgb, h, w, 1, mirror)
+		greyMeans(b, rgb, h, w, 1, mirror)
+		if !slices.Equal(a.Pix, b.Pix) {
+			t.Fatalf("mirror %v: the one-pixel grey conversion differs from greyMeans'", mirror)
+		}
 	}
 }

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"image"
 
-
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/planar"
