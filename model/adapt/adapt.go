@@ -189,7 +189,8 @@ type Adapter struct {
 	shift  int            // the view-order test's largest shift, pixels
 	sess   *train.Session // trains the candidate; also scores other weights
 	frames []*frame       // oldest first
-	last   []float32      // luma of the last admitted left view
+	last   []float32      // luma of the last admitted left view; nil before
+	tmp    *scratch
 	rng    *rand.Rand
 	since  int // steps since the last check
 	// servingID numbers the weights in service, from 1; a frame's cached
@@ -233,6 +234,7 @@ func (a *Adapter) prepare(fw, fh int) error {
 	serving := a.serving
 	a.mu.Unlock()
 	a.w, a.h = nw, nh
+	a.tmp = newScratch(nw, nh)
 	a.shift = max(1, int(math.Ceil(a.start.Config.DMax*float64(nw))))
 	a.sess, err = train.NewSession(a.atTrainingSize(serving), 1, a.opt.Objective, &train.AdamConfig{LearningRate: a.opt.LearningRate})
 	return err
@@ -407,11 +409,8 @@ func (a *Adapter) Step(ctx context.Context) error {
 	if pool < 1 {
 		return ErrTooFewFrames
 	}
-	f := a.frames[a.rng.IntN(pool)]
-	if err := errors.Join(f.left.CheckFinite("adapt: left view"), f.right.CheckFinite("adapt: right view")); err != nil {
-		return a.rollback(true, err.Error())
-	}
-	t, err := a.sess.Step(f.left, f.right)
+	l, r := a.load(a.frames[a.rng.IntN(pool)])
+	t, err := a.sess.Step(l, r)
 	if errors.Is(err, train.ErrNonFiniteGradient) || (err == nil && !finite(t.Total)) {
 		return a.rollback(true, fmt.Sprintf("non-finite training step (loss %v): %v", t.Total, err))
 	}
@@ -452,7 +451,10 @@ func (a *Adapter) ingest() error {
 			return err
 		}
 	}
-	g, f := a.admit(p[0], p[1])
+	g, err := a.admit(p[0], p[1])
+	if err != nil {
+		return err
+	}
 	a.mu.Lock()
 	defer a.mu.Unlock()
 	switch g {
@@ -464,38 +466,45 @@ func (a *Adapter) ingest() error {
 		a.status.Swapped++
 	default:
 		a.status.Admitted++
+		f := &frame{}
 		if len(a.frames) == a.opt.Buffer {
+			f.left, f.right = a.frames[0].left, a.frames[0].right // reused
 			a.frames = append(a.frames[:0], a.frames[1:]...)
 		}
+		f.left, f.right = encode(f.left, a.tmp.left), encode(f.right, a.tmp.right)
 		a.frames = append(a.frames, f)
-		a.last = f.grey
+		a.last = append(a.last[:0], a.tmp.grey...)
 	}
 	return nil
 }
 
-// admit resizes a pair and runs the gates on it.
-func (a *Adapter) admit(left, right image.Image) (gate, *frame) {
-	l, err := toPlanar(left, a.w, a.h)
-	if err != nil {
-		return gateLowContrast, nil // unreachable for checked sizes
+// admit resizes a pair into the scratch and runs the gates on it.
+func (a *Adapter) admit(left, right image.Image) (gate, error) {
+	if err := errors.Join(a.tmp.resize(a.tmp.left, left), a.tmp.resize(a.tmp.right, right)); err != nil {
+		return gateOK, err
 	}
-	r, err := toPlanar(right, a.w, a.h)
-	if err != nil {
-		return gateLowContrast, nil
-	}
-	f := &frame{left: l, right: r, grey: luma(l)}
-	return a.judgeFrame(f), f
+	luma(a.tmp.grey, a.tmp.left)
+	luma(a.tmp.greyR, a.tmp.right)
+	return a.judgeFrame(a.tmp.grey, a.tmp.greyR), nil
 }
 
-// judgeFrame applies the contrast, duplicate and view-order gates.
-func (a *Adapter) judgeFrame(f *frame) gate {
-	if a.opt.MinContrast != GateOff && stdDev(f.grey) < a.opt.MinContrast {
+// load decodes f into the scratch views that feed the training graph.
+func (a *Adapter) load(f *frame) (left, right *planar.Image) {
+	decode(a.tmp.left, f.left)
+	decode(a.tmp.right, f.right)
+	return a.tmp.left, a.tmp.right
+}
+
+// judgeFrame applies the contrast, duplicate and view-order gates to a
+// pair's luma.
+func (a *Adapter) judgeFrame(grey, greyR []float32) gate {
+	if a.opt.MinContrast != GateOff && stdDev(grey) < a.opt.MinContrast {
 		return gateLowContrast
 	}
-	if a.opt.MinChange != GateOff && a.last != nil && meanAbsDiff(f.grey, a.last) < a.opt.MinChange {
+	if a.opt.MinChange != GateOff && a.last != nil && meanAbsDiff(grey, a.last) < a.opt.MinChange {
 		return gateDuplicate
 	}
-	if !a.opt.KeepSwapped && viewsSwapped(f.grey, luma(f.right), a.w, a.h, a.shift) {
+	if !a.opt.KeepSwapped && viewsSwapped(grey, greyR, a.w, a.h, a.shift) {
 		return gateSwapped
 	}
 	return gateOK

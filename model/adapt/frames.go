@@ -4,16 +4,20 @@ import (
 	"fmt"
 	"image"
 	"math"
+	"slices"
 
 	xdraw "golang.org/x/image/draw"
 
 	"github.com/parallaxdepth/parallax/planar"
 )
 
-// frame is one admitted pair at the training size.
+// frame is one admitted pair at the training size, kept as 16-bit
+// samples: three planes of H×W (R, G, B), sample u standing for u/65535,
+// which is exactly what the 16-bit resize gives (planar.FromImageInto of
+// an opaque *image.RGBA64). That is half the memory of float32, and the
+// buffer is the adapter's largest store after the training graph.
 type frame struct {
-	left, right *planar.Image // (1, 3, H, W), RGB in [0, 1]
-	grey        []float32     // the left view's luma, for the duplicate test
+	left, right []uint16
 	// The objective of the starting weights on the pair, once scored, and
 	// of the weights in service number servingID (Adapter.servingID).
 	startLoss, servingLoss float64
@@ -31,27 +35,55 @@ const (
 	gateSwapped
 )
 
-// toPlanar resizes img to w × h into a new (1, 3, h, w) image.
-func toPlanar(img image.Image, w, h int) (*planar.Image, error) {
-	dst := image.NewRGBA64(image.Rect(0, 0, w, h))
-	xdraw.CatmullRom.Scale(dst, dst.Rect, img, img.Bounds(), xdraw.Src, nil)
-	p := planar.New(1, 3, h, w)
-	if err := planar.FromImageInto(p, dst); err != nil {
-		return nil, fmt.Errorf("adapt: %w", err)
-	}
-	return p, nil
+// scratch is what the adapter reuses to take pairs in and to feed the
+// training graph, so that neither allocates per pair or per step.
+type scratch struct {
+	scaled      *image.RGBA64
+	left, right *planar.Image // (1, 3, H, W), RGB in [0, 1]
+	grey, greyR []float32     // luma of left and right
 }
 
-// luma returns the Rec. 601 luma 0.299 R + 0.587 G + 0.114 B (common
-// practice) of a (1, 3, H, W) image.
-func luma(p *planar.Image) []float32 {
+func newScratch(w, h int) *scratch {
+	return &scratch{scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
+		left: planar.New(1, 3, h, w), right: planar.New(1, 3, h, w),
+		grey: make([]float32, w*h), greyR: make([]float32, w*h)}
+}
+
+// resize scales img to the scratch size into dst (RGB in [0, 1]),
+// Catmull-Rom as in model/data.
+func (s *scratch) resize(dst *planar.Image, img image.Image) error {
+	xdraw.CatmullRom.Scale(s.scaled, s.scaled.Rect, img, img.Bounds(), xdraw.Src, nil)
+	if err := planar.FromImageInto(dst, s.scaled); err != nil {
+		return fmt.Errorf("adapt: %w", err)
+	}
+	return nil
+}
+
+// encode stores p's values as 16-bit samples in dst (reused if long
+// enough) and returns it.
+func encode(dst []uint16, p *planar.Image) []uint16 {
+	dst = slices.Grow(dst[:0], len(p.Pix))[:len(p.Pix)]
+	for i, v := range p.Pix {
+		dst[i] = uint16(math.Round(float64(v) * 65535))
+	}
+	return dst
+}
+
+// decode writes the samples of src into p.
+func decode(p *planar.Image, src []uint16) {
+	for i, u := range src {
+		p.Pix[i] = float32(u) / 65535
+	}
+}
+
+// luma writes the Rec. 601 luma 0.299 R + 0.587 G + 0.114 B (common
+// practice) of a (1, 3, H, W) image into g (H·W values).
+func luma(g []float32, p *planar.Image) {
 	n := p.H * p.W
-	g := make([]float32, n)
 	r, gr, b := p.Pix[:n], p.Pix[n:2*n], p.Pix[2*n:3*n]
-	for i := range g {
+	for i := range g[:n] {
 		g[i] = 0.299*r[i] + 0.587*gr[i] + 0.114*b[i]
 	}
-	return g
 }
 
 // stdDev returns the standard deviation of v.

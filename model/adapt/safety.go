@@ -21,7 +21,7 @@ func (a *Adapter) check() error {
 	}
 	drift := math.Sqrt(sqDist(cand, a.start)) / a.startNorm
 	held := a.frames[len(a.frames)-a.opt.HoldOut:]
-	candLoss, err := score(a.sess, held)
+	candLoss, err := a.score(held)
 	if err != nil {
 		return err
 	}
@@ -112,7 +112,8 @@ func (a *Adapter) cachedLoss(frames []*frame, start bool) (float64, error) {
 				}
 				loaded = true
 			}
-			t, err := a.sess.Forward(f.left, f.right)
+			l, r := a.load(f)
+			t, err := a.sess.Forward(l, r)
 			a.sess.ClearGradients()
 			if err != nil {
 				return 0, err
@@ -148,13 +149,14 @@ func (a *Adapter) rollback(pause bool, reason string) error {
 	return nil
 }
 
-// score returns the mean objective of the session's weights on frames,
-// without changing them.
-func score(s *train.Session, frames []*frame) (float64, error) {
+// score returns the mean objective of the training graph's weights on
+// frames, without changing them.
+func (a *Adapter) score(frames []*frame) (float64, error) {
 	var sum float64
 	for _, f := range frames {
-		t, err := s.Forward(f.left, f.right)
-		s.ClearGradients()
+		l, r := a.load(f)
+		t, err := a.sess.Forward(l, r)
+		a.sess.ClearGradients()
 		if err != nil {
 			return 0, err
 		}
