@@ -58,6 +58,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	save := model.SaveOptions{}
 	fs.BoolVar(&save.PFM, "pfm", false, "also write NAME.disparity.pfm (pixels), NAME.depth.pfm (metres) and NAME.confidence.pfm")
 	fs.BoolVar(&save.PLY, "ply", false, "also write NAME.points.ply, a coloured point cloud in metres (binary little-endian)")
+	fs.BoolVar(&save.OrganizedPLY, "ply-grid", false, "with -ply: one point per pixel in row order, NaN where invalid (an organised cloud)")
 	minConf := fs.Float64("min-confidence", model.DefaultMinConfidence, "networks: mark pixels whose left-right confidence is below this value invalid in every\noutput (it replaces the library's default; 0: keep every confidence; -method sgm has its own checks)")
 	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings, such as an assumed rig, still go to stderr)")
 	if help, err := command.Parse(fs, args); help || err != nil {

@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -188,5 +189,55 @@ func TestMinConfidence(t *testing.T) {
 	t.Logf("pixels with depth: -min-confidence 0: %d, 0.2: %d, 0.9: %d", off, def, strict)
 	if !(off > def && def > strict) {
 		t.Errorf("pixels with depth %d (0), %d (0.2), %d (0.9): want strictly fewer as the threshold rises", off, def, strict)
+	}
+}
+
+// TestPLYGrid: with -ply-grid the cloud keeps the image grid, one point a
+// pixel in row order, NaN exactly where the PFM depth has none, and the
+// valid points are those of the plain cloud in the same order.
+func TestPLYGrid(t *testing.T) {
+	plain, grid := t.TempDir(), t.TempDir()
+	for _, c := range []struct {
+		dir  string
+		args []string
+	}{{plain, []string{"-ply"}}, {grid, []string{"-pfm", "-ply", "-ply-grid"}}} {
+		var stdout, stderr bytes.Buffer
+		if err := run(context.Background(), append([]string{"-out", c.dir, "-quiet"}, c.args...), &stdout, &stderr); err != nil {
+			t.Fatal(err)
+		}
+	}
+	z, w, h, _, err := depth.LoadPFM(filepath.Join(grid, "greenhouse_000000.depth.pfm"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	pg, err := depth.LoadPLY(filepath.Join(grid, "greenhouse_000000.points.ply"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	pp, err := depth.LoadPLY(filepath.Join(plain, "greenhouse_000000.points.ply"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if pg.Width != w || pg.Height != h || len(pg.Points) != w*h {
+		t.Fatalf("grid cloud %dx%d with %d points, the image is %dx%d", pg.Width, pg.Height, len(pg.Points), w, h)
+	}
+	var kept []depth.Point
+	for i, p := range pg.Points {
+		hasDepth := z[i] > 0
+		if isNaN := math.IsNaN(float64(p.Z)); isNaN == hasDepth {
+			t.Fatalf("pixel %d: point %+v, PFM depth %v", i, p, z[i])
+		}
+		if hasDepth {
+			if math.Abs(float64(p.Z-z[i])) > 1e-5*float64(z[i]) {
+				t.Fatalf("pixel %d: point Z %v, PFM depth %v", i, p.Z, z[i])
+			}
+			kept = append(kept, p)
+		}
+	}
+	if len(kept) == 0 || len(kept) == w*h {
+		t.Fatalf("%d of %d pixels valid: the test needs both kinds", len(kept), w*h)
+	}
+	if !slices.Equal(kept, pp.Points) {
+		t.Errorf("the grid cloud's valid points differ from the plain cloud's (%d and %d points)", len(kept), len(pp.Points))
 	}
 }
