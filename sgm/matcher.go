@@ -9,6 +9,7 @@ import (
 	"runtime"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/parallel"
 	"github.com/parallaxdepth/parallax/planar"
 )
 
@@ -310,9 +311,9 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
 
 	wk.left, wk.right = left, right
-	parallelFor(2*h, wk.rowGrain, wk.greyFn)
+	parallel.For(2*h, wk.rowGrain, wk.greyFn)
 	wk.left, wk.right = nil, nil
-	parallelFor(h, wk.rowGrain, wk.censusFn)
+	parallel.For(h, wk.rowGrain, wk.censusFn)
 	wk.band(0)
 	if o.Paths == 8 {
 		wk.band(1)
@@ -321,13 +322,13 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	if o.SpeckleSize != Off {
 		wk.speckles.reset(wh)
 	}
-	parallelFor(h, wk.rowGrain, wk.rowFn)
+	parallel.For(h, wk.rowGrain, wk.rowFn)
 	if o.SpeckleSize != Off {
 		for y := wk.rowGrain; y < h; y += wk.rowGrain {
 			wk.speckles.merge(wk.disp, wk.valid, w, y, float32(o.SpeckleJump))
 		}
 	}
-	parallelFor(h, wk.rowGrain, wk.writeFn)
+	parallel.For(h, wk.rowGrain, wk.writeFn)
 }
 
 // writeRange finishes rows [lo, hi): the speckle sweep, the hole fill, and
@@ -511,7 +512,7 @@ func (wk *worker) band(s int) {
 			wk.lineOff = -(wk.h - 1)
 		}
 	}
-	parallelFor(lines, bandLines, wk.bandFn)
+	parallel.For(lines, bandLines, wk.bandFn)
 }
 
 // bandRange aggregates lines [lo, hi) of the current band downwards, then

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+
+	"github.com/parallaxdepth/parallax/internal/parallel"
 )
 
 // Padding selects how a convolution fills input pixels outside the image.
@@ -419,7 +421,7 @@ func (c *Conv2D) Forward(y, x, weight, bias []float32) {
 	c.x, c.w, c.b, c.y = x, weight, bias, y
 	c.wPack = matrixPacker{data: weight, ld: c.kdim, rows: c.p.OutC, cols: c.kdim}
 	stripes := (c.pix + c.fwdStripe - 1) / c.fwdStripe
-	ParallelFor(c.n*stripes, 1, c.fwdFn)
+	parallel.For(c.n*stripes, 1, c.fwdFn)
 	c.x, c.w, c.b, c.y = nil, nil, nil, nil
 	c.wPack.data = nil
 }
@@ -460,7 +462,7 @@ func (c *Conv2D) runTasks(t convTask, n int, src, dst []float32) {
 	case taskPadX, taskPadDy, taskFold, taskFillGrid, taskPadDq, taskFoldPhases, taskBiasGrad:
 		grain = max(1, n/(4*runtime.GOMAXPROCS(0)))
 	}
-	ParallelFor(n, grain, c.taskFn)
+	parallel.For(n, grain, c.taskFn)
 	c.src, c.dst = nil, nil
 }
 

@@ -1,6 +1,10 @@
 package cpu
 
-import "fmt"
+import (
+	"fmt"
+
+	"github.com/parallaxdepth/parallax/internal/parallel"
+)
 
 // The correlation cost volume compares every left-view feature vector with
 // the right-view feature vectors on the same row, 0 … disps−1 pixels to its
@@ -15,7 +19,7 @@ import "fmt"
 // GOMAXPROCS. Work is split over the rows (n, y) of the inputs.
 
 // corrGrainMACs is the number of multiply-adds one range of rows does
-// before ParallelFor hands out the next: a few tens of microseconds of work,
+// before parallel.For hands out the next: a few tens of microseconds of work,
 // well above the cost of waking a second core.
 const corrGrainMACs = 1 << 18
 
@@ -86,16 +90,10 @@ type corrTask struct {
 
 func (t *corrTask) exec(lo, hi int) { t.body(t, lo, hi) }
 
-var corrFree = make(chan *corrTask, 16)
+var corrFree = make(parallel.FreeList[corrTask], 16)
 
 func corrStart(body func(t *corrTask, lo, hi int)) *corrTask {
-	var t *corrTask
-	select {
-	case t = <-corrFree:
-	default:
-		t = new(corrTask)
-		t.run = t.exec
-	}
+	t := corrFree.Get(func(t *corrTask) { t.run = t.exec })
 	t.body = body
 	return t
 }
@@ -106,17 +104,9 @@ func corrRun(t *corrTask, n, c, h, w, disps int) {
 	t.n, t.c, t.h, t.w, t.disps = n, c, h, w, disps
 	rows := n * h
 	grain := max(1, corrGrainMACs/(c*w*min(disps, w)))
-	if grain >= rows {
-		t.body(t, 0, rows)
-	} else {
-		ParallelFor(rows, grain, t.run)
-	}
-	run := t.run
-	*t = corrTask{run: run}
-	select {
-	case corrFree <- t:
-	default:
-	}
+	parallel.For(rows, grain, t.run)
+	*t = corrTask{run: t.run}
+	corrFree.Put(t)
 }
 
 // corrForwardRows computes the output rows (n, k, y) of the input rows

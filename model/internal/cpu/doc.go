@@ -20,8 +20,9 @@
 //     Constructors that take sizes from data return errors whose text
 //     starts with "cpu: ". Values (NaN, Inf) never cause a panic; they
 //     propagate as IEEE arithmetic dictates.
-//   - Work is split over goroutines with ParallelFor, which uses up to
-//     runtime.GOMAXPROCS(0) goroutines from a persistent pool.
+//   - Work is split over goroutines with internal/parallel.For, which uses
+//     up to runtime.GOMAXPROCS(0) goroutines from a persistent pool (one
+//     pool for the process, shared with package sgm).
 //   - Results are the same bits for any GOMAXPROCS and any scheduling:
 //     every output value is one sum in an order fixed by the shapes and
 //     the micro-kernel. Where a sum is split (the convolution weight

@@ -1,17 +1,21 @@
 package cpu
 
-import "fmt"
+import (
+	"fmt"
+
+	"github.com/parallaxdepth/parallax/internal/parallel"
+)
 
 // opGrainBytes is the amount of memory one range of a memory-bound operator
-// touches (read plus written) before ParallelFor hands out the next range.
+// touches (read plus written) before parallel.For hands out the next range.
 // Smaller tensors run on the caller's goroutine: starting a second core
 // costs a few microseconds, about what one core needs to stream this much.
 const opGrainBytes = 256 << 10
 
 // opTask carries the arguments of one operator call to the ranges that
-// ParallelFor hands out. Tasks are recycled and their run method value is
+// parallel.For hands out. Tasks are recycled and their run method value is
 // bound once, at creation, so a call does not allocate in steady state
-// (a closure literal passed to ParallelFor would escape to the heap).
+// (a closure literal passed to parallel.For would escape to the heap).
 type opTask struct {
 	dst, a, b  []float32
 	parts      [concatGroup][]float32 // copied, so the caller's slice stays on its stack
@@ -26,22 +30,12 @@ type opTask struct {
 
 func (t *opTask) exec(lo, hi int) { t.body(t, lo, hi) }
 
-// opFree holds idle tasks. A buffered channel rather than a sync.Pool:
-// its tasks survive garbage collections, so steady state stays free of
-// allocations however often the collector runs. It holds more tasks than
-// calls can be in flight in practice; beyond that, tasks are made and
-// dropped.
-var opFree = make(chan *opTask, 64)
+// opFree holds idle tasks: more than calls can be in flight in practice.
+var opFree = make(parallel.FreeList[opTask], 64)
 
 // opStart returns a cleared task that will run body.
 func opStart(body func(t *opTask, lo, hi int)) *opTask {
-	var t *opTask
-	select {
-	case t = <-opFree:
-	default:
-		t = new(opTask)
-		t.run = t.exec
-	}
+	t := opFree.Get(func(t *opTask) { t.run = t.exec }) // bound once in a task's life
 	t.body = body
 	return t
 }
@@ -55,17 +49,9 @@ func opRun(t *opTask, units, unitBytes int) {
 	if unitBytes > 0 {
 		grain = max(1, opGrainBytes/unitBytes)
 	}
-	if grain >= units {
-		t.body(t, 0, units)
-	} else {
-		ParallelFor(units, grain, t.run)
-	}
-	run := t.run
-	*t = opTask{run: run} // drop the references to the caller's slices
-	select {
-	case opFree <- t:
-	default:
-	}
+	parallel.For(units, grain, t.run)
+	*t = opTask{run: t.run} // drop the references to the caller's slices
+	opFree.Put(t)
 }
 
 // opCheckShape panics unless every dimension is positive.

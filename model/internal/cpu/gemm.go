@@ -3,6 +3,8 @@ package cpu
 import (
 	"fmt"
 	"runtime"
+
+	"github.com/parallaxdepth/parallax/internal/parallel"
 )
 
 // Block sizes of the GEMM driver, in elements. A kc×nr panel of B and an
@@ -19,7 +21,7 @@ const (
 // false A is stored m×k with leading dimension lda, otherwise A holds op(A)ᵀ
 // stored k×m; likewise for B with transB (k×n or n×k, leading dimension
 // ldb). C is m×n with leading dimension ldc. The work is split over
-// goroutines with ParallelFor. Sgemm does not allocate in steady state.
+// goroutines with parallel.For. Sgemm does not allocate in steady state.
 //
 // Sgemm panics if a dimension is negative, a leading dimension is smaller
 // than its row length, or a slice is too short for its shape.
@@ -224,7 +226,7 @@ func (op *gemmOp) run(set *workspaceSet) {
 		var passes int
 		passes, op.step = kSplit(op.k)
 		panels := (op.m + kern.mr - 1) / kern.mr
-		ParallelFor(passes*panels, max(1, passes*panels/(8*runtime.GOMAXPROCS(0))), op.packFn)
+		parallel.For(passes*panels, max(1, passes*panels/(8*runtime.GOMAXPROCS(0))), op.packFn)
 	}
 	// Stripes of whole micro-panels; at least two per goroutine when the
 	// matrix is wide enough, so that a slow goroutine does not hold the rest.
@@ -236,7 +238,7 @@ func (op *gemmOp) run(set *workspaceSet) {
 		per = panels
 	}
 	op.tilesN = per * nr
-	ParallelFor((op.n+op.tilesN-1)/op.tilesN, 1, op.fn)
+	parallel.For((op.n+op.tilesN-1)/op.tilesN, 1, op.fn)
 	op.set = nil
 }
 

@@ -1,17 +1,17 @@
-package cpu
+package parallel
 
 import (
 	"sync/atomic"
 	"testing"
 )
 
-func TestParallelForCoversRange(t *testing.T) {
+func TestForCoversRange(t *testing.T) {
 	for _, tc := range []struct{ n, grain int }{
 		{0, 1}, {1, 1}, {7, 3}, {100, 1}, {100, 0}, {1000, 7}, {5, 100},
 	} {
 		hits := make([]int32, tc.n)
 		var calls atomic.Int32
-		ParallelFor(tc.n, tc.grain, func(lo, hi int) {
+		For(tc.n, tc.grain, func(lo, hi int) {
 			calls.Add(1)
 			if tc.grain > 0 && hi-lo > tc.grain {
 				t.Errorf("n=%d grain=%d: range [%d,%d) longer than grain", tc.n, tc.grain, lo, hi)
@@ -28,22 +28,22 @@ func TestParallelForCoversRange(t *testing.T) {
 	}
 }
 
-func TestParallelForNested(t *testing.T) {
+func TestForNested(t *testing.T) {
 	var sum atomic.Int64
-	ParallelFor(8, 1, func(lo, hi int) {
-		ParallelFor(8, 1, func(lo2, hi2 int) { sum.Add(int64(hi2 - lo2)) })
+	For(8, 1, func(lo, hi int) {
+		For(8, 1, func(lo2, hi2 int) { sum.Add(int64(hi2 - lo2)) })
 	})
 	if got := sum.Load(); got != 64 {
 		t.Fatalf("nested sum = %d, want 64", got)
 	}
 }
 
-func TestParallelForNoAlloc(t *testing.T) {
+func TestForNoAlloc(t *testing.T) {
 	var sum atomic.Int64
 	fn := func(lo, hi int) { sum.Add(int64(hi - lo)) }
-	ParallelFor(64, 4, fn) // start the workers
-	allocs := testing.AllocsPerRun(100, func() { ParallelFor(64, 4, fn) })
+	For(64, 4, fn) // start the workers
+	allocs := testing.AllocsPerRun(100, func() { For(64, 4, fn) })
 	if allocs != 0 {
-		t.Fatalf("ParallelFor allocated %v times per call, want 0", allocs)
+		t.Fatalf("For allocated %v times per call, want 0", allocs)
 	}
 }

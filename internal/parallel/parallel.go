@@ -1,4 +1,4 @@
-package cpu
+package parallel
 
 import (
 	"runtime"
@@ -6,7 +6,7 @@ import (
 	"sync/atomic"
 )
 
-// ParallelFor calls fn on consecutive, disjoint ranges [lo, hi) that cover
+// For calls fn on consecutive, disjoint ranges [lo, hi) that cover
 // [0, n), each grain long except possibly the last, spread over up to
 // runtime.GOMAXPROCS(0) goroutines: the caller's and idle ones from a
 // persistent worker pool. It returns when every call has returned. A grain
@@ -19,14 +19,14 @@ import (
 // problem's size rather than from GOMAXPROCS, so that its float results
 // are the same bits on any number of threads.
 //
-// ParallelFor may be called from inside fn: when no worker is idle the
+// For may be called from inside fn: when no worker is idle the
 // caller runs the ranges itself, so nesting never deadlocks.
 //
-// ParallelFor itself does not allocate in steady state. A closure passed as
+// For itself does not allocate in steady state. A closure passed as
 // fn escapes to the heap, so a caller that must not allocate per call should
 // build fn once (for example store it in a plan) instead of writing a
 // literal at the call site. fn must not panic.
-func ParallelFor(n, grain int, fn func(lo, hi int)) {
+func For(n, grain int, fn func(lo, hi int)) {
 	if n <= 0 {
 		return
 	}
@@ -44,7 +44,7 @@ func ParallelFor(n, grain int, fn func(lo, hi int)) {
 	helpers := min(procs, chunks) - 1
 	thePool.grow(procs - 1)
 
-	j := getJob()
+	j := freeJobs.Get(nil)
 	j.fn, j.n, j.grain = fn, n, grain
 	j.next.Store(0)
 	for range helpers {
@@ -60,10 +60,10 @@ func ParallelFor(n, grain int, fn func(lo, hi int)) {
 	j.run()
 	j.wg.Wait()
 	j.fn = nil
-	putJob(j)
+	freeJobs.Put(j)
 }
 
-// job is one ParallelFor call shared by the goroutines that work on it.
+// job is one For call shared by the goroutines that work on it.
 type job struct {
 	fn       func(lo, hi int)
 	n, grain int
@@ -82,25 +82,7 @@ func (j *job) run() {
 	}
 }
 
-// freeJobs recycles jobs. A channel, unlike sync.Pool, never drops its
-// contents, so steady-state calls never allocate (also under -race).
-var freeJobs = make(chan *job, 64)
-
-func getJob() *job {
-	select {
-	case j := <-freeJobs:
-		return j
-	default:
-		return new(job)
-	}
-}
-
-func putJob(j *job) {
-	select {
-	case freeJobs <- j:
-	default:
-	}
-}
+var freeJobs = make(FreeList[job], 64)
 
 // pool is the set of persistent worker goroutines. Jobs go over an
 // unbuffered channel, so a send succeeds only when a worker is idle.
