@@ -9,15 +9,11 @@ import "math"
 // ASIMD, the loop runs in assembly. ELU does not allocate in steady state. It panics if
 // the lengths differ.
 func ELU(dst, src []float32) {
-	opCheckLen("ELU", "src", src, len(dst))
-	t := opStart(eluRange)
-	t.dst, t.a = dst, src
-	opRun(t, len(dst), 8)
+	opElementwise("ELU", eluRange, dst, "src", src, "", nil, 0, 0, 8)
 }
 
 func eluRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	s := t.a[lo:hi]
+	d, s, _ := t.elements(lo, hi)
 	if activationSIMD {
 		n := len(d) &^ 7
 		eluSIMD(d[:n], s[:n])
@@ -48,17 +44,11 @@ func eluGo(d, s []float32) {
 // place); otherwise no two may overlap. ELUBackward does not allocate in
 // steady state. It panics if the lengths differ.
 func ELUBackward(dx, dy, y []float32) {
-	opCheckLen("ELUBackward", "dy", dy, len(dx))
-	opCheckLen("ELUBackward", "y", y, len(dx))
-	t := opStart(eluBackwardRange)
-	t.dst, t.a, t.b = dx, dy, y
-	opRun(t, len(dx), 12)
+	opElementwise("ELUBackward", eluBackwardRange, dx, "dy", dy, "y", y, 0, 0, 12)
 }
 
 func eluBackwardRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	g := t.a[lo:hi]
-	y := t.b[lo:hi]
+	d, g, y := t.elements(lo, hi)
 	if activationSIMD {
 		n := len(d) &^ 7
 		eluBackwardSIMD(d[:n], g[:n], y[:n])
@@ -100,15 +90,11 @@ func SigmoidBackward(dx, dy, y []float32) {
 // place); otherwise they must not overlap. SigmoidScale does not allocate in
 // steady state. It panics if the lengths differ.
 func SigmoidScale(dst, src []float32, scale float32) {
-	opCheckLen("SigmoidScale", "src", src, len(dst))
-	t := opStart(sigmoidScaleRange)
-	t.dst, t.a, t.s = dst, src, scale
-	opRun(t, len(dst), 8)
+	opElementwise("SigmoidScale", sigmoidScaleRange, dst, "src", src, "", nil, scale, 0, 8)
 }
 
 func sigmoidScaleRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	s := t.a[lo:hi]
+	d, s, _ := t.elements(lo, hi)
 	if activationSIMD {
 		n := len(d) &^ 7
 		sigmoidScaleSIMD(d[:n], s[:n], t.s)
@@ -145,15 +131,11 @@ func SigmoidScaleBackward(dx, dy, y []float32, scale float32) {
 		clear(dx)
 		return
 	}
-	t := opStart(sigmoidScaleBackwardRange)
-	t.dst, t.a, t.b, t.s, t.t = dx, dy, y, scale, 1/scale
-	opRun(t, len(dx), 12)
+	opElementwise("SigmoidScaleBackward", sigmoidScaleBackwardRange, dx, "dy", dy, "y", y, scale, 1/scale, 12)
 }
 
 func sigmoidScaleBackwardRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	g := t.a[lo:hi]
-	y := t.b[lo:hi]
+	d, g, y := t.elements(lo, hi)
 	g = g[:len(d)]
 	y = y[:len(d)]
 	// (scale − y) is exact while y is within a factor 2 of scale (Sterbenz),

@@ -5,17 +5,11 @@ package cpu
 // otherwise the three must not overlap. Add does not allocate in steady
 // state. It panics if the lengths differ.
 func Add(dst, a, b []float32) {
-	opCheckLen("Add", "a", a, len(dst))
-	opCheckLen("Add", "b", b, len(dst))
-	t := opStart(addRange)
-	t.dst, t.a, t.b = dst, a, b
-	opRun(t, len(dst), 12)
+	opElementwise("Add", addRange, dst, "a", a, "b", b, 0, 0, 12)
 }
 
 func addRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	a := t.a[lo:hi]
-	b := t.b[lo:hi]
+	d, a, b := t.elements(lo, hi)
 	a = a[:len(d)]
 	b = b[:len(d)]
 	for i := range d {
@@ -28,15 +22,11 @@ func addRange(t *opTask, lo, hi int) {
 // ScaleShift(dsrc, ddst, scale, 0). ScaleShift does not allocate in steady
 // state. It panics if the lengths differ.
 func ScaleShift(dst, src []float32, scale, shift float32) {
-	opCheckLen("ScaleShift", "src", src, len(dst))
-	t := opStart(scaleShiftRange)
-	t.dst, t.a, t.s, t.t = dst, src, scale, shift
-	opRun(t, len(dst), 8)
+	opElementwise("ScaleShift", scaleShiftRange, dst, "src", src, "", nil, scale, shift, 8)
 }
 
 func scaleShiftRange(t *opTask, lo, hi int) {
-	d := t.dst[lo:hi]
-	s := t.a[lo:hi]
+	d, s, _ := t.elements(lo, hi)
 	s = s[:len(d)]
 	a, b := t.s, t.t
 	for i := range d {

@@ -40,6 +40,14 @@ func opStart(body func(t *opTask, lo, hi int)) *opTask {
 	return t
 }
 
+// elements returns dst, a and b (nil if b is) over the elements [lo, hi).
+func (t *opTask) elements(lo, hi int) (dst, a, b []float32) {
+	if t.b != nil {
+		b = t.b[lo:hi]
+	}
+	return t.dst[lo:hi], t.a[lo:hi], b
+}
+
 // opRun runs t.body over the units [0, units), grain units per range, and
 // returns t to the pool. A unit is whatever the body iterates over (an
 // element, a row, a plane); unitBytes is the memory one unit touches and
@@ -52,6 +60,38 @@ func opRun(t *opTask, units, unitBytes int) {
 	parallel.For(units, grain, t.run)
 	*t = opTask{run: t.run} // drop the references to the caller's slices
 	opFree.Put(t)
+}
+
+// opElementwise runs body over the elements of dst, with a, b and the
+// scalars s and u in the task; unitBytes is the memory one element touches.
+// It panics, naming fn, unless a (named aName) and b (named bName; a unary
+// operator gives "" and nil) are as long as dst.
+func opElementwise(fn string, body func(t *opTask, lo, hi int), dst []float32, aName string, a []float32, bName string, b []float32, s, u float32, unitBytes int) {
+	opCheckLen(fn, aName, a, len(dst))
+	if bName != "" {
+		opCheckLen(fn, bName, b, len(dst))
+	}
+	t := opStart(body)
+	t.dst, t.a, t.b, t.s, t.t = dst, a, b, s, u
+	opRun(t, len(dst), unitBytes)
+}
+
+// upsample2x runs body over the n·c·h input rows of a 2× upsampling
+// between a tensor of shape (n, c, h, w) and one of shape (n, c, 2h, 2w):
+// forward writes the large one, dst, from src; otherwise the gradient dst
+// (small, "dsrc") from src (large, "ddst"). It panics, naming fn, if a
+// dimension is not positive or a length disagrees with the shape.
+func upsample2x(fn string, body func(t *opTask, lo, hi int), dst, src []float32, forward bool, n, c, h, w int) {
+	opCheckShape(fn, n, c, h, w)
+	small, large, smallName, largeName := src, dst, "src", "dst"
+	if !forward {
+		small, large, smallName, largeName = dst, src, "dsrc", "ddst"
+	}
+	opCheckLen(fn, smallName, small, n*c*h*w)
+	opCheckLen(fn, largeName, large, 4*n*c*h*w)
+	t := opStart(body)
+	t.dst, t.a, t.h, t.w = dst, src, h, w
+	opRun(t, n*c*h, 20*w)
 }
 
 // opCheckShape panics unless every dimension is positive.

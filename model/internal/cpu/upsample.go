@@ -15,12 +15,7 @@ package cpu
 // in steady state. It panics if a dimension is not positive or a length
 // disagrees with the shape.
 func UpsampleBilinear2x(dst, src []float32, n, c, h, w int) {
-	opCheckShape("UpsampleBilinear2x", n, c, h, w)
-	opCheckLen("UpsampleBilinear2x", "src", src, n*c*h*w)
-	opCheckLen("UpsampleBilinear2x", "dst", dst, 4*n*c*h*w)
-	t := opStart(upBilinearRows)
-	t.dst, t.a, t.h, t.w = dst, src, h, w
-	opRun(t, n*c*h, 20*w)
+	upsample2x("UpsampleBilinear2x", upBilinearRows, dst, src, true, n, c, h, w)
 }
 
 // upBilinearRows handles input rows lo <= r < hi, counted over all planes,
@@ -93,12 +88,7 @@ func upBilinearCols(out, a, b []float32, j0 int) {
 // allocate in steady state. It panics if a dimension is not positive or a
 // length disagrees with the shape.
 func UpsampleBilinear2xBackward(dsrc, ddst []float32, n, c, h, w int) {
-	opCheckShape("UpsampleBilinear2xBackward", n, c, h, w)
-	opCheckLen("UpsampleBilinear2xBackward", "dsrc", dsrc, n*c*h*w)
-	opCheckLen("UpsampleBilinear2xBackward", "ddst", ddst, 4*n*c*h*w)
-	t := opStart(upBilinearBackwardRows)
-	t.dst, t.a, t.h, t.w = dsrc, ddst, h, w
-	opRun(t, n*c*h, 20*w)
+	upsample2x("UpsampleBilinear2xBackward", upBilinearBackwardRows, dsrc, ddst, false, n, c, h, w)
 }
 
 // upBilinearBackwardRows handles input rows lo <= r < hi over all planes.
@@ -171,12 +161,7 @@ func upBilinearBackCols(g, r0, r1, ru, rd []float32, j0 int) {
 // state. It panics if a dimension is not positive or a length disagrees
 // with the shape.
 func UpsampleNearest2x(dst, src []float32, n, c, h, w int) {
-	opCheckShape("UpsampleNearest2x", n, c, h, w)
-	opCheckLen("UpsampleNearest2x", "src", src, n*c*h*w)
-	opCheckLen("UpsampleNearest2x", "dst", dst, 4*n*c*h*w)
-	t := opStart(upNearestRows)
-	t.dst, t.a, t.w = dst, src, w
-	opRun(t, n*c*h, 20*w)
+	upsample2x("UpsampleNearest2x", upNearestRows, dst, src, true, n, c, h, w)
 }
 
 // upNearestRows handles input rows lo <= r < hi over all planes.
@@ -193,12 +178,7 @@ func upNearestRows(t *opTask, lo, hi int) {
 // UpsampleNearest2xBackward does not allocate in steady state. It panics if
 // a dimension is not positive or a length disagrees with the shape.
 func UpsampleNearest2xBackward(dsrc, ddst []float32, n, c, h, w int) {
-	opCheckShape("UpsampleNearest2xBackward", n, c, h, w)
-	opCheckLen("UpsampleNearest2xBackward", "dsrc", dsrc, n*c*h*w)
-	opCheckLen("UpsampleNearest2xBackward", "ddst", ddst, 4*n*c*h*w)
-	t := opStart(upNearestBackwardRows)
-	t.dst, t.a, t.w = dsrc, ddst, w
-	opRun(t, n*c*h, 20*w)
+	upsample2x("UpsampleNearest2xBackward", upNearestBackwardRows, dsrc, ddst, false, n, c, h, w)
 }
 
 // upNearestBackwardRows handles input rows lo <= r < hi over all planes.
