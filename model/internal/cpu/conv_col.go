@@ -21,6 +21,19 @@ func reflectIndex(i, n int) int {
 	return i
 }
 
+// paddedIndex returns the index in [0, n) that the padded index i reads:
+// i itself inside, its mirror under reflect padding, and ok = false under
+// zero padding outside.
+func paddedIndex(i, n int, reflect bool) (j int, ok bool) {
+	if i >= 0 && i < n {
+		return i, true
+	}
+	if !reflect {
+		return 0, false
+	}
+	return reflectIndex(i, n), true
+}
+
 // validRange returns the output columns [lo, hi) whose input column
 // ox*s+off lies inside [0, w).
 func (g *convGeom) validRange(off int) (lo, hi int) {
@@ -36,31 +49,36 @@ func (g *convGeom) validRange(off int) (lo, hi int) {
 	return lo, hi
 }
 
+// colTap decodes row kk = (ci*k+ky)*k+kx of the im2col matrix: its input
+// channel ci, kernel row ky, input column offset off = kx·d − pad, and the
+// output columns [lo, hi) whose input column lies inside the image.
+func (g *convGeom) colTap(kk int) (ci, ky, off, lo, hi int) {
+	kk2 := g.k * g.k
+	ci, r := kk/kk2, kk%kk2
+	ky, kx := r/g.k, r%g.k
+	off = kx*g.d - g.pad
+	lo, hi = g.validRange(off)
+	return ci, ky, off, lo, hi
+}
+
 // colRow gathers row kk of the im2col matrix of image x (c×h×w), columns
 // [p0, p0+cnt): dst[i*stride] = col[kk][p0+i]. Row kk = (ci*k+ky)*k+kx
 // holds input channel ci shifted by kernel tap (ky, kx); column p = oy*wo+ox
 // is one output pixel.
 func (g *convGeom) colRow(dst []float32, stride int, x []float32, kk, p0, cnt int) {
-	kk2 := g.k * g.k
-	ci, r := kk/kk2, kk%kk2
-	ky, kx := r/g.k, r%g.k
+	ci, ky, off, lo, hi := g.colTap(kk)
 	plane := x[ci*g.h*g.w : (ci+1)*g.h*g.w]
 	oy, ox := p0/g.wo, p0%g.wo
-	off := kx*g.d - g.pad
-	lo, hi := g.validRange(off)
 	o := 0
 	for cnt > 0 {
 		run := min(cnt, g.wo-ox)
-		iy := oy*g.s + ky*g.d - g.pad
-		if iy < 0 || iy >= g.h {
-			if !g.reflect {
-				for i := range run {
-					dst[(o+i)*stride] = 0
-				}
-				o, cnt, ox, oy = o+run, cnt-run, 0, oy+1
-				continue
+		iy, ok := paddedIndex(oy*g.s+ky*g.d-g.pad, g.h, g.reflect)
+		if !ok {
+			for i := range run {
+				dst[(o+i)*stride] = 0
 			}
-			iy = reflectIndex(iy, g.h)
+			o, cnt, ox, oy = o+run, cnt-run, 0, oy+1
+			continue
 		}
 		row := plane[iy*g.w : (iy+1)*g.w]
 		end := ox + run
@@ -92,28 +110,23 @@ func (g *convGeom) border(row []float32, ix int) float32 {
 	return row[reflectIndex(ix, g.w)]
 }
 
-// colRowAdd is the adjoint of colRow: it scatters src[i*stride], the
+// colRowAdd is the adjoint of colRow, walking the same runs (its loop
+// stays beside colRow's rather than behind a shared walker, so that each
+// inner loop is plain code): it scatters src[i*stride], the
 // gradient of col[kk][p0+i], into the gradient dx of the image, adding
 // padded taps onto the pixels they mirror (reflect) or dropping them
 // (zero).
 func (g *convGeom) colRowAdd(dx []float32, src []float32, stride int, kk, p0, cnt int) {
-	kk2 := g.k * g.k
-	ci, r := kk/kk2, kk%kk2
-	ky, kx := r/g.k, r%g.k
+	ci, ky, off, lo, hi := g.colTap(kk)
 	plane := dx[ci*g.h*g.w : (ci+1)*g.h*g.w]
 	oy, ox := p0/g.wo, p0%g.wo
-	off := kx*g.d - g.pad
-	lo, hi := g.validRange(off)
 	o := 0
 	for cnt > 0 {
 		run := min(cnt, g.wo-ox)
-		iy := oy*g.s + ky*g.d - g.pad
-		if iy < 0 || iy >= g.h {
-			if !g.reflect {
-				o, cnt, ox, oy = o+run, cnt-run, 0, oy+1
-				continue
-			}
-			iy = reflectIndex(iy, g.h)
+		iy, ok := paddedIndex(oy*g.s+ky*g.d-g.pad, g.h, g.reflect)
+		if !ok {
+			o, cnt, ox, oy = o+run, cnt-run, 0, oy+1
+			continue
 		}
 		row := plane[iy*g.w : (iy+1)*g.w]
 		end := ox + run

@@ -144,12 +144,9 @@ func (dc *direct) foldPhases(dst, src []float32) {
 	p, w, s, ph := dc.pad, dc.w, dc.s, dc.hph*dc.wph
 	clear(dst)
 	for py := range dc.hp {
-		iy := py - p
-		if iy < 0 || iy >= dc.h {
-			if !dc.reflect {
-				continue
-			}
-			iy = reflectIndex(iy, dc.h)
+		iy, ok := paddedIndex(py-p, dc.h, dc.reflect)
+		if !ok {
+			continue
 		}
 		d := dst[iy*w : (iy+1)*w]
 		for rx := range s {
@@ -227,22 +224,14 @@ func (dc *direct) padPlane(dst, src []float32) {
 	if dc.s > 1 {
 		s, ph := dc.s, dc.hph*dc.wph
 		for py := range dc.hp {
-			iy := py - p
-			zero := false
-			if iy < 0 || iy >= dc.h {
-				if dc.reflect {
-					iy = reflectIndex(iy, dc.h)
-				} else {
-					zero = true
-				}
-			}
+			iy, inside := paddedIndex(py-p, dc.h, dc.reflect)
 			var row []float32
-			if !zero {
+			if inside {
 				row = src[iy*w : (iy+1)*w]
 			}
 			for rx := range s {
 				out := dst[(py%s*s+rx)*ph+py/s*dc.wph : (py%s*s+rx)*ph+(py/s+1)*dc.wph]
-				if zero {
+				if !inside {
 					clear(out)
 					continue
 				}
@@ -273,13 +262,10 @@ func (dc *direct) padPlane(dst, src []float32) {
 	}
 	for py := range dc.hp {
 		row := dst[py*dc.wp : (py+1)*dc.wp]
-		iy := py - p
-		if iy < 0 || iy >= dc.h {
-			if !dc.reflect {
-				clear(row)
-				continue
-			}
-			iy = reflectIndex(iy, dc.h)
+		iy, ok := paddedIndex(py-p, dc.h, dc.reflect)
+		if !ok {
+			clear(row)
+			continue
 		}
 		s := src[iy*w : (iy+1)*w]
 		copy(row[p:p+w], s)
@@ -302,12 +288,9 @@ func (dc *direct) foldPlane(dst, src []float32) {
 	clear(dst)
 	for py := range dc.hp {
 		row := src[py*dc.wp : (py+1)*dc.wp]
-		iy := py - p
-		if iy < 0 || iy >= dc.h {
-			if !dc.reflect {
-				continue
-			}
-			iy = reflectIndex(iy, dc.h)
+		iy, ok := paddedIndex(py-p, dc.h, dc.reflect)
+		if !ok {
+			continue
 		}
 		d := dst[iy*w : (iy+1)*w]
 		for x, v := range row[p : p+w] {

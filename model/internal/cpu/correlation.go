@@ -109,6 +109,14 @@ func corrRun(t *corrTask, n, c, h, w, disps int) {
 	corrFree.Put(t)
 }
 
+// rowStarts returns, for the input row r = n·h + y, where row y of channel
+// 0 of item n starts in the inputs (in) and in the cost volume (out).
+func (t *corrTask) rowStarts(r int) (in, out int) {
+	plane := t.h * t.w
+	b, y := r/t.h, r%t.h
+	return b*t.c*plane + y*t.w, b*t.disps*plane + y*t.w
+}
+
 // corrForwardRows computes the output rows (n, k, y) of the input rows
 // lo <= r < hi, r = n·h + y.
 func corrForwardRows(t *corrTask, lo, hi int) {
@@ -120,9 +128,7 @@ func corrForwardRows(t *corrTask, lo, hi int) {
 	plane := h * w
 	scale := 1 / float32(c)
 	for r := lo; r < hi; r++ {
-		b, y := r/h, r%h
-		in := b*c*plane + y*w      // row y of channel 0 of item b
-		out := b*disps*plane + y*w // row y of output channel 0
+		in, out := t.rowStarts(r)
 		for k := 0; k < disps; k++ {
 			o := t.dst[out+k*plane : out+k*plane+w]
 			if k >= w {
@@ -146,7 +152,9 @@ func corrForwardRows(t *corrTask, lo, hi int) {
 }
 
 // corrBackwardRows computes the gradient rows (n, ch, y) of the input rows
-// lo <= r < hi.
+// lo <= r < hi: corrForwardRows's adjoint, over the same rows and
+// displacements (two loops rather than one walk with two bodies, so that
+// each inner loop is plain code).
 func corrBackwardRows(t *corrTask, lo, hi int) {
 	if corrAVX2 {
 		corrBackwardRowsAVX2(t, lo, hi)
@@ -157,9 +165,7 @@ func corrBackwardRows(t *corrTask, lo, hi int) {
 	scale := 1 / float32(c)
 	kmax := min(disps, w)
 	for r := lo; r < hi; r++ {
-		b, y := r/h, r%h
-		in := b*c*plane + y*w
-		out := b*disps*plane + y*w
+		in, out := t.rowStarts(r)
 		for ch := 0; ch < c; ch++ {
 			if t.dleft != nil {
 				dl := t.dleft[in+ch*plane : in+ch*plane+w]
@@ -263,9 +269,7 @@ func corrForwardRowsAVX2(t *corrTask, lo, hi int) {
 	rp := corrGetScratch(c * stride)
 	w8 := w &^ 7
 	for r := lo; r < hi; r++ {
-		b, y := r/h, r%h
-		in := b*c*plane + y*w
-		out := b*disps*plane + y*w
+		in, out := t.rowStarts(r)
 		for ch := 0; ch < c; ch++ {
 			src, p := in+ch*plane, ch*stride+pad
 			copy(rp[p:p+w], t.right[src:src+w])
@@ -316,9 +320,7 @@ func corrBackwardRowsAVX2(t *corrTask, lo, hi int) {
 	lp, rp, gp := buf[:c*stride], buf[c*stride:2*c*stride], buf[2*c*stride:]
 	w8, c8 := w&^7, c&^7
 	for r := lo; r < hi; r++ {
-		b, y := r/h, r%h
-		in := b*c*plane + y*w
-		out := b*disps*plane + y*w
+		in, out := t.rowStarts(r)
 		for k := 0; k < kmax; k++ {
 			// The upstream values at the constant outputs (x < k) are
 			// ignored: their copies stay 0.
