@@ -4,6 +4,8 @@ import (
 	"context"
 	"image"
 	"testing"
+
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 // benchmarkMatch times MatchInto on one pair with maps reused (the steady
@@ -34,11 +36,11 @@ func benchmarkMatch(b *testing.B, o Options, left, right image.Image) {
 // The sizes and ranges of issue 15's targets: Motorcycle at 370×250 with 48
 // disparities, and a synthetic step-edge scene at 640×480 with 80.
 func BenchmarkMatch_Motorcycle_370x250_D48(b *testing.B) {
-	benchmarkMatch(b, Options{MaxDisparity: 47}, loadPNG(b, "testdata/motorcycle/left.png"), loadPNG(b, "testdata/motorcycle/right.png"))
+	benchmarkMatch(b, Options{MaxDisparity: 47}, testutil.PNG(b, "../testdata/motorcycle/left.png"), testutil.PNG(b, "../testdata/motorcycle/right.png"))
 }
 
 func BenchmarkMatch_Motorcycle_370x250_D48_8paths(b *testing.B) {
-	benchmarkMatch(b, Options{MaxDisparity: 47, Paths: 8}, loadPNG(b, "testdata/motorcycle/left.png"), loadPNG(b, "testdata/motorcycle/right.png"))
+	benchmarkMatch(b, Options{MaxDisparity: 47, Paths: 8}, testutil.PNG(b, "../testdata/motorcycle/left.png"), testutil.PNG(b, "../testdata/motorcycle/right.png"))
 }
 
 func BenchmarkMatch_Step_640x480_D80(b *testing.B) {

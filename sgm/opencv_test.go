@@ -4,13 +4,13 @@ import (
 	"context"
 	"encoding/json"
 	"image"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 // fixture is one pair of testdata/sgm/opencv.json (testdata/sgm/make.py).
@@ -42,20 +42,6 @@ func loadFixtures(t testing.TB) map[string]fixture {
 		t.Fatal("no pairs in opencv.json")
 	}
 	return f.Pairs
-}
-
-func loadPNG(t testing.TB, path string) image.Image {
-	t.Helper()
-	f, err := os.Open(filepath.Join("..", path))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return img
 }
 
 // loadDisparity reads a PFM disparity; +Inf (unknown) becomes invalid.
@@ -169,7 +155,7 @@ func TestAgainstOpenCV(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := m.Match(context.Background(), loadPNG(t, f.Left), loadPNG(t, f.Right))
+		res, err := m.Match(context.Background(), testutil.PNG(t, filepath.Join("..", f.Left)), testutil.PNG(t, filepath.Join("..", f.Right)))
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"image"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -13,6 +12,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -28,15 +28,7 @@ func TestDemoRun(t *testing.T) {
 		t.Fatal(err)
 	}
 	base := filepath.Join(dir, "greenhouse_000000")
-	f, err := os.Open(base + ".depth-mm.png")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
-	if err != nil {
-		t.Fatal(err)
-	}
+	img := testutil.PNG(t, base+".depth-mm.png")
 	g, ok := img.(*image.Gray16)
 	if !ok {
 		t.Fatalf("depth PNG decodes as %T, want *image.Gray16", img)

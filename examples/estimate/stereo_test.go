@@ -15,8 +15,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
-	"github.com/parallaxdepth/parallax/model"
-	"github.com/parallaxdepth/parallax/safetensors"
+	"github.com/parallaxdepth/parallax/internal/testutil/weightfiles"
 )
 
 // greenhouse is the committed synthetic set of package synth (seed 1,
@@ -186,17 +185,7 @@ func TestStereoErrors(t *testing.T) {
 	writeImage(t, dir, "pairs/left/a.png", li)
 	writeImage(t, dir, "pairs/right/a.png", ri)
 	onlyLeft := writeImage(t, dir, "pairs/left/b.png", li)
-	weights := map[bool]string{}
-	for _, stereo := range []bool{false, true} {
-		w, err := model.LoadKind("", stereo)
-		if err != nil {
-			t.Fatal(err)
-		}
-		weights[stereo] = filepath.Join(dir, map[bool]string{true: "stereo", false: "mono"}[stereo]+".safetensors")
-		if err := w.Save(weights[stereo], safetensors.F16); err != nil {
-			t.Fatal(err)
-		}
-	}
+	weights := weightfiles.Embedded(t)
 	for _, c := range []struct {
 		name string
 		args []string

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -13,6 +12,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -42,14 +42,8 @@ func TestRunSynthetic(t *testing.T) {
 		t.Errorf("want one before/after table:\n%s", s)
 	}
 	for _, p := range []string{"000000.disp-error.png", "000001.depth-error.png", filepath.Join("adapted", "000002.disp-error.png")} {
-		f, err := os.Open(filepath.Join(errs, p))
-		if err != nil {
-			t.Fatal(err)
-		}
-		img, err := png.Decode(f)
-		f.Close()
-		if err != nil || img.Bounds().Dx() != 256 {
-			t.Errorf("%s: %v", p, err)
+		if img := testutil.PNG(t, filepath.Join(errs, p)); img.Bounds().Dx() != 256 {
+			t.Errorf("%s: width %d, want 256", p, img.Bounds().Dx())
 		}
 	}
 	for _, args := range [][]string{{"-quiet", t.TempDir()}, {"a", "b"}, {"-pair", "a,b"}, {"-rig", "r.json"}, {"-adapt", "-1"}, {"-method", "sgm", "-adapt", "2"}, {"-method", "other"}, {"-bad-flag"}} {
@@ -193,15 +187,7 @@ func directScores(t *testing.T, dir string, flip bool) (disp, dep map[string][]f
 	var dsum, zsum []float64
 	var dn, zn, dpix, zpix int
 	for _, name := range []string{"a", "b", "c", "d"} {
-		f, err := os.Open(filepath.Join(dir, "left", name+".png"))
-		if err != nil {
-			t.Fatal(err)
-		}
-		img, err := png.Decode(f)
-		f.Close()
-		if err != nil {
-			t.Fatal(err)
-		}
+		img := testutil.PNG(t, filepath.Join(dir, "left", name+".png"))
 		e, err := est.Estimate(context.Background(), img)
 		if err != nil {
 			t.Fatal(err)

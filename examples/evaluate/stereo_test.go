@@ -7,8 +7,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/testutil/weightfiles"
 	"github.com/parallaxdepth/parallax/model"
-	"github.com/parallaxdepth/parallax/safetensors"
 )
 
 // TestStereoAdapt: -stereo scores the embedded stereo weights on one
@@ -37,18 +37,7 @@ func TestStereoAdapt(t *testing.T) {
 // TestStereoKind: the weights' kind must match -stereo, and -stereo goes
 // with the network; each error names the file or the flag.
 func TestStereoKind(t *testing.T) {
-	dir := t.TempDir()
-	files := map[bool]string{}
-	for _, stereo := range []bool{false, true} {
-		w, err := model.LoadKind("", stereo)
-		if err != nil {
-			t.Fatal(err)
-		}
-		files[stereo] = filepath.Join(dir, map[bool]string{true: "stereo", false: "mono"}[stereo]+".safetensors")
-		if err := w.Save(files[stereo], safetensors.F16); err != nil {
-			t.Fatal(err)
-		}
-	}
+	files := weightfiles.Embedded(t)
 	for _, c := range []struct {
 		args []string
 		want []string
