@@ -8,30 +8,33 @@ import (
 	"runtime/metrics"
 	"strconv"
 	"time"
+
+	"github.com/parallaxdepth/parallax/model/adapt"
 )
 
 // rssLogger appends one CSV line per interval to a file: the elapsed time,
 // the resident set size, the Go heap in use (spans holding objects, live
 // or not yet collected) and the live heap marked by the last garbage
-// collection (MB), and the frames,
-// steps, swaps and roll-backs so far. Each line is written and synced as
+// collection (MB), the CPU time the garbage collector has taken (s), and the
+// frames, steps, swaps and roll-backs so far. Each line is written and synced as
 // it comes, so a run that is killed keeps its log.
 type rssLogger struct {
 	f        *os.File
+	ad       *adapt.Adapter
 	began    time.Time
 	every    time.Duration
 	next     time.Time
 	lastSeen int
 }
 
-func newRSSLogger(path string, every time.Duration) (*rssLogger, error) {
+func newRSSLogger(path string, every time.Duration, ad *adapt.Adapter) (*rssLogger, error) {
 	f, err := os.OpenFile(path, os.O_CREATE|os.O_WRONLY|os.O_TRUNC, 0o644)
 	if err != nil {
 		return nil, fmt.Errorf("adaptdrive: -rss-log: %w", err)
 	}
-	l := &rssLogger{f: f, began: time.Now(), every: every}
+	l := &rssLogger{f: f, ad: ad, began: time.Now(), every: every}
 	l.next = l.began
-	if _, err := fmt.Fprintln(f, "elapsed_s,rss_mb,heap_mb,live_heap_mb,frames,steps,swaps,rollbacks"); err != nil {
+	if _, err := fmt.Fprintln(f, "elapsed_s,rss_mb,heap_mb,live_heap_mb,gc_cpu_s,frames,steps,swaps,rollbacks"); err != nil {
 		f.Close()
 		return nil, fmt.Errorf("adaptdrive: -rss-log: %w", err)
 	}
@@ -40,35 +43,36 @@ func newRSSLogger(path string, every time.Duration) (*rssLogger, error) {
 
 // Tick writes a line if the interval has passed; frames is the number of
 // frames played so far.
-func (l *rssLogger) Tick(frames int, status func() (steps, swaps, rollbacks int)) error {
+func (l *rssLogger) Tick(frames int) error {
 	l.lastSeen = frames
 	if time.Now().Before(l.next) {
 		return nil
 	}
 	l.next = l.next.Add(l.every)
-	return l.write(frames, status)
+	return l.write(frames)
 }
 
 // Final writes the last line.
-func (l *rssLogger) Final(status func() (steps, swaps, rollbacks int)) error {
-	return l.write(l.lastSeen+1, status)
-}
+func (l *rssLogger) Final() error { return l.write(l.lastSeen + 1) }
 
-func (l *rssLogger) write(frames int, status func() (steps, swaps, rollbacks int)) error {
+func (l *rssLogger) write(frames int) error {
 	var ms runtime.MemStats
 	runtime.ReadMemStats(&ms)
 	rss, err := residentMB()
 	if err != nil {
 		return err
 	}
-	live := []metrics.Sample{{Name: "/gc/heap/live:bytes"}}
-	metrics.Read(live)
+	gc := []metrics.Sample{{Name: "/gc/heap/live:bytes"}, {Name: "/cpu/classes/gc/total:cpu-seconds"}}
+	metrics.Read(gc)
 	var liveMB float64
-	if live[0].Value.Kind() == metrics.KindUint64 {
-		liveMB = float64(live[0].Value.Uint64()) / 1e6
+	if gc[0].Value.Kind() == metrics.KindUint64 {
+		liveMB = float64(gc[0].Value.Uint64()) / 1e6
 	}
-	steps, swaps, rb := status()
-	_, err = fmt.Fprintf(l.f, "%.0f,%.1f,%.1f,%.1f,%d,%d,%d,%d\n", time.Since(l.began).Seconds(), rss, float64(ms.HeapInuse)/1e6, liveMB, frames, steps, swaps, rb)
+	if gc[1].Value.Kind() != metrics.KindFloat64 {
+		return fmt.Errorf("adaptdrive: -rss-log: the runtime reports no garbage collector CPU time")
+	}
+	s := l.ad.Status()
+	_, err = fmt.Fprintf(l.f, "%.0f,%.1f,%.1f,%.1f,%.1f,%d,%d,%d,%d\n", time.Since(l.began).Seconds(), rss, float64(ms.HeapInuse)/1e6, liveMB, gc[1].Value.Float64(), frames, s.Steps, s.Swaps, s.Rollbacks)
 	if err == nil {
 		err = l.f.Sync()
 	}
