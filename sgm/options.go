@@ -162,32 +162,16 @@ func (o Options) resolve() (Options, error) {
 	if o.P1 < 0 || o.P2 <= o.P1 || o.P2 > p2Max {
 		return o, fmt.Errorf("sgm: penalties P1 %d and P2 %d must satisfy 0 ≤ P1 < P2 ≤ %d", o.P1, o.P2, p2Max)
 	}
-	switch {
-	case o.P2Falloff == 0:
-		o.P2Falloff = DefaultP2Falloff
-	case o.P2Falloff == Off:
-	case !(o.P2Falloff > 0) || math.IsInf(o.P2Falloff, 0):
+	if defaultOrOff(&o.P2Falloff, DefaultP2Falloff) && (!(o.P2Falloff > 0) || math.IsInf(o.P2Falloff, 0)) {
 		return o, fmt.Errorf("sgm: P2Falloff %v must be positive and finite, or Off", o.P2Falloff)
 	}
-	switch {
-	case o.Uniqueness == 0:
-		o.Uniqueness = DefaultUniqueness
-	case o.Uniqueness == Off:
-	case !(o.Uniqueness > 0) || o.Uniqueness > 1000:
+	if defaultOrOff(&o.Uniqueness, DefaultUniqueness) && (!(o.Uniqueness > 0) || o.Uniqueness > 1000) {
 		return o, fmt.Errorf("sgm: Uniqueness %v must be in (0, 1000] percent, or Off", o.Uniqueness)
 	}
-	switch {
-	case o.LRTolerance == 0:
-		o.LRTolerance = DefaultLRTolerance
-	case o.LRTolerance == Off:
-	case o.LRTolerance < 0:
+	if defaultOrOff(&o.LRTolerance, DefaultLRTolerance) && o.LRTolerance < 0 {
 		return o, fmt.Errorf("sgm: LRTolerance %d must be positive, or Off", o.LRTolerance)
 	}
-	switch {
-	case o.SpeckleSize == 0:
-		o.SpeckleSize = DefaultSpeckleSize
-	case o.SpeckleSize == Off:
-	case o.SpeckleSize < 0:
+	if defaultOrOff(&o.SpeckleSize, DefaultSpeckleSize) && o.SpeckleSize < 0 {
 		return o, fmt.Errorf("sgm: SpeckleSize %d must be positive, or Off", o.SpeckleSize)
 	}
 	if o.SpeckleJump == 0 {
@@ -233,4 +217,17 @@ func (o *Options) disparityRange(width int) (lo, hi int, err error) {
 		return 0, 0, fmt.Errorf("sgm: MinDisparity %d leaves no pixel to match in an image %d pixels wide", lo, width)
 	}
 	return lo, hi, nil
+}
+
+// defaultOrOff sets *v to def when it is 0 and says whether *v is left to
+// validate: not the default, and not Off.
+func defaultOrOff[T int | float64](v *T, def T) bool {
+	switch *v {
+	case 0:
+		*v = def
+		return false
+	case Off:
+		return false
+	}
+	return true
 }

@@ -23,7 +23,16 @@ func newBuilder(seed uint64, index int, style Style) *builder {
 
 func (b *builder) uni(lo, hi float64) float64 { return lo + (hi-lo)*b.rng.Float64() }
 func (b *builder) chance(p float64) bool      { return b.rng.Float64() < p }
-func (b *builder) intn(n int) int             { return b.rng.IntN(n) }
+
+// side returns -1 or +1 with equal chances (one draw, as chance(0.5)):
+// which side of an aisle or row a thing stands on.
+func (b *builder) side() float64 {
+	if b.chance(0.5) {
+		return -1
+	}
+	return 1
+}
+func (b *builder) intn(n int) int { return b.rng.IntN(n) }
 
 // tint returns c with each component scaled by a factor in [1−a, 1+a].
 func (b *builder) tint(c rgb, a float64) rgb {

@@ -150,10 +150,7 @@ func buildGreenhouse(b *builder) {
 		ink: rgb{0.18, 0.12, 0.08}, scale: 0.07, size2: b.uni(0.07, 0.12), contrast: 0.45})
 	for k := b.intn(3); k > 0; k-- {
 		s := b.uni(0.3, 0.5)
-		side := 1.0
-		if b.chance(0.5) {
-			side = -1
-		}
+		side := b.side()
 		x := side * (aisle - s/2 - b.uni(0, 0.1))
 		z := b.uni(2, length-1)
 		y := 0.0

@@ -98,10 +98,7 @@ func buildOrchard(b *builder) {
 	// Picking bins, stones and tufts along the alley.
 	for k := b.intn(4); k > 0; k-- {
 		s := b.uni(0.5, 1.0)
-		side := 1.0
-		if b.chance(0.5) {
-			side = -1
-		}
+		side := b.side()
 		x := side * (rowGap/2 - s/2 - b.uni(0.2, 0.6))
 		z := b.uni(2, far-3)
 		m := b.mat(material{kind: texBoards,

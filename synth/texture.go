@@ -118,10 +118,7 @@ func tiles(m *material, u, v, fp float64, seed uint32) rgb {
 	n := fbm(u, v, m.scale, 4, fp, seed^0xabcdef)
 	c := mix(m.base, m.alt, contrastCurve(n, m.contrast)).mul(tint)
 	gw := ts * 0.05
-	gu := periodicLine(u, ts, gw, fp)
-	gv := periodicLine(v, ts, gw, fp)
-	grout := gu + gv - gu*gv
-	return mix(c, m.ink, grout)
+	return mix(c, m.ink, gridLines(u, v, ts, ts, gw, fp))
 }
 
 func panels(m *material, u, v, fp float64, seed uint32) rgb {
@@ -132,10 +129,15 @@ func panels(m *material, u, v, fp float64, seed uint32) rgb {
 	tint := 0.9 + 0.2*unit(hash2(iu, iv, seed))
 	c := mix(m.base, m.alt, contrastCurve(n, m.contrast)).mul(tint)
 	fw := pw * 0.06
-	fu := periodicLine(u, pw, fw, fp)
-	fv := periodicLine(v, ph, fw, fp)
-	frame := fu + fv - fu*fv
-	return mix(c, m.ink, frame)
+	return mix(c, m.ink, gridLines(u, v, pw, ph, fw, fp))
+}
+
+// gridLines is the coverage of a grid of lines w wide, spaced cu apart
+// along u and cv along v: the union of the two sets of lines (grout,
+// panel frames).
+func gridLines(u, v, cu, cv, w, fp float64) float64 {
+	a, b := periodicLine(u, cu, w, fp), periodicLine(v, cv, w, fp)
+	return a + b - a*b
 }
 
 // labels draws cardboard and, in cells of size scale, printed paper labels

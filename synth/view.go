@@ -50,17 +50,7 @@ func newView(sc *scene, rig *depth.Rig, origin vec3, cy float64) *view {
 		x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
 		behind := false
 		for c := 0; c < 8; c++ {
-			p := vec3{lo.x, lo.y, lo.z}
-			if c&1 != 0 {
-				p.x = hi.x
-			}
-			if c&2 != 0 {
-				p.y = hi.y
-			}
-			if c&4 != 0 {
-				p.z = hi.z
-			}
-			q := p.sub(origin)
+			q := boxCorner(lo, hi, c).sub(origin)
 			z := q.dot(sc.fwd)
 			minZ = math.Min(minZ, z)
 			if z <= 1e-6 {
@@ -121,20 +111,26 @@ func newView(sc *scene, rig *depth.Rig, origin vec3, cy float64) *view {
 	return v
 }
 
+// boxCorner returns corner c (0 … 7) of the box lo … hi: bit 0 of c picks
+// hi.x over lo.x, bit 1 hi.y, bit 2 hi.z.
+func boxCorner(lo, hi vec3, c int) vec3 {
+	p := lo
+	if c&1 != 0 {
+		p.x = hi.x
+	}
+	if c&2 != 0 {
+		p.y = hi.y
+	}
+	if c&4 != 0 {
+		p.z = hi.z
+	}
+	return p
+}
+
 func maxCornerZ(lo, hi, origin, fwd vec3) float64 {
 	z := math.Inf(-1)
 	for c := 0; c < 8; c++ {
-		p := lo
-		if c&1 != 0 {
-			p.x = hi.x
-		}
-		if c&2 != 0 {
-			p.y = hi.y
-		}
-		if c&4 != 0 {
-			p.z = hi.z
-		}
-		z = math.Max(z, p.sub(origin).dot(fwd))
+		z = math.Max(z, boxCorner(lo, hi, c).sub(origin).dot(fwd))
 	}
 	return z
 }

@@ -105,10 +105,7 @@ func buildWorkshop(b *builder) {
 
 	// Drums near the aisle.
 	for k := b.intn(3); k > 0; k-- {
-		side := 1.0
-		if b.chance(0.5) {
-			side = -1
-		}
+		side := b.side()
 		cx := side * (aisle + b.uni(0.2, 0.6))
 		cz := b.uni(2, deep-3)
 		col := [4]rgb{{0.15, 0.3, 0.65}, {0.7, 0.15, 0.1}, {0.2, 0.5, 0.25}, {0.5, 0.5, 0.52}}[b.intn(4)]
@@ -134,10 +131,7 @@ func buildWorkshop(b *builder) {
 		base: b.tint(rgb{0.68, 0.55, 0.38}, 0.1), alt: b.tint(rgb{0.52, 0.42, 0.3}, 0.1),
 		ink: rgb{0.15, 0.1, 0.07}, scale: 0.08, size2: 0.1, contrast: 0.4})
 	for k := b.intn(3); k > 0; k-- {
-		side := 1.0
-		if b.chance(0.5) {
-			side = -1
-		}
+		side := b.side()
 		x := side * (colX + b.uni(0.8, 1.5))
 		z := b.uni(3, deep-3)
 		b.box(vec3{x - 0.6, 0, z - 0.5}, vec3{x + 0.6, 0.15, z + 0.5}, all6(pallet))
