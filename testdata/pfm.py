@@ -7,7 +7,7 @@ atomically; unknown values stay +inf.
 Import it from a script in a folder of testdata/ with
 
     sys.path.insert(0, os.path.join(HERE, ".."))
-    from pfm import read_pfm, write_pfm
+    from pfm import read_pfm, write_pfm, write_disparity
 """
 import os
 
@@ -36,3 +36,12 @@ def write_pfm(path, a):
         f.flush()
         os.fsync(f.fileno())
     os.replace(tmp, path)
+
+
+def write_disparity(path, d):
+    """Write the disparity map d (pixels, +inf unknown) with write_pfm and
+    print its size, how many pixels are known and unknown, and its range."""
+    write_pfm(path, d)
+    fin = d[np.isfinite(d)]
+    print("disparity %dx%d: %d known, %d unknown, range %.4f..%.4f px"
+          % (d.shape[1], d.shape[0], fin.size, d.size - fin.size, fin.min(), fin.max()))

@@ -25,7 +25,7 @@ import numpy as np
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, ".."))
-from pfm import write_pfm  # noqa: E402  (the PFM writer of every fixture script)
+from pfm import write_disparity  # noqa: E402  (the PFM writer of every fixture script)
 
 SRC = os.environ.get("ALOE_SRC", "/usr/share/doc/opencv-doc/examples/data")
 K = 4
@@ -54,11 +54,7 @@ def reduce_disparity():
 def main():
     for side, name in (("left", "aloeL.jpg"), ("right", "aloeR.jpg")):
         cv2.imwrite(os.path.join(HERE, side + ".png"), reduce_image(name)[..., ::-1])
-    d = reduce_disparity()
-    write_pfm(os.path.join(HERE, "disp_left.pfm"), d)
-    fin = d[np.isfinite(d)]
-    print("disparity %dx%d: %d known, %d unknown, range %.4f..%.4f px"
-          % (d.shape[1], d.shape[0], fin.size, d.size - fin.size, fin.min(), fin.max()))
+    write_disparity(os.path.join(HERE, "disp_left.pfm"), reduce_disparity())
 
 
 if __name__ == "__main__":
