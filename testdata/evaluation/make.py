@@ -86,7 +86,12 @@ def valid(a):
 
 
 def disparity_metrics(e, g):
-    m = valid(e) & valid(g)
+    """Disparity measures over the pixels where both e and g are valid."""
+    return disparity_errors(e, g, valid(e) & valid(g))
+
+
+def disparity_errors(e, g, m):
+    """EPE and bad-1, -2, -3 rates of e against g over the mask m."""
     n = int(m.sum())
     if n == 0:
         return {"n": 0}
@@ -113,13 +118,7 @@ def fill_rows(e):
 
 def dense_disparity_metrics(e, g):
     """Disparity measures over every pixel with truth, e's holes as given."""
-    m = valid(g)
-    n = int(m.sum())
-    if n == 0:
-        return {"n": 0}
-    a = np.abs(e[m].astype(np.float64) - g[m].astype(np.float64))
-    return {"n": n, "epe": float(a.mean()), "bad1": float((a > 1).mean()),
-            "bad2": float((a > 2).mean()), "bad3": float((a > 3).mean())}
+    return disparity_errors(e, g, valid(g))
 
 
 def depth_metrics(e, g):
