@@ -289,6 +289,8 @@ func TestOptionsRefused(t *testing.T) {
 		{Options{MinChange: -2}, "MinChange -2"},
 		{Options{MinContrast: math.Inf(1)}, "MinContrast +Inf"},
 		{Options{StepsPerCheck: -1}, "StepsPerCheck -1"},
+		{Options{MinGain: 1}, "MinGain 1 must be below 1"},
+		{Options{MinGain: -0.5}, "MinGain -0.5"},
 	} {
 		if _, err := c.o.resolved(); err == nil || !strings.HasPrefix(err.Error(), "adapt: ") || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("options %+v: %v, want an error with %q", c.o, err, c.want)
@@ -595,5 +597,28 @@ func TestFrameStorageExact(t *testing.T) {
 				t.Fatalf("value %d: resized %v, kept and decoded %v", i, p.Pix[i], q.Pix[i])
 			}
 		}
+	}
+}
+
+// TestMinGain: on the drive where the default options swap candidates in
+// (TestReproducible), requiring a 90 % gain over the starting weights
+// swaps nothing in, the refusals name the gain, and the Estimator keeps
+// the starting weights.
+func TestMinGain(t *testing.T) {
+	ps := drive(t, 12)
+	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff, Seed: 7, MinGain: 0.9})
+	before := copyWeights(est.Weights())
+	offerAll(t, a, ps)
+	for range 9 {
+		if err := a.Step(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	s := a.Status()
+	if s.Swaps != 0 || s.Refused != 3 || !strings.Contains(s.Reason, "90 % below") {
+		t.Errorf("status %+v; want 3 refusals naming the 90 %% gain and no swap", s)
+	}
+	if !sameWeights(est.Weights(), before) {
+		t.Error("the Estimator's weights changed")
 	}
 }

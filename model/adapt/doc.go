@@ -26,27 +26,26 @@
 //     ‖w − w₀‖ / ‖w₀‖ over all parameters, is within Options.MaxDrift,
 //   - their mean objective on the held-out frames is at most
 //     (1 + Options.Margin) times that of the weights in service and at
-//     most (1 + Options.Margin) times that of the starting weights, all
+//     most (1 − Options.MinGain) times that of the starting weights, all
 //     scored on the same frames.
 //
-// The second comparison is what keeps the adapter from making the depth
-// worse than the weights it started from: each swap only has to beat the
-// weights then in service on the frames then held out, so a chain of
-// swaps can end, on the frames seen now (a new part of the scene), worse
-// than the start. A refused candidate is discarded: training restarts
-// from the weights in service with a fresh solver (a roll-back). If at a
-// refusal the weights in service themselves score worse than
-// (1 + Options.Margin) times the starting weights, the starting weights
-// are put back in service (a fall-back, Status.Fallbacks) and training
-// restarts from them. So at every check the weights left in service score
-// within the margin of the starting weights on the held-out frames. A
-// non-finite value anywhere also pauses the adapter, with the reason in
-// Status, until Resume. The Estimator therefore only ever runs its
-// starting weights or weights that passed every check.
+// The comparison with the starting weights is what keeps the adapter from
+// making the depth worse than the weights it started from: each swap only
+// has to beat the weights then in service on the frames then held out, so
+// a chain of swaps can end, on the frames seen now (a new part of the
+// scene), no better than the start. A refused candidate is discarded:
+// training restarts from the weights in service with a fresh solver (a
+// roll-back). If at a refusal the weights in service themselves no longer
+// score MinGain below the starting weights, the starting weights are put
+// back in service (a fall-back, Status.Fallbacks) and training restarts
+// from them. So after every check the Estimator runs either the starting
+// weights or adapted weights that scored MinGain below them on the
+// held-out frames at their last check. A non-finite value anywhere also
+// pauses the adapter, with the reason in Status, until Resume.
 //
 // The check reads the self-supervised objective, not the depth error,
-// which needs ground truth: weights can lower the objective and still
-// give worse depth (see the README's drive figures). The objective of
+// which needs ground truth: weights can lower the objective a little and
+// still give worse depth (see Options.MinGain), hence the gain required. The objective of
 // the starting weights and of the weights in service on a held-out frame
 // is computed once and kept with the frame; a check runs the candidate on
 // every held-out frame and the other two on the frames new since the last

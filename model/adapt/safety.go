@@ -37,7 +37,7 @@ func (a *Adapter) check() error {
 	a.status.Checks++
 	a.status.CandidateLoss, a.status.ServingLoss, a.status.StartLoss, a.status.Drift = candLoss, servLoss, startLoss, drift
 	a.mu.Unlock()
-	bound := 1 + a.opt.Margin
+	bound, gain := 1+a.opt.Margin, 1-max(0, a.opt.MinGain) // GainOff: no gain
 	var refusal string
 	switch {
 	case !finite(candLoss) || !finite(servLoss) || !finite(startLoss):
@@ -46,12 +46,12 @@ func (a *Adapter) check() error {
 		refusal = fmt.Sprintf("refused: drift %.4g from the starting weights exceeds %.4g", drift, a.opt.MaxDrift)
 	case candLoss > servLoss*bound:
 		refusal = fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g in service", candLoss, servLoss)
-	case candLoss > startLoss*bound:
-		refusal = fmt.Sprintf("refused: held-out loss %.6g is worse than %.6g of the starting weights", candLoss, startLoss)
+	case candLoss > startLoss*gain:
+		refusal = fmt.Sprintf("refused: held-out loss %.6g is not %.3g %% below %.6g of the starting weights", candLoss, 100*(1-gain), startLoss)
 	}
 	if refusal != "" {
-		if a.serving != a.start && servLoss > startLoss*bound {
-			return a.fallBack(fmt.Sprintf("%s; the weights in service score %.6g, worse than %.6g of the starting weights: back to those", refusal, servLoss, startLoss))
+		if a.adapted && servLoss > startLoss*gain {
+			return a.fallBack(fmt.Sprintf("%s; the weights in service score %.6g, not %.3g %% below %.6g of the starting weights: back to those", refusal, servLoss, 100*(1-gain), startLoss))
 		}
 		return a.rollback(false, refusal)
 	}
@@ -68,6 +68,7 @@ func (a *Adapter) serve(w *model.Weights, fallback bool) error {
 		return err
 	}
 	a.servingID++
+	a.adapted = !fallback
 	a.mu.Lock()
 	a.serving = w
 	if fallback {
