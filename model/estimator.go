@@ -13,6 +13,7 @@ import (
 	xdraw "golang.org/x/image/draw"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/parallel"
 	"github.com/parallaxdepth/parallax/planar"
 )
 
@@ -177,9 +178,8 @@ type Estimator struct {
 	maxSide    int
 	fixed      bool
 	validity   ValidityOptions
-	idle       chan *worker
-	tokens     chan struct{} // one per worker that may still be created
-	workers    int           // the pool's size
+	pool       *parallel.Pool[worker]
+	workers    int // the pool's size
 	// workerBytes is what one worker may hold (largestStage); with
 	// capped set, a worker's stages stay within it.
 	workerBytes int64
@@ -282,19 +282,15 @@ func NewEstimator(w *Weights, opt *EstimatorOptions) (*Estimator, error) {
 		}
 		e.workers = int(min(int64(o.MaxWorkers), o.MaxScratchBytes/need))
 	}
-	e.idle, e.tokens = make(chan *worker, e.workers), make(chan struct{}, e.workers)
+	e.pool = parallel.NewPool[worker](e.workers)
 	e.weights.Store(w)
-	for range e.workers {
-		e.tokens <- struct{}{}
-	}
 	// Build the first worker now, at the weights' size, so that an engine
 	// error shows here, not on the first image.
 	wk := &worker{}
 	if _, err := e.stage(wk, w, a.Input.W, a.Input.H); err != nil {
 		return nil, err
 	}
-	<-e.tokens
-	e.idle <- wk
+	e.pool.Add(wk)
 	return e, nil
 }
 
@@ -398,22 +394,14 @@ func (e *Estimator) stage(wk *worker, p *Weights, w, h int) (*stage, error) {
 }
 
 func (e *Estimator) acquire(ctx context.Context) (*worker, error) {
-	select {
-	case wk := <-e.idle:
-		return wk, nil
-	default:
+	wk, err := e.pool.Get(ctx, func() *worker { return &worker{} })
+	if err != nil {
+		return nil, fmt.Errorf("model: %w", err)
 	}
-	select {
-	case wk := <-e.idle:
-		return wk, nil
-	case <-e.tokens:
-		return &worker{}, nil
-	case <-ctx.Done():
-		return nil, fmt.Errorf("model: %w", ctx.Err())
-	}
+	return wk, nil
 }
 
-func (e *Estimator) release(wk *worker) { e.idle <- wk }
+func (e *Estimator) release(wk *worker) { e.pool.Put(wk) }
 
 // checkImage returns an error for a nil, empty or oversized image.
 func checkImage(img image.Image) (image.Rectangle, error) {

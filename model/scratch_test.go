@@ -162,8 +162,7 @@ func TestMaxScratchBytes(t *testing.T) {
 	}
 	var held int64
 	workers := 0
-	for len(e.idle) > 0 {
-		wk := <-e.idle
+	for wk, ok := e.pool.TryGet(); ok; wk, ok = e.pool.TryGet() {
 		workers++
 		for _, st := range wk.stages {
 			held += st.bytes

@@ -3,7 +3,6 @@ package sgm
 import (
 	"github.com/parallaxdepth/parallax/depth"
 
-	"errors"
 	"fmt"
 )
 
@@ -18,18 +17,7 @@ import (
 // densely: apply it, then ZeroHoles for rows that stayed empty, then
 // depth.DisparityErrors.
 func FillHoles(d *depth.Disparity) (int, error) {
-	if d == nil {
-		return 0, errors.New("sgm: FillHoles: nil disparity")
-	}
-	if err := d.Check("disparity"); err != nil {
-		return 0, fmt.Errorf("sgm: FillHoles: %w", err)
-	}
-	w := d.Rect.Dx()
-	n := 0
-	for y := range d.Rect.Dy() {
-		n += fillRow(d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w], 1)
-	}
-	return n, nil
+	return changeRows("FillHoles", d, func(pix []float32, mask []uint8) int { return fillRow(pix, mask, 1) })
 }
 
 // ZeroHoles makes every invalid pixel of d valid with disparity 0, so that a
@@ -38,22 +26,31 @@ func FillHoles(d *depth.Disparity) (int, error) {
 // depth.Map.Check. The result is meant for scoring: a valid disparity of 0
 // has no finite depth.
 func ZeroHoles(d *depth.Disparity) (int, error) {
-	if d == nil {
-		return 0, errors.New("sgm: ZeroHoles: nil disparity")
-	}
-	if err := d.Check("disparity"); err != nil {
-		return 0, fmt.Errorf("sgm: ZeroHoles: %w", err)
-	}
-	w := d.Rect.Dx()
-	n := 0
-	for y := range d.Rect.Dy() {
-		pix, mask := d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w]
+	return changeRows("ZeroHoles", d, func(pix []float32, mask []uint8) int {
+		n := 0
 		for x := range mask {
 			if mask[x] == 0 {
 				pix[x], mask[x] = 0, 1
 				n++
 			}
 		}
+		return n
+	})
+}
+
+// changeRows checks d for fn (FillHoles, ZeroHoles) and calls change on
+// each of its rows, returning the sum of the pixels change reports.
+func changeRows(fn string, d *depth.Disparity, change func(pix []float32, mask []uint8) int) (int, error) {
+	if d == nil {
+		return 0, fmt.Errorf("sgm: %s: nil disparity", fn)
+	}
+	if err := d.Check("disparity"); err != nil {
+		return 0, fmt.Errorf("sgm: %s: %w", fn, err)
+	}
+	w := d.Rect.Dx()
+	n := 0
+	for y := range d.Rect.Dy() {
+		n += change(d.Pix[y*d.Stride:y*d.Stride+w], d.Mask[y*d.Stride:y*d.Stride+w])
 	}
 	return n, nil
 }

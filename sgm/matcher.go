@@ -30,9 +30,8 @@ type Result struct {
 // buffers) from a pool of at most Options.MaxWorkers and returns it, so
 // calls beyond MaxWorkers wait, or give up when their context ends.
 type Matcher struct {
-	opt    Options
-	idle   chan *worker
-	tokens chan struct{} // one per worker that may still be created
+	opt  Options
+	pool *parallel.Pool[worker]
 }
 
 // NewMatcher returns a Matcher with the options opt (nil means the
@@ -46,11 +45,7 @@ func NewMatcher(opt *Options) (*Matcher, error) {
 	if err != nil {
 		return nil, err
 	}
-	m := &Matcher{opt: o, idle: make(chan *worker, o.MaxWorkers), tokens: make(chan struct{}, o.MaxWorkers)}
-	for range o.MaxWorkers {
-		m.tokens <- struct{}{}
-	}
-	return m, nil
+	return &Matcher{opt: o, pool: parallel.NewPool[worker](o.MaxWorkers)}, nil
 }
 
 // Options returns the Matcher's options with every default filled in.
@@ -158,22 +153,14 @@ func checkPair(left, right image.Image) (image.Rectangle, error) {
 }
 
 func (m *Matcher) acquire(ctx context.Context) (*worker, error) {
-	select {
-	case wk := <-m.idle:
-		return wk, nil
-	default:
+	wk, err := m.pool.Get(ctx, func() *worker { return newWorker(&m.opt) })
+	if err != nil {
+		return nil, fmt.Errorf("sgm: waiting for a worker: %w", err)
 	}
-	select {
-	case wk := <-m.idle:
-		return wk, nil
-	case <-m.tokens:
-		return newWorker(&m.opt), nil
-	case <-ctx.Done():
-		return nil, fmt.Errorf("sgm: waiting for a worker: %w", ctx.Err())
-	}
+	return wk, nil
 }
 
-func (m *Matcher) release(wk *worker) { m.idle <- wk }
+func (m *Matcher) release(wk *worker) { m.pool.Put(wk) }
 
 // Parallel work is split by the problem's size only.
 const (
