@@ -30,7 +30,6 @@ func main() {
 func kernel(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	TEXT(name, NOSPLIT, signature)
 	Doc(fmt.Sprintf("%s computes one %d×%d tile; see microKernel.", name, mr, nv*lanes))
-	vec := func(i int) reg.VecPhysical { return vecReg(first, i) }
 	nr := nv * lanes
 	vbytes := 4 * lanes
 
@@ -38,46 +37,72 @@ func kernel(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	a := Load(Param("a").Base(), GP64())
 	b := Load(Param("b").Base(), GP64())
 
-	acc := make([][]reg.VecPhysical, mr)
-	for i := range mr {
-		acc[i] = make([]reg.VecPhysical, nv)
-		for j := range nv {
-			acc[i][j] = vec(i*nv + j)
-			zero(first, acc[i][j])
-		}
-	}
-	bv := make([]reg.VecPhysical, nv)
-	for j := range nv {
-		bv[j] = vec(mr*nv + j)
-	}
-	// Broadcast registers: the rest of the file, used in rotation.
-	total := 16
-	if first == reg.Z0 {
-		total = 32
-	}
-	var bc []reg.VecPhysical
-	for i := mr*nv + nv; i < total; i++ {
-		bc = append(bc, vec(i))
-	}
+	t := newTile(mr, nv, first)
 
 	TESTQ(k, k)
 	JZ(LabelRef(name + "_tail"))
 	Label(name + "_loop")
 	for j := range nv {
-		VMOVUPS(Mem{Base: b, Disp: j * vbytes}, bv[j])
+		VMOVUPS(Mem{Base: b, Disp: j * vbytes}, t.bv[j])
 	}
-	for i := range mr {
-		r := bc[i%len(bc)]
-		VBROADCASTSS(Mem{Base: a, Disp: 4 * i}, r)
-		for j := range nv {
-			VFMADD231PS(bv[j], r, acc[i][j])
-		}
-	}
+	t.fmaRows(a)
 	ADDQ(Imm(uint64(4*mr)), a)
 	ADDQ(Imm(uint64(4*nr)), b)
 	DECQ(k)
 	JNZ(LabelRef(name + "_loop"))
 
+	t.store(name, vbytes)
+}
+
+// tile holds the registers of an mr×nv-vector micro-kernel (kernel,
+// indirect): the accumulators, the B vectors of one k step, and the rest of
+// the register file for the A broadcasts, used in rotation.
+type tile struct {
+	mr, nv int
+	acc    [][]reg.VecPhysical
+	bv, bc []reg.VecPhysical
+}
+
+// newTile assigns the registers from first on and emits the zeroing of
+// the accumulators.
+func newTile(mr, nv int, first reg.VecPhysical) tile {
+	vec := func(i int) reg.VecPhysical { return vecReg(first, i) }
+	t := tile{mr: mr, nv: nv, acc: make([][]reg.VecPhysical, mr), bv: make([]reg.VecPhysical, nv)}
+	for i := range mr {
+		t.acc[i] = make([]reg.VecPhysical, nv)
+		for j := range nv {
+			t.acc[i][j] = vec(i*nv + j)
+			zero(first, t.acc[i][j])
+		}
+	}
+	for j := range nv {
+		t.bv[j] = vec(mr*nv + j)
+	}
+	total := 16
+	if first == reg.Z0 {
+		total = 32
+	}
+	for i := mr*nv + nv; i < total; i++ {
+		t.bc = append(t.bc, vec(i))
+	}
+	return t
+}
+
+// fmaRows emits one k step's products: each row's A value broadcast from
+// the packed panel at a, times the B vectors, into the accumulators.
+func (t tile) fmaRows(a reg.Register) {
+	for i := range t.mr {
+		r := t.bc[i%len(t.bc)]
+		VBROADCASTSS(Mem{Base: a, Disp: 4 * i}, r)
+		for j := range t.nv {
+			VFMADD231PS(t.bv[j], r, t.acc[i][j])
+		}
+	}
+}
+
+// store emits the kernel's end, from its _tail label: the accumulators
+// added to C when acc is set, then stored to C's rows (ldc apart).
+func (t tile) store(name string, vbytes int) {
 	Label(name + "_tail")
 	c := Load(Param("c").Base(), GP64())
 	ldc := Load(Param("ldc"), GP64())
@@ -87,20 +112,20 @@ func kernel(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	JZ(LabelRef(name + "_store"))
 	row := GP64()
 	MOVQ(c, row)
-	for i := range mr {
-		for j := range nv {
-			VADDPS(Mem{Base: row, Disp: j * vbytes}, acc[i][j], acc[i][j])
+	for i := range t.mr {
+		for j := range t.nv {
+			VADDPS(Mem{Base: row, Disp: j * vbytes}, t.acc[i][j], t.acc[i][j])
 		}
-		if i < mr-1 {
+		if i < t.mr-1 {
 			ADDQ(ldc, row)
 		}
 	}
 	Label(name + "_store")
-	for i := range mr {
-		for j := range nv {
-			VMOVUPS(acc[i][j], Mem{Base: c, Disp: j * vbytes})
+	for i := range t.mr {
+		for j := range t.nv {
+			VMOVUPS(t.acc[i][j], Mem{Base: c, Disp: j * vbytes})
 		}
-		if i < mr-1 {
+		if i < t.mr-1 {
 			ADDQ(ldc, c)
 		}
 	}
@@ -138,7 +163,6 @@ func zero(first, r reg.VecPhysical) {
 func indirect(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	TEXT(name, NOSPLIT, "func(k int, a, b []float32, offs []int, c []float32, ldc int, acc bool)")
 	Doc(fmt.Sprintf("%s computes one %d×%d tile; see indirectKernel.", name, mr, nv*lanes))
-	vec := func(i int) reg.VecPhysical { return vecReg(first, i) }
 	vbytes := 4 * lanes
 
 	k := Load(Param("k"), GP64())
@@ -147,74 +171,22 @@ func indirect(name string, mr, nv, lanes int, first reg.VecPhysical) {
 	offs := Load(Param("offs").Base(), GP64())
 	off := GP64()
 
-	acc := make([][]reg.VecPhysical, mr)
-	for i := range mr {
-		acc[i] = make([]reg.VecPhysical, nv)
-		for j := range nv {
-			acc[i][j] = vec(i*nv + j)
-			zero(first, acc[i][j])
-		}
-	}
-	bv := make([]reg.VecPhysical, nv)
-	for j := range nv {
-		bv[j] = vec(mr*nv + j)
-	}
-	total := 16
-	if first == reg.Z0 {
-		total = 32
-	}
-	var bc []reg.VecPhysical
-	for i := mr*nv + nv; i < total; i++ {
-		bc = append(bc, vec(i))
-	}
+	t := newTile(mr, nv, first)
 
 	TESTQ(k, k)
 	JZ(LabelRef(name + "_tail"))
 	Label(name + "_loop")
 	MOVQ(Mem{Base: offs}, off)
 	for j := range nv {
-		VMOVUPS(Mem{Base: b, Index: off, Scale: 4, Disp: j * vbytes}, bv[j])
+		VMOVUPS(Mem{Base: b, Index: off, Scale: 4, Disp: j * vbytes}, t.bv[j])
 	}
-	for i := range mr {
-		r := bc[i%len(bc)]
-		VBROADCASTSS(Mem{Base: a, Disp: 4 * i}, r)
-		for j := range nv {
-			VFMADD231PS(bv[j], r, acc[i][j])
-		}
-	}
+	t.fmaRows(a)
 	ADDQ(Imm(uint64(4*mr)), a)
 	ADDQ(Imm(8), offs)
 	DECQ(k)
 	JNZ(LabelRef(name + "_loop"))
 
-	Label(name + "_tail")
-	c := Load(Param("c").Base(), GP64())
-	ldc := Load(Param("ldc"), GP64())
-	SHLQ(Imm(2), ldc)
-	flag := Load(Param("acc"), GP8())
-	TESTB(flag, flag)
-	JZ(LabelRef(name + "_store"))
-	row := GP64()
-	MOVQ(c, row)
-	for i := range mr {
-		for j := range nv {
-			VADDPS(Mem{Base: row, Disp: j * vbytes}, acc[i][j], acc[i][j])
-		}
-		if i < mr-1 {
-			ADDQ(ldc, row)
-		}
-	}
-	Label(name + "_store")
-	for i := range mr {
-		for j := range nv {
-			VMOVUPS(acc[i][j], Mem{Base: c, Disp: j * vbytes})
-		}
-		if i < mr-1 {
-			ADDQ(ldc, c)
-		}
-	}
-	VZEROUPPER()
-	RET()
+	t.store(name, vbytes)
 }
 
 // dot emits the weight-gradient kernel: out[i*ldo+j] += Σ_t y[i*ldy+t] ·
