@@ -122,23 +122,20 @@ func rebuild2D(t *testing.T, p *Pair, rowShift float64, gainRatio [3]float64, di
 	var st photometric
 	const lo, hi = 1.0 / 255, 254.0 / 255
 	for y := 0; y < h; y++ {
-		ys := float64(y) + rowShift
-		if ys < 0 || ys > float64(h-1) {
+		y0, fy, ok := sampleCell(float64(y)+rowShift, h)
+		if !ok {
 			continue
 		}
-		y0 := min(int(math.Floor(ys)), h-2)
-		fy := ys - float64(y0)
 		for x := 0; x < w; x++ {
 			i := y*w + x
 			if p.VisibleLeft.Pix[i] == 0 {
 				continue
 			}
 			xs := float64(x) - float64(p.DispLeft.Pix[i])*float64(w) - dispShiftPx
-			if xs < 0 || xs > float64(w-1) {
+			x0, fx, ok := sampleCell(xs, w)
+			if !ok {
 				continue
 			}
-			x0 := min(int(math.Floor(xs)), w-2)
-			fx := xs - float64(x0)
 			var e float64
 			clipped := false
 			for k := 0; k < 3; k++ {
@@ -158,6 +155,17 @@ func rebuild2D(t *testing.T, p *Pair, rowShift float64, gainRatio [3]float64, di
 		}
 	}
 	return st.done(t, "no pixels compared")
+}
+
+// sampleCell returns the cell i0 … i0+1 of n samples that holds the
+// position s for bilinear sampling, and s's fraction past i0; false when s
+// lies outside [0, n−1].
+func sampleCell(s float64, n int) (i0 int, f float64, ok bool) {
+	if s < 0 || s > float64(n-1) {
+		return 0, 0, false
+	}
+	i0 = min(int(math.Floor(s)), n-2)
+	return i0, s - float64(i0), true
 }
 
 var noGain = [3]float64{1, 1, 1}
@@ -258,21 +266,18 @@ func leftRight2D(t *testing.T, p *Pair, rowShift float64) lrStats {
 	var diffs []float64
 	dr := func(x, y int) float64 { return float64(p.DispRight.Pix[y*w+x]) * float64(w) }
 	for y := 0; y < h; y++ {
-		ys := float64(y) + rowShift
-		if ys < 0 || ys > float64(h-1) {
+		y0, fy, ok := sampleCell(float64(y)+rowShift, h)
+		if !ok {
 			continue
 		}
-		y0 := min(int(math.Floor(ys)), h-2)
-		fy := ys - float64(y0)
 		for x := 0; x < w; x++ {
 			i := y*w + x
 			dl := float64(p.DispLeft.Pix[i]) * float64(w)
 			xs := float64(x) - dl
-			if xs < 0 || xs > float64(w-1) {
+			x0, fx, ok := sampleCell(xs, w)
+			if !ok {
 				continue
 			}
-			x0 := min(int(math.Floor(xs)), w-2)
-			fx := xs - float64(x0)
 			s := (1-fy)*((1-fx)*dr(x0, y0)+fx*dr(x0+1, y0)) + fy*((1-fx)*dr(x0, y0+1)+fx*dr(x0+1, y0+1))
 			if p.VisibleLeft.Pix[i] == 0 {
 				st.occluded++
