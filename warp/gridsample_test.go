@@ -102,23 +102,11 @@ func TestGridSample(t *testing.T) {
 				t.Fatal(err)
 			}
 			s := Shape{N: tc.N, C: tc.C, H: tc.H, W: tc.W}
-			var d Direction
-			switch tc.Direction {
-			case "RebuildLeft":
-				d = RebuildLeft
-			case "RebuildRight":
-				d = RebuildRight
-			default:
-				t.Fatalf("direction %q", tc.Direction)
-			}
-			var b Border
-			switch tc.PaddingMode {
-			case "zeros":
-				b = Zero
-			case "border":
-				b = Clamp
-			default:
-				t.Fatalf("padding mode %q", tc.PaddingMode)
+			d, okd := map[string]Direction{"RebuildLeft": RebuildLeft, "RebuildRight": RebuildRight}[tc.Direction]
+			// PyTorch's padding_mode names.
+			b, okb := map[string]Border{"zeros": Zero, "border": Clamp}[tc.PaddingMode]
+			if !okd || !okb {
+				t.Fatalf("direction %q, padding mode %q", tc.Direction, tc.PaddingMode)
 			}
 			src, disp, gout := toF32(a["src"]), toF32(a["disp"]), toF32(a["gout"])
 			out := make([]float32, len(src))
