@@ -26,11 +26,21 @@ import (
 // fn escapes to the heap, so a caller that must not allocate per call should
 // build fn once (for example store it in a plan) instead of writing a
 // literal at the call site. fn must not panic.
-func For(n, grain int, fn func(lo, hi int)) {
+func For(n, grain int, fn func(lo, hi int)) { ForN(0, n, grain, fn) }
+
+// ForN is For on at most maxProcs goroutines (the caller's included), or
+// on GOMAXPROCS of them if that is fewer or maxProcs is 0 or less: a
+// component that must leave cores to others (online adaptation beside
+// inference) caps its kernels with it. Results do not change, by the rule
+// above.
+func ForN(maxProcs, n, grain int, fn func(lo, hi int)) {
 	if n <= 0 {
 		return
 	}
 	procs := runtime.GOMAXPROCS(0)
+	if maxProcs > 0 {
+		procs = min(procs, maxProcs)
+	}
 	if grain <= 0 {
 		grain = (n + procs - 1) / procs
 	}

@@ -7,6 +7,7 @@ import (
 	"image"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"sync"
 	"time"
 
@@ -23,6 +24,13 @@ type Options struct {
 	// StepsPerSecond caps the training steps per second of Run (the CPU
 	// budget). If 0 it is defaulted to 2.
 	StepsPerSecond float64
+	// Workers bounds the goroutines the adapter's kernels use at once,
+	// the stepping goroutine's included (with StepsPerSecond, the CPU
+	// budget): the other cores stay free for inference. If 0 it is
+	// defaulted to half of runtime.GOMAXPROCS(0) at New, at least 1 (one
+	// core of the two of our test machine); the weights do not depend on
+	// it.
+	Workers int
 	// Buffer is the replay buffer's capacity in pairs, held-out frames
 	// included; the oldest pair leaves first. If 0 it is defaulted to 32.
 	Buffer int
@@ -105,6 +113,12 @@ func (o *Options) resolved() (Options, error) {
 	def(&r.MinChange, 0.003)
 	def(&r.MinContrast, 0.02)
 	def(&r.MinGain, 0.02)
+	if r.Workers == 0 {
+		r.Workers = max(1, runtime.GOMAXPROCS(0)/2)
+	}
+	if r.Workers < 0 {
+		return r, fmt.Errorf("adapt: Workers %d must not be negative", r.Workers)
+	}
 	if r.Buffer == 0 {
 		r.Buffer = 32
 	}
@@ -255,8 +269,10 @@ func (a *Adapter) prepare(fw, fh int) error {
 	a.w, a.h = nw, nh
 	a.tmp = newScratch(nw, nh)
 	a.shift = max(1, int(math.Ceil(a.start.Config.DMax*float64(nw))))
-	a.sess, err = train.NewSession(a.atTrainingSize(serving), 1, a.opt.Objective, &train.AdamConfig{LearningRate: a.opt.LearningRate})
-	return err
+	if a.sess, err = train.NewSession(a.atTrainingSize(serving), 1, a.opt.Objective, &train.AdamConfig{LearningRate: a.opt.LearningRate}); err != nil {
+		return err
+	}
+	return a.sess.SetWorkers(a.opt.Workers)
 }
 
 // atTrainingSize returns w (sharing its parameters) with the training

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"image"
 	"math"
+	"runtime"
 	"strings"
 	"sync"
 	"testing"
@@ -194,11 +195,11 @@ func TestDriftBound(t *testing.T) {
 	}
 }
 
-// run adapts a fresh adapter on the drive with fixed calls and returns its
-// snapshot and status.
-func run(t *testing.T) (*model.Weights, Status) {
+// run adapts a fresh adapter with the given Workers on the drive with
+// fixed calls and returns its snapshot and status.
+func run(t *testing.T, workers int) (*model.Weights, Status) {
 	ps := drive(t, 12)
-	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff, Seed: 7})
+	a, est := newAdapter(t, &Options{HoldOut: 3, StepsPerCheck: 3, LearningRate: 1e-3, Margin: 0.05, MaxDrift: DriftOff, Seed: 7, Workers: workers})
 	offerAll(t, a, ps[:8])
 	for i := range 12 {
 		if i%3 == 0 && 8+i/3 < len(ps) {
@@ -215,11 +216,13 @@ func run(t *testing.T) (*model.Weights, Status) {
 }
 
 // TestReproducible: with a fixed seed and one adapting goroutine, two
-// runs give the same weights bit for bit, and the run did swap weights in
+// runs give the same weights bit for bit, the one with its kernels on one
+// goroutine and the other on up to 4, and the run did swap weights in
 // (else the check would be empty).
 func TestReproducible(t *testing.T) {
-	w1, s1 := run(t)
-	w2, s2 := run(t)
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	w1, s1 := run(t, 1)
+	w2, s2 := run(t, 4)
 	t.Logf("status %+v", s1)
 	if s1.Swaps == 0 {
 		t.Fatalf("no swap in the run: %+v", s1)
@@ -290,6 +293,7 @@ func TestOptionsRefused(t *testing.T) {
 		{Options{MinContrast: math.Inf(1)}, "MinContrast +Inf"},
 		{Options{StepsPerCheck: -1}, "StepsPerCheck -1"},
 		{Options{MinGain: 1}, "MinGain 1 must be below 1"},
+		{Options{Workers: -1}, "Workers -1"},
 		{Options{MinGain: -0.5}, "MinGain -0.5"},
 	} {
 		if _, err := c.o.resolved(); err == nil || !strings.HasPrefix(err.Error(), "adapt: ") || !strings.Contains(err.Error(), c.want) {
@@ -620,5 +624,18 @@ func TestMinGain(t *testing.T) {
 	}
 	if !sameWeights(est.Weights(), before) {
 		t.Error("the Estimator's weights changed")
+	}
+}
+
+// TestWorkersDefault: the training graph's kernels are bounded to
+// Options.Workers, by default half of GOMAXPROCS (at least 1).
+func TestWorkersDefault(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	for _, c := range []struct{ set, want int }{{0, 2}, {3, 3}} {
+		a, _ := newAdapter(t, &Options{Workers: c.set})
+		offerAll(t, a, drive(t, 1))
+		if a.opt.Workers != c.want {
+			t.Errorf("Workers %d: the adapter uses %d, want %d", c.set, a.opt.Workers, c.want)
+		}
 	}
 }

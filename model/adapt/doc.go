@@ -52,8 +52,9 @@
 // check.
 //
 // Cost: one goroutine steps at most Options.StepsPerSecond times a
-// second; the kernels' own parallelism follows GOMAXPROCS, as inference
-// does. With the same seed, the same weights, the same offered frames in
-// the same order and the same calls, the weights are the same bits (the
-// kernels are deterministic; see DEVELOPERS.md).
+// second, and its kernels run on at most Options.Workers goroutines
+// (default half of GOMAXPROCS, at least 1), whatever inference uses. With
+// the same seed, the same weights, the same offered frames in
+// the same order and the same calls, the weights are the same bits, for
+// any Workers (the kernels are deterministic; see DEVELOPERS.md).
 package adapt

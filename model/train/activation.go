@@ -17,15 +17,15 @@ func nodeELU(name string, x *G.Node) (*G.Node, error) {
 		return nil, err
 	}
 	op := newKernelOp("elu", name, "", s, s)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.ELU(y, in[0])
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.ELU(y, in[0])
 		return nil
 	}
 	op.diff = []bool{true}
 	op.grad = func(_ G.Nodes, y, dy *G.Node) (G.Nodes, error) {
 		d := newKernelOp("elu.dx", name, "", s, s, s)
-		d.run = func(out []float32, in [][]float32) error {
-			cpu.ELUBackward(out, in[1], in[0])
+		d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			p.ELUBackward(out, in[1], in[0])
 			return nil
 		}
 		g, err := apply(d, name+".dx", y, dy)
@@ -49,15 +49,15 @@ func nodeSigmoidScale(name string, x *G.Node, scale float64) (*G.Node, error) {
 	k := float32(scale)
 	param := fmt.Sprintf("scale %v", k)
 	op := newKernelOp("sigmoid", name, param, s, s)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.SigmoidScale(y, in[0], k)
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.SigmoidScale(y, in[0], k)
 		return nil
 	}
 	op.diff = []bool{true}
 	op.grad = func(_ G.Nodes, y, dy *G.Node) (G.Nodes, error) {
 		d := newKernelOp("sigmoid.dx", name, param, s, s, s)
-		d.run = func(out []float32, in [][]float32) error {
-			cpu.SigmoidScaleBackward(out, in[1], in[0], k)
+		d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			p.SigmoidScaleBackward(out, in[1], in[0], k)
 			return nil
 		}
 		g, err := apply(d, name+".dx", y, dy)
@@ -80,15 +80,15 @@ func nodeScale(name string, x *G.Node, factor, shift float64) (*G.Node, error) {
 	k, b := float32(factor), float32(shift)
 	param := fmt.Sprintf("factor %v shift %v", k, b)
 	op := newKernelOp("scale", name, param, s, s)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.ScaleShift(y, in[0], k, b)
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.ScaleShift(y, in[0], k, b)
 		return nil
 	}
 	op.diff = []bool{true}
 	op.grad = func(_ G.Nodes, _, dy *G.Node) (G.Nodes, error) {
 		d := newKernelOp("scale.dx", name, param, s, s)
-		d.run = func(out []float32, in [][]float32) error {
-			cpu.ScaleShift(out, in[0], k, 0)
+		d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			p.ScaleShift(out, in[0], k, 0)
 			return nil
 		}
 		g, err := apply(d, name+".dx", dy)

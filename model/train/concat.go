@@ -35,8 +35,8 @@ func nodeConcat(name string, xs ...*G.Node) (*G.Node, error) {
 	ys := tensor.Shape{n, total, h, w}
 	param := fmt.Sprint(chans)
 	op := newKernelOp("concat", name, param, ys, shapes...)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.Concat(y, in, chans, n, h, w)
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.Concat(y, in, chans, n, h, w)
 		return nil
 	}
 	op.diff = make([]bool, len(xs))
@@ -48,9 +48,9 @@ func nodeConcat(name string, xs ...*G.Node) (*G.Node, error) {
 		for i := range xs {
 			d := newKernelOp("concat.dx", name, fmt.Sprintf("%s part %d", param, i), shapes[i], ys)
 			parts := make([][]float32, len(xs))
-			d.run = func(out []float32, in [][]float32) error {
+			d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 				parts[i] = out
-				cpu.ConcatBackward(parts, in[0], chans, n, h, w)
+				p.ConcatBackward(parts, in[0], chans, n, h, w)
 				parts[i] = nil
 				return nil
 			}

@@ -65,7 +65,8 @@ func nodeConv2D(name string, x, w, b *G.Node, spec convSpec) (*G.Node, error) {
 	param := fmt.Sprintf("k%d s%d d%d p%d %v", p.Kernel, p.Stride, p.Dilation, p.Pad, p.Padding)
 
 	op := newKernelOp("conv", name, param, ys, xs, wsh, bsh)
-	op.run = func(y []float32, in [][]float32) error {
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		plan.SetMaxProcs(p)
 		plan.Forward(y, in[0], in[1], in[2])
 		return nil
 	}
@@ -75,7 +76,8 @@ func nodeConv2D(name string, x, w, b *G.Node, spec convSpec) (*G.Node, error) {
 		var err error
 		if !spec.NoInputGrad {
 			dx := newKernelOp("conv.dx", name, param, xs, wsh, ys)
-			dx.run = func(out []float32, in [][]float32) error {
+			dx.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+				plan.SetMaxProcs(p)
 				plan.Backward(out, nil, nil, nil, in[0], in[1])
 				return nil
 			}
@@ -84,7 +86,8 @@ func nodeConv2D(name string, x, w, b *G.Node, spec convSpec) (*G.Node, error) {
 			}
 		}
 		dw := newKernelOp("conv.dw", name, param, wsh, xs, ys)
-		dw.run = func(out []float32, in [][]float32) error {
+		dw.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			plan.SetMaxProcs(p)
 			plan.Backward(nil, out, nil, in[0], nil, in[1])
 			return nil
 		}
@@ -92,7 +95,8 @@ func nodeConv2D(name string, x, w, b *G.Node, spec convSpec) (*G.Node, error) {
 			return nil, err
 		}
 		db := newKernelOp("conv.db", name, param, bsh, ys)
-		db.run = func(out []float32, in [][]float32) error {
+		db.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			plan.SetMaxProcs(p)
 			plan.Backward(nil, nil, out, nil, nil, in[0])
 			return nil
 		}

@@ -34,20 +34,20 @@ func nodeCorrelation(name string, left, right *G.Node, disps int) (*G.Node, erro
 	ys := tensor.Shape{n, disps, h, w}
 	param := fmt.Sprintf("disps %d", disps)
 	op := newKernelOp("correlation", name, param, ys, xs, xs)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.Correlation(y, in[0], in[1], n, c, h, w, disps)
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.Correlation(y, in[0], in[1], n, c, h, w, disps)
 		return nil
 	}
 	op.diff = []bool{true, true}
 	op.grad = func(inputs G.Nodes, _, dy *G.Node) (G.Nodes, error) {
 		dl := newKernelOp("correlation.dleft", name, param, xs, ys, xs)
-		dl.run = func(out []float32, in [][]float32) error {
-			cpu.CorrelationBackward(out, nil, in[0], nil, in[1], n, c, h, w, disps)
+		dl.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			p.CorrelationBackward(out, nil, in[0], nil, in[1], n, c, h, w, disps)
 			return nil
 		}
 		dr := newKernelOp("correlation.dright", name, param, xs, ys, xs)
-		dr.run = func(out []float32, in [][]float32) error {
-			cpu.CorrelationBackward(nil, out, in[0], in[1], nil, n, c, h, w, disps)
+		dr.run = func(p cpu.Procs, out []float32, in [][]float32) error {
+			p.CorrelationBackward(nil, out, in[0], in[1], nil, n, c, h, w, disps)
 			return nil
 		}
 		gl, err := apply(dl, name+".dleft", dy, inputs[1])

@@ -2,6 +2,7 @@ package train
 
 import (
 	"github.com/parallaxdepth/parallax/loss"
+	"github.com/parallaxdepth/parallax/model/internal/cpu"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -22,7 +23,7 @@ func newProbe(y *G.Node, rng *rand.Rand) (*probe, error) {
 	s := y.Shape().Clone()
 	p := &probe{r: uniform(rng, s.TotalSize(), -1, 1)}
 	op := newKernelOp("probe", "probe", "", tensor.ScalarShape(), s)
-	op.run = func(out []float32, in [][]float32) error {
+	op.run = func(_ cpu.Procs, out []float32, in [][]float32) error {
 		var sum float64
 		for i, v := range in[0] {
 			sum += float64(v) * float64(p.r[i])
@@ -34,7 +35,7 @@ func newProbe(y *G.Node, rng *rand.Rand) (*probe, error) {
 	op.diff = []bool{true}
 	op.grad = func(in G.Nodes, output, grad *G.Node) (G.Nodes, error) {
 		d := newKernelOp("probe.d", "probe", "", s, s, tensor.ScalarShape(), tensor.ScalarShape())
-		d.run = func(out []float32, in [][]float32) error {
+		d.run = func(_ cpu.Procs, out []float32, in [][]float32) error {
 			for i, v := range p.r {
 				out[i] = v * in[2][0]
 			}

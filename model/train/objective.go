@@ -2,6 +2,7 @@ package train
 
 import (
 	"fmt"
+	"github.com/parallaxdepth/parallax/model/internal/cpu"
 
 	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/planar"
@@ -95,7 +96,7 @@ func newGraphObjective(name string, disps []*G.Node, opts *loss.ObjectiveOptions
 		grads := make(G.Nodes, S)
 		for s := range S {
 			d := newKernelOp("objective.d", name, fmt.Sprintf("scale %d", s), in[s], in[s], tensor.ScalarShape(), tensor.ScalarShape())
-			d.run = func(out []float32, in [][]float32) error {
+			d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 				g := in[2][0]
 				for i, v := range o.grads[s] {
 					out[i] = g * v
@@ -156,7 +157,7 @@ func (o *graphObjective) SetImages(left, right *planar.Image) error {
 // eval is the forward pass: split each disparity tensor into the left and
 // right maps, run the loss kernel, and keep its gradients in the layout of
 // the inputs.
-func (o *graphObjective) eval(out []float32, in [][]float32) error {
+func (o *graphObjective) eval(_ cpu.Procs, out []float32, in [][]float32) error {
 	if !o.ready {
 		return fmt.Errorf("train: objective: SetImages was not called")
 	}

@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"github.com/chewxy/hm"
+	"github.com/parallaxdepth/parallax/model/internal/cpu"
 	G "gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
 )
@@ -24,9 +25,11 @@ type kernelOp struct {
 	inShapes []tensor.Shape
 	outShape tensor.Shape
 
-	// run computes the output into out from the inputs; a scalar input
-	// arrives as a slice of one value and a scalar output is out[0].
-	run func(out []float32, in [][]float32) error
+	// run computes the output into out from the inputs, its kernels on
+	// at most procs goroutines; a scalar input arrives as a slice of one
+	// value and a scalar output is out[0].
+	run   func(procs cpu.Procs, out []float32, in [][]float32) error
+	procs cpu.Procs // Session.SetWorkers
 	// diff says, per input, whether grad builds its gradient; nil means
 	// no input is differentiable.
 	diff []bool
@@ -106,7 +109,7 @@ func (op *kernelOp) Do(vals ...G.Value) (G.Value, error) {
 	var out []float32
 	if op.outShape.IsScalar() {
 		out = op.scalarOut[:]
-		if err := op.run(out, op.ins); err != nil {
+		if err := op.run(op.procs, out, op.ins); err != nil {
 			return nil, err
 		}
 		op.scalar = G.F32(out[0])
@@ -117,7 +120,7 @@ func (op *kernelOp) Do(vals ...G.Value) (G.Value, error) {
 		op.outData = make([]float32, op.outShape.TotalSize())
 		op.out = tensor.New(tensor.WithShape(op.outShape.Clone()...), tensor.WithBacking(op.outData))
 	}
-	if err := op.run(op.outData, op.ins); err != nil {
+	if err := op.run(op.procs, op.outData, op.ins); err != nil {
 		return nil, err
 	}
 	clear(op.ins)

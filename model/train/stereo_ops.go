@@ -24,8 +24,8 @@ func nodeAdd(name string, a, b *G.Node) (*G.Node, error) {
 		return nil, fmt.Errorf("train: add %q: inputs have shapes %v and %v", name, s, t)
 	}
 	op := newKernelOp("add", name, "", s, s, s)
-	op.run = func(y []float32, in [][]float32) error {
-		cpu.Add(y, in[0], in[1])
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		p.Add(y, in[0], in[1])
 		return nil
 	}
 	op.diff = []bool{true, true}
@@ -33,7 +33,7 @@ func nodeAdd(name string, a, b *G.Node) (*G.Node, error) {
 		grads := make(G.Nodes, 2)
 		for i := range grads {
 			d := newKernelOp("add.dx", name, fmt.Sprint(i), s, s)
-			d.run = func(out []float32, in [][]float32) error {
+			d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 				copy(out, in[0])
 				return nil
 			}
@@ -60,14 +60,14 @@ func nodePackPair(name string, x *G.Node, n int) (*G.Node, error) {
 	}
 	xs, ys := tensor.Shape{nb, 1, h, w}, tensor.Shape{n, 2, h, w}
 	op := newKernelOp("pack", name, "", ys, xs)
-	op.run = func(y []float32, in [][]float32) error {
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
 		model.PackPair(y, in[0], n, h, w)
 		return nil
 	}
 	op.diff = []bool{true}
 	op.grad = func(_ G.Nodes, _, dy *G.Node) (G.Nodes, error) {
 		d := newKernelOp("pack.dx", name, "", xs, ys)
-		d.run = func(out []float32, in [][]float32) error {
+		d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 			model.UnpackPair(out, in[0], n, h, w)
 			return nil
 		}
@@ -136,7 +136,7 @@ func (net *network) matchNode(l *model.Layer) (*G.Node, error) {
 	ys := tensor.Shape{nb, c, l.Out.H, l.Out.W}
 	op := newKernelOp("match", l.Name, fmt.Sprint(level), ys, xs)
 	m := net.match
-	op.run = func(y []float32, in [][]float32) error {
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
 		if err := m.Compute(in[0]); err != nil {
 			return fmt.Errorf("train: %w", err)
 		}
@@ -160,14 +160,14 @@ func nodePairView(name string, x *G.Node, v model.View, diff bool) (*G.Node, err
 	n := nb / 2
 	s := tensor.Shape{nb, c, h, w}
 	op := newKernelOp("pairview", name, v.String(), s, s)
-	op.run = func(y []float32, in [][]float32) error {
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
 		model.PairView(y, in[0], v, n, c, h, w)
 		return nil
 	}
 	op.diff = []bool{diff}
 	op.grad = func(_ G.Nodes, _, dy *G.Node) (G.Nodes, error) {
 		d := newKernelOp("pairview.dx", name, v.String(), s, s)
-		d.run = func(out []float32, in [][]float32) error {
+		d.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 			model.PairViewBackward(out, in[0], v, n, c, h, w)
 			return nil
 		}

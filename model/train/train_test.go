@@ -20,18 +20,26 @@ func loadHalf(t testing.TB, parts ...string) *planar.Image {
 	return half
 }
 
-// The tiny configuration of the architecture, trained through gorgonia's
-// TapeMachine with these operators and Adam on one synthetic greenhouse
-// pair (testdata/synth, made by package synth), lowers the objective.
-func TestTrainingLowersLoss(t *testing.T) {
-	left := loadHalf(t, "greenhouse", "left", "000000.png")
-	right := loadHalf(t, "greenhouse", "right", "000000.png")
+// tinyPair returns the first synthetic greenhouse pair halved and random
+// weights of the tiny configuration at its size.
+func tinyPair(t *testing.T) (left, right *planar.Image, w *model.Weights) {
+	t.Helper()
+	left = loadHalf(t, "greenhouse", "left", "000000.png")
+	right = loadHalf(t, "greenhouse", "right", "000000.png")
 	cfg := tinyConfig
 	cfg.Width, cfg.Height = left.W, left.H
 	w, err := model.NewWeights(cfg, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
+	return left, right, w
+}
+
+// The tiny configuration of the architecture, trained through gorgonia's
+// TapeMachine with these operators and Adam on one synthetic greenhouse
+// pair (testdata/synth, made by package synth), lowers the objective.
+func TestTrainingLowersLoss(t *testing.T) {
+	left, right, w := tinyPair(t)
 	s, err := NewSession(w, 1, nil, &AdamConfig{LearningRate: 3e-3})
 	if err != nil {
 		t.Fatal(err)

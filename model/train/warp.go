@@ -2,6 +2,7 @@ package train
 
 import (
 	"fmt"
+	"github.com/parallaxdepth/parallax/model/internal/cpu"
 
 	"github.com/parallaxdepth/parallax/warp"
 	G "gorgonia.org/gorgonia"
@@ -39,19 +40,19 @@ func nodeWarpFeatures(name string, src, disp *G.Node, dir warp.Direction) (*G.No
 	xs, ds := tensor.Shape{n, c, h, w}, tensor.Shape{n, 1, h, w}
 	param := fmt.Sprintf("%v %v", dir, border)
 	op := newKernelOp("warp", name, param, xs, xs, ds)
-	op.run = func(y []float32, in [][]float32) error {
+	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
 		warp.Forward(y, nil, in[0], in[1], s, dir, border)
 		return nil
 	}
 	op.diff = []bool{true, true}
 	op.grad = func(inputs G.Nodes, _, dy *G.Node) (G.Nodes, error) {
 		dsrc := newKernelOp("warp.dsrc", name, param, xs, xs, xs, ds)
-		dsrc.run = func(out []float32, in [][]float32) error {
+		dsrc.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 			warp.Backward(out, nil, in[0], in[1], in[2], s, dir, border)
 			return nil
 		}
 		ddisp := newKernelOp("warp.ddisp", name, param, ds, xs, xs, ds)
-		ddisp.run = func(out []float32, in [][]float32) error {
+		ddisp.run = func(p cpu.Procs, out []float32, in [][]float32) error {
 			warp.Backward(nil, out, in[0], in[1], in[2], s, dir, border)
 			return nil
 		}

@@ -8,8 +8,11 @@ import "math"
 // overlap. NaN stays NaN. On amd64 with AVX2 and FMA, and on arm64 with
 // ASIMD, the loop runs in assembly. ELU does not allocate in steady state. It panics if
 // the lengths differ.
-func ELU(dst, src []float32) {
-	opElementwise("ELU", eluRange, dst, "src", src, "", nil, 0, 0, 8)
+func ELU(dst, src []float32) { Procs(0).ELU(dst, src) }
+
+// ELU is the package function ELU on at most p goroutines.
+func (p Procs) ELU(dst, src []float32) {
+	opElementwise(int(p), "ELU", eluRange, dst, "src", src, "", nil, 0, 0, 8)
 }
 
 func eluRange(t *opTask, lo, hi int) {
@@ -43,8 +46,11 @@ func eluGo(d, s []float32) {
 // elsewhere, since the derivative e^x equals y + 1 there. dx may be dy (in
 // place); otherwise no two may overlap. ELUBackward does not allocate in
 // steady state. It panics if the lengths differ.
-func ELUBackward(dx, dy, y []float32) {
-	opElementwise("ELUBackward", eluBackwardRange, dx, "dy", dy, "y", y, 0, 0, 12)
+func ELUBackward(dx, dy, y []float32) { Procs(0).ELUBackward(dx, dy, y) }
+
+// ELUBackward is the package function ELUBackward on at most p goroutines.
+func (p Procs) ELUBackward(dx, dy, y []float32) {
+	opElementwise(int(p), "ELUBackward", eluBackwardRange, dx, "dy", dy, "y", y, 0, 0, 12)
 }
 
 func eluBackwardRange(t *opTask, lo, hi int) {
@@ -89,8 +95,11 @@ func SigmoidBackward(dx, dy, y []float32) {
 // disparity head, whose output is d_max·sigmoid(x). dst may be src (in
 // place); otherwise they must not overlap. SigmoidScale does not allocate in
 // steady state. It panics if the lengths differ.
-func SigmoidScale(dst, src []float32, scale float32) {
-	opElementwise("SigmoidScale", sigmoidScaleRange, dst, "src", src, "", nil, scale, 0, 8)
+func SigmoidScale(dst, src []float32, scale float32) { Procs(0).SigmoidScale(dst, src, scale) }
+
+// SigmoidScale is the package function SigmoidScale on at most p goroutines.
+func (p Procs) SigmoidScale(dst, src []float32, scale float32) {
+	opElementwise(int(p), "SigmoidScale", sigmoidScaleRange, dst, "src", src, "", nil, scale, 0, 8)
 }
 
 func sigmoidScaleRange(t *opTask, lo, hi int) {
@@ -125,13 +134,18 @@ func sigmoidScaleGo(d, s []float32, k float32) {
 // SigmoidScaleBackward does not allocate in steady state. It panics if the
 // lengths differ.
 func SigmoidScaleBackward(dx, dy, y []float32, scale float32) {
+	Procs(0).SigmoidScaleBackward(dx, dy, y, scale)
+}
+
+// SigmoidScaleBackward is the package function SigmoidScaleBackward on at most p goroutines.
+func (p Procs) SigmoidScaleBackward(dx, dy, y []float32, scale float32) {
 	opCheckLen("SigmoidScaleBackward", "dy", dy, len(dx))
 	opCheckLen("SigmoidScaleBackward", "y", y, len(dx))
 	if scale == 0 {
 		clear(dx)
 		return
 	}
-	opElementwise("SigmoidScaleBackward", sigmoidScaleBackwardRange, dx, "dy", dy, "y", y, scale, 1/scale, 12)
+	opElementwise(int(p), "SigmoidScaleBackward", sigmoidScaleBackwardRange, dx, "dy", dy, "y", y, scale, 1/scale, 12)
 }
 
 func sigmoidScaleBackwardRange(t *opTask, lo, hi int) {

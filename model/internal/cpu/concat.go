@@ -10,9 +10,14 @@ import "fmt"
 // It panics if len(srcs) != len(chans), there are no sources, a dimension
 // or channel count is not positive, or a length disagrees with the shapes.
 func Concat(dst []float32, srcs [][]float32, chans []int, n, h, w int) {
+	Procs(0).Concat(dst, srcs, chans, n, h, w)
+}
+
+// Concat is the package function Concat on at most p goroutines.
+func (p Procs) Concat(dst []float32, srcs [][]float32, chans []int, n, h, w int) {
 	total := concatCheck("Concat", srcs, chans, n, h, w, false)
 	opCheckLen("Concat", "dst", dst, n*total*h*w)
-	concatRun(concatCopies, dst, srcs, chans, total, n, h, w)
+	concatRun(int(p), concatCopies, dst, srcs, chans, total, n, h, w)
 }
 
 // ConcatBackward splits the gradient ddst of Concat's output into the
@@ -22,9 +27,14 @@ func Concat(dst []float32, srcs [][]float32, chans []int, n, h, w int) {
 // overlap ddst. ConcatBackward does not allocate in steady state. It panics
 // like Concat, except that nil gradients are allowed.
 func ConcatBackward(dsrcs [][]float32, ddst []float32, chans []int, n, h, w int) {
+	Procs(0).ConcatBackward(dsrcs, ddst, chans, n, h, w)
+}
+
+// ConcatBackward is the package function ConcatBackward on at most p goroutines.
+func (p Procs) ConcatBackward(dsrcs [][]float32, ddst []float32, chans []int, n, h, w int) {
 	total := concatCheck("ConcatBackward", dsrcs, chans, n, h, w, true)
 	opCheckLen("ConcatBackward", "ddst", ddst, n*total*h*w)
-	concatRun(concatSplits, ddst, dsrcs, chans, total, n, h, w)
+	concatRun(int(p), concatSplits, ddst, dsrcs, chans, total, n, h, w)
 }
 
 // concatGroup is the number of parts one task carries; longer lists run
@@ -33,12 +43,12 @@ const concatGroup = 8
 
 // concatRun runs body over the parts, concatGroup at a time. joined is the
 // concatenated tensor, with total channels.
-func concatRun(body func(*opTask, int, int), joined []float32, parts [][]float32, chans []int, total, n, h, w int) {
+func concatRun(procs int, body func(*opTask, int, int), joined []float32, parts [][]float32, chans []int, total, n, h, w int) {
 	off := 0
 	for len(parts) > 0 {
 		k := min(len(parts), concatGroup)
 		t := opStart(body)
-		t.dst, t.c, t.h, t.w, t.off, t.nparts = joined, total, h, w, off, k
+		t.dst, t.c, t.h, t.w, t.off, t.nparts, t.procs = joined, total, h, w, off, k, procs
 		size := 0
 		for i := 0; i < k; i++ {
 			t.parts[i], t.chans[i] = parts[i], chans[i]

@@ -113,6 +113,7 @@ type Conv2D struct {
 	pq, hq, wq int
 	task       convTask
 	taskFn     func(lo, hi int)
+	maxProcs   int // SetMaxProcs
 	// state of the current call on the stride-1 path
 	src, dst []float32
 }
@@ -366,6 +367,10 @@ func (c *Conv2D) ShareForwardScratch(xpad, wpack []float32) {
 	c.fd.xpad, c.fd.wpack, c.shared = xpad[:nx], wpack[:nw], true
 }
 
+// SetMaxProcs bounds the goroutines each later call of the plan uses, as
+// Procs(n) does for the operators; 0 (the default) means GOMAXPROCS.
+func (c *Conv2D) SetMaxProcs(n Procs) { c.maxProcs = int(n) }
+
 // OutShape returns the output shape (N, OutC, Ho, Wo).
 func (c *Conv2D) OutShape() (n, ch, h, w int) { return c.n, c.p.OutC, c.g.ho, c.g.wo }
 
@@ -421,7 +426,7 @@ func (c *Conv2D) Forward(y, x, weight, bias []float32) {
 	c.x, c.w, c.b, c.y = x, weight, bias, y
 	c.wPack = matrixPacker{data: weight, ld: c.kdim, rows: c.p.OutC, cols: c.kdim}
 	stripes := (c.pix + c.fwdStripe - 1) / c.fwdStripe
-	parallel.For(c.n*stripes, 1, c.fwdFn)
+	parallel.ForN(c.maxProcs, c.n*stripes, 1, c.fwdFn)
 	c.x, c.w, c.b, c.y = nil, nil, nil, nil
 	c.wPack.data = nil
 }
@@ -462,7 +467,7 @@ func (c *Conv2D) runTasks(t convTask, n int, src, dst []float32) {
 	case taskPadX, taskPadDy, taskFold, taskFillGrid, taskPadDq, taskFoldPhases, taskBiasGrad:
 		grain = max(1, n/(4*runtime.GOMAXPROCS(0)))
 	}
-	parallel.For(n, grain, c.taskFn)
+	parallel.ForN(c.maxProcs, n, grain, c.taskFn)
 	c.src, c.dst = nil, nil
 }
 

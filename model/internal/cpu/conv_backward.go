@@ -77,7 +77,7 @@ func sum8(x []float32) float32 {
 func (c *Conv2D) weightGrad(dw, x, dy []float32) {
 	clear(c.dwPart)
 	c.x, c.dy = x, dy
-	parallel.For(c.dwParts*c.dwMG*c.dwNG, 1, c.dwFn)
+	parallel.ForN(c.maxProcs, c.dwParts*c.dwMG*c.dwNG, 1, c.dwFn)
 	c.x, c.dy = nil, nil
 	n := c.p.OutC * c.kdim
 	copy(dw, c.dwPart[:n])
@@ -129,7 +129,7 @@ func (c *Conv2D) inputGrad(dx, w, dy []float32) {
 	c.w, c.dy, c.dx = w, dy, dx
 	c.wTPack = matrixPacker{data: w, ld: c.kdim, trans: true, rows: c.kdim, cols: c.p.OutC}
 	blocks := (c.p.InC + c.dxBlock - 1) / c.dxBlock
-	parallel.For(c.n*blocks, 1, c.dxFn)
+	parallel.ForN(c.maxProcs, c.n*blocks, 1, c.dxFn)
 	c.w, c.dy, c.dx = nil, nil, nil
 	c.wTPack.data = nil
 }

@@ -30,13 +30,18 @@ const corrGrainMACs = 1 << 18
 // Correlation does not allocate in steady state. It panics if a dimension
 // or disps is not positive, or a slice length disagrees with the shape.
 func Correlation(dst, left, right []float32, n, c, h, w, disps int) {
+	Procs(0).Correlation(dst, left, right, n, c, h, w, disps)
+}
+
+// Correlation is the package function Correlation on at most p goroutines.
+func (p Procs) Correlation(dst, left, right []float32, n, c, h, w, disps int) {
 	corrCheck("Correlation", n, c, h, w, disps)
 	opCheckLen("Correlation", "left", left, n*c*h*w)
 	opCheckLen("Correlation", "right", right, n*c*h*w)
 	opCheckLen("Correlation", "dst", dst, n*disps*h*w)
 	t := corrStart(corrForwardRows)
 	t.dst, t.left, t.right = dst, left, right
-	corrRun(t, n, c, h, w, disps)
+	corrRun(int(p), t, n, c, h, w, disps)
 }
 
 // CorrelationBackward writes into dleft and dright (both (n, c, h, w)) the
@@ -53,6 +58,11 @@ func Correlation(dst, left, right []float32, n, c, h, w, disps int) {
 // if a dimension or disps is not positive, or a non-nil slice's length
 // disagrees with the shape.
 func CorrelationBackward(dleft, dright, ddst, left, right []float32, n, c, h, w, disps int) {
+	Procs(0).CorrelationBackward(dleft, dright, ddst, left, right, n, c, h, w, disps)
+}
+
+// CorrelationBackward is the package function CorrelationBackward on at most p goroutines.
+func (p Procs) CorrelationBackward(dleft, dright, ddst, left, right []float32, n, c, h, w, disps int) {
 	corrCheck("CorrelationBackward", n, c, h, w, disps)
 	opCheckLen("CorrelationBackward", "ddst", ddst, n*disps*h*w)
 	if dleft != nil {
@@ -68,7 +78,7 @@ func CorrelationBackward(dleft, dright, ddst, left, right []float32, n, c, h, w,
 	}
 	t := corrStart(corrBackwardRows)
 	t.dst, t.left, t.right, t.dleft, t.dright = ddst, left, right, dleft, dright
-	corrRun(t, n, c, h, w, disps)
+	corrRun(int(p), t, n, c, h, w, disps)
 }
 
 // corrCheck panics unless every dimension and disps is positive.
@@ -100,11 +110,11 @@ func corrStart(body func(t *corrTask, lo, hi int)) *corrTask {
 
 // corrRun runs t.body over the rows (n, y), in ranges of about
 // corrGrainMACs multiply-adds, and recycles t.
-func corrRun(t *corrTask, n, c, h, w, disps int) {
+func corrRun(procs int, t *corrTask, n, c, h, w, disps int) {
 	t.n, t.c, t.h, t.w, t.disps = n, c, h, w, disps
 	rows := n * h
 	grain := max(1, corrGrainMACs/(c*w*min(disps, w)))
-	parallel.For(rows, grain, t.run)
+	parallel.ForN(procs, rows, grain, t.run)
 	*t = corrTask{run: t.run}
 	corrFree.Put(t)
 }

@@ -24,6 +24,7 @@ type opTask struct {
 	off        int
 	s, t       float32
 	n, c, h, w int
+	procs      int // at most this many goroutines (Procs); 0: GOMAXPROCS
 	body       func(t *opTask, lo, hi int)
 	run        func(lo, hi int)
 }
@@ -53,11 +54,12 @@ func (t *opTask) elements(lo, hi int) (dst, a, b []float32) {
 // element, a row, a plane); unitBytes is the memory one unit touches and
 // sets the grain.
 func opRun(t *opTask, units, unitBytes int) {
+	procs := t.procs
 	grain := units
 	if unitBytes > 0 {
 		grain = max(1, opGrainBytes/unitBytes)
 	}
-	parallel.For(units, grain, t.run)
+	parallel.ForN(procs, units, grain, t.run)
 	*t = opTask{run: t.run} // drop the references to the caller's slices
 	opFree.Put(t)
 }
@@ -66,13 +68,13 @@ func opRun(t *opTask, units, unitBytes int) {
 // scalars s and u in the task; unitBytes is the memory one element touches.
 // It panics, naming fn, unless a (named aName) and b (named bName; a unary
 // operator gives "" and nil) are as long as dst.
-func opElementwise(fn string, body func(t *opTask, lo, hi int), dst []float32, aName string, a []float32, bName string, b []float32, s, u float32, unitBytes int) {
+func opElementwise(procs int, fn string, body func(t *opTask, lo, hi int), dst []float32, aName string, a []float32, bName string, b []float32, s, u float32, unitBytes int) {
 	opCheckLen(fn, aName, a, len(dst))
 	if bName != "" {
 		opCheckLen(fn, bName, b, len(dst))
 	}
 	t := opStart(body)
-	t.dst, t.a, t.b, t.s, t.t = dst, a, b, s, u
+	t.dst, t.a, t.b, t.s, t.t, t.procs = dst, a, b, s, u, procs
 	opRun(t, len(dst), unitBytes)
 }
 
@@ -81,7 +83,7 @@ func opElementwise(fn string, body func(t *opTask, lo, hi int), dst []float32, a
 // forward writes the large one, dst, from src; otherwise the gradient dst
 // (small, "dsrc") from src (large, "ddst"). It panics, naming fn, if a
 // dimension is not positive or a length disagrees with the shape.
-func upsample2x(fn string, body func(t *opTask, lo, hi int), dst, src []float32, forward bool, n, c, h, w int) {
+func upsample2x(procs int, fn string, body func(t *opTask, lo, hi int), dst, src []float32, forward bool, n, c, h, w int) {
 	opCheckShape(fn, n, c, h, w)
 	small, large, smallName, largeName := src, dst, "src", "dst"
 	if !forward {
@@ -90,7 +92,7 @@ func upsample2x(fn string, body func(t *opTask, lo, hi int), dst, src []float32,
 	opCheckLen(fn, smallName, small, n*c*h*w)
 	opCheckLen(fn, largeName, large, 4*n*c*h*w)
 	t := opStart(body)
-	t.dst, t.a, t.h, t.w = dst, src, h, w
+	t.dst, t.a, t.h, t.w, t.procs = dst, src, h, w, procs
 	opRun(t, n*c*h, 20*w)
 }
 

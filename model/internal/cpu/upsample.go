@@ -15,7 +15,12 @@ package cpu
 // in steady state. It panics if a dimension is not positive or a length
 // disagrees with the shape.
 func UpsampleBilinear2x(dst, src []float32, n, c, h, w int) {
-	upsample2x("UpsampleBilinear2x", upBilinearRows, dst, src, true, n, c, h, w)
+	Procs(0).UpsampleBilinear2x(dst, src, n, c, h, w)
+}
+
+// UpsampleBilinear2x is the package function UpsampleBilinear2x on at most p goroutines.
+func (p Procs) UpsampleBilinear2x(dst, src []float32, n, c, h, w int) {
+	upsample2x(int(p), "UpsampleBilinear2x", upBilinearRows, dst, src, true, n, c, h, w)
 }
 
 // upBilinearRows handles input rows lo <= r < hi, counted over all planes,
@@ -88,7 +93,12 @@ func upBilinearCols(out, a, b []float32, j0 int) {
 // allocate in steady state. It panics if a dimension is not positive or a
 // length disagrees with the shape.
 func UpsampleBilinear2xBackward(dsrc, ddst []float32, n, c, h, w int) {
-	upsample2x("UpsampleBilinear2xBackward", upBilinearBackwardRows, dsrc, ddst, false, n, c, h, w)
+	Procs(0).UpsampleBilinear2xBackward(dsrc, ddst, n, c, h, w)
+}
+
+// UpsampleBilinear2xBackward is the package function UpsampleBilinear2xBackward on at most p goroutines.
+func (p Procs) UpsampleBilinear2xBackward(dsrc, ddst []float32, n, c, h, w int) {
+	upsample2x(int(p), "UpsampleBilinear2xBackward", upBilinearBackwardRows, dsrc, ddst, false, n, c, h, w)
 }
 
 // upBilinearBackwardRows handles input rows lo <= r < hi over all planes.
@@ -161,7 +171,12 @@ func upBilinearBackCols(g, r0, r1, ru, rd []float32, j0 int) {
 // state. It panics if a dimension is not positive or a length disagrees
 // with the shape.
 func UpsampleNearest2x(dst, src []float32, n, c, h, w int) {
-	upsample2x("UpsampleNearest2x", upNearestRows, dst, src, true, n, c, h, w)
+	Procs(0).UpsampleNearest2x(dst, src, n, c, h, w)
+}
+
+// UpsampleNearest2x is the package function UpsampleNearest2x on at most p goroutines.
+func (p Procs) UpsampleNearest2x(dst, src []float32, n, c, h, w int) {
+	upsample2x(int(p), "UpsampleNearest2x", upNearestRows, dst, src, true, n, c, h, w)
 }
 
 // upNearestRows handles input rows lo <= r < hi over all planes.
@@ -178,7 +193,12 @@ func upNearestRows(t *opTask, lo, hi int) {
 // UpsampleNearest2xBackward does not allocate in steady state. It panics if
 // a dimension is not positive or a length disagrees with the shape.
 func UpsampleNearest2xBackward(dsrc, ddst []float32, n, c, h, w int) {
-	upsample2x("UpsampleNearest2xBackward", upNearestBackwardRows, dsrc, ddst, false, n, c, h, w)
+	Procs(0).UpsampleNearest2xBackward(dsrc, ddst, n, c, h, w)
+}
+
+// UpsampleNearest2xBackward is the package function UpsampleNearest2xBackward on at most p goroutines.
+func (p Procs) UpsampleNearest2xBackward(dsrc, ddst []float32, n, c, h, w int) {
+	upsample2x(int(p), "UpsampleNearest2xBackward", upNearestBackwardRows, dsrc, ddst, false, n, c, h, w)
 }
 
 // upNearestBackwardRows handles input rows lo <= r < hi over all planes.
