@@ -2,7 +2,8 @@
 // (package dataset's layout): one-image weights, stereo weights (-stereo),
 // embedded or -weights, or the semi-global matcher (-method sgm), at each
 // pair's own resolution, with package model/evaluation. Disparity is scored
-// with the method's holes as 0 and filled along the scan line. With -adapt
+// with the method's holes as 0, filled along the scan line, and on its valid
+// pixels alone (with their coverage). With -adapt
 // N it first fine-tunes the weights for N steps on the evaluated pairs
 // (self-supervised: the ground truth is never used for training) and
 // prints one before/after table.
@@ -33,8 +34,9 @@ const usage = `usage: evaluate [flags] [dataset folder]
 
 Scores a method on pairs with ground truth (DIR/left, DIR/right, DIR/rig.json, DIR/truth/disp_left
 and/or DIR/truth/depth_left; see package dataset; default testdata/synth/greenhouse). Disparity
-errors are in pixels at each pair's resolution, with the method's holes as 0 and filled along the
-scan line; depth errors use the rig and count pixels inside its depth range; rates (bad-K, δ) in %.
+errors are in pixels at each pair's resolution, with the method's holes as 0, filled along the
+scan line, and left out (valid pixels only, with their coverage); depth errors use the rig and
+count pixels inside its depth range; rates (bad-K, δ) in %.
 Tables have a row per pair and their per-pair mean; a pair without any counted pixel shows 0 pixels
 and NaN and is left out of the mean.
 
@@ -94,7 +96,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		}
 		bar := progress.New(stderr, len(ds.Pairs), &progress.Options{Unit: "pairs", Label: phase, Mode: mode})
 		opt := &evaluation.ScoreOptions{Progress: func(done, _ int) { bar.Update(done, "") }, Inspect: evaluation.ErrorMaps(dir)}
-		reps, err := evaluation.ScoreRules(ctx, m, ds, opt, evaluation.HolesZero, evaluation.HolesFilled)
+		reps, err := evaluation.ScoreRules(ctx, m, ds, opt, evaluation.HolesZero, evaluation.HolesFilled, evaluation.HolesExcluded)
 		bar.Done()
 		if err != nil {
 			return nil, fmt.Errorf("evaluate: %w", err)
@@ -102,7 +104,9 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		for _, n := range reps[0].Notes() {
 			fmt.Fprintf(stderr, "evaluate: %s\n", n)
 		}
-		phases = append(phases, evaluation.Phase{Name: phase, Report: reps[0]}, evaluation.Phase{Name: phase, Report: reps[1]})
+		for _, r := range reps {
+			phases = append(phases, evaluation.Phase{Name: phase, Report: r})
+		}
 		title := fmt.Sprintf("%s: %s — %s, %d pairs, flip %v", phase, map[bool]string{true: "weights " + model.DescribeWeights(w, *weights),
 			false: evaluation.SGMTitle}[*method == "network"], src, len(ds.Pairs), *flip)
 		if *csvOut || ad.Steps > 0 { // the CSV or the comparison comes at the end

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -77,8 +78,9 @@ func TestPairSet(t *testing.T) {
 }
 
 // TestSGMBothWays scores the semi-global matcher on the Motorcycle pair:
-// the title says which method, both hole rules have a table, and the
-// filled score is the better one (sgm leaves holes at occlusions).
+// the title says which method, each hole rule has a table, the filled
+// score is the better of the two over every pixel (sgm leaves holes at
+// occlusions), and the valid pixels alone, with their coverage, score best.
 func TestSGMBothWays(t *testing.T) {
 	m := filepath.Join("..", "..", "testdata", "motorcycle")
 	pair := filepath.Join(m, "left.png") + "," + filepath.Join(m, "right.png") + "," + filepath.Join(m, "disp_left.pfm")
@@ -90,23 +92,29 @@ func TestSGMBothWays(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	epe := map[string]float64{}
+	epe, pixels := map[string]float64{}, map[string]int{}
 	for _, r := range recs[1:] {
 		if r[0] != "sgm" {
 			t.Fatalf("phase %q", r[0])
 		}
 		if r[2] == "left" {
 			epe[r[1]], _ = strconv.ParseFloat(r[4], 64)
+			pixels[r[1]], _ = strconv.Atoi(r[3])
 		}
 	}
-	if len(recs) != 1+2*2 || !(epe["holes filled along the scan line"] > 0) || !(epe["holes filled along the scan line"] < epe["holes as 0"]) {
+	const zero, filled, valid = "holes as 0", "holes filled along the scan line", "valid pixels only (holes excluded)"
+	// The matcher's own checks leave out its worst pixels: the valid ones
+	// score best, on fewer pixels than have truth.
+	if len(recs) != 1+2*3 || !(epe[filled] > 0) || !(epe[filled] < epe[zero]) || !(epe[valid] < epe[filled]) ||
+		!(pixels[valid] > 0 && pixels[valid] < pixels[zero]) || pixels[filled] != pixels[zero] {
 		t.Errorf("records %q", recs)
 	}
 	out.Reset()
 	if err := run(context.Background(), []string{"-quiet", "-method", "sgm", "-pair", pair}, &out, &log); err != nil {
 		t.Fatal(err)
 	}
-	if s := out.String(); !strings.Contains(s, "sgm: semi-global matching") || !strings.Contains(s, "disparity, holes as 0") || !strings.Contains(s, "disparity, holes filled") {
+	if s := out.String(); !strings.Contains(s, "sgm: semi-global matching") || !strings.Contains(s, "disparity, holes as 0") || !strings.Contains(s, "disparity, holes filled") ||
+		!strings.Contains(s, fmt.Sprintf("coverage: %d of the %d pixels with truth", pixels[valid], pixels[zero])) {
 		t.Errorf("text:\n%s", s)
 	}
 }
@@ -144,7 +152,7 @@ func TestOutputToFiles(t *testing.T) {
 
 // TestCSVAdapt: with -adapt, -csv prints one CSV table that encoding/csv
 // reads: one header, the same fields in every row, a phase column with
-// before and after, both hole rules, no prose.
+// before and after, the three hole rules, no prose.
 func TestCSVAdapt(t *testing.T) {
 	var out, log bytes.Buffer
 	if err := run(context.Background(), []string{"-quiet", "-csv", "-adapt", "1", "-adapt-batch", "1", filepath.Join("..", "..", "testdata", "synth", "greenhouse")}, &out, &log); err != nil {
@@ -158,7 +166,7 @@ func TestCSVAdapt(t *testing.T) {
 	for _, r := range recs[1:] {
 		seen[r[0]+"/"+r[1]]++
 	}
-	if recs[0][0] != "phase" || len(recs) != 1+4*4 || seen["before adaptation/holes as 0"] != 4 || seen["after adaptation/holes filled along the scan line"] != 4 {
+	if recs[0][0] != "phase" || len(recs) != 1+4*6 || seen["before adaptation/holes as 0"] != 4 || seen["after adaptation/holes filled along the scan line"] != 4 {
 		t.Errorf("header %v, %d records, phases %v", recs[0], len(recs), seen)
 	}
 }

@@ -217,7 +217,7 @@ const (
 func (h Holes) String() string {
 	switch h {
 	case HolesExcluded:
-		return "holes excluded"
+		return "valid pixels only (holes excluded)"
 	case HolesZero:
 		return "holes as 0"
 	case HolesFilled:

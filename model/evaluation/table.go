@@ -48,7 +48,9 @@ func (r *Report) scored(m measure) bool {
 }
 
 // WriteTables writes reports of one scoring under title as text tables:
-// the disparity table of each report (stating its hole rule), then the
+// the disparity table of each report (stating its hole rule, and for
+// HolesExcluded after a report of another rule the coverage: the share of
+// the pixels with truth that the estimate has), then the
 // depth table of the first (depth does not depend on the hole rule); each
 // with one row per pair and, for more than one pair, their mean; rates in
 // percent.
@@ -58,6 +60,9 @@ func WriteTables(w io.Writer, title string, reps ...*Report) error {
 	for i, r := range reps {
 		if r.HasDisparity {
 			fmt.Fprintf(&b, "\ndisparity, %v (pixels at each pair's resolution; bad-K: %% of pixels off by more than K px)\n", r.Holes)
+			if all := reps[0].Disparity.N; r.Holes == HolesExcluded && reps[0].Holes != HolesExcluded && all > 0 {
+				fmt.Fprintf(&b, "coverage: %d of the %d pixels with truth are valid in the estimate (%.2f %%)\n", r.Disparity.N, all, 100*float64(r.Disparity.N)/float64(all))
+			}
 			r.table(&b, false)
 		}
 		if r.HasDepth && i == len(reps)-1 {
