@@ -85,14 +85,15 @@ type Config struct {
 // WithDefaults returns c with every zero field replaced by its default. It
 // does not validate; see Validate.
 func (c Config) WithDefaults() Config {
+	version, encoder, decoder := ArchVersion, DefaultEncoder[:], DefaultDecoder[:]
 	if c.Arch == StereoArchName {
-		return c.stereoDefaults()
+		version, encoder, decoder = StereoArchVersion, DefaultStereoEncoder[:], DefaultStereoDecoder[:]
 	}
 	if c.Arch == "" {
 		c.Arch = ArchName
 	}
 	if c.Version == 0 {
-		c.Version = ArchVersion
+		c.Version = version
 	}
 	if c.Width == 0 {
 		c.Width = DefaultNetWidth
@@ -100,20 +101,20 @@ func (c Config) WithDefaults() Config {
 	if c.Height == 0 {
 		c.Height = DefaultNetHeight
 	}
-	if c.Encoder == nil {
-		c.Encoder = append([]int(nil), DefaultEncoder[:]...)
-	} else {
-		c.Encoder = append([]int(nil), c.Encoder...)
-	}
-	if c.Decoder == nil {
-		c.Decoder = append([]int(nil), DefaultDecoder[:]...)
-	} else {
-		c.Decoder = append([]int(nil), c.Decoder...)
-	}
+	c.Encoder = copyOr(c.Encoder, encoder)
+	c.Decoder = copyOr(c.Decoder, decoder)
 	if c.DMax == 0 {
 		c.DMax = DefaultDMax
 	}
 	return c
+}
+
+// copyOr returns a copy of v, or of def when v is nil.
+func copyOr(v, def []int) []int {
+	if v == nil {
+		v = def
+	}
+	return append([]int(nil), v...)
 }
 
 // Validate returns an error naming the first field of c (after defaults)

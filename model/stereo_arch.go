@@ -105,32 +105,6 @@ var (
 // carries matches into textureless areas.
 var stereoAggDilations = []int{1, 2, 4, 1}
 
-func (c Config) stereoDefaults() Config {
-	if c.Version == 0 {
-		c.Version = StereoArchVersion
-	}
-	if c.Width == 0 {
-		c.Width = DefaultNetWidth
-	}
-	if c.Height == 0 {
-		c.Height = DefaultNetHeight
-	}
-	if c.Encoder == nil {
-		c.Encoder = append([]int(nil), DefaultStereoEncoder[:]...)
-	} else {
-		c.Encoder = append([]int(nil), c.Encoder...)
-	}
-	if c.Decoder == nil {
-		c.Decoder = append([]int(nil), DefaultStereoDecoder[:]...)
-	} else {
-		c.Decoder = append([]int(nil), c.Decoder...)
-	}
-	if c.DMax == 0 {
-		c.DMax = DefaultDMax
-	}
-	return c
-}
-
 // validateStereo checks the fields of a stereo Config that Validate does
 // not check for both kinds.
 func (c Config) validateStereo() error {
