@@ -230,13 +230,8 @@ func (m *Net) Forward(img *planar.Image) ([Scales]*planar.Image, error) {
 	if m.arch.IsStereo() {
 		return [Scales]*planar.Image{}, errors.New("model: these are stereo weights: give both views (ForwardPair)")
 	}
-	if err := img.Check("input image"); err != nil {
-		return [Scales]*planar.Image{}, fmt.Errorf("model: %w", err)
-	}
-	if in := m.arch.Input; img.N != m.n || img.C != in.C || img.H != in.H || img.W != in.W {
-		return [Scales]*planar.Image{}, fmt.Errorf("model: input image has shape %s, the network takes %dx%dx%dx%d", img.Shape(), m.n, in.C, in.H, in.W)
-	}
-	if err := img.CheckFinite("input image"); err != nil {
+	in := m.arch.Input
+	if err := img.CheckInput("input image", m.n, in.C, in.H, in.W); err != nil {
 		return [Scales]*planar.Image{}, fmt.Errorf("model: %w", err)
 	}
 	if err := m.run(img.Pix); err != nil {

@@ -95,13 +95,7 @@ func (m *Net) ForwardPair(left, right *planar.Image) ([Scales]*planar.Image, err
 		what string
 		im   *planar.Image
 	}{{"left image", left}, {"right image", right}} {
-		if err := v.im.Check(v.what); err != nil {
-			return none, fmt.Errorf("model: %w", err)
-		}
-		if v.im.N != m.n || v.im.C != in.C || v.im.H != in.H || v.im.W != in.W {
-			return none, fmt.Errorf("model: %s has shape %s, the network takes %dx%dx%dx%d", v.what, v.im.Shape(), m.n, in.C, in.H, in.W)
-		}
-		if err := v.im.CheckFinite(v.what); err != nil {
+		if err := v.im.CheckInput(v.what, m.n, in.C, in.H, in.W); err != nil {
 			return none, fmt.Errorf("model: %w", err)
 		}
 	}

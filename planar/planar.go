@@ -112,6 +112,19 @@ func (m *Image) CheckFinite(what string) error {
 	return nil
 }
 
+// CheckInput checks an input of a fixed shape, such as a network's: it
+// returns Check's error, an error if m's shape is not n×c×h×w, or
+// CheckFinite's, each naming m as what.
+func (m *Image) CheckInput(what string, n, c, h, w int) error {
+	if err := m.Check(what); err != nil {
+		return err
+	}
+	if m.N != n || m.C != c || m.H != h || m.W != w {
+		return fmt.Errorf("%s has shape %s, want %dx%dx%dx%d", what, m.Shape(), n, c, h, w)
+	}
+	return m.CheckFinite(what)
+}
+
 // Clone returns a deep copy of m.
 func (m *Image) Clone() *Image {
 	c := *m

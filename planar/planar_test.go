@@ -215,3 +215,26 @@ func TestFromImageInto(t *testing.T) {
 		t.Error("nil image accepted")
 	}
 }
+
+// TestCheckInput: the shape check of a fixed-size input comes between
+// Check's and CheckFinite's, each error naming the input.
+func TestCheckInput(t *testing.T) {
+	m := New(1, 3, 4, 5)
+	if err := m.CheckInput("img", 1, 3, 4, 5); err != nil {
+		t.Fatal(err)
+	}
+	var nilImg *Image
+	if err := nilImg.CheckInput("img", 1, 3, 4, 5); err == nil || err.Error() != "img is nil" {
+		t.Errorf("nil image: %v", err)
+	}
+	if err := m.CheckInput("img", 2, 3, 4, 5); err == nil || err.Error() != "img has shape 1x3x4x5, want 2x3x4x5" {
+		t.Errorf("wrong shape: %v", err)
+	}
+	m.Pix[7] = float32(math.NaN())
+	if err := m.CheckInput("img", 2, 3, 4, 5); err == nil || !strings.Contains(err.Error(), "want 2x3x4x5") {
+		t.Errorf("wrong shape and NaN: %v; want the shape named first", err)
+	}
+	if err := m.CheckInput("img", 1, 3, 4, 5); err == nil || !strings.Contains(err.Error(), "img has a non-finite value NaN at (n=0, c=0, y=1, x=2)") {
+		t.Errorf("NaN: %v", err)
+	}
+}

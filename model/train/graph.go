@@ -203,14 +203,8 @@ func (net *network) SetInput(img *planar.Image) error {
 	if net.Arch.IsStereo() {
 		return fmt.Errorf("train: the network is a stereo network: give both views (SetPair)")
 	}
-	if err := img.Check("input image"); err != nil {
-		return fmt.Errorf("train: %w", err)
-	}
 	in := net.Arch.Input
-	if img.N != net.Batch || img.C != in.C || img.H != in.H || img.W != in.W {
-		return fmt.Errorf("train: input image is %s, the network takes %dx%dx%dx%d", img.Shape(), net.Batch, in.C, in.H, in.W)
-	}
-	if err := img.CheckFinite("input image"); err != nil {
+	if err := img.CheckInput("input image", net.Batch, in.C, in.H, in.W); err != nil {
 		return fmt.Errorf("train: %w", err)
 	}
 	copy(net.input, img.Pix)

@@ -134,13 +134,7 @@ func (o *graphObjective) SetImages(left, right *planar.Image) error {
 		what string
 		im   *planar.Image
 	}{{"left image", left}, {"right image", right}} {
-		if err := im.im.Check(im.what); err != nil {
-			return fmt.Errorf("train: objective: %w", err)
-		}
-		if im.im.N != s0.N || im.im.C != 3 || im.im.H != s0.H || im.im.W != s0.W {
-			return fmt.Errorf("train: objective: %s is %s, want %dx3x%dx%d", im.what, im.im.Shape(), s0.N, s0.H, s0.W)
-		}
-		if err := im.im.CheckFinite(im.what); err != nil {
+		if err := im.im.CheckInput(im.what, s0.N, 3, s0.H, s0.W); err != nil {
 			return fmt.Errorf("train: objective: %w", err)
 		}
 	}

@@ -90,13 +90,7 @@ func (net *network) SetPair(left, right *planar.Image) error {
 		what string
 		im   *planar.Image
 	}{{"left image", left}, {"right image", right}} {
-		if err := v.im.Check(v.what); err != nil {
-			return fmt.Errorf("train: %w", err)
-		}
-		if v.im.N != net.Batch || v.im.C != in.C || v.im.H != in.H || v.im.W != in.W {
-			return fmt.Errorf("train: %s is %s, the network takes %dx%dx%dx%d", v.what, v.im.Shape(), net.Batch, in.C, in.H, in.W)
-		}
-		if err := v.im.CheckFinite(v.what); err != nil {
+		if err := v.im.CheckInput(v.what, net.Batch, in.C, in.H, in.W); err != nil {
 			return fmt.Errorf("train: %w", err)
 		}
 	}
