@@ -13,13 +13,13 @@ import (
 	"flag"
 	"fmt"
 	"image"
-	"image/png"
 	"math"
 	"os"
 	"runtime"
 	"slices"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/sgm"
 )
@@ -37,21 +37,12 @@ func main() {
 	}
 }
 
-func load(path string) (image.Image, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	return png.Decode(f)
-}
-
 func run(lp, rp, tp string, dmax, runs int) error {
-	l, err := load(lp)
+	l, err := dataset.LoadImage(lp)
 	if err != nil {
 		return err
 	}
-	r, err := load(rp)
+	r, err := dataset.LoadImage(rp)
 	if err != nil {
 		return err
 	}

@@ -13,13 +13,13 @@ import (
 	"flag"
 	"fmt"
 	"image"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"time"
 
+	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
 	"github.com/parallaxdepth/parallax/sgm"
 )
@@ -120,12 +120,7 @@ func run(dir string, n int, o *sgm.Options, gain float64) error {
 
 // load reads a PNG and converts it to grey, scaling the grey levels by gain.
 func load(path string, gain float64) (*image.Gray, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	img, err := png.Decode(f)
+	img, err := dataset.LoadImage(path)
 	if err != nil {
 		return nil, err
 	}
