@@ -318,8 +318,9 @@ func (c *Conv2D) makeWorkers() {
 			dcol: make([]float32, dcolLen),
 			cbuf: make([]float32, cbufLen),
 		}
-		if !c.p.ForwardOnly || c.fd == nil {
-			// The padded-grid forward pass needs no GEMM workspace.
+		if c.fd == nil {
+			// Only the im2col path runs the GEMM: the padded-grid
+			// passes, forward and backward, need no GEMM workspace.
 			wk.ws = newWorkspace()
 		}
 		wk.col.g, wk.colT.g = &c.g, &c.g

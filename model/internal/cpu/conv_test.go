@@ -572,3 +572,26 @@ func TestForwardOnlySize(t *testing.T) {
 		}
 	}
 }
+
+// TestTrainingPlanNoGEMMWorkspace: a padded-grid plan with gradients (3×3,
+// strides 1 and 2) holds no GEMM workspace, which only the im2col path
+// uses; an im2col plan (1×1) holds one per goroutine. The training graph
+// has a plan per convolution, so a workspace each was 33 MB of the
+// adapter's heap at 320×256.
+func TestTrainingPlanNoGEMMWorkspace(t *testing.T) {
+	for _, c := range []struct {
+		p      ConvParams
+		wantWS bool
+	}{{ConvParams{InC: 8, OutC: 16, Kernel: 3, Pad: 1}, false}, {ConvParams{InC: 8, OutC: 16, Kernel: 3, Stride: 2, Pad: 1}, false}, {ConvParams{InC: 8, OutC: 16, Kernel: 1}, true}} {
+		conv, err := NewConv2D(c.p, 1, 32, 48)
+		if err != nil {
+			t.Fatal(err)
+		}
+		conv.refresh()
+		for _, wk := range conv.workers {
+			if (wk.ws != nil) != c.wantWS {
+				t.Errorf("%+v: worker holds a GEMM workspace: %v, want %v", c.p, wk.ws != nil, c.wantWS)
+			}
+		}
+	}
+}
