@@ -258,11 +258,12 @@ func (xdrawFilter) Scale(dst xdraw.Image, dr image.Rectangle, src image.Image, s
 // x/image/draw's CatmullRom into an RGBA64 image, which it replaced: for
 // both kinds of weights, inputs of the network's size and resized ones.
 func TestEstimatorResampleUnchanged(t *testing.T) {
-	one, err := Default()
+	// Small fresh weights: the test is about the input's resampling.
+	one, err := NewWeights(tinyConfig, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
-	st, err := DefaultStereo()
+	st, err := NewWeights(tinyStereoConfig, 2)
 	if err != nil {
 		t.Fatal(err)
 	}
