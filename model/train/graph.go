@@ -189,6 +189,7 @@ func buildNetwork(g *G.ExprGraph, a *model.Arch, batch int) (*network, error) {
 		}
 		net.Outputs[s] = n
 	}
+	shareConvScratch(g)
 	return net, nil
 }
 

@@ -30,6 +30,9 @@ type kernelOp struct {
 	// value and a scalar output is out[0].
 	run   func(procs cpu.Procs, out []float32, in [][]float32) error
 	procs cpu.Procs // Session.SetWorkers
+	// plan is a convolution's plan (its forward op only), whose forward
+	// scratch the graph's convolutions share (shareConvScratch).
+	plan *cpu.Conv2D
 	// diff says, per input, whether grad builds its gradient; nil means
 	// no input is differentiable.
 	diff []bool

@@ -347,16 +347,15 @@ func (c *Conv2D) ForwardScratch() (xpad, wpack int) {
 	return len(c.fd.xpad), len(c.fd.wpack)
 }
 
-// ShareForwardScratch makes a ForwardOnly plan use xpad and wpack (at least
-// the lengths ForwardScratch gives) as its forward workspaces, so that the
+// ShareForwardScratch makes a plan use xpad and wpack (at least the
+// lengths ForwardScratch gives) as its forward workspaces, so that the
 // plans of a network, which run one after another, share one pair of
-// buffers; Forward then clears them before use. Plans that share buffers
-// must not run at the same time. It panics on a plan that is not
-// ForwardOnly or on buffers that are too short.
+// buffers; Forward then clears them before use, and so does Backward for
+// the padded input it takes the weight gradient from (a plan with
+// gradients pads its input again for Backward, so nothing is kept between
+// the two). Plans that share buffers must not run at the same time. It
+// panics on buffers that are too short.
 func (c *Conv2D) ShareForwardScratch(xpad, wpack []float32) {
-	if !c.p.ForwardOnly {
-		panic("cpu: ShareForwardScratch on a plan that is not ForwardOnly")
-	}
 	if c.fd == nil {
 		return
 	}

@@ -180,6 +180,9 @@ func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 		c.check("Backward", dw, c.WeightLen(), "dweight")
 		c.check("Backward", x, inLen, "x")
 		clear(c.gg.part)
+		if c.shared {
+			clear(c.fd.xpad) // as Forward does: another plan wrote it
+		}
 		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
 		c.runTasks(taskFillGrid, c.n*c.p.OutC, dy, nil)
 		c.runTasks(taskWeightGrad, c.gg.units(), nil, nil)
