@@ -1,6 +1,7 @@
 package model
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -92,20 +93,12 @@ func (c Config) WithDefaults() Config {
 	if c.Arch == "" {
 		c.Arch = ArchName
 	}
-	if c.Version == 0 {
-		c.Version = version
-	}
-	if c.Width == 0 {
-		c.Width = DefaultNetWidth
-	}
-	if c.Height == 0 {
-		c.Height = DefaultNetHeight
-	}
+	c.Version = cmp.Or(c.Version, version)
+	c.Width = cmp.Or(c.Width, DefaultNetWidth)
+	c.Height = cmp.Or(c.Height, DefaultNetHeight)
 	c.Encoder = copyOr(c.Encoder, encoder)
 	c.Decoder = copyOr(c.Decoder, decoder)
-	if c.DMax == 0 {
-		c.DMax = DefaultDMax
-	}
+	c.DMax = cmp.Or(c.DMax, DefaultDMax)
 	return c
 }
 

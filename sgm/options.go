@@ -1,6 +1,7 @@
 package sgm
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"runtime"
@@ -133,25 +134,15 @@ func (o Options) resolve() (Options, error) {
 			return o, fmt.Errorf("sgm: disparity range [%d, %d] has more than %d levels", o.MinDisparity, o.MaxDisparity, MaxDisparityLevels)
 		}
 	}
-	if o.CensusWidth == 0 {
-		o.CensusWidth = DefaultCensusWidth
-	}
-	if o.CensusHeight == 0 {
-		o.CensusHeight = DefaultCensusHeight
-	}
+	o.CensusWidth = cmp.Or(o.CensusWidth, DefaultCensusWidth)
+	o.CensusHeight = cmp.Or(o.CensusHeight, DefaultCensusHeight)
 	cw, ch := o.CensusWidth, o.CensusHeight
 	if cw < 1 || ch < 1 || cw%2 == 0 || ch%2 == 0 || cw > 65 || ch > 65 || cw*ch > 65 || cw*ch < 2 {
 		return o, fmt.Errorf("sgm: census window %dx%d must have odd sides and 2 to 65 pixels", cw, ch)
 	}
-	if o.P1 == 0 {
-		o.P1 = DefaultP1
-	}
-	if o.P2 == 0 {
-		o.P2 = DefaultP2
-	}
-	if o.Paths == 0 {
-		o.Paths = DefaultPaths
-	}
+	o.P1 = cmp.Or(o.P1, DefaultP1)
+	o.P2 = cmp.Or(o.P2, DefaultP2)
+	o.Paths = cmp.Or(o.Paths, DefaultPaths)
 	if o.Paths != 4 && o.Paths != 8 {
 		return o, fmt.Errorf("sgm: Paths %d must be 4 or 8", o.Paths)
 	}
@@ -174,9 +165,7 @@ func (o Options) resolve() (Options, error) {
 	if defaultOrOff(&o.SpeckleSize, DefaultSpeckleSize) && o.SpeckleSize < 0 {
 		return o, fmt.Errorf("sgm: SpeckleSize %d must be positive, or Off", o.SpeckleSize)
 	}
-	if o.SpeckleJump == 0 {
-		o.SpeckleJump = DefaultSpeckleJump
-	}
+	o.SpeckleJump = cmp.Or(o.SpeckleJump, DefaultSpeckleJump)
 	if !(o.SpeckleJump > 0) || math.IsInf(o.SpeckleJump, 0) {
 		return o, fmt.Errorf("sgm: SpeckleJump %v must be positive and finite", o.SpeckleJump)
 	}
@@ -186,9 +175,7 @@ func (o Options) resolve() (Options, error) {
 	if !(o.MinTexture >= 0) || o.MinTexture > 255 {
 		return o, fmt.Errorf("sgm: MinTexture %v must be in [0, 255]", o.MinTexture)
 	}
-	if o.MaxWorkers == 0 {
-		o.MaxWorkers = runtime.GOMAXPROCS(0)
-	}
+	o.MaxWorkers = cmp.Or(o.MaxWorkers, runtime.GOMAXPROCS(0))
 	if o.MaxWorkers < 0 || o.MaxWorkers > 1024 {
 		return o, fmt.Errorf("sgm: MaxWorkers %d must be in [1, 1024]", o.MaxWorkers)
 	}

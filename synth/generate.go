@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"cmp"
 	"fmt"
 	"runtime"
 )
@@ -48,18 +49,10 @@ func (o *Options) resolved() (Options, error) {
 	if o != nil {
 		r = *o
 	}
-	if r.Width == 0 {
-		r.Width = DefaultWidth
-	}
-	if r.Height == 0 {
-		r.Height = DefaultHeight
-	}
-	if r.Samples == 0 {
-		r.Samples = DefaultSamples
-	}
-	if r.Workers == 0 {
-		r.Workers = runtime.GOMAXPROCS(0)
-	}
+	r.Width = cmp.Or(r.Width, DefaultWidth)
+	r.Height = cmp.Or(r.Height, DefaultHeight)
+	r.Samples = cmp.Or(r.Samples, DefaultSamples)
+	r.Workers = cmp.Or(r.Workers, runtime.GOMAXPROCS(0))
 	if r.Width < 2 || r.Height < 1 {
 		return r, fmt.Errorf("synth: image size %dx%d: width must be at least 2 and height at least 1", r.Width, r.Height)
 	}

@@ -1,6 +1,7 @@
 package train
 
 import (
+	"cmp"
 	"context"
 	"fmt"
 
@@ -42,16 +43,12 @@ type AdaptOptions struct {
 // ctx ends the weights reached so far come back with RunResult.Interrupted
 // set.
 func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOptions) (*model.Weights, *RunResult, error) {
-	o := AdaptOptions{Steps: 100, Batch: 4}
+	var o AdaptOptions
 	if opt != nil {
 		o = *opt
-		if o.Steps == 0 {
-			o.Steps = 100
-		}
-		if o.Batch == 0 {
-			o.Batch = 4
-		}
 	}
+	o.Steps = cmp.Or(o.Steps, 100)
+	o.Batch = cmp.Or(o.Batch, 4)
 	if o.Steps < 0 || o.Batch < 0 {
 		return nil, nil, fmt.Errorf("train: Adapt: %d steps of batch %d: want positive numbers", o.Steps, o.Batch)
 	}

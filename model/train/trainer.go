@@ -1,6 +1,7 @@
 package train
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
@@ -162,12 +163,8 @@ func NewTrainer(w *model.Weights, src Source, opt *TrainerOptions) (*Trainer, er
 	if opt != nil {
 		o = *opt
 	}
-	if o.Steps == 0 {
-		o.Steps = 1000
-	}
-	if o.Batch == 0 {
-		o.Batch = 4
-	}
+	o.Steps = cmp.Or(o.Steps, 1000)
+	o.Batch = cmp.Or(o.Batch, 4)
 	if o.Steps < 0 || o.Batch < 0 || o.CheckpointEvery < 0 {
 		return nil, fmt.Errorf("train: trainer: steps %d, batch %d and checkpoint interval %d must not be negative", o.Steps, o.Batch, o.CheckpointEvery)
 	}
@@ -187,12 +184,8 @@ func NewTrainer(w *model.Weights, src Source, opt *TrainerOptions) (*Trainer, er
 		adam = *o.Adam
 	}
 	adam.LearningRate = sched.at(0, o.Steps)
-	if o.ValidationEvery == 0 {
-		o.ValidationEvery = map[bool]int{true: o.CheckpointEvery, false: 100}[o.CheckpointEvery > 0]
-	}
-	if o.ValidationBatches == 0 {
-		o.ValidationBatches = 4
-	}
+	o.ValidationEvery = cmp.Or(o.ValidationEvery, map[bool]int{true: o.CheckpointEvery, false: 100}[o.CheckpointEvery > 0])
+	o.ValidationBatches = cmp.Or(o.ValidationBatches, 4)
 	if o.ValidationEvery < 0 || o.ValidationBatches < 0 {
 		return nil, fmt.Errorf("train: trainer: validation interval %d and batches %d must not be negative", o.ValidationEvery, o.ValidationBatches)
 	}
