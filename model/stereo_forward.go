@@ -91,13 +91,8 @@ func (m *Net) ForwardPair(left, right *planar.Image) ([Scales]*planar.Image, err
 		return none, errors.New("model: these are one-image weights: give the left image alone (Forward)")
 	}
 	in := m.arch.Input
-	for _, v := range []struct {
-		what string
-		im   *planar.Image
-	}{{"left image", left}, {"right image", right}} {
-		if err := v.im.CheckInput(v.what, m.n, in.C, in.H, in.W); err != nil {
-			return none, fmt.Errorf("model: %w", err)
-		}
+	if err := planar.CheckPair(left, right, m.n, in.C, in.H, in.W); err != nil {
+		return none, fmt.Errorf("model: %w", err)
 	}
 	k := len(left.Pix)
 	copy(m.pair[:k], left.Pix)

@@ -125,6 +125,15 @@ func (m *Image) CheckInput(what string, n, c, h, w int) error {
 	return m.CheckFinite(what)
 }
 
+// CheckPair is CheckInput for the two views of a stereo pair, named "left
+// image" and "right image"; it returns the first error.
+func CheckPair(left, right *Image, n, c, h, w int) error {
+	if err := left.CheckInput("left image", n, c, h, w); err != nil {
+		return err
+	}
+	return right.CheckInput("right image", n, c, h, w)
+}
+
 // Clone returns a deep copy of m.
 func (m *Image) Clone() *Image {
 	c := *m

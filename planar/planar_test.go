@@ -238,3 +238,18 @@ func TestCheckInput(t *testing.T) {
 		t.Errorf("NaN: %v", err)
 	}
 }
+
+// TestCheckPair: each view is checked as CheckInput checks it, the left
+// one first, each error naming its view.
+func TestCheckPair(t *testing.T) {
+	l, r := New(1, 3, 4, 5), New(1, 3, 4, 5)
+	if err := CheckPair(l, r, 1, 3, 4, 5); err != nil {
+		t.Fatal(err)
+	}
+	if err := CheckPair(l, New(1, 3, 4, 6), 1, 3, 4, 5); err == nil || err.Error() != "right image has shape 1x3x4x6, want 1x3x4x5" {
+		t.Errorf("narrow right view: %v", err)
+	}
+	if err := CheckPair(nil, nil, 1, 3, 4, 5); err == nil || err.Error() != "left image is nil" {
+		t.Errorf("no views: %v; want the left one named", err)
+	}
+}

@@ -130,13 +130,8 @@ func (o *graphObjective) Cost() *G.Node { return o.cost }
 // wrong shape or holds NaN or Inf.
 func (o *graphObjective) SetImages(left, right *planar.Image) error {
 	s0 := o.shapes[0]
-	for _, im := range []struct {
-		what string
-		im   *planar.Image
-	}{{"left image", left}, {"right image", right}} {
-		if err := im.im.CheckInput(im.what, s0.N, 3, s0.H, s0.W); err != nil {
-			return fmt.Errorf("train: objective: %w", err)
-		}
+	if err := planar.CheckPair(left, right, s0.N, 3, s0.H, s0.W); err != nil {
+		return fmt.Errorf("train: objective: %w", err)
 	}
 	copy(o.left[0], left.Pix)
 	copy(o.right[0], right.Pix)

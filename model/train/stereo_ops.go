@@ -86,13 +86,8 @@ func (net *network) SetPair(left, right *planar.Image) error {
 		return fmt.Errorf("train: the network is a one-image network: give the left image alone (SetInput)")
 	}
 	in := net.Arch.Input
-	for _, v := range []struct {
-		what string
-		im   *planar.Image
-	}{{"left image", left}, {"right image", right}} {
-		if err := v.im.CheckInput(v.what, net.Batch, in.C, in.H, in.W); err != nil {
-			return fmt.Errorf("train: %w", err)
-		}
+	if err := planar.CheckPair(left, right, net.Batch, in.C, in.H, in.W); err != nil {
+		return fmt.Errorf("train: %w", err)
 	}
 	k := len(left.Pix)
 	copy(net.input[:k], left.Pix)
