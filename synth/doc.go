@@ -83,8 +83,9 @@
 //   - A ray that meets nothing (impossible in the built-in styles, which are
 //     closed rooms) gives black, disparity 0, depth 0 and not visible.
 //
-// Data-set files (WriteDataset and Pair.Save write them through package
-// dataset, which owns the layout and reads it back), NAME =
+// Data-set files (WriteDataset, WriteDatasetContext, which stops when its
+// context ends, and Pair.Save write them through package dataset, which
+// owns the layout and reads it back), NAME =
 // PairName(index), six digits:
 //
 //	DIR/rig.json                    the rig (depth.SaveRig), unvaried pairs
