@@ -146,6 +146,18 @@ func (m *Map) sub(r image.Rectangle) Map {
 	return Map{Pix: m.Pix[i:], Mask: m.Mask[i:], Stride: m.Stride, Rect: r}
 }
 
+// clone returns a copy of m in memory of its own, rows packed (Stride is
+// the width).
+func (m *Map) clone() Map {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	c := Map{Pix: make([]float32, w*h), Mask: make([]uint8, w*h), Stride: w, Rect: m.Rect}
+	for y := range h {
+		copy(c.Pix[y*w:(y+1)*w], m.Pix[y*m.Stride:])
+		copy(c.Mask[y*w:(y+1)*w], m.Mask[y*m.Stride:])
+	}
+	return c
+}
+
 // Disparity is a disparity map in pixels, positive, of the left view unless
 // the caller says otherwise: left column x matches right column x − d.
 type Disparity struct{ Map }
@@ -159,6 +171,10 @@ func (d *Disparity) Set(x, y int, v float32) { d.setPositive(x, y, v) }
 
 // SubMap returns the part of d inside r, sharing d's memory.
 func (d *Disparity) SubMap(r image.Rectangle) *Disparity { return &Disparity{d.sub(r)} }
+
+// Clone returns a copy of d in memory of its own (rows packed: Stride is
+// the width), e.g. to fill its holes for scoring while keeping d.
+func (d *Disparity) Clone() *Disparity { return &Disparity{d.clone()} }
 
 // Depth is a metric depth map in metres, positive.
 type Depth struct{ Map }

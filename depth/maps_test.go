@@ -93,3 +93,37 @@ func TestConfidence(t *testing.T) {
 		}
 	}
 }
+
+// TestDisparityClone: a clone of a sub-map has its values, validity and
+// bounds, packed rows, and memory of its own.
+func TestDisparityClone(t *testing.T) {
+	d, err := NewDisparity(image.Rect(0, 0, 4, 3))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for y := 0; y < 3; y++ {
+		for x := 0; x < 4; x++ {
+			if (x+y)%3 != 0 {
+				d.Set(x, y, float32(10*y+x))
+			}
+		}
+	}
+	sub := d.SubMap(image.Rect(1, 1, 4, 3))
+	c := sub.Clone()
+	if c.Rect != sub.Rect || c.Stride != 3 || len(c.Pix) != 6 || len(c.Mask) != 6 {
+		t.Fatalf("clone: bounds %v, stride %d, %d values; want %v, 3, 6", c.Rect, c.Stride, len(c.Pix), sub.Rect)
+	}
+	for y := 1; y < 3; y++ {
+		for x := 1; x < 4; x++ {
+			v, ok := c.At(x, y)
+			w, wok := d.At(x, y)
+			if v != w || ok != wok {
+				t.Errorf("(%d, %d): clone %v, %v; original %v, %v", x, y, v, ok, w, wok)
+			}
+		}
+	}
+	c.Set(2, 2, 99)
+	if v, _ := d.At(2, 2); v == 99 {
+		t.Error("setting the clone changed the original")
+	}
+}

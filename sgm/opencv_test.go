@@ -63,23 +63,16 @@ func loadDisparity(t testing.TB, path string) *depth.Disparity {
 	return d
 }
 
-func copyDisparity(d *depth.Disparity) *depth.Disparity {
-	c := *d
-	c.Pix = append([]float32(nil), d.Pix...)
-	c.Mask = append([]uint8(nil), d.Mask...)
-	return &c
-}
-
 // denseScores scores est over every pixel with ground truth: holes as
 // disparity 0, and holes filled along the scan line (then any row left
 // empty as 0).
 func denseScores(t testing.TB, est, gt *depth.Disparity) (zero, filled depth.DisparityMetrics) {
 	t.Helper()
-	z := copyDisparity(est)
+	z := est.Clone()
 	if _, err := ZeroHoles(z); err != nil {
 		t.Fatal(err)
 	}
-	f := copyDisparity(est)
+	f := est.Clone()
 	if _, err := FillHoles(f); err != nil {
 		t.Fatal(err)
 	}

@@ -236,14 +236,7 @@ func (h Holes) apply(d *depth.Disparity) (*depth.Disparity, error) {
 	default:
 		return nil, fmt.Errorf("%v is not a hole rule", h)
 	}
-	c, err := depth.NewDisparity(d.Rect)
-	if err != nil {
-		return nil, err
-	}
-	for y := range d.Rect.Dy() {
-		copy(c.Pix[y*c.Stride:y*c.Stride+d.Rect.Dx()], d.Pix[y*d.Stride:])
-		copy(c.Mask[y*c.Stride:y*c.Stride+d.Rect.Dx()], d.Mask[y*d.Stride:])
-	}
+	c := d.Clone()
 	if h == HolesFilled {
 		if _, err := sgm.FillHoles(c); err != nil {
 			return nil, err

@@ -80,11 +80,11 @@ func run(lp, rp, tp string, dmax, runs int) error {
 	}
 	slices.Sort(times)
 	valid := res.Disparity.Valid()
-	zero := clone(res.Disparity)
+	zero := res.Disparity.Clone()
 	if _, err := sgm.ZeroHoles(zero); err != nil {
 		return err
 	}
-	filled := clone(res.Disparity)
+	filled := res.Disparity.Clone()
 	if _, err := sgm.FillHoles(filled); err != nil {
 		return err
 	}
@@ -116,11 +116,4 @@ func toGray(img image.Image) *image.Gray {
 		}
 	}
 	return g
-}
-
-func clone(d *depth.Disparity) *depth.Disparity {
-	c := *d
-	c.Pix = slices.Clone(d.Pix)
-	c.Mask = slices.Clone(d.Mask)
-	return &c
 }

@@ -84,10 +84,8 @@ func run(dir string, n int, o *sgm.Options, gain float64) error {
 			return err
 		}
 		valid += res.Disparity.Valid()
-		filled := *res.Disparity
-		filled.Pix = append([]float32(nil), filled.Pix...)
-		filled.Mask = append([]uint8(nil), filled.Mask...)
-		if _, err := sgm.FillHoles(&filled); err != nil {
+		filled := res.Disparity.Clone()
+		if _, err := sgm.FillHoles(filled); err != nil {
 			return err
 		}
 		for i, g := range gt[:w*h] {
@@ -95,7 +93,7 @@ func run(dir string, n int, o *sgm.Options, gain float64) error {
 				continue
 			}
 			pixels++
-			for k, d := range []*depth.Disparity{res.Disparity, &filled} {
+			for k, d := range []*depth.Disparity{res.Disparity, filled} {
 				e := float64(g)
 				if d.Mask[i] != 0 {
 					e = math.Abs(float64(d.Pix[i] - g))
