@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 // TestImageInputs: files as given, folders in name order with their
@@ -96,15 +97,7 @@ func TestPairInputs(t *testing.T) {
 		{"same name", []string{pairs, filepath.Join(pairs, "left", "a.png"), r}, []string{"same output files (a.*)"}},
 	} {
 		_, err := PairInputs(c.paths)
-		if err == nil || !strings.HasPrefix(err.Error(), "dataset: ") {
-			t.Errorf("%s: %v, want an error", c.name, err)
-			continue
-		}
-		for _, w := range c.want {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%s: %v, want it to name %q", c.name, err, w)
-			}
-		}
+		testutil.WantError(t, c.name, err, "dataset: ", c.want...)
 	}
 }
 

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 )
 
 // fixture describes a tiny data set written by writeSet.
@@ -348,15 +349,7 @@ func TestFromFiles(t *testing.T) {
 		{"bad rig", left, right, nil, disp, []string{disp}},
 	} {
 		_, err := FromFiles(c.left, c.right, c.truth, c.rig)
-		if err == nil {
-			t.Errorf("%s: no error", c.name)
-			continue
-		}
-		for _, w := range append(c.want, "dataset: ") {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%s: %v lacks %q", c.name, err, w)
-			}
-		}
+		testutil.WantError(t, c.name, err, "dataset: ", c.want...)
 	}
 	// A truth file that is not a PFM is found on reading, by its name.
 	ds, err = FromFiles(left, right, map[Kind]string{DispLeft: right}, "")

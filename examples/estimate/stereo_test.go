@@ -15,6 +15,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/internal/testutil/weightfiles"
 )
 
@@ -208,15 +209,7 @@ func TestStereoErrors(t *testing.T) {
 	} {
 		var stdout, stderr bytes.Buffer
 		err := run(context.Background(), append([]string{"-quiet", "-out", filepath.Join(dir, "out")}, c.args...), &stdout, &stderr)
-		if err == nil || !strings.HasPrefix(err.Error(), "estimate: ") {
-			t.Errorf("%s: %v, want an error", c.name, err)
-			continue
-		}
-		for _, w := range c.want {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%s: %v\nwant it to name %q", c.name, err, w)
-			}
-		}
+		testutil.WantError(t, c.name, err, "estimate: ", c.want...)
 	}
 	// The check can be turned off: the shifted pair then runs.
 	if err := run(context.Background(), []string{"-quiet", "-method", "sgm", "-max-row-shift", "0", "-out", filepath.Join(dir, "out"), left, low}, &bytes.Buffer{}, &bytes.Buffer{}); err != nil {

@@ -3,10 +3,12 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"path/filepath"
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/internal/testutil/weightfiles"
 	"github.com/parallaxdepth/parallax/model"
 )
@@ -49,14 +51,6 @@ func TestStereoKind(t *testing.T) {
 	} {
 		var out, log bytes.Buffer
 		err := run(context.Background(), append(c.args, "-quiet", filepath.Join("..", "..", "testdata", "synth", "greenhouse")), &out, &log)
-		if err == nil || !strings.HasPrefix(err.Error(), "evaluate: ") {
-			t.Errorf("%q: %v, want an error", c.args, err)
-			continue
-		}
-		for _, w := range c.want {
-			if !strings.Contains(err.Error(), w) {
-				t.Errorf("%q: %v\nwant it to name %q", c.args, err, w)
-			}
-		}
+		testutil.WantError(t, fmt.Sprintf("%q", c.args), err, "evaluate: ", c.want...)
 	}
 }

@@ -1,5 +1,5 @@
 // Package testutil holds what the tests of several packages share: reading
-// the committed image fixtures and comparing golden files. It is imported by tests only, and imports
+// the committed image fixtures, comparing golden files and checking expected errors. It is imported by tests only, and imports
 // only package planar of ours, so any package above planar can use it.
 package testutil
 
@@ -8,6 +8,7 @@ import (
 	"image"
 	"image/png"
 	"os"
+	"strings"
 	"testing"
 
 	"github.com/parallaxdepth/parallax/planar"
@@ -37,6 +38,22 @@ func Planar(t testing.TB, path string) *planar.Image {
 		t.Fatalf("%s: %v", path, err)
 	}
 	return im
+}
+
+// WantError fails t, naming the case, unless err is an error whose text
+// starts with prefix (the package's or command's name, "dataset: ") and
+// contains each of wants (the files, flags or values it must name).
+func WantError(t testing.TB, name string, err error, prefix string, wants ...string) {
+	t.Helper()
+	if err == nil || !strings.HasPrefix(err.Error(), prefix) {
+		t.Errorf("%s: %v, want an error starting %q", name, err, prefix)
+		return
+	}
+	for _, w := range wants {
+		if !strings.Contains(err.Error(), w) {
+			t.Errorf("%s: %v\nwant it to name %q", name, err, w)
+		}
+	}
 }
 
 // Golden compares got with the committed file at path, failing t with
