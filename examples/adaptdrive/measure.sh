@@ -5,7 +5,9 @@
 #                                                    10 frames/s, 240 steps as 2 steps/s would give)
 #                                                    beside an offline fine-tune on the same frames
 #                                                    (OFFLINE_STEPS steps at batch 4, default 1,200)
-#   sh examples/adaptdrive/measure.sh memory [DIR]   resident memory over a 30-minute run, once a minute
+#   sh examples/adaptdrive/measure.sh memory [DIR]   resident memory over a 30-minute run, once a minute, with
+#                                                    the command's default -memory-limit and (MEMORY_LIMIT=0)
+#                                                    without a limit
 #   sh examples/adaptdrive/measure.sh latency [DIR]  Estimate's latency without and while adapting
 #
 # epe and memory do not depend on the machine's load (epe steps in the frame loop, so its figures
@@ -38,7 +40,7 @@ epe)
 	cat "$out/epe.txt" "$out/offline_eval.txt"
 	;;
 memory)
-	"$out/adaptdrive" -duration 30m -fps 10 -rss-log "$out/rss.csv" -plot "$out/memory.png" > "$out/memory.txt"
+	"$out/adaptdrive" -duration 30m -fps 10 ${MEMORY_LIMIT:+-memory-limit $MEMORY_LIMIT} -rss-log "$out/rss.csv" -plot "$out/memory.png" > "$out/memory.txt"
 	cat "$out/rss.csv"
 	;;
 latency)

@@ -13,8 +13,11 @@ import (
 	"github.com/parallaxdepth/parallax/synth"
 )
 
-// defaultMemoryLimitMiB is -memory-limit's default: see the README's
-// memory figures for what the default run holds.
+// defaultMemoryLimitMiB is -memory-limit's default: the default run holds
+// about 380 MB live (two Estimators and the adapter at 320×240), and with
+// 440 MiB the collector took 0.7 % of the CPU and the process stayed at
+// 419–433 MB resident; without a limit it grows towards twice the live
+// heap (761 MB after 6 minutes). See the README's memory figures.
 const defaultMemoryLimitMiB = 440
 
 // table prints one row per block: frames, style, the EPE of each

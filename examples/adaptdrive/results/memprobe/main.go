@@ -78,7 +78,7 @@ func run() error {
 		return err
 	}
 	defer ad.Close()
-	report("adapter built (two training graphs)")
+	report("adapter built (its graph: at the first pair)")
 	for f := range d.Frames() {
 		p, err := synth.GenerateFrame(d, f, render)
 		if err != nil {
