@@ -1,6 +1,7 @@
 // Package testutil holds what the tests of several packages share: reading
-// the committed image fixtures, comparing golden files and checking expected errors. It is imported by tests only, and imports
-// only package planar of ours, so any package above planar can use it.
+// the committed image fixtures, comparing golden files and checking
+// expected errors. It is imported by tests only, and imports only package
+// planar of ours, so any package above planar can use it.
 package testutil
 
 import (
