@@ -134,6 +134,19 @@ func CheckPair(left, right *Image, n, c, h, w int) error {
 	return right.CheckInput("right image", n, c, h, w)
 }
 
+// imageBounds returns img's bounds, or an error if img is nil or empty
+// (ErrEmpty).
+func imageBounds(img image.Image) (image.Rectangle, error) {
+	if img == nil {
+		return image.Rectangle{}, errors.New("planar: image is nil")
+	}
+	b := img.Bounds()
+	if b.Dx() <= 0 || b.Dy() <= 0 {
+		return image.Rectangle{}, ErrEmpty
+	}
+	return b, nil
+}
+
 // Clone returns a deep copy of m.
 func (m *Image) Clone() *Image {
 	c := *m
@@ -154,14 +167,11 @@ var ErrEmpty = errors.New("planar: image has no pixels")
 // FromImageInto). It returns ErrEmpty for an image with no pixels and an
 // error for a nil image or one beyond the size limits (see CheckSize).
 func FromImage(img image.Image) (*Image, error) {
-	if img == nil {
-		return nil, errors.New("planar: image is nil")
+	b, err := imageBounds(img)
+	if err != nil {
+		return nil, err
 	}
-	b := img.Bounds()
 	w, h := b.Dx(), b.Dy()
-	if w <= 0 || h <= 0 {
-		return nil, ErrEmpty
-	}
 	if err := CheckSize(w, h); err != nil {
 		return nil, err
 	}
@@ -184,14 +194,11 @@ func FromImage(img image.Image) (*Image, error) {
 // (clamped to 1), and a fully transparent pixel gives 0. It returns an error
 // if img is nil or empty or dst is invalid or of another shape.
 func FromImageInto(dst *Image, img image.Image) error {
-	if img == nil {
-		return errors.New("planar: image is nil")
+	b, err := imageBounds(img)
+	if err != nil {
+		return err
 	}
-	b := img.Bounds()
 	w, h := b.Dx(), b.Dy()
-	if w <= 0 || h <= 0 {
-		return ErrEmpty
-	}
 	if err := dst.Check("destination"); err != nil {
 		return fmt.Errorf("planar: %w", err)
 	}

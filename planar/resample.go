@@ -1,7 +1,6 @@
 package planar
 
 import (
-	"errors"
 	"fmt"
 	"image"
 	"image/color"
@@ -113,14 +112,11 @@ func newFilter(dw, sw int) filter {
 // divided by alpha as FromImageInto does. It returns an error if img is nil,
 // empty or larger than MaxSide or MaxPixels, or dst has another shape.
 func (r *Resampler) Scale(dst *Image, img image.Image) error {
-	if img == nil {
-		return errors.New("planar: image is nil")
+	b, err := imageBounds(img)
+	if err != nil {
+		return err
 	}
-	b := img.Bounds()
 	sw, sh := b.Dx(), b.Dy()
-	if sw <= 0 || sh <= 0 {
-		return ErrEmpty
-	}
 	if err := CheckSize(sw, sh); err != nil {
 		return fmt.Errorf("planar: image: %w", err)
 	}
