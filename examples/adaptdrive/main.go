@@ -52,7 +52,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	write := fs.String("write", "", "write the drive's frames into this folder (layout of package dataset) and exit")
 	eval := fs.String("eval", "", "score the weights (-weights) on a drive written by -write into this folder, per block of -block frames, and exit")
 	latency := fs.Int("latency", 0, "time this many Estimate calls without and with the adapter in the background, then exit")
-	memLimit := fs.Int64("memory-limit", defaultMemoryLimitMiB, "the Go runtime's soft memory limit in MiB (debug.SetMemoryLimit; 0: none, as GOMEMLIMIT sets)")
+	memLimit := fs.Int64("memory-limit", defaultMemoryLimitMiB, "the Go runtime's soft memory limit in MiB (debug.SetMemoryLimit); 0: none; GOMEMLIMIT in the environment takes precedence")
 	if help, err := command.Parse(fs, args); help || err != nil {
 		return err
 	}
