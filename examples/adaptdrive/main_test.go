@@ -131,7 +131,7 @@ func TestModes(t *testing.T) {
 	if !strings.Contains(out.String(), "without adaptation: median") || !strings.Contains(out.String(), "ratio of medians") {
 		t.Errorf("-latency:\n%s", out.String())
 	}
-	for _, bad := range [][]string{{"-steps-per-frame", "-1"}, {"-latency", "-2"}, {"-block", "0"}, {"-offline", filepath.Join(dir, "none")}} {
+	for _, bad := range [][]string{{"-steps-per-frame", "-1"}, {"-memory-limit", "-1"}, {"-latency", "-2"}, {"-block", "0"}, {"-offline", filepath.Join(dir, "none")}} {
 		if err := run(context.Background(), append(small, bad...), &out, &errs); err == nil {
 			t.Errorf("%v accepted", bad)
 		}
