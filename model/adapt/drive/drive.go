@@ -84,9 +84,12 @@ func Play(ctx context.Context, d *synth.Drive, ests []*model.Estimator, ad *adap
 	if o.Block == 0 {
 		o.Block = 10
 	}
+	if err := checkDrive(d); err != nil {
+		return nil, err
+	}
 	switch {
-	case d == nil || len(ests) == 0:
-		return nil, errors.New("drive: Play needs a drive and at least one Estimator")
+	case len(ests) == 0:
+		return nil, errors.New("drive: Play needs at least one Estimator")
 	case o.Block < 0 || !(o.StepsPerFrame >= 0) || !(o.FPS >= 0) || o.Duration < 0:
 		return nil, fmt.Errorf("drive: Block %d, StepsPerFrame %v, FPS %v and Duration %v must not be negative", o.Block, o.StepsPerFrame, o.FPS, o.Duration)
 	}
@@ -259,4 +262,18 @@ func ScoreSet(ctx context.Context, e *model.Estimator, set *dataset.Set, blockLe
 		}
 	}
 	return total / float64(max(len(set.Pairs), 1)), nil
+}
+
+// checkDrive returns an error for a nil drive, or one with a leg of no
+// frames.
+func checkDrive(d *synth.Drive) error {
+	if d == nil || len(d.Legs) == 0 {
+		return errors.New("drive: the drive has no legs")
+	}
+	for i, l := range d.Legs {
+		if l.Frames < 1 {
+			return fmt.Errorf("drive: leg %d (%v) has %d frames, want at least 1", i, l.Style, l.Frames)
+		}
+	}
+	return nil
 }

@@ -86,9 +86,17 @@ func TestPlayRefuses(t *testing.T) {
 		d    *synth.Drive
 		ests []*model.Estimator
 		o    *Options
-	}{{nil, []*model.Estimator{est}, nil}, {d, nil, nil}, {d, []*model.Estimator{nil}, nil}, {d, []*model.Estimator{est}, &Options{Block: -1}}, {d, []*model.Estimator{est}, &Options{StepsPerFrame: math.NaN()}}} {
+	}{{nil, []*model.Estimator{est}, nil}, {&synth.Drive{}, []*model.Estimator{est}, nil},
+		{&synth.Drive{Legs: []synth.Leg{{Style: synth.Greenhouse, Frames: 0}}}, []*model.Estimator{est}, nil}, {d, nil, nil}, {d, []*model.Estimator{nil}, nil}, {d, []*model.Estimator{est}, &Options{Block: -1}}, {d, []*model.Estimator{est}, &Options{StepsPerFrame: math.NaN()}}} {
 		if _, err := Play(context.Background(), c.d, c.ests, nil, c.o, nil); err == nil {
 			t.Errorf("Play(%v, %d Estimators, %+v) accepted", c.d, len(c.ests), c.o)
+		}
+	}
+	// Latency refuses the same empty drives, and a missing adapter, before
+	// rendering anything.
+	for _, dd := range []*synth.Drive{nil, {}, {Legs: []synth.Leg{{Style: synth.Greenhouse, Frames: 0}}}, d} {
+		if _, _, err := Latency(context.Background(), dd, nil, est, nil, 1, 0); err == nil {
+			t.Errorf("Latency(%v, no adapter) accepted", dd)
 		}
 	}
 }

@@ -2,6 +2,7 @@ package drive
 
 import (
 	"context"
+	"fmt"
 	"image"
 	"slices"
 	"time"
@@ -47,6 +48,12 @@ func (p *Pacer) Wait() {
 // and returns both sets of durations. The frames are rendered before the
 // timing starts. Time it on an idle machine.
 func Latency(ctx context.Context, d *synth.Drive, render *synth.Options, e *model.Estimator, ad *adapt.Adapter, calls int, fps float64) (without, with []time.Duration, err error) {
+	if err := checkDrive(d); err != nil {
+		return nil, nil, err
+	}
+	if e == nil || ad == nil || calls < 1 || !(fps >= 0) {
+		return nil, nil, fmt.Errorf("drive: Latency needs an Estimator, an Adapter, at least 1 call and frames/s ≥ 0 (calls %d, fps %v)", calls, fps)
+	}
 	var views [][2]image.Image
 	for f := range min(20, d.Frames()) {
 		p, err := synth.GenerateFrame(d, d.Frames()-1-f, render)
