@@ -58,7 +58,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	save := model.SaveOptions{}
 	fs.BoolVar(&save.PFM, "pfm", false, "also write NAME.disparity.pfm (pixels), NAME.depth.pfm (metres) and NAME.confidence.pfm")
 	fs.BoolVar(&save.PLY, "ply", false, "also write NAME.points.ply, a coloured point cloud in metres (binary little-endian)")
-	fs.BoolVar(&save.OrganizedPLY, "ply-grid", false, "with -ply: one point per pixel in row order, NaN where invalid (an organised cloud)")
+	fs.BoolVar(&save.OrganizedPLY, "ply-grid", false, "write the PLY (as -ply) with one point per pixel in row order, NaN where invalid (an organised cloud)")
 	minConf := fs.Float64("min-confidence", model.DefaultMinConfidence, "networks: mark pixels whose left-right confidence is below this value invalid in every\noutput (it replaces the library's default; 0: keep every confidence; -method sgm has its own checks)")
 	quiet := fs.Bool("quiet", false, "print no progress and no summaries (warnings, such as an assumed rig, still go to stderr)")
 	if help, err := command.Parse(fs, args); help || err != nil {
@@ -68,6 +68,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if *minConf < 0 || *minConf > 1 || *minConf != *minConf || *maxShift < 0 || (sgm && *weights != "") {
 		return fmt.Errorf("estimate: -min-confidence %v must be in [0, 1], -max-row-shift %v not negative; -method sgm takes no -weights", *minConf, *maxShift)
 	}
+	save.PLY = save.PLY || save.OrganizedPLY
 	inputs, err := dataset.Inputs(fs.Args(), pairs)
 	if err != nil || (pairs && len(inputs) == 0) {
 		return fmt.Errorf("estimate: %w", cmp.Or(err, errors.New("-stereo and -method sgm need pairs: two files LEFT RIGHT, or a folder with left/ and right/")))

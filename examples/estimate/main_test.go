@@ -184,7 +184,7 @@ func TestMinConfidence(t *testing.T) {
 	}
 }
 
-// TestPLYGrid: with -ply-grid the cloud keeps the image grid, one point a
+// TestPLYGrid: -ply-grid writes the PLY (no -ply needed) and the cloud keeps the image grid, one point a
 // pixel in row order, NaN exactly where the PFM depth has none, and the
 // valid points are those of the plain cloud in the same order.
 func TestPLYGrid(t *testing.T) {
@@ -192,7 +192,7 @@ func TestPLYGrid(t *testing.T) {
 	for _, c := range []struct {
 		dir  string
 		args []string
-	}{{plain, []string{"-ply"}}, {grid, []string{"-pfm", "-ply", "-ply-grid"}}} {
+	}{{plain, []string{"-ply"}}, {grid, []string{"-pfm", "-ply-grid"}}} {
 		var stdout, stderr bytes.Buffer
 		if err := run(context.Background(), append([]string{"-out", c.dir, "-quiet"}, c.args...), &stdout, &stderr); err != nil {
 			t.Fatal(err)
