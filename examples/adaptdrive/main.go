@@ -63,7 +63,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return errors.New("adaptdrive: -block must be positive and -steps-per-frame, -fps, -duration, -latency and -memory-limit not negative")
 	}
 	if *memLimit > 0 && os.Getenv("GOMEMLIMIT") == "" {
-		debug.SetMemoryLimit(*memLimit << 20)
+		defer debug.SetMemoryLimit(debug.SetMemoryLimit(*memLimit << 20)) // the process's limit again after the run
 	}
 	ls, err := synth.ParseLegs(*legs)
 	if err != nil {
