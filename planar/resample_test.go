@@ -106,6 +106,38 @@ func TestResamplerMatchesXDraw(t *testing.T) {
 	}
 }
 
+// TestResamplerSameSize: at the target size the copy Resampler makes is
+// also what x/image/draw's CatmullRom gives when asked to scale by 1 (the
+// path model/adapt took), and a reused Resampler allocates nothing.
+func TestResamplerSameSize(t *testing.T) {
+	const w, h = 24, 16
+	rs, err := NewResampler(w, h)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := New(1, 3, h, w)
+	for name, img := range testImages(rand.New(rand.NewPCG(2, 7)), w, h) {
+		dst64 := image.NewRGBA64(image.Rect(0, 0, w, h))
+		xdraw.CatmullRom.Scale(dst64, dst64.Rect, img, img.Bounds(), xdraw.Src, nil)
+		want := New(1, 3, h, w)
+		if err := FromImageInto(want, dst64); err != nil {
+			t.Fatal(err)
+		}
+		if err := rs.Scale(got, img); err != nil {
+			t.Fatal(err)
+		}
+		for i, v := range got.Pix {
+			if v != want.Pix[i] {
+				t.Fatalf("%s: value %d is %v, CatmullRom at scale 1 gives %v", name, i, v, want.Pix[i])
+			}
+		}
+	}
+	big := testImages(rand.New(rand.NewPCG(3, 1)), 50, 37)["NRGBA"]
+	if n := testing.AllocsPerRun(5, func() { _ = rs.Scale(got, big) }); n != 0 {
+		t.Errorf("Scale allocates %v times a call once warmed up", n)
+	}
+}
+
 func TestResamplerErrors(t *testing.T) {
 	if _, err := NewResampler(0, 5); err == nil {
 		t.Error("NewResampler(0, 5): no error")

@@ -268,7 +268,9 @@ func (a *Adapter) prepare(fw, fh int) error {
 	serving := a.serving
 	a.mu.Unlock()
 	a.w, a.h = nw, nh
-	a.tmp = newScratch(nw, nh)
+	if a.tmp, err = newScratch(nw, nh); err != nil {
+		return err
+	}
 	a.shift = max(1, int(math.Ceil(a.start.Config.DMax*float64(nw))))
 	if a.sess, err = train.NewSession(a.atTrainingSize(serving), 1, a.opt.Objective, &train.AdamConfig{LearningRate: a.opt.LearningRate}); err != nil {
 		return err

@@ -515,7 +515,10 @@ func pretrained(t *testing.T) *model.Weights {
 	ps := drive(t, 12)
 	for i := range 40 {
 		p := ps[i%len(ps)]
-		sc := newScratch(128, 64)
+		sc, err := newScratch(128, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
 		l, r := planar.New(1, 3, 64, 128), planar.New(1, 3, 64, 128)
 		if err := errors.Join(sc.resize(l, p.left), sc.resize(r, p.right)); err != nil {
 			t.Fatal(err)
@@ -588,7 +591,10 @@ func TestWorseThanStartRefused(t *testing.T) {
 // float32 bits as the resized view it was taken from (8-bit drive frames
 // resized at 16 bits), so keeping the buffer compact changes no step.
 func TestFrameStorageExact(t *testing.T) {
-	sc := newScratch(160, 128)
+	sc, err := newScratch(160, 128)
+	if err != nil {
+		t.Fatal(err)
+	}
 	p := planar.New(1, 3, 128, 160)
 	q := planar.New(1, 3, 128, 160)
 	for _, pr := range drive(t, 2) {

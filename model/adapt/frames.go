@@ -6,8 +6,6 @@ import (
 	"math"
 	"slices"
 
-	xdraw "golang.org/x/image/draw"
-
 	"github.com/parallaxdepth/parallax/planar"
 )
 
@@ -38,22 +36,26 @@ const (
 // scratch is what the adapter reuses to take pairs in and to feed the
 // training graph, so that neither allocates per pair or per step.
 type scratch struct {
-	scaled      *image.RGBA64
+	rs          *planar.Resampler
 	left, right *planar.Image // (1, 3, H, W), RGB in [0, 1]
 	grey, greyR []float32     // luma of left and right
 }
 
-func newScratch(w, h int) *scratch {
-	return &scratch{scaled: image.NewRGBA64(image.Rect(0, 0, w, h)),
+func newScratch(w, h int) (*scratch, error) {
+	rs, err := planar.NewResampler(w, h)
+	if err != nil {
+		return nil, fmt.Errorf("adapt: %w", err)
+	}
+	return &scratch{rs: rs,
 		left: planar.New(1, 3, h, w), right: planar.New(1, 3, h, w),
-		grey: make([]float32, w*h), greyR: make([]float32, w*h)}
+		grey: make([]float32, w*h), greyR: make([]float32, w*h)}, nil
 }
 
 // resize scales img to the scratch size into dst (RGB in [0, 1]),
-// Catmull-Rom as in model/data.
+// Catmull-Rom as in model/data (planar.Resampler: the 16-bit result of
+// golang.org/x/image/draw's CatmullRom, bit for bit, without allocating).
 func (s *scratch) resize(dst *planar.Image, img image.Image) error {
-	xdraw.CatmullRom.Scale(s.scaled, s.scaled.Rect, img, img.Bounds(), xdraw.Src, nil)
-	if err := planar.FromImageInto(dst, s.scaled); err != nil {
+	if err := s.rs.Scale(dst, img); err != nil {
 		return fmt.Errorf("adapt: %w", err)
 	}
 	return nil
