@@ -15,12 +15,12 @@ import (
 //	FromImageInto(dst, dst64)
 //
 // with golang.org/x/image/draw (for an image of the target size itself,
-// image/draw.Draw in place of the scaling, which that scaling equals), the
-// way the module's training data and Estimator have always resampled, but
-// without the intermediate image, its per-call filter tables and
-// [4]float64 buffer, or an interface call per pixel: a 640×480 frame scaled
-// to 512×384 took about 28 ms of CPU that way. The filter tables are kept
-// for the last source size; the vertical pass keeps only the rows it
+// image/draw.Draw in place of the scaling, which that scaling equals), but
+// without the intermediate image, per-call filter tables and [4]float64
+// buffer, or an interface call per pixel: BenchmarkResampler640x480To512x384
+// took 5.9–6.1 ms against 13.8–17.7 ms for BenchmarkXDraw640x480To512x384
+// (idle 2-core AMD EPYC VM, 2026-12-02). The filter tables are kept for the
+// last source size; the vertical pass keeps only the rows it
 // needs. A Resampler is not safe for concurrent use.
 type Resampler struct {
 	w, h     int // the target size

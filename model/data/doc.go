@@ -17,8 +17,9 @@
 //   - Depth ground truth is in metres; 0 marks a pixel without ground truth.
 //   - Occlusion maps hold the stored grey level scaled to [0, 1].
 //   - Size: Options.Width and Height default to the pairs' stored size.
-//   - Resizing: images with Catmull-Rom (golang.org/x/image/draw, which
-//     widens the kernel when shrinking, so downscaling is antialiased);
+//   - Resizing: images with Catmull-Rom (planar.Resampler: the filter of
+//     golang.org/x/image/draw, bit for bit, which widens the kernel when
+//     shrinking, so downscaling is antialiased);
 //     ground truth with nearest-neighbour sampling at pixel centres, so an
 //     invalid pixel never bleeds into a valid one and no value is invented
 //     across a depth edge.

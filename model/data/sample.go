@@ -75,8 +75,9 @@ func toPlanar(img image.Image, width, height int) (*planar.Image, error) {
 }
 
 // resizeImage scales img to width × height with Catmull-Rom and returns it
-// as a 1×3×H×W image; alpha is divided out. planar.Resampler gives, bit for
-// bit, what golang.org/x/image/draw.CatmullRom into an RGBA64 image did here.
+// as a 1×3×H×W image; alpha is divided out (planar.Resampler: bit for bit
+// golang.org/x/image/draw.CatmullRom into an RGBA64 image, then
+// planar.FromImageInto).
 func resizeImage(img image.Image, width, height int) (*planar.Image, error) {
 	rs, err := planar.NewResampler(width, height)
 	if err != nil {

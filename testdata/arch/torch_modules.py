@@ -195,7 +195,7 @@ class RefineLevel(nn.Module):
             self.b = conv3(width, width)
 
 
-class StereoNet(nn.Module):
+class PairNet(nn.Module):
     """parallax-stereo version 2 (the doc comment of model.StereoArchName):
 
     one encoder f1a s2, f1b, f2a s2, f2b, f3a s2, f3b on both views; at 1/8 the
@@ -356,7 +356,7 @@ def main():
     weights = os.path.join(ROOT, "model", "weights")
     meta = load_safetensors(os.path.join(weights, "default.safetensors"))[0]
     one, _ = load(OneImageNet(float(meta["d_max"])), os.path.join(weights, "default.safetensors"), "parallax-ed", 1)
-    stereo, _ = load(StereoNet(), os.path.join(weights, "stereo.safetensors"), "parallax-stereo", 2)
+    stereo, _ = load(PairNet(), os.path.join(weights, "stereo.safetensors"), "parallax-stereo", 2)
     # The parameter counts the documentation gives (model/doc.go, README).
     assert param_count(one) == 929352, param_count(one)
     assert param_count(stereo) == 299228, param_count(stereo)

@@ -588,6 +588,9 @@ func TestTrainingPlanNoGEMMWorkspace(t *testing.T) {
 			t.Fatal(err)
 		}
 		conv.refresh()
+		if len(conv.workers) == 0 {
+			t.Fatalf("%+v: no workers after refresh: nothing to check", c.p)
+		}
 		for _, wk := range conv.workers {
 			if (wk.ws != nil) != c.wantWS {
 				t.Errorf("%+v: worker holds a GEMM workspace: %v, want %v", c.p, wk.ws != nil, c.wantWS)
