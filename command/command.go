@@ -25,7 +25,8 @@ type ExitCoder interface {
 // the process when run returns an error: it prints the error on standard
 // error and exits with status 1, or with the ExitCode of an ExitCoder in the
 // error's chain. The first of signals (none: no signal) cancels run's
-// context; after run returns, signals have their default effect again.
+// context; after that, and after run returns, signals have their default
+// effect again.
 func Main(run Run, signals ...os.Signal) {
 	if code := mainStatus(run, os.Args[1:], os.Stdout, os.Stderr, signals); code != 0 {
 		os.Exit(code)
@@ -37,6 +38,13 @@ func mainStatus(run Run, args []string, stdout, stderr io.Writer, signals []os.S
 	ctx, stop := context.Background(), func() {}
 	if len(signals) > 0 {
 		ctx, stop = signal.NotifyContext(ctx, signals...)
+		// Once the first signal has cancelled run's context, the next one
+		// has its default effect (a second Ctrl-C ends a run that is slow
+		// to stop).
+		go func() {
+			<-ctx.Done()
+			stop()
+		}()
 	}
 	err := run(ctx, args, stdout, stderr)
 	stop()

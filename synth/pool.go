@@ -9,27 +9,24 @@ import (
 // forEachPair runs work(i) for i = 0 … n−1 on o.Workers goroutines,
 // calling o.Progress after each success from one goroutine at a time. It
 // stops handing out work at the first error, or when ctx is done, and
-// returns once the pairs in progress have ended: the first error, or ctx's
-// as "synth: stopped after D of N pairs: ...".
+// returns once the pairs in progress have ended: the first error, or, if
+// ctx ended before every pair was made, ctx's as "synth: stopped after D
+// of N pairs: ...", D counting every pair that was made (those in progress
+// at the stop included).
 func forEachPair(ctx context.Context, n int, o Options, work func(i int) error) error {
 	if err := ctx.Err(); err != nil {
 		return fmt.Errorf("synth: stopped before the first of %d pairs: %w", n, err)
 	}
 	jobs := make(chan int)
 	errs := make(chan error)
-	var wg sync.WaitGroup
 	stop := make(chan struct{})
+	var wg sync.WaitGroup
 	for k := 0; k < min(o.Workers, max(n, 1)); k++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			for i := range jobs {
-				err := work(i)
-				select {
-				case errs <- err:
-				case <-stop:
-					return
-				}
+				errs <- work(i)
 			}
 		}()
 	}
@@ -45,24 +42,27 @@ func forEachPair(ctx context.Context, n int, o Options, work func(i int) error) 
 			}
 		}
 	}()
+	go func() {
+		wg.Wait()
+		close(errs)
+	}()
 	var first error
-collect:
-	for done := 0; done < n; done++ {
-		select {
-		case err := <-errs:
-			if err != nil {
+	done := 0
+	for err := range errs { // until every worker has ended
+		if err != nil {
+			if first == nil {
 				first = err
-				break collect
+				close(stop)
 			}
-		case <-ctx.Done():
-			first = fmt.Errorf("synth: stopped after %d of %d pairs: %w", done, n, ctx.Err())
-			break collect
+			continue
 		}
-		if o.Progress != nil {
-			o.Progress(done+1, n)
+		done++
+		if o.Progress != nil && first == nil {
+			o.Progress(done, n)
 		}
 	}
-	close(stop)
-	wg.Wait()
+	if first == nil && done < n {
+		first = fmt.Errorf("synth: stopped after %d of %d pairs: %w", done, n, ctx.Err())
+	}
 	return first
 }

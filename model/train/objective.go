@@ -2,9 +2,9 @@ package train
 
 import (
 	"fmt"
-	"github.com/parallaxdepth/parallax/model/internal/cpu"
 
 	"github.com/parallaxdepth/parallax/loss"
+	"github.com/parallaxdepth/parallax/model/internal/cpu"
 	"github.com/parallaxdepth/parallax/planar"
 	G "gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
