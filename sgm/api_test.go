@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/parallel"
 )
 
 func TestOptionErrors(t *testing.T) {
@@ -44,6 +45,7 @@ func TestOptionErrors(t *testing.T) {
 		{Options{SpeckleJump: -1}, "SpeckleJump"},
 		{Options{MinTexture: 300}, "MinTexture"},
 		{Options{MaxWorkers: -2}, "MaxWorkers"},
+		{Options{MaxProcs: -1}, "MaxProcs"},
 		{Options{Rig: &noMin}, "minimum depth"},
 		{Options{Rig: &bad}, "rig"},
 	} {
@@ -222,6 +224,45 @@ func TestDeterminism(t *testing.T) {
 	for i := range 6 {
 		if errs[i] != nil || !same[i] {
 			t.Errorf("concurrent call %d: error %v, same result %v", i, errs[i], same[i])
+		}
+	}
+}
+
+// TestMaxProcs: with GOMAXPROCS 4, a Matcher bounded to 1 or 2
+// goroutines runs at most that many of its ranges at once (counted by
+// internal/parallel), and gives the same bits as an unbounded one, which
+// runs more at once (with 8 paths, fill and MinTexture so that every phase
+// runs).
+func TestMaxProcs(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	l, r := stepPair(300, 140, 140, 3, 14)
+	run := func(maxProcs int) (*Result, int) {
+		m, err := NewMatcher(&Options{Paths: 8, FillHoles: true, MinTexture: 2, MaxProcs: maxProcs})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var res *Result
+		peak := parallel.PeakRanges(func() {
+			if res, err = m.Match(context.Background(), l, r); err != nil {
+				t.Fatal(err)
+			}
+		})
+		return res, peak
+	}
+	want, peak := run(0)
+	for try := 0; try < 5 && peak < 2; try++ { // a loaded machine may run the ranges one by one
+		want, peak = run(0)
+	}
+	if peak < 2 {
+		t.Errorf("unbounded: at most %d ranges at once; want more than 1", peak)
+	}
+	for _, maxProcs := range []int{1, 2} {
+		got, peak := run(maxProcs)
+		if peak > maxProcs {
+			t.Errorf("MaxProcs %d: %d ranges at once", maxProcs, peak)
+		}
+		if !sameResult(got, want) {
+			t.Errorf("MaxProcs %d: result differs from the unbounded one", maxProcs)
 		}
 	}
 }

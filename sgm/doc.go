@@ -55,14 +55,15 @@
 //   - Images are converted to 8-bit grey with color.GrayModel's weights.
 //   - Determinism: the costs and their sums are integers and every pixel's
 //     result depends only on the images and options, so the output has the
-//     same bits for any GOMAXPROCS and any number of concurrent calls.
+//     same bits for any GOMAXPROCS, any Options.MaxProcs and any number of
+//     concurrent calls.
 //   - Memory: a call holds, for width × height × levels cells (levels
 //     rounded up to a multiple of 16), the matching costs (1 byte a cell)
 //     and the sums of the vertical and diagonal paths (2 bytes a cell);
 //     about 19 bytes a pixel (the grey and padded grey images, the
 //     vertical penalties, disparity, validity and confidence, the speckle
 //     labels; 4 more with MinTexture); and, for each row range running at once (at most
-//     GOMAXPROCS), two to four rows of sums with the horizontal paths and
+//     GOMAXPROCS, or Options.MaxProcs), two to four rows of sums with the horizontal paths and
 //     of path vectors, and the census words of a row. With the result's maps that
 //     is 3.8 bytes a cell at 370×250 with 48 levels and 3.4 at 640×480
 //     with 80, on 2 goroutines (TestMemoryPerCell). Workers keep their
@@ -82,7 +83,7 @@
 //     chosen at start from the CPU's features; the portable Go kernels
 //     give the same bits, are used everywhere else, and are forced by the
 //     build tag purego. Each call spreads rows, columns and diagonals over
-//     GOMAXPROCS goroutines.
+//     GOMAXPROCS goroutines, or Options.MaxProcs if fewer.
 //   - Errors start with "sgm: " and name the problem: a nil, empty,
 //     oversized or unequal image, an option out of range, a disparity range
 //     that does not fit the image. Nothing panics on data.

@@ -268,7 +268,11 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	vs := wk.np + vecPad
 	wk.rowGrain = max(4, (h+maxRowRanges-1)/maxRowRanges)
 	// One set of row scratch for each range that can run at once.
-	sets := min((h+wk.rowGrain-1)/wk.rowGrain, runtime.GOMAXPROCS(0))
+	procs := runtime.GOMAXPROCS(0)
+	if o.MaxProcs > 0 {
+		procs = min(procs, o.MaxProcs)
+	}
+	sets := min((h+wk.rowGrain-1)/wk.rowGrain, procs)
 	if cap(wk.sets) != sets {
 		wk.sets = make(chan int, sets)
 		for k := range sets {
@@ -298,9 +302,9 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	wk.disp, wk.valid, wk.conf = grow(wk.disp, wh), grow(wk.valid, wh), grow(wk.conf, wh)
 
 	wk.left, wk.right = left, right
-	parallel.For(2*h, wk.rowGrain, wk.greyFn)
+	parallel.ForN(wk.opt.MaxProcs, 2*h, wk.rowGrain, wk.greyFn)
 	wk.left, wk.right = nil, nil
-	parallel.For(h, wk.rowGrain, wk.censusFn)
+	parallel.ForN(wk.opt.MaxProcs, h, wk.rowGrain, wk.censusFn)
 	wk.band(0)
 	if o.Paths == 8 {
 		wk.band(1)
@@ -309,13 +313,13 @@ func (wk *worker) run(left, right image.Image, lo, levels int, dst *Result) {
 	if o.SpeckleSize != Off {
 		wk.speckles.reset(wh)
 	}
-	parallel.For(h, wk.rowGrain, wk.rowFn)
+	parallel.ForN(wk.opt.MaxProcs, h, wk.rowGrain, wk.rowFn)
 	if o.SpeckleSize != Off {
 		for y := wk.rowGrain; y < h; y += wk.rowGrain {
 			wk.speckles.merge(wk.disp, wk.valid, w, y, float32(o.SpeckleJump))
 		}
 	}
-	parallel.For(h, wk.rowGrain, wk.writeFn)
+	parallel.ForN(wk.opt.MaxProcs, h, wk.rowGrain, wk.writeFn)
 }
 
 // writeRange finishes rows [lo, hi): the speckle sweep, the hole fill, and
@@ -499,7 +503,7 @@ func (wk *worker) band(s int) {
 			wk.lineOff = -(wk.h - 1)
 		}
 	}
-	parallel.For(lines, bandLines, wk.bandFn)
+	parallel.ForN(wk.opt.MaxProcs, lines, bandLines, wk.bandFn)
 }
 
 // bandRange aggregates lines [lo, hi) of the current band downwards, then

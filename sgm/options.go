@@ -100,8 +100,13 @@ type Options struct {
 
 	// MaxWorkers bounds the calls that run at once; each holds its own
 	// buffers. Default runtime.GOMAXPROCS(0). Every call also spreads its
-	// work over GOMAXPROCS goroutines.
+	// work over up to MaxProcs goroutines.
 	MaxWorkers int
+	// MaxProcs bounds the goroutines each call spreads its work over, its
+	// caller's included, so that matching can leave cores to other work.
+	// Default 0: runtime.GOMAXPROCS(0) (also the most it uses). The
+	// result is the same bits for any MaxProcs.
+	MaxProcs int
 }
 
 // resolve returns o with defaults filled in, or an error naming a field out
@@ -178,6 +183,9 @@ func (o Options) resolve() (Options, error) {
 	o.MaxWorkers = cmp.Or(o.MaxWorkers, runtime.GOMAXPROCS(0))
 	if o.MaxWorkers < 0 || o.MaxWorkers > 1024 {
 		return o, fmt.Errorf("sgm: MaxWorkers %d must be in [1, 1024]", o.MaxWorkers)
+	}
+	if o.MaxProcs < 0 {
+		return o, fmt.Errorf("sgm: MaxProcs %d must not be negative", o.MaxProcs)
 	}
 	return o, nil
 }

@@ -47,7 +47,7 @@ func ForN(maxProcs, n, grain int, fn func(lo, hi int)) {
 	chunks := (n + grain - 1) / grain
 	if chunks == 1 || procs == 1 {
 		for lo := 0; lo < n; lo += grain {
-			fn(lo, min(lo+grain, n))
+			runRange(fn, lo, min(lo+grain, n))
 		}
 		return
 	}
@@ -88,8 +88,40 @@ func (j *job) run() {
 		if lo >= j.n {
 			return
 		}
-		j.fn(lo, min(lo+j.grain, j.n))
+		runRange(j.fn, lo, min(lo+j.grain, j.n))
 	}
+}
+
+// runRange calls fn(lo, hi), counted if PeakRanges is watching.
+func runRange(fn func(lo, hi int), lo, hi int) {
+	c := watching.Load()
+	if c == nil {
+		fn(lo, hi)
+		return
+	}
+	n := c.now.Add(1)
+	for m := c.peak.Load(); n > m && !c.peak.CompareAndSwap(m, n); m = c.peak.Load() {
+	}
+	fn(lo, hi)
+	c.now.Add(-1)
+}
+
+// rangeCount is the state of one PeakRanges call.
+type rangeCount struct{ now, peak atomic.Int32 }
+
+var watching atomic.Pointer[rangeCount]
+
+// PeakRanges runs f and returns the largest number of ranges of For and
+// ForN calls, from any goroutine, that ran at once meanwhile: tests of
+// the components that bound their goroutines with ForN check the bound
+// with it. Nested calls count a range inside a range twice. Calls of
+// PeakRanges must not overlap.
+func PeakRanges(f func()) int {
+	c := new(rangeCount)
+	watching.Store(c)
+	defer watching.Store(nil)
+	f()
+	return int(c.peak.Load())
 }
 
 var freeJobs = make(FreeList[job], 64)
