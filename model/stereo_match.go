@@ -33,12 +33,15 @@ func (c Config) MatchLevel() int {
 // along the rows) on the pairs and on the mirrored, swapped pairs at
 // 1/2^level resolution (Config.MatchLevel). It depends on the images alone, so training
 // passes no gradient through it. A Matching is not safe for concurrent use.
+// It runs on up to GOMAXPROCS goroutines unless SetMaxProcs bounds it.
 type Matching struct {
 	n, h, w  int // pairs; size at the match level
 	level    int // the match level: 1/2^level of the input's resolution
 	maxDisp  int
 	matcher  *sgm.Matcher
-	slots    []matchSlot // one per match that runs at once
+	slots    []matchSlot // one per match that may run at once
+	maxProcs int         // SetMaxProcs
+	errs     []error     // per slot, during Compute
 	disp     []float32   // 2n × h × w, pixels at the match level, pair-view layout
 	valid    []float32   // 1 where the matcher's own check passed, 0 where filled
 	computed bool
@@ -113,7 +116,35 @@ func NewMatching(n, width, height int, dMax float64, level int) (*Matching, erro
 		slots[i].gl, slots[i].gr = image.NewGray(r), image.NewGray(r)
 	}
 	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, matcher: m, slots: slots,
-		disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
+		errs: make([]error, k), disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
+}
+
+// SetMaxProcs bounds the goroutines Compute uses to n, the caller's
+// included (0 means GOMAXPROCS, the default): it runs up to n matches side
+// by side, within n goroutines together, so that training leaves the other
+// cores to whatever runs beside it (train.Session.SetWorkers). The results
+// are the same bits for any n. It returns an error for a negative n.
+func (m *Matching) SetMaxProcs(n int) error {
+	if n < 0 {
+		return fmt.Errorf("model: matching: max procs %d must not be negative", n)
+	}
+	if n == m.maxProcs {
+		return nil
+	}
+	// sgm.Options.MaxProcs is fixed per Matcher: a new one, whose workers
+	// are made again on the next Compute.
+	procs := 0
+	if n > 0 {
+		procs = n / min(len(m.slots), n)
+	}
+	o := m.matcher.Options()
+	o.MaxProcs = procs
+	matcher, err := sgm.NewMatcher(&o)
+	if err != nil {
+		return fmt.Errorf("model: matching: %w", err)
+	}
+	m.matcher, m.maxProcs = matcher, n
+	return nil
 }
 
 // Invalidate marks the matching stale: the next Compute runs the matcher.
@@ -136,7 +167,11 @@ func (m *Matching) Compute(pairs []float32) error {
 	// results go to plane j of the pair-view layout, whichever slot runs
 	// it, so the outcome does not depend on the number of slots.
 	jobs := 2 * m.n
-	if len(m.slots) == 1 {
+	slots := len(m.slots)
+	if m.maxProcs > 0 {
+		slots = min(slots, m.maxProcs)
+	}
+	if slots == 1 {
 		for j := range jobs {
 			if err := m.matchOne(&m.slots[0], pairs, j, H, W, s); err != nil {
 				return err
@@ -148,9 +183,13 @@ func (m *Matching) Compute(pairs []float32) error {
 	var (
 		next atomic.Int64
 		wg   sync.WaitGroup
-		errs = make([]error, len(m.slots))
 	)
-	for k := range m.slots {
+	if len(m.errs) < slots {
+		m.errs = make([]error, slots)
+	}
+	errs := m.errs[:slots]
+	clear(errs)
+	for k := range slots {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()

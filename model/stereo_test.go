@@ -6,10 +6,12 @@ import (
 	"image"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"strings"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/parallel"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/safetensors"
 	"github.com/parallaxdepth/parallax/sgm"
@@ -368,6 +370,64 @@ func TestUpgradeStereo(t *testing.T) {
 	}
 	if err := w.UpgradeStereo(); err == nil {
 		t.Error("version 2 weights upgraded again")
+	}
+}
+
+// TestMatchingMaxProcs: with GOMAXPROCS 4, a Matching bounded to 1 or 2
+// goroutines runs at most that many of sgm's ranges at once (counted by
+// internal/parallel), matches side by side included, and gives the same
+// planes as an unbounded one, which runs more at once. A negative bound
+// is refused.
+func TestMatchingMaxProcs(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	rng := rand.New(rand.NewPCG(6, 2))
+	const n, h, w = 2, 48, 96
+	pairs := make([]float32, 0, 2*n*3*h*w)
+	var rights []float32
+	for i := range n {
+		l, r := shiftedPair(rng, h, w, 3+i)
+		pairs = append(pairs, l.Pix...)
+		rights = append(rights, r.Pix...)
+	}
+	pairs = append(pairs, rights...)
+	m, err := NewMatching(n, w, h, 0.3, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(m.slots) < 2 {
+		t.Fatalf("%d slots; the test needs matches side by side", len(m.slots))
+	}
+	compute := func(maxProcs int) (disp, valid []float32, peak int) {
+		if err := m.SetMaxProcs(maxProcs); err != nil {
+			t.Fatal(err)
+		}
+		m.Invalidate()
+		peak = parallel.PeakRanges(func() { err = m.Compute(pairs) })
+		if err != nil {
+			t.Fatal(err)
+		}
+		return slices.Clone(m.disp), slices.Clone(m.valid), peak
+	}
+	disp, valid, peak := compute(0)
+	for try := 0; try < 5 && peak < 3; try++ { // a loaded machine may run the ranges one by one
+		disp, valid, peak = compute(0)
+	}
+	t.Logf("unbounded: %d ranges at once", peak)
+	if peak < 3 {
+		t.Errorf("unbounded: at most %d ranges at once; want more than 2", peak)
+	}
+	for _, maxProcs := range []int{1, 2, 0} {
+		d, v, peak := compute(maxProcs)
+		t.Logf("SetMaxProcs(%d): %d ranges at once", maxProcs, peak)
+		if maxProcs > 0 && peak > maxProcs {
+			t.Errorf("SetMaxProcs(%d): %d ranges at once", maxProcs, peak)
+		}
+		if !slices.Equal(d, disp) || !slices.Equal(v, valid) {
+			t.Errorf("SetMaxProcs(%d): the planes differ from the unbounded ones", maxProcs)
+		}
+	}
+	if err := m.SetMaxProcs(-1); err == nil {
+		t.Error("SetMaxProcs(-1) accepted")
 	}
 }
 

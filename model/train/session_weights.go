@@ -15,7 +15,8 @@ import (
 func (s *Session) SetWeights(w *model.Weights) error { return s.net.SetWeights(w) }
 
 // SetWorkers bounds the goroutines each kernel of the Session's graph
-// uses to n (at most GOMAXPROCS; 0 means GOMAXPROCS, the default), so
+// uses to n (at most GOMAXPROCS; 0 means GOMAXPROCS, the default), the
+// stereo matcher's included (model.Matching.SetMaxProcs), so
 // that training leaves the other cores to whatever runs beside it (online
 // adaptation beside inference). The results are the same bits for any n.
 // It returns an error for a negative n.

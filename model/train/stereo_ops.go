@@ -126,6 +126,9 @@ func (net *network) matchNode(l *model.Layer) (*G.Node, error) {
 	op := newKernelOp("match", l.Name, fmt.Sprint(level), ys, xs)
 	m := net.match
 	op.run = func(p cpu.Procs, y []float32, in [][]float32) error {
+		if err := m.SetMaxProcs(int(p)); err != nil {
+			return fmt.Errorf("train: %w", err)
+		}
 		if err := m.Compute(in[0]); err != nil {
 			return fmt.Errorf("train: %w", err)
 		}

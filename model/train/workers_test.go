@@ -2,9 +2,11 @@ package train
 
 import (
 	"math"
+	"math/rand/v2"
 	"runtime"
 	"testing"
 
+	"github.com/parallaxdepth/parallax/internal/parallel"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -59,5 +61,60 @@ func TestSetWorkers(t *testing.T) {
 	defer s.Close()
 	if err := s.SetWorkers(-1); err == nil {
 		t.Error("SetWorkers(-1) accepted")
+	}
+}
+
+// TestSetWorkersStereo: with GOMAXPROCS 4, training steps of a stereo
+// Session bounded to 1 or 2 workers run at most that many parallel ranges
+// at once (counted by internal/parallel), the matcher's among them, and
+// train to the same bits as unbounded steps, which run more at once.
+func TestSetWorkersStereo(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	rng := rand.New(rand.NewPCG(3, 4))
+	w := perturbedWeights(t, tinyStereo, 5, rng)
+	PrepareHeads(w)
+	left, right := randomImage(rng, 1, 3, 64, 64), randomImage(rng, 1, 3, 64, 64)
+	train := func(workers int) (*model.Weights, int) {
+		s, err := NewSession(w, 1, nil, &AdamConfig{LearningRate: 1e-3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer s.Close()
+		if err := s.SetWorkers(workers); err != nil {
+			t.Fatal(err)
+		}
+		peak := parallel.PeakRanges(func() {
+			for range 2 {
+				if _, err = s.Step(left, right); err != nil {
+					return
+				}
+			}
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return s.Weights(), peak
+	}
+	want, peak := train(0)
+	for try := 0; try < 5 && peak < 3; try++ { // a loaded machine may run the ranges one by one
+		want, peak = train(0)
+	}
+	t.Logf("unbounded: %d ranges at once", peak)
+	if peak < 3 {
+		t.Errorf("unbounded: at most %d ranges at once; want more than 2", peak)
+	}
+	for _, workers := range []int{1, 2} {
+		got, peak := train(workers)
+		t.Logf("%d workers: %d ranges at once", workers, peak)
+		if peak > workers {
+			t.Errorf("%d workers: %d ranges at once", workers, peak)
+		}
+		for name, v := range got.Params {
+			for i := range v {
+				if math.Float32bits(v[i]) != math.Float32bits(want.Params[name][i]) {
+					t.Fatalf("%d workers: %s[%d] is %v, unbounded %v", workers, name, i, v[i], want.Params[name][i])
+				}
+			}
+		}
 	}
 }
