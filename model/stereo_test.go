@@ -381,16 +381,8 @@ func TestUpgradeStereo(t *testing.T) {
 // is refused.
 func TestMatchingMaxProcs(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
-	rng := rand.New(rand.NewPCG(6, 2))
 	const n, h, w = 2, 48, 96
-	pairs := make([]float32, 0, 2*n*3*h*w)
-	var rights []float32
-	for i := range n {
-		l, r := shiftedPair(rng, h, w, 3+i)
-		pairs = append(pairs, l.Pix...)
-		rights = append(rights, r.Pix...)
-	}
-	pairs = append(pairs, rights...)
+	pairs := pairBatch(rand.New(rand.NewPCG(6, 2)), n, h, w, 3)
 	m, err := NewMatching(n, w, h, 0.3, 0)
 	if err != nil {
 		t.Fatal(err)
@@ -441,14 +433,7 @@ func TestMatchingMaxProcs(t *testing.T) {
 func TestMatchingSlots(t *testing.T) {
 	rng := rand.New(rand.NewPCG(6, 1))
 	const n, h, w = 3, 32, 64
-	pairs := make([]float32, 0, 2*n*3*h*w)
-	var rights []float32
-	for i := range n {
-		l, r := shiftedPair(rng, h, w, 2+i)
-		pairs = append(pairs, l.Pix...)
-		rights = append(rights, r.Pix...)
-	}
-	pairs = append(pairs, rights...)
+	pairs := pairBatch(rng, n, h, w, 2)
 	var got [2]*Matching
 	for i, k := range []int{1, 4} {
 		m, err := NewMatching(n, w, h, 0.3, 0)
@@ -529,4 +514,17 @@ func TestMatchingSlots(t *testing.T) {
 			t.Fatalf("mirror %v: the one-pixel grey conversion differs from greyMeans'", mirror)
 		}
 	}
+}
+
+// pairBatch returns the input of a stereo batch of n shifted pairs of
+// h × w (shifts d, d+1, …): the n left views, then the n right views.
+func pairBatch(rng *rand.Rand, n, h, w, d int) []float32 {
+	pairs := make([]float32, 0, 2*n*3*h*w)
+	var rights []float32
+	for i := range n {
+		l, r := shiftedPair(rng, h, w, d+i)
+		pairs = append(pairs, l.Pix...)
+		rights = append(rights, r.Pix...)
+	}
+	return append(pairs, rights...)
 }
