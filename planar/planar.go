@@ -242,16 +242,8 @@ func FromImageInto(dst *Image, img image.Image) error {
 			row := src.Pix[(y+b.Min.Y-src.Rect.Min.Y)*src.Stride+(b.Min.X-src.Rect.Min.X)*8:]
 			for x := 0; x < w; x++ {
 				px := row[8*x : 8*x+8 : 8*x+8]
-				a := float32(uint16(px[6])<<8 | uint16(px[7]))
-				if a == 0 {
-					r[y*w+x], g[y*w+x], bl[y*w+x] = 0, 0, 0
-					continue
-				}
-				// Divide (correctly rounded) rather than multiply by 1/a, so
-				// an opaque 16-bit value v maps to exactly v/65535.
-				r[y*w+x] = min(float32(uint16(px[0])<<8|uint16(px[1]))/a, 1)
-				g[y*w+x] = min(float32(uint16(px[2])<<8|uint16(px[3]))/a, 1)
-				bl[y*w+x] = min(float32(uint16(px[4])<<8|uint16(px[5]))/a, 1)
+				u := func(i int) uint32 { return uint32(px[i])<<8 | uint32(px[i+1]) }
+				r[y*w+x], g[y*w+x], bl[y*w+x] = unpremultiply(u(0), u(2), u(4), u(6))
 			}
 		}
 	case *image.Gray:

@@ -225,7 +225,9 @@ func to16(f float64) uint32 {
 }
 
 // unpremultiply turns premultiplied 16-bit colours into R, G, B in [0, 1]
-// as FromImageInto does for an *image.RGBA64.
+// (FromImageInto's rule for an *image.RGBA64, and Resampler's). It
+// divides, correctly rounded, rather than multiplying by 1/a, so an opaque
+// 16-bit value v maps to exactly v/65535; a fully transparent pixel gives 0.
 func unpremultiply(r, g, b, a uint32) (float32, float32, float32) {
 	if a == 0 {
 		return 0, 0, 0

@@ -82,7 +82,10 @@ func (d *Drive) Leg(frame int) (leg, within int, err error) {
 	return 0, 0, fmt.Errorf("synth: frame %d is beyond the drive's %d frames", frame, d.Frames())
 }
 
-func (d *Drive) check() error {
+// Check returns an error naming the first problem of d: nil or no legs, a
+// leg of an unknown style or of no frames, a step that is negative or not
+// finite. Every function that plays or renders a drive calls it.
+func (d *Drive) Check() error {
 	if d == nil || len(d.Legs) == 0 {
 		return errors.New("synth: the drive has no legs")
 	}
@@ -217,7 +220,7 @@ func (d *Drive) setup(opt *Options) (Options, *Capture, *depth.Rig, error) {
 	if err != nil {
 		return o, nil, nil, err
 	}
-	if err := d.check(); err != nil {
+	if err := d.Check(); err != nil {
 		return o, nil, nil, err
 	}
 	vary, err := o.Vary.resolve(d.Legs[0].Style)

@@ -84,8 +84,8 @@ func Play(ctx context.Context, d *synth.Drive, ests []*model.Estimator, ad *adap
 	if o.Block == 0 {
 		o.Block = 10
 	}
-	if err := checkDrive(d); err != nil {
-		return nil, err
+	if err := d.Check(); err != nil {
+		return nil, fmt.Errorf("drive: %w", err)
 	}
 	switch {
 	case len(ests) == 0:
@@ -262,18 +262,4 @@ func ScoreSet(ctx context.Context, e *model.Estimator, set *dataset.Set, blockLe
 		}
 	}
 	return total / float64(max(len(set.Pairs), 1)), nil
-}
-
-// checkDrive returns an error for a nil drive, or one with a leg of no
-// frames.
-func checkDrive(d *synth.Drive) error {
-	if d == nil || len(d.Legs) == 0 {
-		return errors.New("drive: the drive has no legs")
-	}
-	for i, l := range d.Legs {
-		if l.Frames < 1 {
-			return fmt.Errorf("drive: leg %d (%v) has %d frames, want at least 1", i, l.Style, l.Frames)
-		}
-	}
-	return nil
 }

@@ -48,8 +48,8 @@ func (p *Pacer) Wait() {
 // and returns both sets of durations. The frames are rendered before the
 // timing starts. Time it on an idle machine.
 func Latency(ctx context.Context, d *synth.Drive, render *synth.Options, e *model.Estimator, ad *adapt.Adapter, calls int, fps float64) (without, with []time.Duration, err error) {
-	if err := checkDrive(d); err != nil {
-		return nil, nil, err
+	if err := d.Check(); err != nil {
+		return nil, nil, fmt.Errorf("drive: %w", err)
 	}
 	if e == nil || ad == nil || calls < 1 || !(fps >= 0) {
 		return nil, nil, fmt.Errorf("drive: Latency needs an Estimator, an Adapter, at least 1 call and frames/s ≥ 0 (calls %d, fps %v)", calls, fps)
