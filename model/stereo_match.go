@@ -8,7 +8,6 @@ import (
 	"math"
 	"runtime"
 	"sync"
-	"sync/atomic"
 
 	"github.com/parallaxdepth/parallax/sgm"
 )
@@ -38,7 +37,6 @@ type Matching struct {
 	n, h, w  int // pairs; size at the match level
 	level    int // the match level: 1/2^level of the input's resolution
 	maxDisp  int
-	matcher  *sgm.Matcher
 	slots    []matchSlot // one per match that may run at once
 	maxProcs int         // SetMaxProcs
 	errs     []error     // per slot, during Compute
@@ -50,10 +48,25 @@ type Matching struct {
 	fixed bool
 }
 
-// matchSlot holds one running match's grey views and result.
+// matchSlot holds one running match's grey views, result and matcher (of
+// one worker: a slot's memory is made by its first match, whatever the
+// timing of the others, so that a stage holds what it is counted to).
 type matchSlot struct {
-	gl, gr *image.Gray
-	res    sgm.Result
+	gl, gr  *image.Gray
+	res     sgm.Result
+	matcher *sgm.Matcher
+}
+
+// newMatchSlot returns a slot for w × h matches with the matcher options o
+// (MaxWorkers is set to 1).
+func newMatchSlot(w, h int, o sgm.Options) (matchSlot, error) {
+	o.MaxWorkers = 1
+	m, err := sgm.NewMatcher(&o)
+	if err != nil {
+		return matchSlot{}, fmt.Errorf("model: matching: %w", err)
+	}
+	r := image.Rect(0, 0, w, h)
+	return matchSlot{gl: image.NewGray(r), gr: image.NewGray(r), matcher: m}, nil
 }
 
 // MaxConcurrentMatchBytes bounds the memory that running the 2n matches of
@@ -106,16 +119,14 @@ func NewMatching(n, width, height int, dMax float64, level int) (*Matching, erro
 		maxDisp = 1
 	}
 	k := matchSlots(n, h, w, maxDisp)
-	m, err := sgm.NewMatcher(&sgm.Options{MaxDisparity: maxDisp, MaxWorkers: k})
-	if err != nil {
-		return nil, fmt.Errorf("model: matching: %w", err)
-	}
-	r := image.Rect(0, 0, w, h)
 	slots := make([]matchSlot, k)
 	for i := range slots {
-		slots[i].gl, slots[i].gr = image.NewGray(r), image.NewGray(r)
+		var err error
+		if slots[i], err = newMatchSlot(w, h, sgm.Options{MaxDisparity: maxDisp}); err != nil {
+			return nil, err
+		}
 	}
-	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, matcher: m, slots: slots,
+	return &Matching{n: n, h: h, w: w, level: level, maxDisp: maxDisp, slots: slots,
 		errs: make([]error, k), disp: make([]float32, 2*n*h*w), valid: make([]float32, 2*n*h*w)}, nil
 }
 
@@ -131,19 +142,25 @@ func (m *Matching) SetMaxProcs(n int) error {
 	if n == m.maxProcs {
 		return nil
 	}
-	// sgm.Options.MaxProcs is fixed per Matcher: a new one, whose workers
+	// sgm.Options.MaxProcs is fixed per Matcher: new ones, whose workers
 	// are made again on the next Compute.
 	procs := 0
 	if n > 0 {
 		procs = n / min(len(m.slots), n)
 	}
-	o := m.matcher.Options()
-	o.MaxProcs = procs
-	matcher, err := sgm.NewMatcher(&o)
-	if err != nil {
-		return fmt.Errorf("model: matching: %w", err)
+	slots := make([]*sgm.Matcher, len(m.slots))
+	for i := range m.slots {
+		o := m.slots[i].matcher.Options()
+		o.MaxProcs = procs
+		var err error
+		if slots[i], err = sgm.NewMatcher(&o); err != nil {
+			return fmt.Errorf("model: matching: %w", err)
+		}
 	}
-	m.matcher, m.maxProcs = matcher, n
+	for i := range m.slots {
+		m.slots[i].matcher = slots[i]
+	}
+	m.maxProcs = n
 	return nil
 }
 
@@ -180,10 +197,9 @@ func (m *Matching) Compute(pairs []float32) error {
 		m.computed = true
 		return nil
 	}
-	var (
-		next atomic.Int64
-		wg   sync.WaitGroup
-	)
+	// Slot k runs matches k, k + slots, …: each slot runs one at least and
+	// so makes its memory, as the stage's count has it.
+	var wg sync.WaitGroup
 	if len(m.errs) < slots {
 		m.errs = make([]error, slots)
 	}
@@ -193,7 +209,7 @@ func (m *Matching) Compute(pairs []float32) error {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for j := int(next.Add(1) - 1); j < jobs; j = int(next.Add(1) - 1) {
+			for j := k; j < jobs; j += slots {
 				if errs[k] = m.matchOne(&m.slots[k], pairs, j, H, W, s); errs[k] != nil {
 					return
 				}
@@ -220,7 +236,7 @@ func (m *Matching) matchOne(sl *matchSlot, pairs []float32, j, H, W, s int) erro
 	}
 	greyBlocks(sl.gl, a, H, W, s, mirror)
 	greyBlocks(sl.gr, b, H, W, s, mirror)
-	if err := m.matcher.MatchInto(context.Background(), &sl.res, sl.gl, sl.gr); err != nil {
+	if err := sl.matcher.MatchInto(context.Background(), &sl.res, sl.gl, sl.gr); err != nil {
 		return fmt.Errorf("model: matching: %w", err)
 	}
 	plane := m.h * m.w
