@@ -55,6 +55,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	var ad train.AdaptOptions
 	fs.IntVar(&ad.Steps, "adapt", 0, "fine-tune for this many steps on the evaluated pairs (self-supervised, no ground truth)\nbefore a second evaluation; 0: no adaptation")
 	fs.IntVar(&ad.Batch, "adapt-batch", 4, "pairs per adaptation step (at most the number of pairs)")
+	fs.Float64Var(&ad.LearningRate, "adapt-lr", train.DefaultRate, "the adaptation's learning rate (Adam, after a warm-up of 2 % of the steps)")
 	fs.Uint64Var(&ad.Seed, "seed", 1, "seed of the adaptation's batch order")
 	pair := fs.String("pair", "", "evaluate one pair given as files LEFT,RIGHT,DISP (images and the left disparity PFM in\npixels, non-finite = unknown) instead of a dataset folder")
 	rigPath := fs.String("rig", "", "with -pair: the rig JSON file, rescaled to the images' size (their aspect ratio must match\nwithin 1%); depth is scored only with a rig")
@@ -67,8 +68,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() > 1 || (*pair != "" && (fs.NArg() > 0 || len(files) != 3)) || (*pair == "" && *rigPath != "") {
 		return fmt.Errorf("evaluate: give one dataset folder, or -pair LEFT,RIGHT,DISP (and -rig) without a folder, not %q (see -help)", append(fs.Args(), *pair))
 	}
-	if ad.Steps < 0 || ad.Batch < 1 || (*method != "network" && (ad.Steps > 0 || *weights != "" || *stereo)) {
-		return fmt.Errorf("evaluate: -adapt %d, -adapt-batch %d: want -adapt ≥ 0, -adapt-batch ≥ 1; -adapt, -weights and -stereo go with -method network", ad.Steps, ad.Batch)
+	if ad.Steps < 0 || ad.Batch < 1 || !(ad.LearningRate > 0) || (*method != "network" && (ad.Steps > 0 || *weights != "" || *stereo)) {
+		return fmt.Errorf("evaluate: -adapt %d, -adapt-batch %d, -adapt-lr %v: want -adapt ≥ 0, -adapt-batch ≥ 1, -adapt-lr > 0; -adapt, -weights and -stereo go with -method network", ad.Steps, ad.Batch, ad.LearningRate)
 	}
 	ds, err := (*dataset.Set)(nil), error(nil)
 	if src == "" {

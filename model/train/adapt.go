@@ -33,6 +33,10 @@ type AdaptOptions struct {
 	// trained squashed to 256×128 and scored at 384×256). Pairs of
 	// different sizes train at the weights' size.
 	MaxSide int
+	// LearningRate is Adam's rate after a warm-up of 2 % of the steps
+	// (Schedule's default), constant to the end. If it is 0 it is
+	// defaulted to DefaultRate, the training rate.
+	LearningRate float64
 	// Progress, if not nil, is called after every step.
 	Progress func(Progress)
 }
@@ -71,7 +75,8 @@ func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOp
 	if err != nil {
 		return nil, nil, err
 	}
-	tr, err := NewTrainer(run, src, &TrainerOptions{Steps: o.Steps, Batch: batch, Seed: o.Seed, Progress: o.Progress})
+	tr, err := NewTrainer(run, src, &TrainerOptions{Steps: o.Steps, Batch: batch, Seed: o.Seed, Progress: o.Progress,
+		Schedule: Schedule{Rate: o.LearningRate}})
 	if err != nil {
 		return nil, nil, err
 	}

@@ -2,6 +2,7 @@ package train
 
 import (
 	"context"
+	"math"
 	"path/filepath"
 	"slices"
 	"testing"
@@ -53,6 +54,51 @@ func TestAdapt(t *testing.T) {
 	}
 	if _, _, err := Adapt(context.Background(), nil, set, nil); err == nil {
 		t.Error("nil weights adapted")
+	}
+}
+
+// TestAdaptLearningRate: AdaptOptions.LearningRate reaches Adam. Adam's
+// first step moves each parameter by rate·g/(|g|+ε) (Kingma & Ba 2015,
+// algorithm 1, with m̂ = g and v̂ = g² after one step), so on the same batch
+// twice the rate moves every parameter twice as far; 0 is DefaultRate.
+func TestAdaptLearningRate(t *testing.T) {
+	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := model.Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	moved := map[float64]map[string][]float32{}
+	for _, rate := range []float64{0, DefaultRate, 2 * DefaultRate} {
+		out, _, err := Adapt(context.Background(), w, set, &AdaptOptions{Steps: 1, Batch: 1, LearningRate: rate})
+		if err != nil {
+			t.Fatal(err)
+		}
+		moved[rate] = out.Params
+	}
+	var n int
+	for k, v := range w.Params {
+		for i := range v {
+			d0, d1, d2 := moved[0][k][i]-v[i], moved[DefaultRate][k][i]-v[i], moved[2*DefaultRate][k][i]-v[i]
+			if d0 != d1 {
+				t.Fatalf("%s[%d]: moved %g at rate 0, %g at DefaultRate", k, i, d0, d1)
+			}
+			// Parameters whose move is well above float32's spacing at their value.
+			if math.Abs(float64(d1)) > 1e-5 {
+				n++
+				if r := float64(d2) / float64(d1); math.Abs(r-2) > 0.01 {
+					t.Fatalf("%s[%d]: moved %g at DefaultRate, %g at twice it (ratio %.4f, want 2)", k, i, d1, d2, r)
+				}
+			}
+		}
+	}
+	if n < 1000 {
+		t.Fatalf("only %d parameters moved by more than 1e-5 in one step", n)
+	}
+	if _, _, err := Adapt(context.Background(), w, set, &AdaptOptions{Steps: 1, LearningRate: -1}); err == nil {
+		t.Error("a negative learning rate is accepted")
 	}
 }
 
