@@ -11,6 +11,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/parallaxdepth/parallax/internal/parallel"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/train"
 	"github.com/parallaxdepth/parallax/planar"
@@ -633,15 +634,72 @@ func TestMinGain(t *testing.T) {
 	}
 }
 
-// TestWorkersDefault: the training graph's kernels are bounded to
-// Options.Workers, by default half of GOMAXPROCS (at least 1).
-func TestWorkersDefault(t *testing.T) {
+// TestWorkersBound: with GOMAXPROCS 4, the steps and the check of an
+// adapter with Options.Workers 1, and with the default (half of
+// GOMAXPROCS: 2), run at most that many parallel ranges at once (counted
+// by internal/parallel from every goroutine), for one-image weights and
+// for stereo weights (the matcher's ranges, model.Matching.SetMaxProcs,
+// among them). It guards the path from the option to every kernel of the
+// training graph: the same steps with Workers 4 run more than 2 ranges at
+// once (retried, as a loaded machine may run them one by one), so a bound
+// that is lost on the way makes the bounded runs exceed theirs.
+func TestWorkersBound(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
-	for _, c := range []struct{ set, want int }{{0, 2}, {3, 3}} {
-		a, _ := newAdapter(t, &Options{Workers: c.set})
-		offerAll(t, a, drive(t, 1))
-		if a.opt.Workers != c.want {
-			t.Errorf("Workers %d: the adapter uses %d, want %d", c.set, a.opt.Workers, c.want)
+	ps := drive(t, 6)
+	stereo := model.Config{Arch: model.StereoArchName, Width: 128, Height: 64, Encoder: []int{4, 6, 8}, Decoder: []int{3, 4, 6, 8}}
+	for _, kind := range []struct {
+		name   string
+		config model.Config
+	}{{"one-image", testConfig}, {"stereo", stereo}} {
+		// peak returns the most ranges at once over two steps and a check
+		// of an adapter with the given Workers, the largest of tries runs.
+		peak := func(workers, tries int) int {
+			w, err := model.NewWeights(kind.config, 1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			est, err := model.NewEstimator(w, &model.EstimatorOptions{TrainingSize: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			a, err := New(est, &Options{Workers: workers, HoldOut: 2, StepsPerCheck: 2, MaxDrift: DriftOff})
+			if err != nil {
+				t.Fatal(err)
+			}
+			defer a.Close()
+			offerAll(t, a, ps)
+			most := 0
+			for try := 0; try < tries && most <= 2; try++ {
+				if try > 0 {
+					time.Sleep(20 * time.Millisecond)
+				}
+				most = max(most, parallel.PeakRanges(func() {
+					for range 2 {
+						if err = a.Step(context.Background()); err != nil {
+							return
+						}
+					}
+				}))
+				if err != nil {
+					t.Fatal(err)
+				}
+			}
+			if s := a.Status(); s.Checks == 0 {
+				t.Fatalf("%s, Workers %d: no check ran: %+v", kind.name, workers, s)
+			}
+			return most
+		}
+		got := peak(4, 20)
+		t.Logf("%s, Workers 4: %d ranges at once", kind.name, got)
+		if got <= 2 {
+			t.Errorf("%s, Workers 4: at most %d ranges at once, want more than 2", kind.name, got)
+		}
+		for _, c := range []struct{ set, want int }{{0, 2}, {1, 1}} {
+			got := peak(c.set, 1)
+			t.Logf("%s, Workers %d: %d ranges at once", kind.name, c.set, got)
+			if got > c.want {
+				t.Errorf("%s, Workers %d: %d ranges at once, want at most %d", kind.name, c.set, got, c.want)
+			}
 		}
 	}
 }
