@@ -44,8 +44,8 @@ func TestStereoKind(t *testing.T) {
 		args []string
 		want []string
 	}{
-		{[]string{"-stereo", "-weights", files[false]}, []string{files[false], "one-image weights, not stereo weights"}},
-		{[]string{"-weights", files[true]}, []string{files[true], "stereo weights, not one-image weights"}},
+		{[]string{"-stereo", "-weights", files.OneImage}, []string{files.OneImage, "one-image weights, not stereo weights"}},
+		{[]string{"-weights", files.Stereo}, []string{files.Stereo, "stereo weights, not one-image weights"}},
 		{[]string{"-method", "sgm", "-stereo"}, []string{"-stereo go with -method network"}},
 		{[]string{"-stereo", "-flip"}, []string{"flip post-processing is for one-image weights"}},
 	} {

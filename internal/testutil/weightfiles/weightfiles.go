@@ -12,22 +12,28 @@ import (
 	"github.com/parallaxdepth/parallax/safetensors"
 )
 
+// Files are the paths of the embedded weights saved by Embedded.
+type Files struct {
+	OneImage string // model.Default's weights
+	Stereo   string // model.DefaultStereo's weights
+}
+
 // Embedded saves the embedded one-image weights and stereo weights as F16
-// files into a temporary folder of t and returns their paths, by kind
-// (false: one-image, true: stereo). It fails t if either cannot be written.
-func Embedded(t testing.TB) map[bool]string {
+// files into a temporary folder of t and returns their paths. It fails t
+// if either cannot be written.
+func Embedded(t testing.TB) Files {
 	t.Helper()
 	dir := t.TempDir()
-	files := map[bool]string{}
-	for _, stereo := range []bool{false, true} {
-		w, err := model.LoadKind("", stereo)
+	save := func(name string, load func() (*model.Weights, error)) string {
+		w, err := load()
 		if err != nil {
 			t.Fatal(err)
 		}
-		files[stereo] = filepath.Join(dir, map[bool]string{true: "stereo", false: "mono"}[stereo]+".safetensors")
-		if err := w.Save(files[stereo], safetensors.F16); err != nil {
+		path := filepath.Join(dir, name)
+		if err := w.Save(path, safetensors.F16); err != nil {
 			t.Fatal(err)
 		}
+		return path
 	}
-	return files
+	return Files{OneImage: save("one-image.safetensors", model.Default), Stereo: save("stereo.safetensors", model.DefaultStereo)}
 }
