@@ -2,6 +2,7 @@ package train
 
 import (
 	"fmt"
+	"slices"
 
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/internal/cpu"
@@ -90,11 +91,14 @@ func (net *network) SetPair(left, right *planar.Image) error {
 		return fmt.Errorf("train: %w", err)
 	}
 	k := len(left.Pix)
-	copy(net.input[:k], left.Pix)
-	copy(net.input[k:], right.Pix)
-	if net.match != nil {
+	// The matching depends on the images alone: a batch equal to the last
+	// one (adaptation on one pair, repeated validation batches) keeps it,
+	// which saves the matcher's two runs per pair and step.
+	if net.match != nil && (!slices.Equal(net.input[:k], left.Pix) || !slices.Equal(net.input[k:], right.Pix)) {
 		net.match.Invalidate()
 	}
+	copy(net.input[:k], left.Pix)
+	copy(net.input[k:], right.Pix)
 	return nil
 }
 
