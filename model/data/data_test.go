@@ -533,6 +533,53 @@ func TestLoaderDeterministic(t *testing.T) {
 	}
 }
 
+// Options.Cache serves the batches an uncached loader serves, with and
+// without augmentation (which must not reach the cached samples), and
+// reads no file after the first epoch: the set's files are removed before
+// epochs 1 and 2.
+func TestLoaderCache(t *testing.T) {
+	for _, aug := range []*Augment{nil, &DefaultAugment} {
+		dir := writeDataset(t, fixture{w: 64, h: 32, d: 3, truth: true}, "a", "b", "c", "d", "e")
+		ds, err := dataset.Open(dir)
+		if err != nil {
+			t.Fatal(err)
+		}
+		opt := Options{Width: 48, Height: 32, BatchSize: 2, Shuffle: true, Seed: 4, Augment: aug}
+		plain, err := NewLoader(ds, &opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		opt.Cache = true
+		cached, err := NewLoader(ds, &opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var want [3][]*Batch
+		for e := range want {
+			want[e] = epochBatches(t, plain, e)
+		}
+		got0 := epochBatches(t, cached, 0)
+		if err := os.RemoveAll(dir); err != nil {
+			t.Fatal(err)
+		}
+		for e, got := range [][]*Batch{got0, epochBatches(t, cached, 1), epochBatches(t, cached, 2)} {
+			if len(got) != len(want[e]) {
+				t.Fatalf("augment %v, epoch %d: %d batches, want %d", aug != nil, e, len(got), len(want[e]))
+			}
+			for i := range got {
+				if !equalBatch(got[i], want[e][i]) {
+					t.Fatalf("augment %v, epoch %d, batch %d: the cached loader serves other values", aug != nil, e, i)
+				}
+			}
+		}
+		if _, err := NewLoader(ds, &Options{Width: 48, Height: 32}); err != nil {
+			t.Fatal(err)
+		} else if _, err := LoadSample(ds, 0, 48, 32); err == nil {
+			t.Fatal("the set's files are still readable: the check above proves nothing")
+		}
+	}
+}
+
 func equalBatch(a, b *Batch) bool {
 	if strings.Join(a.Names, ",") != strings.Join(b.Names, ",") {
 		return false

@@ -42,6 +42,12 @@ type Options struct {
 	// (model.MinSide), so that a 1×1 pair is not blown up to the training
 	// size. 0 means no minimum.
 	MinSide int
+	// Cache keeps every sample once it is loaded and resized (before
+	// augmentation), for a small set read many times (adaptation on a
+	// few pairs, a validation set): later epochs read no file. It holds
+	// 4 bytes for every value of every map of every pair (24 bytes a
+	// pixel for the two views alone).
+	Cache bool
 }
 
 // Batch is BatchSize samples (fewer for the last batch of an epoch unless
@@ -66,6 +72,9 @@ type Batch struct {
 type Loader struct {
 	ds  *dataset.Set
 	opt Options
+	// cache holds pair i's resized sample once loaded (Options.Cache).
+	mu    sync.Mutex
+	cache []*Sample
 }
 
 // NewLoader returns a loader over ds. It returns an error for an empty
@@ -133,7 +142,35 @@ func NewLoader(ds *dataset.Set, opt *Options) (*Loader, error) {
 	if o.DropPartial && len(ds.Pairs) < o.BatchSize {
 		return nil, fmt.Errorf("data: %d pairs make no full batch of %d", len(ds.Pairs), o.BatchSize)
 	}
-	return &Loader{ds: ds, opt: o}, nil
+	l := &Loader{ds: ds, opt: o}
+	if o.Cache {
+		l.cache = make([]*Sample, len(ds.Pairs))
+	}
+	return l, nil
+}
+
+// sample returns pair i's sample at the output size, to be augmented: a
+// copy of the cached one under Options.Cache.
+func (l *Loader) sample(i int) (*Sample, error) {
+	if l.cache == nil {
+		return LoadSample(l.ds, i, l.opt.Width, l.opt.Height)
+	}
+	l.mu.Lock()
+	s := l.cache[i]
+	l.mu.Unlock()
+	if s == nil {
+		var err error
+		if s, err = LoadSample(l.ds, i, l.opt.Width, l.opt.Height); err != nil {
+			return nil, err
+		}
+		l.mu.Lock()
+		l.cache[i] = s
+		l.mu.Unlock()
+	}
+	if l.opt.Augment == nil {
+		return s, nil // batch only copies it
+	}
+	return s.clone(), nil
 }
 
 // NumBatches returns the number of batches in one epoch.
@@ -273,7 +310,7 @@ func (l *Loader) batch(ctx context.Context, epoch, pos int, idx []int) (*Batch, 
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		s, err := LoadSample(l.ds, i, o.Width, o.Height)
+		s, err := l.sample(i)
 		if err != nil {
 			return nil, err
 		}

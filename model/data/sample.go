@@ -27,6 +27,17 @@ type Sample struct {
 	Flipped bool
 }
 
+// clone returns a deep copy of s.
+func (s *Sample) clone() *Sample {
+	c := *s
+	for _, m := range []**planar.Image{&c.Left, &c.Right, &c.DispLeft, &c.DispRight, &c.DepthLeft, &c.OccLeft, &c.OccRight} {
+		if *m != nil {
+			*m = (*m).Clone()
+		}
+	}
+	return &c
+}
+
 // LoadSample reads pair i of ds (with dataset.Set.Read) and resizes it to width ×
 // height. It returns an error naming the file if an image or truth map is
 // corrupt, has another size than recorded by dataset.Open, or a truth map
