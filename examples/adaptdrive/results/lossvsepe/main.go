@@ -4,10 +4,10 @@
 // and the self-supervised objective of both (scored on every fifth frame):
 // whether the objective the adapter's check reads tracks the depth error.
 // Its defaults are the README's 2-minute drive (greenhouse:40,storage:1200
-// at 320x240, a step every fifth frame, seed 1). output.txt is the output
-// of an earlier version of it (without the style, fallbacks and start_loss
-// columns) built at commit c7d2e41 on 2026-12-02, before Options.MinGain,
-// which that output motivates; it has not been regenerated.
+// at 320x240, a step every fifth frame, seed 1); output.txt is its output
+// with them, built at commit 6fe63b4 and run on 2026-12-02 (with
+// Options.MinGain's default; the figures do not depend on the machine's
+// load, the steps being in the frame loop).
 //
 //	go run ./examples/adaptdrive/results/lossvsepe
 package main
