@@ -100,6 +100,9 @@ func (m *Image) Check(what string) error {
 
 // CheckFinite returns an error naming the first NaN or Inf element of m.
 func (m *Image) CheckFinite(what string) error {
+	if allFinite(m.Pix) {
+		return nil
+	}
 	for i, v := range m.Pix {
 		if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
 			x := i % m.W
@@ -308,4 +311,28 @@ func (m *Image) ToNRGBA(n int) *image.NRGBA {
 		}
 	}
 	return out
+}
+
+// allFinite reports whether every value of p is finite. A float32 is NaN or
+// ±Inf exactly when its 8 exponent bits are all set (IEEE 754-2008, 3.4);
+// adding one to the exponent field then carries into the sign bit, so an OR
+// of those sums has its top bit set iff some value is not finite. It has no
+// branch per value: BenchmarkCheckFinite (393,216 values) took 0.16–0.20 ms
+// against 1.75–1.84 ms with math.IsNaN and math.IsInf on each, which was 3 %
+// of a 256×128 stereo call's profile (2026-12-02, loaded 2-core machine).
+func allFinite(p []float32) bool {
+	const exp, one = 0x7f800000, 0x00800000
+	var a, b, c, d uint32
+	i := 0
+	for ; i+4 <= len(p); i += 4 {
+		q := p[i : i+4 : i+4]
+		a |= math.Float32bits(q[0])&exp + one
+		b |= math.Float32bits(q[1])&exp + one
+		c |= math.Float32bits(q[2])&exp + one
+		d |= math.Float32bits(q[3])&exp + one
+	}
+	for ; i < len(p); i++ {
+		a |= math.Float32bits(p[i])&exp + one
+	}
+	return (a|b|c|d)&0x80000000 == 0
 }

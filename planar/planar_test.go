@@ -4,6 +4,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 )
@@ -162,6 +163,51 @@ func TestIndexLayoutAndCheckFinite(t *testing.T) {
 	}
 }
 
+// allFinite agrees with math.IsNaN and math.IsInf: each special value at
+// each position of slices of 0 to 9 values (the unrolled loop and its
+// tail), and a million random bit patterns one at a time.
+func TestAllFinite(t *testing.T) {
+	ref := func(p []float32) bool {
+		for _, v := range p {
+			if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+				return false
+			}
+		}
+		return true
+	}
+	specials := []uint32{0x7f800000, 0xff800000, 0x7fc00000, 0xffc00000, 0x7f800001, 0x7fffffff, // ±Inf, NaNs
+		0x7f7fffff, 0xff7fffff, 0x00000001, 0x80000001, 0x00800000, 0x80000000, 0x3f800000} // finite: ±max, subnormals, min normal, −0, 1
+	for n := range 10 {
+		for pos := range n {
+			for _, bits := range specials {
+				p := make([]float32, n)
+				for i := range p {
+					p[i] = 0.5
+				}
+				p[pos] = math.Float32frombits(bits)
+				if got, want := allFinite(p), ref(p); got != want {
+					t.Fatalf("%d values, %#08x at %d: allFinite %v, want %v", n, bits, pos, got, want)
+				}
+			}
+		}
+	}
+	rng := rand.New(rand.NewPCG(1, 2))
+	var bad int
+	for range 1 << 20 {
+		p := []float32{math.Float32frombits(rng.Uint32())}
+		if got, want := allFinite(p), ref(p); got != want {
+			t.Fatalf("%#08x: allFinite %v, want %v", math.Float32bits(p[0]), got, want)
+		}
+		if !ref(p) {
+			bad++
+		}
+	}
+	// 2 × 2^23 of the 2^32 patterns are not finite: about 2^12 of 2^20.
+	if bad < 3000 || bad > 5300 {
+		t.Errorf("%d non-finite patterns of 2^20 random ones, want about 4096", bad)
+	}
+}
+
 func TestToNRGBARoundTrip(t *testing.T) {
 	src := image.NewNRGBA(image.Rect(0, 0, 7, 3))
 	fill(src)
@@ -251,5 +297,20 @@ func TestCheckPair(t *testing.T) {
 	}
 	if err := CheckPair(nil, nil, 1, 3, 4, 5); err == nil || err.Error() != "left image is nil" {
 		t.Errorf("no views: %v; want the left one named", err)
+	}
+}
+
+// BenchmarkCheckFinite checks a stereo network's input at 256×128 (two
+// views of a pair and of its mirror, 3 channels).
+func BenchmarkCheckFinite(b *testing.B) {
+	m := New(4, 3, 128, 256)
+	for i := range m.Pix {
+		m.Pix[i] = float32(i%255) / 255
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := m.CheckFinite("input"); err != nil {
+			b.Fatal(err)
+		}
 	}
 }
