@@ -411,9 +411,10 @@ func (c *Conv2D) Forward(y, x, weight, bias []float32) {
 	c.refresh()
 	if c.fd != nil {
 		if c.shared {
-			// Another plan used them: padding rows and the slack past the
-			// planes must read as zeros, as in a buffer of our own.
-			clear(c.fd.xpad)
+			// Another plan used them: what padding the input and packing
+			// the weights leave unwritten must read as zeros, as in
+			// buffers of our own.
+			c.fd.clearUnwritten(c.n * c.p.InC)
 			clear(c.fd.wpack)
 		}
 		c.fd.packWeights(weight, false)

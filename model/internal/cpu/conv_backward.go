@@ -181,7 +181,7 @@ func (c *Conv2D) directBackward(dx, dw, x, w, dy []float32) {
 		c.check("Backward", x, inLen, "x")
 		clear(c.gg.part)
 		if c.shared {
-			clear(c.fd.xpad) // as Forward does: another plan wrote it
+			c.fd.clearUnwritten(c.n * c.p.InC) // as Forward does: another plan wrote it
 		}
 		c.runTasks(taskPadX, c.n*c.p.InC, x, nil)
 		c.runTasks(taskFillGrid, c.n*c.p.OutC, dy, nil)

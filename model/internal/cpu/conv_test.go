@@ -598,3 +598,75 @@ func TestTrainingPlanNoGEMMWorkspace(t *testing.T) {
 		}
 	}
 }
+
+// TestConvSharedScratch: a plan on buffers that another plan left full of
+// NaN (ShareForwardScratch) gives the bits of a plan with buffers of its own,
+// forward and backward, at stride 1 (where only the slack past the padded
+// planes is cleared) and stride 2 (odd sizes, so phase planes have rows
+// past the padded input).
+func TestConvSharedScratch(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 9))
+	nan := float32(math.NaN())
+	for _, p := range []ConvParams{
+		{InC: 3, OutC: 5, Kernel: 3, Pad: 1},
+		{InC: 2, OutC: 4, Kernel: 3, Pad: 1, Padding: ReflectPad},
+		{InC: 4, OutC: 3, Kernel: 3, Dilation: 2, Pad: 2},
+		{InC: 3, OutC: 17, Kernel: 1},
+		{InC: 3, OutC: 6, Kernel: 3, Stride: 2, Pad: 1},
+		{InC: 2, OutC: 3, Kernel: 3, Stride: 2, Pad: 1, Padding: ReflectPad},
+	} {
+		const n, h, w = 2, 9, 11
+		own, err := NewConv2D(p, n, h, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		shared, err := NewConv2D(p, n, h, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		nx, nw := shared.ForwardScratch()
+		if nx == 0 {
+			continue // not on the padded-grid path: nothing to share
+		}
+		xpad, wpack := make([]float32, nx+13), make([]float32, nw+5)
+		poison := func() {
+			for i := range xpad {
+				xpad[i] = nan
+			}
+			for i := range wpack {
+				wpack[i] = nan
+			}
+		}
+		shared.ShareForwardScratch(xpad, wpack)
+		x := randSlice(rng, n*p.InC*h*w)
+		wt := randSlice(rng, own.WeightLen())
+		b := randSlice(rng, p.OutC)
+		_, oc, ho, wo := own.OutShape()
+		y0, y1 := make([]float32, n*oc*ho*wo), make([]float32, n*oc*ho*wo)
+		own.Forward(y0, x, wt, b)
+		poison()
+		shared.Forward(y1, x, wt, b)
+		for i := range y0 {
+			if math.Float32bits(y0[i]) != math.Float32bits(y1[i]) {
+				t.Fatalf("%+v: forward value %d: %v on shared buffers, %v on its own", p, i, y1[i], y0[i])
+			}
+		}
+		dy := randSlice(rng, len(y0))
+		dw0, dw1 := make([]float32, len(wt)), make([]float32, len(wt))
+		dx0, dx1 := make([]float32, len(x)), make([]float32, len(x))
+		db0, db1 := make([]float32, len(b)), make([]float32, len(b))
+		own.Backward(dx0, dw0, db0, x, wt, dy)
+		poison()
+		shared.Backward(dx1, dw1, db1, x, wt, dy)
+		for i := range dw0 {
+			if math.Float32bits(dw0[i]) != math.Float32bits(dw1[i]) {
+				t.Fatalf("%+v: weight gradient %d: %v on shared buffers, %v on its own", p, i, dw1[i], dw0[i])
+			}
+		}
+		for i := range dx0 {
+			if math.Float32bits(dx0[i]) != math.Float32bits(dx1[i]) {
+				t.Fatalf("%+v: input gradient %d: %v on shared buffers, %v on its own", p, i, dx1[i], dx0[i])
+			}
+		}
+	}
+}
