@@ -1,6 +1,7 @@
 package adapt
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
@@ -103,32 +104,19 @@ func (o *Options) resolved() (Options, error) {
 	if o != nil {
 		r = *o
 	}
-	def := func(v *float64, d float64) {
-		if *v == 0 {
-			*v = d
-		}
-	}
-	def(&r.StepsPerSecond, 2)
-	def(&r.MaxDrift, 0.05)
-	def(&r.LearningRate, 1e-4)
-	def(&r.MinChange, 0.003)
-	def(&r.MinContrast, 0.02)
-	def(&r.MinGain, 0.02)
-	if r.Workers == 0 {
-		r.Workers = max(1, runtime.GOMAXPROCS(0)/2)
-	}
+	r.StepsPerSecond = cmp.Or(r.StepsPerSecond, 2)
+	r.MaxDrift = cmp.Or(r.MaxDrift, 0.05)
+	r.LearningRate = cmp.Or(r.LearningRate, 1e-4)
+	r.MinChange = cmp.Or(r.MinChange, 0.003)
+	r.MinContrast = cmp.Or(r.MinContrast, 0.02)
+	r.MinGain = cmp.Or(r.MinGain, 0.02)
+	r.Workers = cmp.Or(r.Workers, max(1, runtime.GOMAXPROCS(0)/2))
 	if r.Workers < 0 {
 		return r, fmt.Errorf("adapt: Workers %d must not be negative", r.Workers)
 	}
-	if r.Buffer == 0 {
-		r.Buffer = 32
-	}
-	if r.HoldOut == 0 {
-		r.HoldOut = 4
-	}
-	if r.StepsPerCheck == 0 {
-		r.StepsPerCheck = 10
-	}
+	r.Buffer = cmp.Or(r.Buffer, 32)
+	r.HoldOut = cmp.Or(r.HoldOut, 4)
+	r.StepsPerCheck = cmp.Or(r.StepsPerCheck, 10)
 	for _, f := range []struct {
 		name string
 		v    float64

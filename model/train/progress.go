@@ -1,6 +1,7 @@
 package train
 
 import (
+	"cmp"
 	"math"
 	"time"
 
@@ -91,15 +92,9 @@ type CollapseOptions struct {
 const CollapseFromStart = -1
 
 func (c CollapseOptions) withDefaults() CollapseOptions {
-	if c.Spread == 0 {
-		c.Spread = 0.02
-	}
-	if c.MinPixels == 0 {
-		c.MinPixels = 0.25
-	}
-	if c.Steps == 0 {
-		c.Steps = 10
-	}
+	c.Spread = cmp.Or(c.Spread, 0.02)
+	c.MinPixels = cmp.Or(c.MinPixels, 0.25)
+	c.Steps = cmp.Or(c.Steps, 10)
 	switch {
 	case c.After == 0:
 		c.After = 200
