@@ -367,30 +367,15 @@ func (a *Adapter) Run(ctx context.Context) error {
 	defer timer.Stop()
 	for {
 		timer.Reset(time.Until(next))
-		waiting := true
-		for waiting {
-			select {
-			case <-ctx.Done():
-				return nil
-			case <-a.notify:
-				if err := a.take(); err != nil {
-					return err
-				}
-			case <-timer.C:
-				waiting = false
-			}
+		if ok, err := a.await(ctx, timer.C); !ok {
+			return err
 		}
 		err := a.Step(ctx)
 		switch {
 		case err == nil:
 		case errors.Is(err, ErrTooFewFrames):
-			select {
-			case <-ctx.Done():
-				return nil
-			case <-a.notify:
-				if err := a.take(); err != nil {
-					return err
-				}
+			if ok, err := a.await(ctx, nil); !ok {
+				return err
 			}
 		case errors.Is(err, ErrPaused):
 			select {
@@ -406,6 +391,27 @@ func (a *Adapter) Run(ctx context.Context) error {
 		next = next.Add(interval)
 		if now := time.Now(); next.Before(now) {
 			next = now // no burst to catch up after a slow step or a wait
+		}
+	}
+}
+
+// await takes the pairs offered until tick fires, or with a nil tick the
+// first one. It returns false when ctx ends first (with a nil error) or
+// taking a pair fails.
+func (a *Adapter) await(ctx context.Context, tick <-chan time.Time) (bool, error) {
+	for {
+		select {
+		case <-ctx.Done():
+			return false, nil
+		case <-a.notify:
+			if err := a.take(); err != nil {
+				return false, err
+			}
+			if tick == nil {
+				return true, nil
+			}
+		case <-tick:
+			return true, nil
 		}
 	}
 }
