@@ -83,9 +83,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	opts := &model.EstimatorOptions{Validity: model.ValidityOptions{MinConfidence: model.ValidityOff, MinTexture: model.ValidityOff}}
-	newEst := func(w *model.Weights) (*model.Estimator, error) { return model.NewEstimator(w, opts) }
-	live, err := newEst(w)
+	live, err := drive.NewEstimator(w)
 	if err != nil {
 		return err
 	}
@@ -101,7 +99,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	if *latency > 0 {
 		return printLatency(ctx, stdout, d, render, live, ad, *latency, play.FPS, ao.StepsPerSecond)
 	}
-	fixed, err := newEst(w)
+	fixed, err := drive.NewEstimator(w)
 	if err != nil {
 		return err
 	}
@@ -111,7 +109,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
-		oe, err := newEst(ow)
+		oe, err := drive.NewEstimator(ow)
 		if err != nil {
 			return err
 		}

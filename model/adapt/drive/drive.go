@@ -208,6 +208,16 @@ func EPE(ctx context.Context, e *model.Estimator, left, right image.Image, gt *d
 	return m.EPE, nil
 }
 
+// NewEstimator returns an Estimator of w (nil: the embedded default
+// one-image weights) with the validity rules off (model.ValidityOff), as
+// examples/adaptdrive plays the drive: the EPE of each Estimator then
+// counts every pixel with truth, where with the rules it would count only
+// the pixels that Estimator keeps, not the same for fixed and adapted
+// weights.
+func NewEstimator(w *model.Weights) (*model.Estimator, error) {
+	return model.NewEstimator(w, &model.EstimatorOptions{Validity: model.ValidityOptions{MinConfidence: model.ValidityOff, MinTexture: model.ValidityOff}})
+}
+
 // Estimate runs the Estimator of either kind on the pair.
 func Estimate(ctx context.Context, e *model.Estimator, left, right image.Image) (*model.Estimate, error) {
 	if e.Kind() == model.KindStereo {

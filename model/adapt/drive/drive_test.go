@@ -100,3 +100,42 @@ func TestPlayRefuses(t *testing.T) {
 		}
 	}
 }
+
+// TestNewEstimatorScoresEveryPixel: an Estimator from NewEstimator keeps
+// every pixel of a drive frame, so that EPE scores all the pixels with
+// truth; the default validity rules drop some of the same frame.
+func TestNewEstimatorScoresEveryPixel(t *testing.T) {
+	d := &synth.Drive{Legs: []synth.Leg{{Style: synth.Storage, Frames: 1}}, Seed: 2}
+	p, err := synth.GenerateFrame(d, 0, &synth.Options{Width: 128, Height: 96, Samples: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	kept := func(e *model.Estimator) int {
+		t.Helper()
+		est, err := e.Estimate(context.Background(), p.Left.ToNRGBA(0))
+		if err != nil {
+			t.Fatal(err)
+		}
+		n := 0
+		for _, m := range est.Disparity.Mask {
+			if m != 0 {
+				n++
+			}
+		}
+		return n
+	}
+	e, err := NewEstimator(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := kept(e); n != 128*96 {
+		t.Errorf("NewEstimator kept %d of %d pixels", n, 128*96)
+	}
+	def, err := model.NewEstimator(nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := kept(def); n == 128*96 {
+		t.Error("the default validity rules kept every pixel: the frame does not tell the options apart")
+	}
+}

@@ -65,12 +65,11 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (err erro
 	if err != nil {
 		return err
 	}
-	opts := &model.EstimatorOptions{Validity: model.ValidityOptions{MinConfidence: model.ValidityOff, MinTexture: model.ValidityOff}}
-	fixed, err := model.NewEstimator(w, opts)
+	fixed, err := drive.NewEstimator(w)
 	if err != nil {
 		return err
 	}
-	live, err := model.NewEstimator(w, opts)
+	live, err := drive.NewEstimator(w)
 	if err != nil {
 		return err
 	}

@@ -16,6 +16,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/adapt"
+	"github.com/parallaxdepth/parallax/model/adapt/drive"
 	"github.com/parallaxdepth/parallax/synth"
 )
 
@@ -49,8 +50,7 @@ func run() error {
 	if err != nil {
 		return err
 	}
-	opts := &model.EstimatorOptions{Validity: model.ValidityOptions{MinConfidence: model.ValidityOff, MinTexture: model.ValidityOff}}
-	est, err := model.NewEstimator(w, opts)
+	est, err := drive.NewEstimator(w)
 	if err != nil {
 		return err
 	}
