@@ -90,19 +90,14 @@ func savePNGFile(t *testing.T, path string, img image.Image) {
 	}
 }
 
+// wantErr is testutil.WantError for this package's errors; it stops the
+// test when err is nil.
 func wantErr(t *testing.T, err error, parts ...string) {
 	t.Helper()
 	if err == nil {
 		t.Fatalf("no error, want one containing %q", parts)
 	}
-	if !strings.HasPrefix(err.Error(), "dataset: ") {
-		t.Errorf("error %q lacks the package prefix", err)
-	}
-	for _, p := range parts {
-		if !strings.Contains(err.Error(), p) {
-			t.Errorf("error %q does not contain %q", err, p)
-		}
-	}
+	testutil.WantError(t, "error", err, "dataset: ", parts...)
 }
 
 func TestOpen(t *testing.T) {

@@ -18,6 +18,7 @@ import (
 
 	"github.com/parallaxdepth/parallax/dataset"
 	"github.com/parallaxdepth/parallax/depth"
+	"github.com/parallaxdepth/parallax/internal/testutil"
 	"github.com/parallaxdepth/parallax/planar"
 	"github.com/parallaxdepth/parallax/warp"
 )
@@ -124,19 +125,14 @@ func writeDataset(t *testing.T, f fixture, names ...string) string {
 	return dir
 }
 
+// wantErr is testutil.WantError for this package's errors; it stops the
+// test when err is nil.
 func wantErr(t *testing.T, err error, parts ...string) {
 	t.Helper()
 	if err == nil {
 		t.Fatalf("no error, want one containing %q", parts)
 	}
-	if !strings.HasPrefix(err.Error(), "data: ") {
-		t.Errorf("error %q lacks the package prefix", err)
-	}
-	for _, p := range parts {
-		if !strings.Contains(err.Error(), p) {
-			t.Errorf("error %q does not contain %q", err, p)
-		}
-	}
+	testutil.WantError(t, "error", err, "data: ", parts...)
 }
 
 func TestLoadCorruptNamesFile(t *testing.T) {
