@@ -121,40 +121,56 @@ func rebuild2D(t *testing.T, p *Pair, rowShift float64, gainRatio [3]float64, di
 	plane := w * h
 	var st photometric
 	const lo, hi = 1.0 / 255, 254.0 / 255
+	eachMatch(p, rowShift, dispShiftPx, func(x, y int, c cell) {
+		i := y*w + x
+		if p.VisibleLeft.Pix[i] == 0 {
+			return
+		}
+		var e float64
+		for k := 0; k < 3; k++ {
+			r := right.Pix[k*plane:]
+			s := c.sample(func(x, y int) float64 { return float64(r[y*w+x]) })
+			l := float64(left.Pix[k*plane+i])
+			if l < lo || l > hi || s < lo || s > hi {
+				return // clipped
+			}
+			e += math.Abs(s/gainRatio[k] - l)
+		}
+		st.add(e/3, smoothAround(p, x, y, 0.25))
+	})
+	return st.done(t, "no pixels compared")
+}
+
+// cell is the bilinear cell x0 … x0+1, y0 … y0+1 of a sample position and
+// the position's fractions fx, fy past x0, y0.
+type cell struct {
+	x0, y0 int
+	fx, fy float64
+}
+
+// sample interpolates v(x, y) bilinearly at the cell's position.
+func (c cell) sample(v func(x, y int) float64) float64 {
+	x0, y0, fx, fy := c.x0, c.y0, c.fx, c.fy
+	return (1-fy)*((1-fx)*v(x0, y0)+fx*v(x0+1, y0)) + fy*((1-fx)*v(x0, y0+1)+fx*v(x0+1, y0+1))
+}
+
+// eachMatch calls f, row by row, for every left pixel (x, y) whose match
+// in the right view, (x − d_L − dispShiftPx, y + rowShift) with d_L the
+// left truth in pixels, lies inside the right image, with the match's cell.
+func eachMatch(p *Pair, rowShift, dispShiftPx float64, f func(x, y int, c cell)) {
+	w, h := p.Rig.Width, p.Rig.Height
 	for y := 0; y < h; y++ {
 		y0, fy, ok := sampleCell(float64(y)+rowShift, h)
 		if !ok {
 			continue
 		}
 		for x := 0; x < w; x++ {
-			i := y*w + x
-			if p.VisibleLeft.Pix[i] == 0 {
-				continue
+			xs := float64(x) - float64(p.DispLeft.Pix[y*w+x])*float64(w) - dispShiftPx
+			if x0, fx, ok := sampleCell(xs, w); ok {
+				f(x, y, cell{x0, y0, fx, fy})
 			}
-			xs := float64(x) - float64(p.DispLeft.Pix[i])*float64(w) - dispShiftPx
-			x0, fx, ok := sampleCell(xs, w)
-			if !ok {
-				continue
-			}
-			var e float64
-			clipped := false
-			for k := 0; k < 3; k++ {
-				r := right.Pix[k*plane:]
-				s := (1-fy)*((1-fx)*float64(r[y0*w+x0])+fx*float64(r[y0*w+x0+1])) +
-					fy*((1-fx)*float64(r[(y0+1)*w+x0])+fx*float64(r[(y0+1)*w+x0+1]))
-				l := float64(left.Pix[k*plane+i])
-				if l < lo || l > hi || s < lo || s > hi {
-					clipped = true
-				}
-				e += math.Abs(s/gainRatio[k] - l)
-			}
-			if clipped {
-				continue
-			}
-			st.add(e/3, smoothAround(p, x, y, 0.25))
 		}
 	}
-	return st.done(t, "no pixels compared")
 }
 
 // sampleCell returns the cell i0 … i0+1 of n samples that holds the
@@ -261,46 +277,36 @@ func TestVariedWarpRebuildsLeft(t *testing.T) {
 // rows off the left view's.
 func leftRight2D(t *testing.T, p *Pair, rowShift float64) lrStats {
 	t.Helper()
-	w, h := p.Rig.Width, p.Rig.Height
+	w := p.Rig.Width
 	var st lrStats
 	var diffs []float64
 	dr := func(x, y int) float64 { return float64(p.DispRight.Pix[y*w+x]) * float64(w) }
-	for y := 0; y < h; y++ {
-		y0, fy, ok := sampleCell(float64(y)+rowShift, h)
-		if !ok {
-			continue
+	eachMatch(p, rowShift, 0, func(x, y int, c cell) {
+		i := y*w + x
+		dl := float64(p.DispLeft.Pix[i]) * float64(w)
+		s := c.sample(dr)
+		if p.VisibleLeft.Pix[i] == 0 {
+			st.occluded++
+			if s > dl {
+				st.occludedNearer++
+			}
+			return
 		}
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			dl := float64(p.DispLeft.Pix[i]) * float64(w)
-			xs := float64(x) - dl
-			x0, fx, ok := sampleCell(xs, w)
-			if !ok {
-				continue
-			}
-			s := (1-fy)*((1-fx)*dr(x0, y0)+fx*dr(x0+1, y0)) + fy*((1-fx)*dr(x0, y0+1)+fx*dr(x0+1, y0+1))
-			if p.VisibleLeft.Pix[i] == 0 {
-				st.occluded++
-				if s > dl {
-					st.occludedNearer++
-				}
-				continue
-			}
-			st.visible++
-			diffs = append(diffs, math.Abs(dl-s))
-			if math.Abs(dl-s) <= 1 {
-				st.pass++
-				continue
-			}
-			lo, hi := math.Inf(1), math.Inf(-1)
-			for _, v := range [4]float64{dr(x0, y0), dr(x0+1, y0), dr(x0, y0+1), dr(x0+1, y0+1)} {
-				lo, hi = math.Min(lo, v), math.Max(hi, v)
-			}
-			if hi-lo <= 1 {
-				st.unexplained++
-			}
+		st.visible++
+		diffs = append(diffs, math.Abs(dl-s))
+		if math.Abs(dl-s) <= 1 {
+			st.pass++
+			return
 		}
-	}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		x0, y0 := c.x0, c.y0
+		for _, v := range [4]float64{dr(x0, y0), dr(x0+1, y0), dr(x0, y0+1), dr(x0+1, y0+1)} {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+		if hi-lo <= 1 {
+			st.unexplained++
+		}
+	})
 	sort.Float64s(diffs)
 	st.median = diffs[len(diffs)/2]
 	return st
