@@ -6,6 +6,7 @@ import (
 	"fmt"
 
 	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 	"github.com/parallaxdepth/parallax/model/data"
 )
@@ -37,6 +38,9 @@ type AdaptOptions struct {
 	// (Schedule's default), constant to the end. If it is 0 it is
 	// defaulted to DefaultRate, the training rate.
 	LearningRate float64
+	// Objective weighs the loss terms; nil means
+	// loss.DefaultObjectiveOptions, the training objective.
+	Objective *loss.ObjectiveOptions
 	// Progress, if not nil, is called after every step.
 	Progress func(Progress)
 }
@@ -76,7 +80,7 @@ func Adapt(ctx context.Context, w *model.Weights, set *dataset.Set, opt *AdaptOp
 		return nil, nil, err
 	}
 	tr, err := NewTrainer(run, src, &TrainerOptions{Steps: o.Steps, Batch: batch, Seed: o.Seed, Progress: o.Progress,
-		Schedule: Schedule{Rate: o.LearningRate}})
+		Schedule: Schedule{Rate: o.LearningRate}, Objective: o.Objective})
 	if err != nil {
 		return nil, nil, err
 	}

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/parallaxdepth/parallax/dataset"
+	"github.com/parallaxdepth/parallax/loss"
 	"github.com/parallaxdepth/parallax/model"
 )
 
@@ -99,6 +100,44 @@ func TestAdaptLearningRate(t *testing.T) {
 	}
 	if _, _, err := Adapt(context.Background(), w, set, &AdaptOptions{Steps: 1, LearningRate: -1}); err == nil {
 		t.Error("a negative learning rate is accepted")
+	}
+}
+
+// TestAdaptObjective: AdaptOptions.Objective reaches the trainer: the
+// defaults written out give the weights nil gives, and another smoothness
+// weight gives other weights.
+func TestAdaptObjective(t *testing.T) {
+	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := model.Default()
+	if err != nil {
+		t.Fatal(err)
+	}
+	def, smooth := loss.DefaultObjectiveOptions(), loss.DefaultObjectiveOptions()
+	smooth.Smoothness = 1
+	var got []*model.Weights
+	for _, o := range []*loss.ObjectiveOptions{nil, &def, &smooth} {
+		out, _, err := Adapt(context.Background(), w, set, &AdaptOptions{Steps: 2, Batch: 1, Objective: o})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got = append(got, out)
+	}
+	same := func(a, b *model.Weights) bool {
+		for k, v := range a.Params {
+			if !slices.Equal(v, b.Params[k]) {
+				return false
+			}
+		}
+		return true
+	}
+	if !same(got[0], got[1]) {
+		t.Error("the default objective written out adapts otherwise than nil")
+	}
+	if same(got[0], got[2]) {
+		t.Error("smoothness 1 adapts as smoothness 0.1 does: the objective is not used")
 	}
 }
 
