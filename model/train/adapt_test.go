@@ -12,10 +12,10 @@ import (
 	"github.com/parallaxdepth/parallax/model"
 )
 
-// TestAdapt: two steps on a tiny set change the weights, leave the input
-// weights alone and report two steps; a cancelled context still returns
-// weights with Interrupted; nil weights are an error.
-func TestAdapt(t *testing.T) {
+// adaptInputs returns the committed greenhouse pairs and the embedded
+// one-image weights, which the Adapt tests adapt.
+func adaptInputs(t *testing.T) (*dataset.Set, *model.Weights) {
+	t.Helper()
 	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
 	if err != nil {
 		t.Fatal(err)
@@ -24,6 +24,14 @@ func TestAdapt(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return set, w
+}
+
+// TestAdapt: two steps on a tiny set change the weights, leave the input
+// weights alone and report two steps; a cancelled context still returns
+// weights with Interrupted; nil weights are an error.
+func TestAdapt(t *testing.T) {
+	set, w := adaptInputs(t)
 	orig := map[string][]float32{}
 	for k, v := range w.Params {
 		orig[k] = slices.Clone(v)
@@ -63,14 +71,7 @@ func TestAdapt(t *testing.T) {
 // algorithm 1, with m̂ = g and v̂ = g² after one step), so on the same batch
 // twice the rate moves every parameter twice as far; 0 is DefaultRate.
 func TestAdaptLearningRate(t *testing.T) {
-	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := model.Default()
-	if err != nil {
-		t.Fatal(err)
-	}
+	set, w := adaptInputs(t)
 	moved := map[float64]map[string][]float32{}
 	for _, rate := range []float64{0, DefaultRate, 2 * DefaultRate} {
 		out, _, err := Adapt(context.Background(), w, set, &AdaptOptions{Steps: 1, Batch: 1, LearningRate: rate})
@@ -107,14 +108,7 @@ func TestAdaptLearningRate(t *testing.T) {
 // defaults written out give the weights nil gives, and another smoothness
 // weight gives other weights.
 func TestAdaptObjective(t *testing.T) {
-	set, err := dataset.Open(filepath.Join("..", "..", "testdata", "synth", "greenhouse"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := model.Default()
-	if err != nil {
-		t.Fatal(err)
-	}
+	set, w := adaptInputs(t)
 	def, smooth := loss.DefaultObjectiveOptions(), loss.DefaultObjectiveOptions()
 	smooth.Smoothness = 1
 	var got []*model.Weights
