@@ -197,8 +197,9 @@ func (m *Matching) Compute(pairs []float32) error {
 		m.computed = true
 		return nil
 	}
-	// Slot k runs matches k, k + slots, …: each slot runs one at least and
-	// so makes its memory, as the stage's count has it.
+	// Slot k runs matches k, k + slots, …: each slot in use runs one at
+	// least (slots ≤ 2n) and so makes its memory, as the stage's count has
+	// it (with SetMaxProcs below the slots, the slots beyond it stay unmade).
 	var wg sync.WaitGroup
 	if len(m.errs) < slots {
 		m.errs = make([]error, slots)

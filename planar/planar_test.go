@@ -191,7 +191,20 @@ func TestAllFinite(t *testing.T) {
 			}
 		}
 	}
+	if !allFinite(nil) {
+		t.Fatal("allFinite(nil) = false, want true (no value is non-finite)")
+	}
 	rng := rand.New(rand.NewPCG(1, 2))
+	// Random patterns in runs of 7: every lane of the unrolled loop and the tail.
+	for range 1 << 16 {
+		p := make([]float32, 7)
+		for i := range p {
+			p[i] = math.Float32frombits(rng.Uint32() &^ (uint32(rng.IntN(2)) << 30)) // half with a small exponent
+		}
+		if got, want := allFinite(p), ref(p); got != want {
+			t.Fatalf("%v: allFinite %v, want %v", p, got, want)
+		}
+	}
 	var bad int
 	for range 1 << 20 {
 		p := []float32{math.Float32frombits(rng.Uint32())}

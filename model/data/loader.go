@@ -46,7 +46,9 @@ type Options struct {
 	// augmentation), for a small set read many times (adaptation on a
 	// few pairs, a validation set): later epochs read no file. It holds
 	// 4 bytes for every value of every map of every pair (24 bytes a
-	// pixel for the two views alone).
+	// pixel for the two views alone) and has no bound of its own: the
+	// caller sizes it (train.NewDatasetSource turns it on below
+	// train.CacheBytes).
 	Cache bool
 }
 

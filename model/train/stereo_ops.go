@@ -92,7 +92,7 @@ func (net *network) SetPair(left, right *planar.Image) error {
 	}
 	k := len(left.Pix)
 	// The matching depends on the images alone: a batch equal to the last
-	// one (adaptation on one pair, repeated validation batches) keeps it,
+	// one (net.input, which only SetPair writes in a stereo network) (adaptation on one pair, repeated validation batches) keeps it,
 	// which saves the matcher's two runs per pair and step.
 	if net.match != nil && (!slices.Equal(net.input[:k], left.Pix) || !slices.Equal(net.input[k:], right.Pix)) {
 		net.match.Invalidate()

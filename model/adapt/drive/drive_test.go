@@ -101,10 +101,10 @@ func TestPlayRefuses(t *testing.T) {
 	}
 }
 
-// TestNewEstimatorScoresEveryPixel: an Estimator from NewEstimator keeps
+// TestNewEstimatorKeepsEveryPixel: a one-image Estimator from NewEstimator keeps
 // every pixel of a drive frame, so that EPE scores all the pixels with
 // truth; the default validity rules drop some of the same frame.
-func TestNewEstimatorScoresEveryPixel(t *testing.T) {
+func TestNewEstimatorKeepsEveryPixel(t *testing.T) {
 	d := &synth.Drive{Legs: []synth.Leg{{Style: synth.Storage, Frames: 1}}, Seed: 2}
 	p, err := synth.GenerateFrame(d, 0, &synth.Options{Width: 128, Height: 96, Samples: 1})
 	if err != nil {
